@@ -1,0 +1,153 @@
+"""The audit of one workbook and of a batch: read → locate → extract → fit → checks.
+
+Each step is a plain function over plain data; only :mod:`auditor.workbook` touches files and
+nothing here writes any. A broken file becomes an ``unreadable`` result with its reason, and the
+batch goes on.
+"""
+
+from __future__ import annotations
+
+import sys
+import traceback
+from collections.abc import Iterable
+from concurrent.futures import ProcessPoolExecutor
+from pathlib import Path
+from typing import Any
+
+from auditor.checks import RegressionContext, run_regression_checks
+from auditor.checks.workbook_level import WorkbookContext, run_workbook_checks
+from auditor.errors import RegauditError, UnreadableWorkbook
+from auditor.evaluate import Evaluator
+from auditor.extract import extract
+from auditor.fit import fit_ols
+from auditor.locate import Locator, RegressionSpec, locate
+from auditor.model import DataPoint, RegressionResult, WorkbookResult
+from auditor.policy import Policy
+from auditor.reported import build_reported
+from auditor.workbook import Workbook, read_workbook, sha256_of
+
+WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
+
+
+def collect_inputs(paths: Iterable[str | Path]) -> list[Path]:
+    """Files as given, and folders searched recursively for .xlsx/.xlsm (sorted, no duplicates)."""
+    found: list[Path] = []
+    for raw in paths:
+        path = Path(raw)
+        if path.is_dir():
+            found.extend(
+                sorted(
+                    p
+                    for p in path.rglob("*")
+                    if p.is_file()
+                    and p.suffix.lower() in WORKBOOK_SUFFIXES
+                    and not p.name.startswith("~$")
+                )
+            )
+        else:
+            found.append(path)
+    unique: dict[str, Path] = {}
+    for path in found:
+        unique.setdefault(str(path.resolve()), path)
+    return list(unique.values())
+
+
+def audit_regression(
+    workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec, policy: Policy
+) -> RegressionResult:
+    data = extract(workbook, evaluator, spec)
+    fit = fit_ols(
+        data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence")
+    )
+    intended = fit.stats()
+    reported = build_reported(
+        spec, evaluator, intended, workbook.stored_values, policy.get("stored_relative_tolerance")
+    )
+    context = RegressionContext(spec, data, fit, reported, policy, workbook.stored_values)
+    findings = run_regression_checks(context)
+    points = list(data.points)
+    _annotate_points(points, fit)
+    return RegressionResult(
+        id=spec.id,
+        sheet=spec.sheet,
+        x_range=spec.x.address,
+        y_range=spec.y.address,
+        found_by=spec.found_by,
+        n=data.n,
+        intercept=spec.intercept,
+        x_columns=spec.x_columns,
+        intended=intended,
+        reported=reported,
+        design={"sxx": fit.sxx, "x_min": _x_bound(data.x, min), "x_max": _x_bound(data.x, max),
+                "levels": _levels(data.x)},
+        findings=findings,
+        data=points,
+        intended_x_range=data.intended_x_range,
+        intended_y_range=data.intended_y_range,
+        label=spec.label,
+    )
+
+
+def _x_bound(x: Any, pick: Any) -> float | None:
+    return float(pick(x[:, 0])) if x.shape[0] else None
+
+
+def _levels(x: Any) -> int:
+    return len({tuple(row) for row in x.tolist()})
+
+
+def _annotate_points(points: list[DataPoint], fit: Any) -> None:
+    """Nothing to add yet beyond used/dropped; the fitted values live in the detail report."""
+
+
+def audit_workbook(
+    path: str | Path, policy: Policy, bindings: list[dict[str, Any]] | None = None
+) -> WorkbookResult:
+    path = Path(path)
+    try:
+        workbook = read_workbook(path)
+    except UnreadableWorkbook as exc:
+        digest = sha256_of(path) if path.is_file() else ""
+        return WorkbookResult(str(path), digest, "unreadable", error=str(exc))
+    evaluator = Evaluator(workbook)
+    locator = Locator(workbook, bindings)
+    specs = locate(workbook, bindings, locator)
+    regressions = [audit_regression(workbook, evaluator, spec, policy) for spec in specs]
+    context = WorkbookContext(
+        stored_values=workbook.stored_values,
+        formula_count=len(workbook.formula_cells()),
+        unparsed=[(cell.address, why) for cell, why in locator.parse_errors],
+        regressions=len(regressions),
+    )
+    return WorkbookResult(
+        path=str(path),
+        sha256=workbook.sha256,
+        status="audited" if regressions else "no-regressions",
+        stored_values=workbook.stored_values,
+        regressions=regressions,
+        findings=run_workbook_checks(context),
+    )
+
+
+def _audit_one(args: tuple[str, Policy, list[dict[str, Any]] | None]) -> WorkbookResult:
+    path, policy, bindings = args
+    try:
+        return audit_workbook(path, policy, bindings)
+    except RegauditError as exc:
+        return WorkbookResult(path, "", "unreadable", error=str(exc))
+    except Exception as exc:  # a bug: keep the traceback, keep the batch going
+        traceback.print_exc(file=sys.stderr)
+        return WorkbookResult(
+            path, "", "unreadable",
+            error=f"internal error while auditing ({type(exc).__name__}: {exc}); please report it",
+        )
+
+
+def audit_batch(
+    paths: list[Path], policy: Policy, bindings: list[dict[str, Any]] | None = None, jobs: int = 1
+) -> list[WorkbookResult]:
+    tasks = [(str(p), policy, bindings) for p in paths]
+    if jobs <= 1 or len(tasks) <= 1:
+        return [_audit_one(task) for task in tasks]
+    with ProcessPoolExecutor(max_workers=jobs) as pool:
+        return list(pool.map(_audit_one, tasks, chunksize=1))

@@ -1,0 +1,184 @@
+"""Agreement checks: reported against intended, and reported against as written."""
+
+from __future__ import annotations
+
+from scipy import stats as distributions
+
+from auditor.checks.base import RegressionContext, check
+from auditor.compare import agree_stored, parse_text_number
+from auditor.model import Finding, ReportedValue, Severity
+
+NAMES = {
+    "slope": "slope",
+    "intercept": "intercept",
+    "se_slope": "standard error of the slope",
+    "se_intercept": "standard error of the intercept",
+    "t_slope": "t statistic of the slope",
+    "t_intercept": "t statistic of the intercept",
+    "p_slope": "p-value of the slope",
+    "p_intercept": "p-value of the intercept",
+    "df": "residual degrees of freedom",
+    "n": "number of points",
+    "residual_sd": "residual standard deviation",
+    "r_squared": "R²",
+    "r": "correlation r",
+    "f": "F statistic",
+    "ss_regression": "regression sum of squares",
+    "ss_residual": "residual sum of squares",
+    "ci_slope_low": "lower confidence limit of the slope",
+    "ci_slope_high": "upper confidence limit of the slope",
+}
+
+
+def describe(key: str) -> str:
+    base, _, rest = key.partition("[")
+    name = NAMES.get(base, base)
+    return f"{name} (x column {rest.rstrip(']')})" if rest else name
+
+
+def fmt(value: object) -> str:
+    if isinstance(value, float):
+        return f"{value:.6g}"
+    return str(value)
+
+
+def _number(value: float | str | None) -> float | None:
+    if isinstance(value, str):
+        return parse_text_number(value.replace("<", "").replace(">", "").strip())
+    return value
+
+
+def significance_changes(context: RegressionContext, value: ReportedValue) -> bool:
+    """Would a reader of the reported value reach another conclusion at the policy's alpha?"""
+    alpha = context.policy.alpha
+    fit = context.fit
+    base = value.key.split("[")[0]
+    if base == "p_slope" and value.intended is not None:
+        if isinstance(value.value, str):
+            return False  # a text claim that fails is judged by the claim check below
+        reported = _number(value.value)
+        return reported is not None and (reported < alpha) != (value.intended < alpha)
+    if base == "t_slope" and value.intended is not None and fit.df > 0:
+        reported = _number(value.value)
+        critical = float(distributions.t.ppf(1 - alpha / 2, fit.df))
+        return reported is not None and (abs(reported) > critical) != (
+            abs(value.intended) > critical
+        )
+    if base == "slope" and value.intended is not None:
+        reported = _number(value.value)
+        return reported is not None and reported * value.intended < 0
+    return False
+
+
+@check("stat-recompute", "A reported statistic differs from the independent recomputation.")
+def stat_recompute(context: RegressionContext) -> list[Finding]:
+    """Compare each reported value with the fit over the intended data table.
+
+    Failing: ``E2 =SLOPE(B2:B11,A2:A11)`` shows 0.412 while the ten rows A2:B11 give 0.4507.
+    Passing: a typed 0.451 for a slope of 0.45071 (agrees to the 3 decimals shown).
+
+    Severity: critical when the slope's sign or its significance at the policy's alpha changes,
+    major otherwise.
+    """
+    findings = []
+    for value in context.reported.values():
+        if value.verdict != "mismatch":
+            continue
+        critical = significance_changes(context, value)
+        if isinstance(value.value, str) and value.key.startswith("p_") and value.intended is not None:
+            critical = True  # a text claim about p that does not hold is a wrong conclusion
+        severity: Severity = "critical" if critical else "major"
+        consequence = ""
+        if critical:
+            consequence = (
+                f" At alpha = {context.policy.alpha:g} this changes the conclusion"
+                if not value.key.startswith("slope")
+                else " The sign of the slope is reversed"
+            ) + "."
+        findings.append(
+            Finding(
+                check="stat-recompute",
+                severity=severity,
+                cells=[value.cell],
+                message=(
+                    f"The reported {describe(value.key)} is {fmt(value.value)}, but the "
+                    f"{context.data.n} points of {context.data.intended_y_range} give "
+                    f"{fmt(value.intended)} (tolerance: {value.tolerance}).{consequence}"
+                ),
+                evidence={
+                    "key": value.key,
+                    "reported": value.value,
+                    "as_written": value.as_written,
+                    "intended": value.intended,
+                    "tolerance": value.tolerance,
+                },
+                fix=f"Recompute {value.cell} from the whole data table and report "
+                f"{fmt(value.intended)}.",
+            )
+        )
+    return findings
+
+
+@check("stat-stale", "A stored value no longer matches what its own formula computes.")
+def stat_stale(context: RegressionContext) -> list[Finding]:
+    """A cell's cached value differs from its formula's result over the current cells.
+
+    Failing: ``E5 =E2/E3`` stores 4.10 but E2/E3 is now 3.62 (the file was saved without
+    recalculation, or the value was pasted over and the formula restored).
+    Passing: the stored value equals the formula's result to 1e-9 relative.
+    """
+    rel = context.policy.get("stored_relative_tolerance")
+    findings = []
+    for value in context.reported.values():
+        if value.source != "stored" or value.as_written is None or isinstance(value.value, str):
+            continue
+        if value.value is None:
+            continue
+        if agree_stored(float(value.value), value.as_written, rel=rel).agrees:
+            continue
+        wrong = value.verdict == "mismatch"
+        findings.append(
+            Finding(
+                check="stat-stale",
+                kind="stale-value",
+                severity="major" if wrong else "minor",
+                cells=[value.cell],
+                message=(
+                    f"{value.cell} stores {fmt(value.value)} but its formula {value.formula} "
+                    f"computes {fmt(value.as_written)} from the cells as they are now: the stored "
+                    "value is out of date."
+                ),
+                evidence={"stored": value.value, "as_written": value.as_written},
+                fix="Recalculate the workbook (or re-enter the formula) and re-check the "
+                "reported figures before signing.",
+            )
+        )
+    return findings
+
+
+@check("stat-unverifiable", "A reported statistic could not be checked, and why.")
+def stat_unverifiable(context: RegressionContext) -> list[Finding]:
+    """Say which values could not be judged, so a reviewer checks them by hand.
+
+    Failing: ``E9 =MYSTAT(B2:B9)`` (a function the tool does not evaluate) or a claim "see
+    notes" where a p-value belongs.
+    Passing: every reported value is confirmed or flagged.
+    """
+    findings = []
+    for value in context.reported.values():
+        if value.verdict != "unverifiable":
+            continue
+        reason = value.note or value.tolerance or "no independent value"
+        findings.append(
+            Finding(
+                check="stat-unverifiable",
+                severity="info",
+                cells=[value.cell],
+                message=f"The {describe(value.key)} in {value.cell} could not be verified: "
+                f"{reason}.",
+                evidence={"key": value.key, "reported": value.value},
+                fix="Check this value by hand, or state it as a number or a claim such as "
+                "'p < 0.001'.",
+            )
+        )
+    return findings

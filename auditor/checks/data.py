@@ -1,0 +1,130 @@
+"""Data checks: rows the author's formulas do not see, and fits that cannot be made."""
+
+from __future__ import annotations
+
+from auditor.checks.base import RegressionContext, check
+from auditor.model import Finding, Severity
+from auditor.workbook import column_letter
+
+
+def _severity(context: RegressionContext) -> Severity:
+    """Major when a reported number is already wrong because of it, minor while all agree."""
+    if any(v.verdict == "mismatch" for v in context.reported.values()):
+        return "major"
+    return "minor"
+
+
+@check("rows-outside-range", "Data rows of the table lie outside the range the formulas use.")
+def rows_outside_range(context: RegressionContext) -> list[Finding]:
+    """Rows added below (or above) a fixed range are silently left out of the fit.
+
+    Failing: the table runs A2:B15 but ``=SLOPE(B2:B13,A2:A13)``: rows 14–15 are not used.
+    Passing: the range covers every data row of the table.
+    """
+    outside = [p for p in context.data.points if p.used and "outside the formula" in p.reason]
+    if not outside:
+        return []
+    rows = [p.row for p in outside]
+    spec = context.spec
+    return [
+        Finding(
+            check="rows-outside-range",
+            kind="range-short",
+            severity=_severity(context),
+            cells=[spec.y.address],
+            message=(
+                f"The formulas use {spec.y.address}, but the data table continues: "
+                f"{len(rows)} row(s) ({_rows_text(rows)}) hold data the regression leaves out. "
+                f"The full table is {context.data.intended_y_range}."
+            ),
+            evidence={"rows_left_out": len(rows), "first_row": rows[0], "last_row": rows[-1]},
+            fix=f"Extend the ranges to {context.data.intended_x_range} and "
+            f"{context.data.intended_y_range} (or use a table so new rows are included).",
+        )
+    ]
+
+
+@check("text-numbers-skipped", "Numbers stored as text are silently skipped by the formulas.")
+def text_numbers_skipped(context: RegressionContext) -> list[Finding]:
+    """SLOPE, INTERCEPT, STEYX and RSQ skip a pair whose cell holds text, even "12.5".
+
+    Failing: B7 holds the text '0.412' (left-aligned): SLOPE uses 11 of the 12 points.
+    Passing: every data cell holds a number.
+    """
+    if not context.data.parsed:
+        return []
+    cells = [cell for cell, _ in context.data.parsed]
+    return [
+        Finding(
+            check="text-numbers-skipped",
+            kind="text-number",
+            severity=_severity(context),
+            cells=cells,
+            message=(
+                f"{len(cells)} data cell(s) hold numbers stored as text ({', '.join(cells[:5])}"
+                f"{'…' if len(cells) > 5 else ''}); SLOPE-family formulas skip those rows "
+                "without warning, and LINEST returns #VALUE!."
+            ),
+            evidence={"cells": len(cells), "example": context.data.parsed[0][1]},
+            fix="Convert the cells to numbers (e.g. VALUE() or 'Convert to Number') and "
+            "recalculate.",
+        )
+    ]
+
+
+@check("total-row-in-range", "A total or mean row lies inside the range of the regression.")
+def total_row_in_range(context: RegressionContext) -> list[Finding]:
+    """A row of totals or means inside the range is fitted as if it were a data point.
+
+    Failing: ``=SLOPE(B2:B14,A2:A14)`` where row 14 is "Mean".
+    Passing: the range stops at the last data row.
+    """
+    spec = context.spec
+    inside = [r for r in context.data.total_rows if spec.y.r1 <= r <= spec.y.r2]
+    if not inside:
+        return []
+    return [
+        Finding(
+            check="total-row-in-range",
+            kind="total-row",
+            severity=_severity(context),
+            cells=[f"{spec.y.sheet}!{column_letter(spec.y.c1)}{r}" for r in inside],
+            message=(
+                f"Row(s) {_rows_text(inside)} of {spec.y.address} hold a total or mean, which "
+                "the formulas fit as a data point."
+            ),
+            evidence={"rows": inside},
+            fix="End the ranges at the last data row.",
+        )
+    ]
+
+
+@check("fit-degenerate", "The data cannot support the regression (too few points, constant x).")
+def fit_degenerate(context: RegressionContext) -> list[Finding]:
+    """Say in words when no slope or no standard error can be computed.
+
+    Failing: two points, or six points all at x = 4.0.
+    Passing: at least three points with at least two distinct x values.
+    """
+    fit = context.fit
+    if fit.status == "ok":
+        return []
+    severity: Severity = "info" if fit.status == "perfect-fit" else "major"
+    return [
+        Finding(
+            check="fit-degenerate",
+            severity=severity,
+            cells=[context.spec.y.address],
+            message=fit.message,
+            evidence={"status": fit.status, "n": fit.n},
+            fix="Collect more points over a wider spread of x." if severity == "major" else "",
+        )
+    ]
+
+
+def _rows_text(rows: list[int]) -> str:
+    if len(rows) == 1:
+        return f"row {rows[0]}"
+    if rows == list(range(rows[0], rows[-1] + 1)):
+        return f"rows {rows[0]}–{rows[-1]}"
+    return "rows " + ", ".join(str(r) for r in rows)

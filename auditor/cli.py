@@ -1,0 +1,234 @@
+"""Command line: ``regaudit audit|rules|demo`` (``python -m auditor`` does the same).
+
+Exit codes: 0 no finding at or above ``--fail-on``; 1 such findings; 2 a usage error, or no
+input could be read.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import shutil
+import sys
+import time
+import tomllib
+from datetime import datetime, timezone
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+from tabulate import tabulate
+
+from auditor import __version__
+from auditor.errors import PolicyError, RegauditError, UsageError
+from auditor.model import SEVERITIES, SEVERITY_RANK, AuditResult
+
+FAIL_CHOICES = ("critical", "major", "minor", "info", "never")
+FORMATS = ("json", "text", "xlsx")
+
+EPILOG = """exit codes:
+  0  no finding at or above --fail-on (default: critical)
+  1  at least one finding at or above --fail-on
+  2  a usage error, or none of the inputs could be read
+"""
+
+
+def _timestamp(option: str | None) -> str:
+    if option:
+        return option
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch:
+        try:
+            return datetime.fromtimestamp(int(epoch), tz=timezone.utc).isoformat(timespec="seconds")
+        except ValueError as exc:
+            raise UsageError(f"SOURCE_DATE_EPOCH={epoch!r} is not a whole number of seconds") from exc
+    return datetime.now(tz=timezone.utc).isoformat(timespec="seconds")
+
+
+def _load_bindings(path: str | None) -> list[dict[str, Any]] | None:
+    if path is None:
+        return None
+    try:
+        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
+    except FileNotFoundError as exc:
+        raise UsageError(f"bindings file {path!r} does not exist") from exc
+    except tomllib.TOMLDecodeError as exc:
+        raise UsageError(f"bindings file {path!r} is not valid TOML: {exc}") from exc
+    entries = data.get("regression", [])
+    if not isinstance(entries, list) or not entries:
+        raise UsageError(f"bindings file {path!r} needs one or more [[regression]] tables")
+    for index, entry in enumerate(entries, start=1):
+        missing = [key for key in ("x", "y") if key not in entry]
+        if missing:
+            raise UsageError(
+                f"bindings file {path!r}: [[regression]] number {index} lacks {', '.join(missing)}"
+                " (give ranges such as x = \"Data!A2:A21\")"
+            )
+    return list(entries)
+
+
+def run_audit(
+    inputs: list[str],
+    out_dir: Path,
+    policy_name: str = "general",
+    jobs: int = 1,
+    formats: tuple[str, ...] = FORMATS,
+    bindings_file: str | None = None,
+    timestamp: str | None = None,
+) -> AuditResult:
+    from auditor.audit import audit_batch, collect_inputs
+    from auditor.policy import load_policy
+    from auditor.report import write_reports
+    from auditor.workbook import assert_safe_xml
+
+    assert_safe_xml()
+    policy = load_policy(policy_name)
+    bindings = _load_bindings(bindings_file)
+    missing = [p for p in inputs if not Path(p).exists()]
+    if missing:
+        raise UsageError(f"no such file or folder: {', '.join(repr(m) for m in missing)}")
+    paths = collect_inputs(inputs)
+    if not paths:
+        raise UsageError(
+            f"no .xlsx or .xlsm workbooks found in {', '.join(repr(p) for p in inputs)}"
+        )
+    workbooks = audit_batch(paths, policy, bindings, jobs=jobs)
+    result = AuditResult(
+        version=__version__,
+        policy=policy.name,
+        workbooks=workbooks,
+        generated=_timestamp(timestamp),
+        inputs=[str(p) for p in inputs],
+    )
+    write_reports(result, out_dir, list(formats), input_paths=[Path(p) for p in paths])
+    return result
+
+
+def _print_outcome(result: AuditResult, out_dir: Path, formats: tuple[str, ...]) -> None:
+    totals = result.totals()
+    for workbook in result.workbooks:
+        if workbook.status == "unreadable":
+            print(f"error: {workbook.path}: {workbook.error}", file=sys.stderr)
+    severities = ", ".join(f"{totals['findings_by_severity'][s]} {s}" for s in SEVERITIES)
+    print(
+        f"audited {totals['workbooks']} workbook(s): {totals['regressions']} regression(s); "
+        f"findings: {severities}"
+    )
+    names = {"json": "audit.json", "text": "summary.txt", "xlsx": "audit.xlsx"}
+    for fmt in formats:
+        print(f"  wrote {out_dir / names[fmt]}")
+
+
+def exit_code(result: AuditResult, fail_on: str) -> int:
+    if not any(w.status != "unreadable" for w in result.workbooks):
+        return 2
+    if fail_on == "never":
+        return 0
+    limit = SEVERITY_RANK[fail_on]
+    return 1 if any(SEVERITY_RANK[f.severity] <= limit for f in result.all_findings()) else 0
+
+
+def cmd_audit(args: argparse.Namespace) -> int:
+    formats = tuple(args.format.split(",")) if args.format else FORMATS
+    bad = [f for f in formats if f not in FORMATS]
+    if bad:
+        raise UsageError(f"unknown format {bad[0]!r}; choose from {', '.join(FORMATS)}")
+    started = time.perf_counter()
+    result = run_audit(
+        args.paths,
+        Path(args.out),
+        args.policy,
+        jobs=args.jobs,
+        formats=formats,
+        bindings_file=args.bindings,
+        timestamp=args.timestamp,
+    )
+    _print_outcome(result, Path(args.out), formats)
+    print(f"  in {time.perf_counter() - started:.1f} s")
+    return exit_code(result, args.fail_on)
+
+
+def cmd_rules(args: argparse.Namespace) -> int:
+    from auditor.checks import REGISTRY
+    from auditor.policy import load_policy
+
+    rows = [(c.id, c.family, c.summary) for c in REGISTRY.values()]
+    print(tabulate(rows, headers=["check", "family", "what it finds"], tablefmt="simple"))
+    policy = load_policy(args.policy)
+    print(f"\npolicy {policy.name!r}: {policy.description}")
+    rows2 = [(k, f"{t.value:g}", t.source) for k, t in policy.thresholds.items()]
+    print(tabulate(rows2, headers=["threshold", "value", "source"], tablefmt="simple"))
+    return 0
+
+
+def demo_workbooks() -> list[Path]:
+    folder = resources.files("auditor.fixtures").joinpath("workbooks")
+    return sorted(Path(str(p)) for p in folder.iterdir() if str(p).endswith(".xlsx"))
+
+
+def cmd_demo(args: argparse.Namespace) -> int:
+    target = Path(args.dir)
+    inputs = target / "workbooks"
+    inputs.mkdir(parents=True, exist_ok=True)
+    for source in demo_workbooks():
+        shutil.copyfile(source, inputs / source.name)
+    print(f"wrote {len(demo_workbooks())} demo workbooks to {inputs}")
+    out_dir = target / "audit"
+    result = run_audit([str(inputs)], out_dir, args.policy, jobs=args.jobs,
+                       timestamp=args.timestamp)
+    _print_outcome(result, out_dir, FORMATS)
+    print(f"open {out_dir / 'audit.xlsx'} or read {out_dir / 'summary.txt'}")
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="regaudit",
+        description="Audit the regressions in spreadsheet workbooks: recompute every reported "
+        "statistic from the workbook's own data and explain each disagreement.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("--version", action="version", version=f"regaudit {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True)
+    cores = os.cpu_count() or 1
+
+    audit = sub.add_parser("audit", help="audit workbooks and folders of workbooks",
+                           epilog=EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
+    audit.add_argument("paths", nargs="+", metavar="PATH", help=".xlsx/.xlsm files or folders")
+    audit.add_argument("--policy", default="general", help="policy name or TOML file")
+    audit.add_argument("--out", default="regaudit-out", metavar="DIR", help="output folder")
+    audit.add_argument("--jobs", type=int, default=cores, metavar="N", help="parallel workers")
+    audit.add_argument("--fail-on", default="critical", choices=FAIL_CHOICES,
+                       help="exit 1 when a finding is at least this severe (default: critical)")
+    audit.add_argument("--format", default=None, metavar="LIST",
+                       help="comma-separated outputs among json,text,xlsx (default: all)")
+    audit.add_argument("--bindings", default=None, metavar="FILE",
+                       help="TOML file mapping the cells of a workbook template")
+    audit.add_argument("--timestamp", default=None, help="date shown in reports (reproducible)")
+    audit.set_defaults(handler=cmd_audit)
+
+    rules = sub.add_parser("rules", help="list the checks and the policy's thresholds")
+    rules.add_argument("--policy", default="general")
+    rules.set_defaults(handler=cmd_rules)
+
+    demo = sub.add_parser("demo", help="write the demo workbooks and audit them")
+    demo.add_argument("dir", nargs="?", default="regaudit-demo", metavar="DIR")
+    demo.add_argument("--policy", default="general")
+    demo.add_argument("--jobs", type=int, default=cores, metavar="N")
+    demo.add_argument("--timestamp", default=None)
+    demo.set_defaults(handler=cmd_demo)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.handler(args))
+    except (UsageError, PolicyError) as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    except RegauditError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2

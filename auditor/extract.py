@@ -1,0 +1,202 @@
+"""The data of a regression: as its formulas see it, and as the table the author meant.
+
+*As written*: the cells the formulas reference, with SLOPE-family semantics (a pair with a text,
+logical or empty cell is skipped). *Intended*: the columns of the referenced ranges extended over
+the contiguous data rows around them, numbers stored as text parsed, a trailing total or mean
+row left out, header rows skipped. Every cell dropped or parsed is recorded with the reason.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from auditor.compare import parse_text_number
+from auditor.evaluate import Evaluator
+from auditor.formula import Ref
+from auditor.locate import RegressionSpec
+from auditor.model import DataPoint
+from auditor.workbook import ErrorValue, Workbook, column_letter
+
+TOTAL_LABEL = re.compile(r"^\s*(grand\s+)?(total|sum|mean|average|avg|σ|Σ)\b", re.I)
+MAX_GAP_SCAN = 1_048_576
+
+
+@dataclass
+class Extracted:
+    x: np.ndarray  # (n, k) intended
+    y: np.ndarray  # (n,)
+    points: list[DataPoint]
+    intended_x_range: str
+    intended_y_range: str
+    dropped: list[tuple[str, str]] = field(default_factory=list)  # (cell, why)
+    parsed: list[tuple[str, str]] = field(default_factory=list)  # (cell, what was parsed)
+    total_rows: list[int] = field(default_factory=list)
+    n_as_written: int = 0  # pairs the author's SLOPE-family formulas see
+
+    @property
+    def n(self) -> int:
+        return int(self.y.shape[0])
+
+
+def _number(value: object) -> tuple[float | None, str]:
+    """A cell value as a number for the intended table, and a note when it was not plain."""
+    if isinstance(value, bool):
+        return None, "a logical value"
+    if isinstance(value, (int, float)):
+        return float(value), ""
+    if isinstance(value, ErrorValue):
+        return None, f"an error value {value.code}"
+    if isinstance(value, str):
+        parsed = parse_text_number(value)
+        if parsed is not None:
+            return parsed, f"number stored as text {value!r}"
+        return None, f"text {value!r}"
+    return None, "empty"
+
+
+def _column_values(evaluator: Evaluator, sheet: str, col: int, r1: int, r2: int) -> list[object]:
+    ref = Ref(sheet, r1, col, r2, col)
+    return [row[0] for row in evaluator.range_values(ref)]
+
+
+def _is_data_row(values: list[object]) -> bool:
+    return all(_number(v)[0] is not None for v in values)
+
+
+def _row_label(workbook: Workbook, sheet: str, row: int, first_col: int) -> str:
+    found = workbook.sheet(sheet)
+    if found is None:
+        return ""
+    for col in range(max(1, first_col - 3), first_col + 1):
+        value = found.value(row, col)
+        if isinstance(value, str) and _number(value)[0] is None:
+            return value
+    return ""
+
+
+def _looks_like_total(xs: list[float], y: float, previous_y: list[float]) -> bool:
+    if len(previous_y) < 2:
+        return False
+    total, mean = sum(previous_y), sum(previous_y) / len(previous_y)
+    scale = max(abs(total), 1e-300)
+    return abs(y - total) <= 1e-9 * scale or (
+        abs(y - mean) <= 1e-12 * max(abs(mean), 1e-300) and len(set(previous_y)) > 1
+    )
+
+
+def extract(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> Extracted:
+    x_ref, y_ref = spec.x, spec.y
+    k = x_ref.c2 - x_ref.c1 + 1
+    x_cols = list(range(x_ref.c1, x_ref.c2 + 1))
+    same_frame = x_ref.sheet.lower() == y_ref.sheet.lower()
+    rows_referenced = set(range(x_ref.r1, x_ref.r2 + 1)) & set(range(y_ref.r1, y_ref.r2 + 1))
+    first, last = min(x_ref.r1, y_ref.r1), max(x_ref.r2, y_ref.r2)
+    if not same_frame or (x_ref.r2 - x_ref.r1) != (y_ref.r2 - y_ref.r1) and not rows_referenced:
+        # Different sheets or unrelated rows: take the ranges as they are, row by row.
+        return _paired(workbook, evaluator, spec)
+    sheet = workbook.sheet(y_ref.sheet)
+    max_row = sheet.max_row if sheet is not None else last
+    last = min(last, max_row)
+
+    def row_values(r: int) -> list[object]:
+        return [
+            evaluator.cell_value(x_ref.sheet, r, c) for c in x_cols
+        ] + [evaluator.cell_value(y_ref.sheet, r, y_ref.c1)]
+
+    # Extend over contiguous data rows (rows added below a fixed range are the common case).
+    while first > 1 and _is_data_row(row_values(first - 1)):
+        first -= 1
+    while last < max_row and _is_data_row(row_values(last + 1)):
+        last += 1
+    x_block = np.array(
+        [_column_values(evaluator, x_ref.sheet, c, first, last) for c in x_cols], dtype=object
+    ).T if last >= first else np.empty((0, k), dtype=object)
+    y_column = _column_values(evaluator, y_ref.sheet, y_ref.c1, first, last)
+    points: list[DataPoint] = []
+    result = Extracted(
+        x=np.empty((0, k)),
+        y=np.empty(0),
+        points=points,
+        intended_x_range=_range_text(x_ref.sheet, x_ref.c1, first, x_ref.c2, last),
+        intended_y_range=_range_text(y_ref.sheet, y_ref.c1, first, y_ref.c1, last),
+    )
+    xs_used: list[list[float]] = []
+    ys_used: list[float] = []
+    for offset, r in enumerate(range(first, last + 1)):
+        raw_x = list(x_block[offset]) if k else []
+        raw_y = y_column[offset]
+        numbers = [_number(v) for v in raw_x] + [_number(raw_y)]
+        in_refs = r in rows_referenced
+        pair_ok = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw_x) and (
+            isinstance(raw_y, (int, float)) and not isinstance(raw_y, bool)
+        )
+        xs = [n for n, _ in numbers[:-1]]
+        y = numbers[-1][0]
+        reason = ""
+        used = all(v is not None for v in xs) and y is not None
+        notes = [note for (_, note), col in zip(numbers, x_cols + [y_ref.c1]) if note]
+        if used:
+            label = _row_label(workbook, y_ref.sheet, r, min(x_cols + [y_ref.c1]))
+            if (label and TOTAL_LABEL.match(label)) or _looks_like_total(xs, y, ys_used):  # type: ignore[arg-type]
+                used = False
+                reason = f"total or mean row ({label.strip() or 'equals the sum or mean above'})"
+                result.total_rows.append(r)
+        if not used and not reason:
+            reason = "; ".join(n for n in notes if not n.startswith("number stored")) or "empty"
+            for (_, note), col in zip(numbers, x_cols + [y_ref.c1]):
+                if note and not note.startswith("number stored"):
+                    result.dropped.append((f"{y_ref.sheet}!{column_letter(col)}{r}", note))
+        elif used:
+            for (_, note), col in zip(numbers, x_cols + [y_ref.c1]):
+                if note.startswith("number stored"):
+                    result.parsed.append((f"{y_ref.sheet}!{column_letter(col)}{r}", note))
+                    reason = note + " (parsed)"
+            if not in_refs:
+                reason = (reason + "; " if reason else "") + "outside the formula's range"
+        used_as_written = in_refs and pair_ok
+        if used_as_written:
+            result.n_as_written += 1
+        points.append(DataPoint(r, list(xs), y, used, used_as_written, reason))
+        if used:
+            xs_used.append([float(v) for v in xs])  # type: ignore[arg-type]
+            ys_used.append(float(y))  # type: ignore[arg-type]
+    result.x = np.array(xs_used, dtype=float).reshape(-1, k)
+    result.y = np.array(ys_used, dtype=float)
+    return result
+
+
+def _paired(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> Extracted:
+    """Ranges on different sheets or rows: pair them position by position, no extension."""
+    x_values = evaluator.range_values(spec.x)
+    y_values = evaluator.range_values(spec.y).reshape(-1)
+    k = x_values.shape[1] if x_values.ndim == 2 else 1
+    n = min(len(y_values), x_values.shape[0])
+    xs_used, ys_used, points = [], [], []
+    dropped: list[tuple[str, str]] = []
+    for i in range(n):
+        xs = [_number(v)[0] for v in x_values[i]]
+        y = _number(y_values[i])[0]
+        used = all(v is not None for v in xs) and y is not None
+        points.append(DataPoint(spec.y.r1 + i, xs, y, used, used, "" if used else "not numeric"))
+        if used:
+            xs_used.append(xs)
+            ys_used.append(y)
+        else:
+            dropped.append((f"{spec.y.sheet}!{column_letter(spec.y.c1)}{spec.y.r1 + i}",
+                            "not numeric"))
+    return Extracted(
+        x=np.array(xs_used, dtype=float).reshape(-1, k),
+        y=np.array(ys_used, dtype=float),
+        points=points,
+        intended_x_range=spec.x.address,
+        intended_y_range=spec.y.address,
+        dropped=dropped,
+        n_as_written=len(ys_used),
+    )
+
+
+def _range_text(sheet: str, c1: int, r1: int, c2: int, r2: int) -> str:
+    return f"{sheet}!{column_letter(c1)}{r1}:{column_letter(c2)}{r2}"

@@ -1,0 +1,239 @@
+"""The result model: plain data classes that every reporter reads.
+
+The core (read, locate, extract, fit, checks) builds these; reporters only consume them and never
+open source workbooks. ``to_dict`` gives the JSON contract of ``audit.json`` (see the design).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any, Literal
+
+Severity = Literal["critical", "major", "minor", "info"]
+SEVERITIES: tuple[Severity, ...] = ("critical", "major", "minor", "info")
+SEVERITY_RANK: dict[str, int] = {name: rank for rank, name in enumerate(SEVERITIES)}
+
+Verdict = Literal["confirmed", "mismatch", "unverifiable"]
+WorkbookStatus = Literal["audited", "unreadable", "no-regressions"]
+FoundBy = Literal["names", "formulas", "bindings", "labels"]
+
+JSON_FORMAT = 1
+
+# Statistic keys of the JSON contract, in the order reports show them.
+STAT_KEYS: tuple[str, ...] = (
+    "slope",
+    "intercept",
+    "se_slope",
+    "se_intercept",
+    "t_slope",
+    "t_intercept",
+    "p_slope",
+    "p_intercept",
+    "df",
+    "n",
+    "residual_sd",
+    "r_squared",
+    "r",
+    "f",
+    "ss_regression",
+    "ss_residual",
+    "ci_slope_low",
+    "ci_slope_high",
+)
+
+
+def clean_number(value: Any) -> Any:
+    """JSON has no NaN or infinity: they become None."""
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+@dataclass
+class Finding:
+    """One problem (or one piece of context) found by a check."""
+
+    check: str
+    severity: Severity
+    message: str
+    kind: str | None = None
+    cells: list[str] = field(default_factory=list)
+    evidence: dict[str, Any] = field(default_factory=dict)
+    fix: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "check": self.check,
+            "kind": self.kind,
+            "severity": self.severity,
+            "cells": list(self.cells),
+            "message": self.message,
+            "evidence": {k: clean_number(v) for k, v in self.evidence.items()},
+            "fix": self.fix,
+        }
+
+
+@dataclass
+class ReportedValue:
+    """One reported statistic: the three values and the verdict on them."""
+
+    key: str  # a STAT_KEYS entry, suffixed "[j]" for the j-th x column of a multiple regression
+    cell: str  # "Sheet!A1"
+    value: float | str | None  # what the author saw: stored value, typed constant or text claim
+    formula: str | None  # the cell's formula, None for a typed constant
+    as_written: float | None = None  # what the formula computes over the ranges it references
+    intended: float | None = None  # the independent fit over the intended data table
+    verdict: Verdict = "unverifiable"
+    tolerance: str = ""  # how agreement was judged, in words ("1e-9 relative", "4 decimals")
+    source: str = "stored"  # stored | typed | text | evaluated (no stored value in the file)
+    note: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "cell": self.cell,
+            "value": clean_number(self.value),
+            "formula": self.formula,
+            "as_written": clean_number(self.as_written),
+            "intended": clean_number(self.intended),
+            "verdict": self.verdict,
+            "tolerance": self.tolerance,
+            "source": self.source,
+            "note": self.note,
+        }
+
+
+@dataclass
+class DataPoint:
+    """One row of the intended data table, with what happened to it."""
+
+    row: int
+    x: list[float | None]
+    y: float | None
+    used: bool  # in the intended fit
+    used_as_written: bool  # seen by the author's formulas
+    reason: str = ""  # why it was dropped, parsed or left out
+
+
+@dataclass
+class RegressionResult:
+    id: str
+    sheet: str
+    x_range: str
+    y_range: str
+    found_by: FoundBy
+    n: int
+    intercept: bool
+    x_columns: int = 1
+    intended: dict[str, Any] = field(default_factory=dict)
+    reported: dict[str, ReportedValue] = field(default_factory=dict)
+    design: dict[str, Any] = field(default_factory=dict)
+    findings: list[Finding] = field(default_factory=list)
+    data: list[DataPoint] = field(default_factory=list)
+    intended_x_range: str = ""
+    intended_y_range: str = ""
+    label: str = ""  # the block's own title where the workbook gives one
+
+    @property
+    def verdict(self) -> Verdict:
+        verdicts = {r.verdict for r in self.reported.values()}
+        if "mismatch" in verdicts:
+            return "mismatch"
+        if "confirmed" in verdicts:
+            return "confirmed"
+        return "unverifiable"
+
+    @property
+    def worst_severity(self) -> Severity | None:
+        return worst(self.findings)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "id": self.id,
+            "sheet": self.sheet,
+            "label": self.label,
+            "x_range": self.x_range,
+            "y_range": self.y_range,
+            "intended_x_range": self.intended_x_range,
+            "intended_y_range": self.intended_y_range,
+            "found_by": self.found_by,
+            "n": self.n,
+            "intercept": self.intercept,
+            "x_columns": self.x_columns,
+            "verdict": self.verdict,
+            "intended": {k: clean_number(v) for k, v in self.intended.items()},
+            "reported": {k: v.to_dict() for k, v in self.reported.items()},
+            "design": {k: clean_number(v) for k, v in self.design.items()},
+            "findings": [f.to_dict() for f in self.findings],
+        }
+
+
+@dataclass
+class WorkbookResult:
+    path: str
+    sha256: str
+    status: WorkbookStatus
+    error: str | None = None
+    stored_values: bool = True
+    regressions: list[RegressionResult] = field(default_factory=list)
+    findings: list[Finding] = field(default_factory=list)  # workbook-level findings
+
+    def all_findings(self) -> list[Finding]:
+        return list(self.findings) + [f for r in self.regressions for f in r.findings]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "path": self.path,
+            "sha256": self.sha256,
+            "status": self.status,
+            "error": self.error,
+            "stored_values": self.stored_values,
+            "regressions": [r.to_dict() for r in self.regressions],
+            "findings": [f.to_dict() for f in self.findings],
+        }
+
+
+@dataclass
+class AuditResult:
+    version: str
+    policy: str
+    workbooks: list[WorkbookResult]
+    generated: str = ""  # ISO date shown in reports; fixed by --timestamp / SOURCE_DATE_EPOCH
+    inputs: list[str] = field(default_factory=list)
+
+    def all_findings(self) -> list[Finding]:
+        return [f for w in self.workbooks for f in w.all_findings()]
+
+    def totals(self) -> dict[str, Any]:
+        by_severity = {name: 0 for name in SEVERITIES}
+        for finding in self.all_findings():
+            by_severity[finding.severity] += 1
+        by_status: dict[str, int] = {}
+        for workbook in self.workbooks:
+            by_status[workbook.status] = by_status.get(workbook.status, 0) + 1
+        return {
+            "workbooks": len(self.workbooks),
+            "regressions": sum(len(w.regressions) for w in self.workbooks),
+            "findings_by_severity": by_severity,
+            "workbooks_by_status": by_status,
+        }
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "format": JSON_FORMAT,
+            "tool": {"name": "regaudit", "version": self.version},
+            "policy": self.policy,
+            "generated": self.generated,
+            "workbooks": [w.to_dict() for w in self.workbooks],
+            "totals": self.totals(),
+        }
+
+
+def worst(findings: list[Finding]) -> Severity | None:
+    if not findings:
+        return None
+    return min(findings, key=lambda f: SEVERITY_RANK[f.severity]).severity
+
+
+def sort_findings(findings: list[Finding]) -> list[Finding]:
+    return sorted(findings, key=lambda f: (SEVERITY_RANK[f.severity], f.check, f.cells))

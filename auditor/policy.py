@@ -1,0 +1,103 @@
+"""Review policies: thresholds as data, loaded from ``rules/*.toml``.
+
+A policy file holds ``[key] value = … source = "…"`` tables; every threshold carries its source.
+No check reads a global: the :class:`Policy` is passed in.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass, field
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+from auditor.errors import PolicyError
+
+# key -> (type, lower bound, upper bound) of every threshold a policy may set.
+KNOWN: dict[str, tuple[type, float, float]] = {
+    "alpha": (float, 1e-6, 0.5),
+    "confidence": (float, 0.5, 0.999999),
+    "power": (float, 0.05, 0.9999),
+    "stored_relative_tolerance": (float, 0.0, 1e-3),
+    "min_levels": (int, 2, 1000),
+    "recommended_levels": (int, 2, 1000),
+    "max_leverage": (float, 0.0, 1.0),
+}
+
+
+@dataclass(frozen=True)
+class Threshold:
+    value: float
+    source: str
+
+
+@dataclass(frozen=True)
+class Policy:
+    name: str
+    description: str = ""
+    thresholds: dict[str, Threshold] = field(default_factory=dict)
+
+    def get(self, key: str) -> float:
+        return self.thresholds[key].value
+
+    @property
+    def alpha(self) -> float:
+        return self.get("alpha")
+
+
+def builtin_names() -> list[str]:
+    folder = resources.files("auditor.rules")
+    return sorted(p.name[:-5] for p in folder.iterdir() if p.name.endswith(".toml"))
+
+
+def _parse(data: dict[str, Any], origin: str) -> Policy:
+    thresholds: dict[str, Threshold] = {}
+    for key, entry in data.items():
+        if key in ("name", "description"):
+            continue
+        if key not in KNOWN:
+            raise PolicyError(
+                f"{origin}: unknown key {key!r}; allowed keys are {', '.join(sorted(KNOWN))}"
+            )
+        if not isinstance(entry, dict) or "value" not in entry or "source" not in entry:
+            raise PolicyError(
+                f"{origin}: [{key}] needs both 'value' and 'source' (a guideline, "
+                "'common practice' or 'from memory')"
+            )
+        kind, low, high = KNOWN[key]
+        value = entry["value"]
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise PolicyError(f"{origin}: [{key}] value {value!r} is not a number")
+        if kind is int and int(value) != value:
+            raise PolicyError(f"{origin}: [{key}] value {value!r} must be a whole number")
+        if not low <= value <= high:
+            raise PolicyError(f"{origin}: [{key}] value {value!r} is outside {low}–{high}")
+        thresholds[key] = Threshold(float(value), str(entry["source"]))
+    for key in ("alpha", "confidence", "power", "stored_relative_tolerance", "min_levels"):
+        if key not in thresholds:
+            raise PolicyError(f"{origin}: the required key [{key}] is missing")
+    return Policy(str(data.get("name", origin)), str(data.get("description", "")), thresholds)
+
+
+def load_policy(name_or_file: str = "general") -> Policy:
+    """A built-in policy by name (``general``, ``calibration``) or a TOML file by path."""
+    path = Path(name_or_file)
+    if name_or_file.endswith(".toml") or path.is_file():
+        if not path.is_file():
+            raise PolicyError(f"policy file {name_or_file!r} does not exist")
+        text, origin = path.read_text(encoding="utf-8"), str(path)
+    else:
+        names = builtin_names()
+        if name_or_file not in names:
+            raise PolicyError(
+                f"unknown policy {name_or_file!r}; choose one of {', '.join(names)} "
+                "or give the path of a .toml file"
+            )
+        text = resources.files("auditor.rules").joinpath(f"{name_or_file}.toml").read_text("utf-8")
+        origin = name_or_file
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise PolicyError(f"{origin}: not valid TOML ({exc})") from exc
+    return _parse(data, origin)

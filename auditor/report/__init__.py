@@ -1,0 +1,90 @@
+"""Reporters: one result model in, one file out per format.
+
+    Reporter (protocol)   filename + write(result, handle)
+    ├── JsonReporter      audit.json   (the machine contract)
+    ├── TextReporter      summary.txt  (the first thing a reviewer reads)
+    └── XlsxReporter      audit.xlsx   (the reviewer's workbook)
+
+Reporters read only ``auditor.model``; they never open source workbooks nor import the reading,
+locating or fitting modules. ``write_reports`` is the one entry point for the CLI: it sends every
+file through ``output.atomic_output``, so a failure leaves the previous reports intact.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from pathlib import Path
+from typing import BinaryIO, Protocol
+
+from auditor.errors import UsageError
+from auditor.model import AuditResult
+from auditor.report.json import JsonReporter
+from auditor.report.output import atomic_output, refuse_inputs
+from auditor.report.text import TextReporter
+from auditor.report.xlsx import XlsxReporter
+
+
+class Reporter(Protocol):
+    """Turns one AuditResult into the bytes of one file named ``filename``."""
+
+    filename: str
+
+    def write(self, result: AuditResult, handle: BinaryIO) -> None: ...
+
+
+REPORTERS: dict[str, Reporter] = {
+    "xlsx": XlsxReporter(),
+    "text": TextReporter(),
+    "json": JsonReporter(),
+}
+DEFAULT_FORMATS: tuple[str, ...] = ("xlsx", "text", "json")
+
+
+def audited_files(result: AuditResult) -> set[Path]:
+    """The files a report must never overwrite: every workbook and every input that is a file."""
+    files = {Path(workbook.path) for workbook in result.workbooks}
+    files |= {Path(source) for source in result.inputs if Path(source).is_file()}
+    return files
+
+
+def write_reports(
+    result: AuditResult,
+    out_dir: Path,
+    formats: Sequence[str] = DEFAULT_FORMATS,
+    protected: Iterable[Path | str] | None = None,
+) -> list[Path]:
+    """Write one file per format into ``out_dir`` (created if missing); return their paths.
+
+    ``protected`` are paths never to overwrite; by default the audited files of ``result``.
+    Unknown formats raise UsageError before any file is written.
+    """
+    unknown = [name for name in formats if name not in REPORTERS]
+    if unknown:
+        known = ", ".join(sorted(REPORTERS))
+        raise UsageError(f"unknown report format {unknown[0]!r}; choose from {known}")
+    inputs = audited_files(result) if protected is None else {Path(p) for p in protected}
+    out_dir = Path(out_dir)
+    chosen = [REPORTERS[name] for name in dict.fromkeys(formats)]  # keeps order, drops repeats
+    # Check every target first, so a refusal does not leave a half-written set of reports.
+    for reporter in chosen:
+        refuse_inputs(out_dir / reporter.filename, inputs)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    written: list[Path] = []
+    for reporter in chosen:
+        target = out_dir / reporter.filename
+        with atomic_output(target, inputs) as handle:
+            reporter.write(result, handle)
+        written.append(target)
+    return written
+
+
+__all__ = [
+    "DEFAULT_FORMATS",
+    "REPORTERS",
+    "JsonReporter",
+    "Reporter",
+    "TextReporter",
+    "XlsxReporter",
+    "audited_files",
+    "write_reports",
+]
