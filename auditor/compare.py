@@ -28,12 +28,11 @@ STAR_LEVELS = {"*": 0.05, "**": 0.01, "***": 0.001}  # common practice in publis
 MINUS_SIGNS = "\u2212\u2012\u2013\ufe63\uff0d"  # minus sign, figure dash, en dash, small, wide
 SPACES = "\u00a0\u202f\u2009"  # no-break, narrow no-break and thin spaces inside numbers
 NUMBER = re.compile(r"[+-]?(?:\d{1,3}(?:,\d{3})+|\d*)(?:\.\d*)?(?:[eE][+-]?\d+)?")
-CLAIM = re.compile(
-    r"p(?:[\s-]*values?)?\s*(?P<op><=|>=|<|>|=)?\s*(?P<num>[^<>=]+)"
-    r"|(?P<op2><=|>=|<|>|=)\s*(?P<num2>.+)"
-)
-NOT_SIGNIFICANT = {"n.s.", "n.s", "ns", "not significant", "non-significant", "nonsignificant"}
-SIGNIFICANT = {"significant", "sig.", "sig", "statistically significant"}
+# An optional "p" / "p-value" label, an optional comparison, then a number: "p < .05", "≥0.1".
+CLAIM = re.compile(r"(?:p(?:[\s-]*values?)?\s*)?(?P<op><=|>=|<|>|=|:)?\s*(?P<num>.+)")
+# Compared without trailing dots: "n.s." and "sig." match "n.s" and "sig".
+NOT_SIGNIFICANT = {"n.s", "ns", "not significant", "not sig", "non-significant", "nonsignificant"}
+SIGNIFICANT = {"significant", "sig", "statistically significant"}
 OPERATORS = {"<": "<", ">": ">", "<=": "≤", ">=": "≥"}
 
 
@@ -68,11 +67,11 @@ def agree_text(claim: str, true: float, label: str = "p") -> Agreement:
     if not _finite(true):
         return Agreement(None, "no number to compare", None)
     text = _normalise(claim)
-    words = text.lower().rstrip(" .") + ("." if text.endswith(".") else "")
-    if words in NOT_SIGNIFICANT or words.rstrip(".") in NOT_SIGNIFICANT:
+    words = " ".join(text.lower().rstrip(" .").split())
+    if words in NOT_SIGNIFICANT:
         bound = f"claim {label} ≥ {CONVENTIONAL_ALPHA:g} (not significant)"
         return Agreement(true >= CONVENTIONAL_ALPHA, bound, None)
-    if words in SIGNIFICANT or words.rstrip(".") in SIGNIFICANT:
+    if words in SIGNIFICANT:
         bound = f"claim {label} < {CONVENTIONAL_ALPHA:g} (significant)"
         return Agreement(true < CONVENTIONAL_ALPHA, bound, None)
     if text in STAR_LEVELS:
@@ -81,12 +80,12 @@ def agree_text(claim: str, true: float, label: str = "p") -> Agreement:
     match = CLAIM.fullmatch(text.lower().rstrip("*").strip())
     if match is None:
         return _not_understood(claim)
-    op = match.group("op") or match.group("op2") or "="
-    number_text = (match.group("num") or match.group("num2") or "").strip()
+    op = match.group("op") or "="
+    number_text = match.group("num").strip()
     value = parse_text_number(number_text)
     if value is None:
         return _not_understood(claim)
-    if op == "=":
+    if op in ("=", ":"):
         return _at_decimals(value, true, _text_decimals(number_text))
     holds = {"<": true < value, ">": true > value, "<=": true <= value, ">=": true >= value}[op]
     return Agreement(holds, f"claim {label} {OPERATORS[op]} {value:g}", None)
@@ -176,9 +175,8 @@ def _format_decimals(value: float, number_format: str) -> int | None:
     lowered = section.lower()
     if not lowered.strip() or "general" in lowered or "@" in lowered:
         return None
-    number_part, sci, _ = re.split(r"(e[+-])", lowered, maxsplit=1) + ["", ""][: 0]
-    if not sci:
-        number_part = lowered
+    sci = re.search(r"e[+-]", lowered)
+    number_part = lowered[: sci.start()] if sci else lowered
     if re.search(r"[ymdhs]", number_part):
         return None  # a date or time format: the value is not shown as a decimal number
     whole, dot, fraction = number_part.partition(".")
@@ -199,7 +197,8 @@ def _format_decimals(value: float, number_format: str) -> int | None:
 
 def _format_section(number_format: str, value: float) -> str:
     """The section of "pos;neg;zero;text" that shows this value (quotes and brackets kept)."""
-    sections = re.findall(r'(?:"[^"]*"|\\.|\[[^\]]*\]|[^;"\\\[])+', number_format) or [""]
+    sections: list[str] = re.findall(r'(?:"[^"]*"|\\.|\[[^\]]*\]|[^;"\\\[])+', number_format)
+    sections = sections or [""]
     if value < 0 and len(sections) > 1:
         return sections[1]
     if value == 0 and len(sections) > 2:

@@ -68,7 +68,8 @@ class FitResult:
     y_mean: float
     # Per-observation diagnostics, always finite. Empty when the fit itself is undefined; the
     # studentised residuals and Cook's distances are also empty when df == 0 (no scatter to scale
-    # by), and 0.0 for a point of leverage 1, which the line passes through exactly.
+    # by), 0.0 for a point of leverage 1 (the line passes through it exactly) and 0.0 throughout
+    # a perfect fit.
     fitted: FloatArray
     residuals: FloatArray
     leverage: FloatArray
@@ -146,7 +147,7 @@ def fit_ols(
     if not 0.0 < confidence < 1.0:
         raise ValueError(f"confidence must lie strictly between 0 and 1, got {confidence!r}")
     n, k = x_arr.shape
-    df = n - k - (1 if intercept else 0)
+    df = max(0, n - k - (1 if intercept else 0))  # never negative: no points left is 0 left
     return _finish(solve_centred(x_arr, y_arr, intercept), n, k, intercept, df, confidence)
 
 
@@ -345,11 +346,12 @@ def solve_centred(x: FloatArray, y: FloatArray, intercept: bool) -> Solution:
     x_mean = _mean(x[:, 0]) if k == 1 else math.nan
     need = k + (1 if intercept else 0)
     if n < need:
-        const = " and an intercept" if intercept else ""
+        what = "a line" if k == 1 else f"{k} slopes"
+        const = " with an intercept" if intercept else " through the origin"
         return _undefined(
             "too-few-points",
-            f"only {n} points for {k} slope(s){const}: the coefficients are not determined "
-            f"(at least {need + 1} points are needed for standard errors)",
+            f"{n} point{'' if n == 1 else 's'} cannot determine {what}{const}: at least {need} "
+            f"are needed for the coefficients and {need + 1} for their standard errors",
             k,
             intercept,
             x_mean,

@@ -20,8 +20,8 @@ from pathlib import Path
 from typing import Any
 
 from auditor.errors import FormulaError
-from auditor.formula import Binary, Call, Node, Ref, RefNode, calls, parse, references
-from auditor.model import STAT_KEYS, FoundBy
+from auditor.formula import Binary, Call, Node, Number, Ref, RefNode, calls, parse, references, walk
+from auditor.model import STAT_KEYS, FoundBy, stat_base
 from auditor.roles import (
     linest_block_role,
     linest_index_role,
@@ -107,7 +107,9 @@ def pair_uses(cell: Cell, node: Node) -> list[PairUse]:
         y, x = _ref_arg(call.args[0]), _ref_arg(call.args[1])
         if y is None or x is None or y.external or x.external:
             continue
-        intercept = _const_arg(call.args[2]) if call.name == "LINEST" and len(call.args) > 2 else True
+        intercept = (
+            _const_arg(call.args[2]) if call.name == "LINEST" and len(call.args) > 2 else True
+        )
         found.append(PairUse(cell, call.name, y, x, intercept))
     return found
 
@@ -142,11 +144,45 @@ class _Groups:
         return list(out.values())
 
 
+def _box(uses: list[PairUse]) -> tuple[str, int, int, int, int] | None:
+    if not uses:
+        return None
+    sheet = uses[0].cell.sheet
+    rows = [u.cell.row for u in uses if u.cell.sheet == sheet]
+    cols = [u.cell.col for u in uses if u.cell.sheet == sheet]
+    return sheet, min(rows) - 1, min(cols) - 1, max(rows) + 1, max(cols) + 1
+
+
+def _inside(use: PairUse, box: tuple[str, int, int, int, int] | None) -> bool:
+    return box is not None and (
+        use.cell.sheet == box[0] and box[1] <= use.cell.row <= box[3]
+        and box[2] <= use.cell.col <= box[4]
+    )
+
+
+def _adopt_strays(groups: list[list[PairUse]]) -> list[list[PairUse]]:
+    """A call sitting inside another block but naming this block's data (a block copied with an
+    absolute reference left pointing back) belongs to the block it sits in: the mismatch of
+    ranges is a finding of that block, not a second regression."""
+    for group in groups:
+        for use in list(group):
+            rest = [u for u in group if u is not use]
+            if not rest or _inside(use, _box(rest)):
+                continue
+            for other in groups:
+                if other is not group and _inside(use, _box(other)):
+                    group.remove(use)
+                    other.append(use)
+                    break
+    return [g for g in groups if g]
+
+
 def _primary_pair(uses: list[PairUse]) -> tuple[Ref, Ref]:
     """The (x, y) most calls agree on; ties go to the longest range (the table meant)."""
     votes: dict[tuple[Ref, Ref], int] = {}
     for use in uses:
         votes[(use.x, use.y)] = votes.get((use.x, use.y), 0) + 1
+
     # A swapped call (SLOPE(x, y)) votes for the reversed pair; the majority orientation wins.
     def score(pair: tuple[Ref, Ref]) -> tuple[int, int]:
         x, y = pair
@@ -199,12 +235,16 @@ class Locator:
             cell = self.workbook.cell(*key)
             if cell is not None:
                 uses.extend(pair_uses(cell, node))
+        groups = _adopt_strays(_Groups(uses).groups())
+        self.anchor_cells = {(u.cell.sheet, u.cell.row, u.cell.col) for u in uses}
         specs = []
-        for group in _Groups(uses).groups():
+        for group in groups:
             x, y = _primary_pair(group)
-            intercept = all(u.intercept for u in group if u.function == "LINEST") if any(
-                u.function == "LINEST" for u in group
-            ) else True
+            intercept = (
+                all(u.intercept for u in group if u.function == "LINEST")
+                if any(u.function == "LINEST" for u in group)
+                else True
+            )
             first = min(group, key=lambda u: (u.cell.sheet, u.cell.row, u.cell.col)).cell
             spec = RegressionSpec(
                 id=f"{first.sheet}/{first.coord}",
@@ -221,10 +261,15 @@ class Locator:
         return specs
 
     def _put(self, spec: RegressionSpec, key: str | None, stat: StatCell) -> None:
-        if key is None or key in spec.stats:
+        """Attach a statistic cell; a second cell holding the same statistic gets ``key@A1``."""
+        if key is None or not (key in STAT_KEYS or re.match(r"^[a-z_]+\[\d+\]$", key)):
             return
-        if key in STAT_KEYS or re.match(r"^[a-z_]+\[\d+\]$", key):
-            spec.stats[key] = stat
+        if any(s.cell.address == stat.cell.address for s in spec.stats.values()):
+            return
+        if key in spec.stats:
+            key = f"{key}@{stat.cell.coord}"
+        stat.key = key
+        spec.stats[key] = stat
 
     def _assign_anchor_roles(self, spec: RegressionSpec) -> None:
         k = spec.x_columns
@@ -250,7 +295,13 @@ class Locator:
                 role = linest_block_role(r - r1 + 1, c - c1 + 1, k, intercept)
                 cell = self.workbook.cell(anchor.sheet, r, c) or Cell(anchor.sheet, r, c, None)
                 cell_with_formula = Cell(
-                    cell.sheet, r, c, cell.value, anchor.formula, cell.number_format, anchor.array_ref
+                    cell.sheet,
+                    r,
+                    c,
+                    cell.value,
+                    anchor.formula,
+                    cell.number_format,
+                    anchor.array_ref,
                 )
                 self._put(
                     spec,
@@ -277,12 +328,41 @@ class Locator:
                         found.add(key)
         return found
 
+    def _picked(self, spec: RegressionSpec, node: Node) -> str | None:
+        """The statistic a sub-expression stands for: a stat cell, or INDEX over a LINEST block."""
+        keys = self._stat_addresses(spec)
+        if isinstance(node, RefNode) and node.ref.is_cell:
+            return keys.get((node.ref.sheet.lower(), node.ref.r1, node.ref.c1)) or None
+        if isinstance(node, Call) and node.name == "INDEX" and len(node.args) >= 2:
+            target = node.args[0]
+            if isinstance(target, Call) and target.name == "LINEST":
+                return linest_index_role(node, spec.x_columns, spec.intercept)
+            if isinstance(target, RefNode):
+                row = _literal(node.args[1])
+                col = _literal(node.args[2]) if len(node.args) > 2 else 1
+                if row is None or col is None:
+                    return None
+                r, c = target.ref.r1 + row - 1, target.ref.c1 + col - 1
+                return keys.get((target.ref.sheet.lower(), r, c)) or None
+        return None
+
+    def _t_keys_in(self, spec: RegressionSpec, node: Node) -> list[str]:
+        found = []
+        for sub in walk(node):
+            key = self._picked(spec, sub)
+            if key and stat_base(key).startswith("t_"):
+                found.append(stat_base(key))
+        return found
+
     def _role_of_dependent(self, spec: RegressionSpec, cell: Cell, node: Node) -> str | None:
         label = label_for(self.workbook, cell)
         label_role = role_from_label(label) if label else None
         shape = role_from_shape(node)
-        used = self._refs_roles(spec, node)
+        used = {stat_base(k) for k in self._refs_roles(spec, node)}
         if shape == "p":
+            t_keys = self._t_keys_in(spec, node)
+            if t_keys:
+                return "p_" + t_keys[0][2:]
             if label_role == "p_intercept" or ("t_intercept" in used and "t_slope" not in used):
                 return "p_intercept"
             return "p_slope"
@@ -297,13 +377,20 @@ class Locator:
             return shape
         if label_role in ("t_critical",):
             return None
+        picked = self._picked(spec, node) if isinstance(node, Call) else None
+        if picked is not None:
+            return stat_base(picked)  # INDEX(block, r, c) repeats a statistic of the block
         if isinstance(node, Binary) and node.op == "/":
-            left = self._refs_roles(spec, node.left)
-            right = self._refs_roles(spec, node.right)
-            if "slope" in left and (right & {"se_slope", ""} or label_role == "t_slope"):
-                return "t_slope"
-            if "intercept" in left and (right & {"se_intercept", ""} or label_role == "t_intercept"):
-                return "t_intercept"
+            numerator = self._picked(spec, node.left)
+            denominator = self._picked(spec, node.right) or role_from_shape(node.right) or ""
+            right_used = {stat_base(k) for k in self._refs_roles(spec, node.right)}
+            se_like = stat_base(denominator).startswith("se_") or any(
+                k.startswith("se_") for k in right_used
+            )
+            if numerator is not None and se_like:
+                base = stat_base(numerator)
+                if base.startswith("slope") or base.startswith("intercept"):
+                    return "t_" + base
         return label_role
 
     def _follow_dependents(self, spec: RegressionSpec) -> None:
@@ -313,8 +400,8 @@ class Locator:
         for _ in range(MAX_FOLLOW_ROUNDS):
             added = False
             for key, node in self.parsed.items():
-                if key in taken:
-                    continue
+                if key in taken or key in self.anchor_cells:
+                    continue  # another regression's own call is never a dependent of this one
                 cell = self.workbook.cell(*key)
                 if cell is None:
                     continue
@@ -328,6 +415,16 @@ class Locator:
                     continue
                 role = self._role_of_dependent(spec, cell, node)
                 taken.add(key)
+                label = label_for(self.workbook, cell)
+                if (
+                    role
+                    and role in spec.stats
+                    and role_from_label(label or "") != role
+                    and not role.startswith(("se_", "t_"))
+                    and not (isinstance(node, Call) and node.name == "INDEX")
+                ):
+                    continue  # a second p or count counts only when labelled so; SE and t
+                    # built by hand are unambiguous shapes
                 if role:
                     self._put(spec, role, StatCell(role, cell, "formula"))
                     added = True
@@ -337,17 +434,20 @@ class Locator:
     def _near(self, spec: RegressionSpec, cell: Cell) -> bool:
         """A data-only formula (COUNT(x)-2) belongs to the block it sits in."""
         for stat in spec.stats.values():
-            if stat.cell.sheet == cell.sheet and abs(stat.cell.row - cell.row) <= 8 and abs(
-                stat.cell.col - cell.col
-            ) <= 4:
+            if (
+                stat.cell.sheet == cell.sheet
+                and abs(stat.cell.row - cell.row) <= 8
+                and abs(stat.cell.col - cell.col) <= 4
+            ):
                 return True
         return False
 
     # -- names and bindings -----------------------------------------------------------------
     def _ref_from_text(self, text: str, sheet: str | None) -> Ref | None:
         try:
-            node = parse("=" + text.lstrip("="), sheet or next(iter(self.workbook.sheets)),
-                         self.workbook)
+            node = parse(
+                "=" + text.lstrip("="), sheet or next(iter(self.workbook.sheets)), self.workbook
+            )
         except (FormulaError, StopIteration):
             return None
         return _ref_arg(node)
@@ -405,6 +505,60 @@ class Locator:
         return self.from_declarations(declared, "bindings", intercepts)
 
     # -- labels -----------------------------------------------------------------------------
+    def from_labels(self, taken: set[str]) -> list[RegressionSpec]:
+        """A typed number beside "Slope" with a two-column numeric table to its left."""
+        specs = []
+        for sheet in self.workbook.sheets.values():
+            for cell in sorted(sheet.cells.values(), key=lambda c: (c.row, c.col)):
+                if not isinstance(cell.value, str) or role_from_label(cell.value) != "slope":
+                    continue
+                target = sheet.get(cell.row, cell.col + 1)
+                if (
+                    target is None
+                    or target.formula
+                    or isinstance(target.value, bool)
+                    or not isinstance(target.value, (int, float))
+                    or target.address in taken
+                ):
+                    continue
+                pair = self._table_left_of(sheet.name, cell.col)
+                if pair is None:
+                    continue
+                x, y = pair
+                spec = RegressionSpec(f"{sheet.name}/{target.coord}", sheet.name, x, y, True,
+                                      "labels")
+                spec.stats["slope"] = StatCell("slope", target, "label")
+                taken.add(target.address)
+                specs.append(spec)
+        return specs
+
+    def _table_left_of(self, sheet_name: str, col: int) -> tuple[Ref, Ref] | None:
+        """The nearest pair of adjacent columns left of ``col`` with 3+ numeric rows together."""
+        sheet = self.workbook.sheet(sheet_name)
+        if sheet is None:
+            return None
+
+        def numeric(r: int, c: int) -> bool:
+            value = sheet.value(r, c)
+            return isinstance(value, (int, float)) and not isinstance(value, bool)
+
+        for c in range(col - 2, 0, -1):
+            rows = [r for r in range(1, sheet.max_row + 1) if numeric(r, c) and numeric(r, c + 1)]
+            if len(rows) < 3:
+                continue
+            start = end = rows[0]
+            best = (start, end)
+            for r in rows[1:]:
+                end = r if r == end + 1 else end
+                if r != end:
+                    start = end = r
+                if end - start > best[1] - best[0]:
+                    best = (start, end)
+            if best[1] - best[0] >= 2:
+                return (Ref(sheet.name, best[0], c, best[1], c),
+                        Ref(sheet.name, best[0], c + 1, best[1], c + 1))
+        return None
+
     def attach_labelled_constants(self, spec: RegressionSpec) -> None:
         """Typed numbers beside statistic labels near the block are its reported values."""
         cells = [s.cell for s in spec.stats.values()] or [
@@ -413,20 +567,26 @@ class Locator:
         sheet = self.workbook.sheet(cells[0].sheet)
         if sheet is None:
             return
+        data_columns = [spec.x, spec.y]
         rows = range(min(c.row for c in cells) - 3, max(c.row for c in cells) + 6)
         cols = range(min(c.col for c in cells) - 3, max(c.col for c in cells) + 5)
         for r in rows:
             for c in cols:
                 cell = sheet.get(r, c)
-                if cell is None or cell.formula or cell.value is None or isinstance(
-                    cell.value, bool
+                if (
+                    cell is None
+                    or cell.formula
+                    or cell.value is None
+                    or isinstance(cell.value, bool)
                 ):
                     continue
                 if isinstance(cell.value, str) and not _looks_like_claim(cell.value):
                     continue
+                if any(r_.c1 <= c <= r_.c2 and r_.sheet == cell.sheet for r_ in data_columns):
+                    continue  # a value in a data column is data, whatever its header says
                 label = label_for(self.workbook, cell)
                 role = role_from_label(label) if label else None
-                if role and role not in spec.stats:
+                if role and not any(stat_base(k) == role for k in spec.stats):
                     self._put(spec, role, StatCell(role, cell, "label"))
 
     def block_title(self, spec: RegressionSpec) -> str:
@@ -445,8 +605,13 @@ class Locator:
         return ""
 
 
-_CLAIM = re.compile(r"^\s*(p\s*)?([<>≤≥]=?|=)?\s*[-−]?\d*\.?\d+(e-?\d+)?\s*%?\s*$|^\s*n\.?s\.?\s*$",
-                    re.I)
+def _literal(node: Node) -> int | None:
+    return int(float(node.value)) if isinstance(node, Number) else None
+
+
+_CLAIM = re.compile(
+    r"^\s*(p\s*)?([<>≤≥]=?|=)?\s*[-−]?\d*\.?\d+(e-?\d+)?\s*%?\s*$|^\s*n\.?s\.?\s*$", re.I
+)
 
 
 def _looks_like_claim(text: str) -> bool:
@@ -478,6 +643,12 @@ def locate(
     specs.extend(found)
     for spec in specs:
         locator.attach_labelled_constants(spec)
+    taken = {stat.cell.address for spec in specs for stat in spec.stats.values()}
+    by_labels = locator.from_labels(taken)
+    for spec in by_labels:
+        locator.attach_labelled_constants(spec)
+    specs.extend(by_labels)
+    for spec in specs:
         spec.label = locator.block_title(spec)
     seen: set[str] = set()
     for spec in specs:

@@ -43,6 +43,11 @@ STAT_KEYS: tuple[str, ...] = (
 )
 
 
+def stat_base(key: str) -> str:
+    """'p_slope@E9' (a second cell holding the p-value) -> 'p_slope'."""
+    return key.split("@", 1)[0]
+
+
 def clean_number(value: Any) -> Any:
     """JSON has no NaN or infinity: they become None."""
     if isinstance(value, float) and not math.isfinite(value):
@@ -78,7 +83,7 @@ class Finding:
 class ReportedValue:
     """One reported statistic: the three values and the verdict on them."""
 
-    key: str  # a STAT_KEYS entry, suffixed "[j]" for the j-th x column of a multiple regression
+    key: str  # a STAT_KEYS entry, "[j]" for the j-th x column; "@A1" for a second cell of it
     cell: str  # "Sheet!A1"
     value: float | str | None  # what the author saw: stored value, typed constant or text claim
     formula: str | None  # the cell's formula, None for a typed constant

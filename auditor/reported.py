@@ -12,7 +12,7 @@ import math
 from auditor.compare import Agreement, agree_stored, agree_text, agree_typed, parse_text_number
 from auditor.evaluate import Evaluator, Unsupported
 from auditor.locate import RegressionSpec, StatCell
-from auditor.model import ReportedValue
+from auditor.model import ReportedValue, stat_base
 from auditor.workbook import ErrorValue
 
 INTEGER_KEYS = ("df", "n")
@@ -90,7 +90,7 @@ def build_reported(
             value = raw if isinstance(raw, str) else _as_float(raw)
             if isinstance(raw, ErrorValue):
                 value, note = str(raw), f"the cell shows {raw.code}"
-        true = intended.get(key)
+        true = intended.get(stat_base(key))
         true_f = float(true) if isinstance(true, (int, float)) else None
         agreement = judge(value, true_f, source, cell.number_format, rel,
                           _scale_for(key, intended))

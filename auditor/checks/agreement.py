@@ -6,7 +6,7 @@ from scipy import stats as distributions
 
 from auditor.checks.base import RegressionContext, check
 from auditor.compare import agree_stored, parse_text_number
-from auditor.model import Finding, ReportedValue, Severity
+from auditor.model import Finding, ReportedValue, Severity, stat_base
 
 NAMES = {
     "slope": "slope",
@@ -31,7 +31,7 @@ NAMES = {
 
 
 def describe(key: str) -> str:
-    base, _, rest = key.partition("[")
+    base, _, rest = stat_base(key).partition("[")
     name = NAMES.get(base, base)
     return f"{name} (x column {rest.rstrip(']')})" if rest else name
 
@@ -52,7 +52,7 @@ def significance_changes(context: RegressionContext, value: ReportedValue) -> bo
     """Would a reader of the reported value reach another conclusion at the policy's alpha?"""
     alpha = context.policy.alpha
     fit = context.fit
-    base = value.key.split("[")[0]
+    base = stat_base(value.key).split("[")[0]
     if base == "p_slope" and value.intended is not None:
         if isinstance(value.value, str):
             return False  # a text claim that fails is judged by the claim check below
@@ -85,7 +85,7 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
         if value.verdict != "mismatch":
             continue
         critical = significance_changes(context, value)
-        if isinstance(value.value, str) and value.key.startswith("p_") and value.intended is not None:
+        if isinstance(value.value, str) and value.key.startswith("p_") and value.intended:
             critical = True  # a text claim about p that does not hold is a wrong conclusion
         severity: Severity = "critical" if critical else "major"
         consequence = ""

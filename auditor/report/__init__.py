@@ -51,18 +51,19 @@ def write_reports(
     result: AuditResult,
     out_dir: Path,
     formats: Sequence[str] = DEFAULT_FORMATS,
-    protected: Iterable[Path | str] | None = None,
+    input_paths: Iterable[Path | str] = (),
 ) -> list[Path]:
     """Write one file per format into ``out_dir`` (created if missing); return their paths.
 
-    ``protected`` are paths never to overwrite; by default the audited files of ``result``.
+    No report is written onto ``input_paths`` (the files the CLI collected) nor onto any
+    workbook or input file named in ``result``.
     Unknown formats raise UsageError before any file is written.
     """
     unknown = [name for name in formats if name not in REPORTERS]
     if unknown:
         known = ", ".join(sorted(REPORTERS))
         raise UsageError(f"unknown report format {unknown[0]!r}; choose from {known}")
-    inputs = audited_files(result) if protected is None else {Path(p) for p in protected}
+    inputs = audited_files(result) | {Path(source) for source in input_paths}
     out_dir = Path(out_dir)
     chosen = [REPORTERS[name] for name in dict.fromkeys(formats)]  # keeps order, drops repeats
     # Check every target first, so a refusal does not leave a half-written set of reports.

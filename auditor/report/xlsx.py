@@ -13,7 +13,7 @@ with the current time unless told otherwise, so the creation date comes from ``r
 from __future__ import annotations
 
 import json
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from typing import Any, BinaryIO
 
 from xlsxwriter import Workbook
@@ -44,12 +44,11 @@ WRAPPED_FINDING_COLUMNS = {"message", "evidence", "fix"}
 def created_date(generated: str) -> datetime:
     """The document's creation date from the result's ISO date (naive UTC, as XlsxWriter wants)."""
     try:
-        # Python 3.10's fromisoformat does not accept a trailing "Z".
-        parsed = datetime.fromisoformat(generated.strip().replace("Z", "+00:00"))
+        parsed = datetime.fromisoformat(generated.strip())
     except ValueError:
         return FALLBACK_CREATED
     if parsed.tzinfo is not None:
-        parsed = parsed.astimezone(timezone.utc).replace(tzinfo=None)
+        parsed = parsed.astimezone(UTC).replace(tzinfo=None)
     return parsed
 
 

@@ -66,10 +66,11 @@ def put(sheet: Worksheet, row: int, col: int, value: Any, cell_format: Any = Non
 
     Generic ``write`` would turn text beginning with "=" (a quoted formula) into a live formula
     and text that looks like a link into a hyperlink; XlsxWriter cannot store NaN or infinity,
-    so those are written as empty cells.
+    so those are written as empty cells. Empty text is an empty cell too, so that filtering on
+    "(Blanks)" finds it.
     """
     value = finite_or_none(value)
-    if value is None:
+    if value is None or value == "":
         sheet.write_blank(row, col, None, cell_format)
     elif isinstance(value, bool):
         sheet.write_boolean(row, col, value, cell_format)

@@ -1,0 +1,107 @@
+"""End to end on the fixture corpus: every declared regression found with the right ranges and
+statistic cells; clean ones get no major or critical finding; declared errors are flagged; the
+JSON validates against the schema kept in tests/; inputs are byte-identical afterwards.
+
+The truth is fixtures/manifest.json, written by fixtures/make_fixtures.py beside the workbooks it
+generates (stored values recalculated by LibreOffice).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from pathlib import Path
+from typing import Any
+
+import jsonschema
+import pytest
+
+from auditor.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+FIXTURES = ROOT / "fixtures"
+MANIFEST = json.loads((FIXTURES / "manifest.json").read_text(encoding="utf-8"))
+SCHEMA = json.loads((ROOT / "tests" / "schema" / "audit.schema.json").read_text(encoding="utf-8"))
+
+
+def _digest(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+@pytest.fixture(scope="module")
+def audit(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
+    workbooks = FIXTURES / "workbooks"
+    before = {p.name: _digest(p) for p in workbooks.glob("*.xlsx")}
+    out = tmp_path_factory.mktemp("audit")
+    code = main(["audit", str(workbooks), "--out", str(out), "--jobs", "1",
+                 "--fail-on", "never", "--timestamp", "2026-01-01T00:00:00+00:00"])
+    assert code == 0
+    after = {p.name: _digest(p) for p in workbooks.glob("*.xlsx")}
+    assert after == before, "an input workbook changed during the audit"
+    data = json.loads((out / "audit.json").read_text(encoding="utf-8"))
+    data["_out"] = str(out)
+    return data
+
+
+def _workbook(audit: dict[str, Any], name: str) -> dict[str, Any]:
+    matches = [w for w in audit["workbooks"] if Path(w["path"]).name == name]
+    assert matches, f"{name} missing from audit.json"
+    return matches[0]
+
+
+def _declared() -> list[tuple[str, dict[str, Any]]]:
+    return [(entry["file"], reg) for entry in MANIFEST["workbooks"] for reg in entry["regressions"]]
+
+
+def _match(workbook: dict[str, Any], declared: dict[str, Any]) -> dict[str, Any]:
+    for regression in workbook["regressions"]:
+        if regression["x_range"] == declared["x_range"] and (
+            regression["y_range"] == declared["y_range"]
+        ):
+            return regression
+    found = [(r["x_range"], r["y_range"]) for r in workbook["regressions"]]
+    raise AssertionError(
+        f"no regression over x={declared['x_range']} y={declared['y_range']}; found {found}"
+    )
+
+
+def test_json_validates_against_schema(audit: dict[str, Any]) -> None:
+    document = {k: v for k, v in audit.items() if not k.startswith("_")}
+    jsonschema.validate(document, SCHEMA)
+
+
+def test_every_workbook_in_the_manifest_is_audited(audit: dict[str, Any]) -> None:
+    for entry in MANIFEST["workbooks"]:
+        workbook = _workbook(audit, entry["file"])
+        expected = "audited" if entry["regressions"] else "no-regressions"
+        assert workbook["status"] == expected, (entry["file"], workbook["error"])
+        assert workbook["stored_values"] == entry["stored_values"], entry["file"]
+
+
+@pytest.mark.parametrize(
+    ("file", "declared"), _declared(), ids=[f"{f}:{r['y_range']}" for f, r in _declared()]
+)
+def test_declared_regression_found(audit: dict[str, Any], file: str, declared: dict[str, Any]) -> None:
+    regression = _match(_workbook(audit, file), declared)
+    assert regression["intercept"] == declared.get("intercept", True)
+    attached = {(k.split("@")[0], v["cell"]) for k, v in regression["reported"].items()}
+    for key, cell in declared.get("stats", {}).items():
+        assert (key, cell) in attached, f"{key} in {cell} not attached; have {sorted(attached)}"
+
+
+@pytest.mark.parametrize(
+    ("file", "declared"), _declared(), ids=[f"{f}:{r['y_range']}" for f, r in _declared()]
+)
+def test_findings_as_declared(audit: dict[str, Any], file: str, declared: dict[str, Any]) -> None:
+    regression = _match(_workbook(audit, file), declared)
+    serious = [f for f in regression["findings"] if f["severity"] in ("critical", "major")]
+    if declared.get("clean", False):
+        assert serious == [], [f["message"] for f in serious]
+        assert all(v["verdict"] != "mismatch" for v in regression["reported"].values())
+    else:
+        flagged = {cell for f in regression["findings"] for cell in f["cells"]}
+        flagged |= {v["cell"] for v in regression["reported"].values() if v["verdict"] == "mismatch"}
+        for expected in declared.get("expected", []):
+            cells = set(expected.get("cells", []))
+            assert cells & flagged or not cells, (expected, sorted(flagged))
+        assert regression["findings"], "an erroneous regression produced no finding"

@@ -1,0 +1,183 @@
+"""audit.xlsx read back with openpyxl: sheets, rows, tables, frozen headers, reproducible bytes."""
+
+from __future__ import annotations
+
+import io
+import json
+import zipfile
+from datetime import datetime
+
+import openpyxl
+import pytest
+from test_report_sample import AUDITED_PATH, UNREADABLE_ERROR, UNREADABLE_PATH, sample_result
+
+from auditor.model import AuditResult
+from auditor.report.xlsx import XlsxReporter, created_date
+from auditor.report.xlsx_style import PALETTE
+
+
+def _bytes(result: AuditResult) -> bytes:
+    handle = io.BytesIO()
+    XlsxReporter().write(result, handle)
+    return handle.getvalue()
+
+
+@pytest.fixture(scope="module")
+def book() -> openpyxl.Workbook:
+    return openpyxl.load_workbook(io.BytesIO(_bytes(sample_result())))
+
+
+def _rows(sheet) -> list[dict[str, object]]:
+    values = list(sheet.iter_rows(values_only=True))
+    header = values[0]
+    return [dict(zip(header, row, strict=True)) for row in values[1:]]
+
+
+def test_three_sheets_overview_first(book: openpyxl.Workbook) -> None:
+    assert book.sheetnames == ["Overview", "Findings", "Regressions"]
+    assert book.active.title == "Overview"
+
+
+def test_every_finding_is_a_row_most_severe_first(book: openpyxl.Workbook) -> None:
+    rows = _rows(book["Findings"])
+    assert [row["severity"] for row in rows] == ["critical", "major", "minor", "info"]
+    assert [row["check"] for row in rows] == [
+        "p-value-tails",
+        "formula-range",
+        "constant-in-formula",
+        "workbook-context",
+    ]
+    assert [row["regression"] for row in rows] == ["calib-1", "calib-1", "drift-1", None]
+    assert {row["workbook"] for row in rows} == {AUDITED_PATH}
+    major = rows[1]
+    assert major["kind"] == "range-short"
+    assert major["cells"] == "Calib!F4, Calib!A2:A9"
+    assert major["fix"] == "Extend both ranges to row 9."
+    assert rows[3]["kind"] is None and rows[3]["evidence"] is None
+
+
+def test_formula_like_text_stays_text(book: openpyxl.Workbook) -> None:
+    # A message that starts with "=" must not become a live formula in the reviewer's workbook.
+    cell = book["Findings"]["G3"]
+    assert cell.value == "=SLOPE(B2:B8,A2:A8) leaves out row 9 of the data table."
+    assert cell.data_type == "s"
+
+
+def test_evidence_is_compact_json(book: openpyxl.Workbook) -> None:
+    critical = _rows(book["Findings"])[0]
+    assert "\n" not in critical["evidence"]
+    assert json.loads(critical["evidence"]) == {
+        "reported": 0.0213,
+        "two_tailed": 0.0426,
+        "alpha": 0.01,
+        "ratio": None,
+    }
+
+
+def test_every_regression_is_a_row(book: openpyxl.Workbook) -> None:
+    rows = _rows(book["Regressions"])
+    assert [row["regression"] for row in rows] == ["calib-1", "drift-1"]
+    calib, drift = rows
+    assert calib["workbook"] == AUDITED_PATH and calib["sheet"] == "Calib"
+    assert calib["x range"] == "Calib!A2:A9" and calib["found by"] == "formulas"
+    assert calib["n"] == 8
+    assert calib["p reported"] == pytest.approx(0.0213)
+    assert calib["p intended"] == pytest.approx(0.0426)
+    assert calib["verdict"] == "mismatch"
+    assert calib["worst severity"] == "critical" and calib["findings"] == 2
+    assert drift["p reported"] == "<0.001"
+    assert drift["SE reported"] is None and drift["SE intended"] == pytest.approx(1.5e-06)
+    assert drift["worst severity"] == "minor" and drift["findings"] == 1
+
+
+def test_mismatched_reported_value_is_highlighted(book: openpyxl.Workbook) -> None:
+    sheet = book["Regressions"]
+    header = [cell.value for cell in sheet[1]]
+    p_reported = sheet.cell(row=2, column=header.index("p reported") + 1)
+    slope_reported = sheet.cell(row=2, column=header.index("slope reported") + 1)
+    assert p_reported.font.bold and not slope_reported.font.bold
+
+
+def test_tables_with_filters_and_frozen_headers(book: openpyxl.Workbook) -> None:
+    findings, regressions = book["Findings"], book["Regressions"]
+    assert findings.tables["FindingsTable"].ref == "A1:I5"
+    assert regressions.tables["RegressionsTable"].ref == "A1:R3"
+    assert findings.tables["FindingsTable"].autoFilter is not None
+    assert regressions.tables["RegressionsTable"].autoFilter is not None
+    assert findings.freeze_panes == "A2" and regressions.freeze_panes == "A2"
+    assert findings.column_dimensions["G"].width > findings.column_dimensions["A"].width
+    assert findings["G2"].alignment.wrap_text
+
+
+def _overview_text(book: openpyxl.Workbook) -> list[tuple[object, object]]:
+    return [(row[0], row[1]) for row in book["Overview"].iter_rows(values_only=True)]
+
+
+def test_overview_lists_what_was_audited(book: openpyxl.Workbook) -> None:
+    rows = _overview_text(book)
+    assert ("Tool", "regaudit 0.1.0") in rows
+    assert ("Policy", "calibration") in rows
+    assert ("Date", "2024-05-06T07:08:09Z") in rows
+    assert ("Inputs", "lab") in rows
+    assert ("audited", 1) in rows and ("unreadable", 1) in rows and ("no-regressions", 0) in rows
+    assert ("critical", 1) in rows and ("info", 1) in rows
+    assert (UNREADABLE_PATH, UNREADABLE_ERROR) in rows
+    caution = next(label for label, _ in rows if str(label).startswith("Caution: "))
+    assert "licensed professional practice decide" in caution
+
+
+def test_legend_colours_always_carry_the_word(book: openpyxl.Workbook) -> None:
+    sheet = book["Overview"]
+    legend_start = next(c.row for c in sheet["A"] if c.value == "Severity legend")
+    for offset, severity in enumerate(PALETTE, start=1):
+        cell = sheet.cell(row=legend_start + offset, column=1)
+        assert cell.value == severity
+        text_colour, fill_colour = PALETTE[severity]
+        assert cell.font.color.rgb == "FF" + text_colour.lstrip("#")
+        assert cell.fill.fgColor.rgb == "FF" + fill_colour.lstrip("#")
+
+
+def test_same_result_gives_identical_bytes() -> None:
+    first, second = _bytes(sample_result()), _bytes(sample_result())
+    assert first == second
+    with zipfile.ZipFile(io.BytesIO(first)) as archive:
+        core = archive.read("docProps/core.xml").decode()
+    assert '<dcterms:created xsi:type="dcterms:W3CDTF">2024-05-06T07:08:09Z' in core
+
+
+def test_the_date_comes_from_the_result() -> None:
+    later = sample_result()
+    later.generated = "2024-05-07"
+    assert _bytes(later) != _bytes(sample_result())
+
+
+@pytest.mark.parametrize(
+    ("generated", "expected"),
+    [
+        ("2024-05-06T07:08:09Z", datetime(2024, 5, 6, 7, 8, 9)),
+        ("2024-05-06T09:08:09+02:00", datetime(2024, 5, 6, 7, 8, 9)),
+        ("2024-05-06", datetime(2024, 5, 6)),
+        ("", datetime(2000, 1, 1)),
+        ("yesterday", datetime(2000, 1, 1)),
+    ],
+)
+def test_created_date(generated: str, expected: datetime) -> None:
+    assert created_date(generated) == expected
+
+
+def test_empty_result_still_gives_tables() -> None:
+    empty = AuditResult(version="0.1.0", policy="general", workbooks=[])
+    book = openpyxl.load_workbook(io.BytesIO(_bytes(empty)))
+    assert book["Findings"].tables["FindingsTable"].ref == "A1:I2"
+    assert _bytes(empty) == _bytes(empty)
+
+
+def test_non_finite_values_become_empty_cells() -> None:
+    result = sample_result()
+    regression = result.workbooks[0].regressions[0]
+    regression.intended["slope"] = float("nan")
+    regression.reported["slope"].value = float("inf")
+    regression.reported["slope"].intended = float("nan")
+    book = openpyxl.load_workbook(io.BytesIO(_bytes(result)))
+    calib = _rows(book["Regressions"])[0]
+    assert calib["slope reported"] is None and calib["slope intended"] is None
