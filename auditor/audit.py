@@ -56,9 +56,7 @@ def audit_regression(
     workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec, policy: Policy
 ) -> RegressionResult:
     data = extract(workbook, evaluator, spec)
-    fit = fit_ols(
-        data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence")
-    )
+    fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
     intended = fit.stats()
     reported = build_reported(
         spec, evaluator, intended, workbook.stored_values, policy.get("stored_relative_tolerance")
@@ -78,8 +76,12 @@ def audit_regression(
         x_columns=spec.x_columns,
         intended=intended,
         reported=reported,
-        design={"sxx": fit.sxx, "x_min": _x_bound(data.x, min), "x_max": _x_bound(data.x, max),
-                "levels": _levels(data.x)},
+        design={
+            "sxx": fit.sxx,
+            "x_min": _x_bound(data.x, min),
+            "x_max": _x_bound(data.x, max),
+            "levels": _levels(data.x),
+        },
         findings=findings,
         data=points,
         intended_x_range=data.intended_x_range,
@@ -138,7 +140,9 @@ def _audit_one(args: tuple[str, Policy, list[dict[str, Any]] | None]) -> Workboo
     except Exception as exc:  # a bug: keep the traceback, keep the batch going
         traceback.print_exc(file=sys.stderr)
         return WorkbookResult(
-            path, "", "unreadable",
+            path,
+            "",
+            "unreadable",
             error=f"internal error while auditing ({type(exc).__name__}: {exc}); please report it",
         )
 

@@ -12,7 +12,7 @@ import shutil
 import sys
 import time
 import tomllib
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import resources
 from pathlib import Path
 from typing import Any
@@ -39,10 +39,12 @@ def _timestamp(option: str | None) -> str:
     epoch = os.environ.get("SOURCE_DATE_EPOCH")
     if epoch:
         try:
-            return datetime.fromtimestamp(int(epoch), tz=timezone.utc).isoformat(timespec="seconds")
+            return datetime.fromtimestamp(int(epoch), tz=UTC).isoformat(timespec="seconds")
         except ValueError as exc:
-            raise UsageError(f"SOURCE_DATE_EPOCH={epoch!r} is not a whole number of seconds") from exc
-    return datetime.now(tz=timezone.utc).isoformat(timespec="seconds")
+            raise UsageError(
+                f"SOURCE_DATE_EPOCH={epoch!r} is not a whole number of seconds"
+            ) from exc
+    return datetime.now(tz=UTC).isoformat(timespec="seconds")
 
 
 def _load_bindings(path: str | None) -> list[dict[str, Any]] | None:
@@ -62,7 +64,7 @@ def _load_bindings(path: str | None) -> list[dict[str, Any]] | None:
         if missing:
             raise UsageError(
                 f"bindings file {path!r}: [[regression]] number {index} lacks {', '.join(missing)}"
-                " (give ranges such as x = \"Data!A2:A21\")"
+                ' (give ranges such as x = "Data!A2:A21")'
             )
     return list(entries)
 
@@ -174,8 +176,9 @@ def cmd_demo(args: argparse.Namespace) -> int:
         shutil.copyfile(source, inputs / source.name)
     print(f"wrote {len(demo_workbooks())} demo workbooks to {inputs}")
     out_dir = target / "audit"
-    result = run_audit([str(inputs)], out_dir, args.policy, jobs=args.jobs,
-                       timestamp=args.timestamp)
+    result = run_audit(
+        [str(inputs)], out_dir, args.policy, jobs=args.jobs, timestamp=args.timestamp
+    )
     _print_outcome(result, out_dir, FORMATS)
     print(f"open {out_dir / 'audit.xlsx'} or read {out_dir / 'summary.txt'}")
     return 0
@@ -193,18 +196,34 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", required=True)
     cores = os.cpu_count() or 1
 
-    audit = sub.add_parser("audit", help="audit workbooks and folders of workbooks",
-                           epilog=EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
+    audit = sub.add_parser(
+        "audit",
+        help="audit workbooks and folders of workbooks",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
     audit.add_argument("paths", nargs="+", metavar="PATH", help=".xlsx/.xlsm files or folders")
     audit.add_argument("--policy", default="general", help="policy name or TOML file")
     audit.add_argument("--out", default="regaudit-out", metavar="DIR", help="output folder")
     audit.add_argument("--jobs", type=int, default=cores, metavar="N", help="parallel workers")
-    audit.add_argument("--fail-on", default="critical", choices=FAIL_CHOICES,
-                       help="exit 1 when a finding is at least this severe (default: critical)")
-    audit.add_argument("--format", default=None, metavar="LIST",
-                       help="comma-separated outputs among json,text,xlsx (default: all)")
-    audit.add_argument("--bindings", default=None, metavar="FILE",
-                       help="TOML file mapping the cells of a workbook template")
+    audit.add_argument(
+        "--fail-on",
+        default="critical",
+        choices=FAIL_CHOICES,
+        help="exit 1 when a finding is at least this severe (default: critical)",
+    )
+    audit.add_argument(
+        "--format",
+        default=None,
+        metavar="LIST",
+        help="comma-separated outputs among json,text,xlsx (default: all)",
+    )
+    audit.add_argument(
+        "--bindings",
+        default=None,
+        metavar="FILE",
+        help="TOML file mapping the cells of a workbook template",
+    )
     audit.add_argument("--timestamp", default=None, help="date shown in reports (reproducible)")
     audit.set_defaults(handler=cmd_audit)
 

@@ -144,14 +144,17 @@ class _Failed:
 
 # --- coercions -----------------------------------------------------------------------------------
 
-_NUMERIC_TEXT = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(%?)\s*$")
+# A number typed as text: "12.5", " 3 ", "1e3", "50%", "1,000" (groups of three).
+_NUMERIC_TEXT = re.compile(
+    r"^\s*([+-]?(?:\d{1,3}(?:,\d{3})+(?:\.\d*)?|\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(%?)\s*$"
+)
 
 
 def _text_to_number(text: str) -> float | None:
     match = _NUMERIC_TEXT.match(text)
     if match is None:
         return None
-    number = float(match.group(1))
+    number = float(match.group(1).replace(",", ""))
     return number / 100 if match.group(2) else number
 
 
@@ -219,8 +222,10 @@ def _result(value: Any) -> Any:
         value = value.item()
     if type(value) is int:
         value = float(value)
-    if type(value) is float and not math.isfinite(value):
-        return ErrorValue(_NUM)
+    if type(value) is float:
+        if not math.isfinite(value):
+            return ErrorValue(_NUM)
+        return value + 0.0  # no negative zero: spreadsheets show 0
     return value
 
 
@@ -528,38 +533,50 @@ class _Fit:
     ssresid: float
 
 
+def _independent_columns(xc: np.ndarray) -> list[int]:
+    """The x columns kept after Excel's collinearity rule: a column that is (numerically) a
+    combination of the others is removed and reported with coefficient 0 and error 0."""
+    if xc.shape[1] == 0:
+        return []
+    _, r, pivots = linalg.qr(xc, mode="economic", pivoting=True)
+    diag = np.abs(np.diag(r))
+    if diag.size == 0 or diag[0] == 0:
+        return []
+    tolerance = diag[0] * max(xc.shape) * 1e-13
+    return sorted(int(p) for p in pivots[: int((diag > tolerance).sum())])
+
+
 def _least_squares(y: np.ndarray, x: np.ndarray, const: bool) -> _Fit:
     n, k = x.shape
-    df = n - k - (1 if const else 0)
-    if df < 0:
-        raise Fault(_NUM)
     x_mean = x.mean(axis=0) if const else np.zeros(k)
     y_mean = float(y.mean()) if const else 0.0
-    xc, yc = x - x_mean, y - y_mean  # centring keeps the normal equations well conditioned
-    q, r = np.linalg.qr(xc)
-    diag = np.abs(np.diag(r))
-    if diag.size == 0 or diag.max() == 0 or diag.min() <= 1e-13 * diag.max() * max(n, k):
-        raise Fault(_NUM)  # collinear x columns
-    coef = linalg.solve_triangular(r, q.T @ yc)
+    xc, yc = x - x_mean, y - y_mean  # centring keeps the problem well conditioned
+    kept = _independent_columns(xc)
+    rank = len(kept)
+    df = n - rank - (1 if const else 0)
+    if rank == 0 or df < 0:
+        raise Fault(_NUM)
+    q, r = np.linalg.qr(xc[:, kept])
+    coef = np.zeros(k)
+    coef[kept] = linalg.solve_triangular(r, q.T @ yc)
     fitted = xc @ coef
     resid = yc - fitted
     ssresid = float(resid @ resid)
-    ssreg = float(fitted @ fitted)  # centred when const: fitted values of the centred model
+    ssreg = float(fitted @ fitted)  # about the mean when const: the centred model's fit
     sstotal = ssreg + ssresid
-    if sstotal == 0:
-        raise Fault(_NUM)
     sigma2 = ssresid / df if df > 0 else 0.0  # LibreOffice reports zero errors at df = 0
-    r_inv = linalg.solve_triangular(r, np.eye(k))
-    unscaled = r_inv @ r_inv.T
+    r_inv = linalg.solve_triangular(r, np.eye(rank))
+    unscaled = np.zeros((k, k))
+    unscaled[np.ix_(kept, kept)] = r_inv @ r_inv.T
     se = np.sqrt(np.diag(unscaled) * sigma2)
     se_intercept = None
     if const:
         se_intercept = math.sqrt(sigma2 * (1.0 / n + float(x_mean @ unscaled @ x_mean)))
-    f_stat = (ssreg / k) / (ssresid / df) if df > 0 and ssresid > 0 else None
+    f_stat = (ssreg / rank) / (ssresid / df) if df > 0 and ssresid > 0 else None
     intercept = y_mean - float(x_mean @ coef) if const else 0.0
+    r2 = ssreg / sstotal if sstotal > 0 else 1.0  # a constant y: LibreOffice reports 1
     return _Fit(
-        coef, intercept, se, se_intercept, ssreg / sstotal, math.sqrt(sigma2), f_stat, df,
-        ssreg, ssresid,
+        coef, intercept, se, se_intercept, r2, math.sqrt(sigma2), f_stat, df, ssreg, ssresid,
     )  # fmt: skip
 
 

@@ -102,18 +102,22 @@ def extract(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> E
     last = min(last, max_row)
 
     def row_values(r: int) -> list[object]:
-        return [
-            evaluator.cell_value(x_ref.sheet, r, c) for c in x_cols
-        ] + [evaluator.cell_value(y_ref.sheet, r, y_ref.c1)]
+        return [evaluator.cell_value(x_ref.sheet, r, c) for c in x_cols] + [
+            evaluator.cell_value(y_ref.sheet, r, y_ref.c1)
+        ]
 
     # Extend over contiguous data rows (rows added below a fixed range are the common case).
     while first > 1 and _is_data_row(row_values(first - 1)):
         first -= 1
     while last < max_row and _is_data_row(row_values(last + 1)):
         last += 1
-    x_block = np.array(
-        [_column_values(evaluator, x_ref.sheet, c, first, last) for c in x_cols], dtype=object
-    ).T if last >= first else np.empty((0, k), dtype=object)
+    x_block = (
+        np.array(
+            [_column_values(evaluator, x_ref.sheet, c, first, last) for c in x_cols], dtype=object
+        ).T
+        if last >= first
+        else np.empty((0, k), dtype=object)
+    )
     y_column = _column_values(evaluator, y_ref.sheet, y_ref.c1, first, last)
     points: list[DataPoint] = []
     result = Extracted(
@@ -137,7 +141,7 @@ def extract(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> E
         y = numbers[-1][0]
         reason = ""
         used = all(v is not None for v in xs) and y is not None
-        notes = [note for (_, note), col in zip(numbers, x_cols + [y_ref.c1]) if note]
+        notes = [note for (_, note), col in zip(numbers, x_cols + [y_ref.c1], strict=True) if note]
         if used:
             label = _row_label(workbook, y_ref.sheet, r, min(x_cols + [y_ref.c1]))
             if (label and TOTAL_LABEL.match(label)) or _looks_like_total(xs, y, ys_used):  # type: ignore[arg-type]
@@ -146,11 +150,11 @@ def extract(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> E
                 result.total_rows.append(r)
         if not used and not reason:
             reason = "; ".join(n for n in notes if not n.startswith("number stored")) or "empty"
-            for (_, note), col in zip(numbers, x_cols + [y_ref.c1]):
+            for (_, note), col in zip(numbers, x_cols + [y_ref.c1], strict=True):
                 if note and not note.startswith("number stored"):
                     result.dropped.append((f"{y_ref.sheet}!{column_letter(col)}{r}", note))
         elif used:
-            for (_, note), col in zip(numbers, x_cols + [y_ref.c1]):
+            for (_, note), col in zip(numbers, x_cols + [y_ref.c1], strict=True):
                 if note.startswith("number stored"):
                     result.parsed.append((f"{y_ref.sheet}!{column_letter(col)}{r}", note))
                     reason = note + " (parsed)"
@@ -185,8 +189,9 @@ def _paired(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> E
             xs_used.append(xs)
             ys_used.append(y)
         else:
-            dropped.append((f"{spec.y.sheet}!{column_letter(spec.y.c1)}{spec.y.r1 + i}",
-                            "not numeric"))
+            dropped.append(
+                (f"{spec.y.sheet}!{column_letter(spec.y.c1)}{spec.y.r1 + i}", "not numeric")
+            )
     return Extracted(
         x=np.array(xs_used, dtype=float).reshape(-1, k),
         y=np.array(ys_used, dtype=float),

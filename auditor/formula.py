@@ -215,7 +215,8 @@ def _split_outside_quotes(text: str, sep: str) -> list[str]:
 def _tokens(text: str) -> list[_Tok]:
     try:
         raw = Tokenizer(text).items
-    except TokenizerError as exc:
+    except (TokenizerError, IndexError, AssertionError, KeyError, ValueError) as exc:
+        # The tokenizer signals unbalanced text with several exception types.
         raise FormulaError(f"cannot parse formula {text!r}: {exc}") from exc
     out: list[_Tok] = []
     for item in raw:
@@ -470,7 +471,7 @@ class _Parser:
 
 @lru_cache(maxsize=4096)
 def _parse_free(text: str, sheet: str) -> Node:
-    return _Parser(_Context(text, sheet, None)).parse()
+    return _parse_now(_Context(text, sheet, None))
 
 
 # Per-workbook caches, keyed by id() because Workbook (a mutable dataclass) is unhashable;
@@ -498,5 +499,12 @@ def parse(text: str, sheet: str, workbook: Workbook | None = None) -> Node:
     cache = _book_cache(workbook)
     node = cache.get((text, sheet))
     if node is None:
-        node = cache[(text, sheet)] = _Parser(_Context(text, sheet, workbook)).parse()
+        node = cache[(text, sheet)] = _parse_now(_Context(text, sheet, workbook))
     return node
+
+
+def _parse_now(ctx: _Context) -> Node:
+    try:
+        return _Parser(ctx).parse()
+    except RecursionError as exc:
+        raise FormulaError(f"cannot parse formula {ctx.text!r}: it nests too deeply") from exc

@@ -6,7 +6,7 @@ Four ways, merged into one list of :class:`RegressionSpec`:
   calls whose ranges overlap belong to one regression (a range that differs is a finding later,
   not a second regression); cells built on those (t, p, df, n, SE, limits) are attached by
   following references;
-* **names** — defined names ``<stem>_x`` and ``<stem>_y`` (and ``<stem>_slope``, ``<stem>_p_slope``…);
+* **names** — defined names ``<stem>_x`` and ``<stem>_y`` (and ``<stem>_slope``, …);
 * **bindings** — a TOML file mapping the cells of a template once for a batch of copies;
 * **labels** — typed numbers beside labels such as "Slope" or "p-value".
 """
@@ -155,7 +155,8 @@ def _box(uses: list[PairUse]) -> tuple[str, int, int, int, int] | None:
 
 def _inside(use: PairUse, box: tuple[str, int, int, int, int] | None) -> bool:
     return box is not None and (
-        use.cell.sheet == box[0] and box[1] <= use.cell.row <= box[3]
+        use.cell.sheet == box[0]
+        and box[1] <= use.cell.row <= box[3]
         and box[2] <= use.cell.col <= box[4]
     )
 
@@ -394,7 +395,7 @@ class Locator:
         return label_role
 
     def _follow_dependents(self, spec: RegressionSpec) -> None:
-        data = [spec.x, spec.y] + [u.x for u in spec.uses] + [u.y for u in spec.uses]
+        data = [spec.x, spec.y]  # not the stray calls' ranges: those belong to a neighbour
         taken = {(s.cell.sheet, s.cell.row, s.cell.col) for s in spec.stats.values()}
         taken |= {(u.cell.sheet, u.cell.row, u.cell.col) for u in spec.uses}
         for _ in range(MAX_FOLLOW_ROUNDS):
@@ -525,8 +526,9 @@ class Locator:
                 if pair is None:
                     continue
                 x, y = pair
-                spec = RegressionSpec(f"{sheet.name}/{target.coord}", sheet.name, x, y, True,
-                                      "labels")
+                spec = RegressionSpec(
+                    f"{sheet.name}/{target.coord}", sheet.name, x, y, True, "labels"
+                )
                 spec.stats["slope"] = StatCell("slope", target, "label")
                 taken.add(target.address)
                 specs.append(spec)
@@ -555,8 +557,10 @@ class Locator:
                 if end - start > best[1] - best[0]:
                     best = (start, end)
             if best[1] - best[0] >= 2:
-                return (Ref(sheet.name, best[0], c, best[1], c),
-                        Ref(sheet.name, best[0], c + 1, best[1], c + 1))
+                return (
+                    Ref(sheet.name, best[0], c, best[1], c),
+                    Ref(sheet.name, best[0], c + 1, best[1], c + 1),
+                )
         return None
 
     def attach_labelled_constants(self, spec: RegressionSpec) -> None:

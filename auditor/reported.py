@@ -92,8 +92,7 @@ def build_reported(
                 value, note = str(raw), f"the cell shows {raw.code}"
         true = intended.get(stat_base(key))
         true_f = float(true) if isinstance(true, (int, float)) else None
-        agreement = judge(value, true_f, source, cell.number_format, rel,
-                          _scale_for(key, intended))
+        agreement = judge(value, true_f, source, cell.number_format, rel, _scale_for(key, intended))
         if isinstance(raw, ErrorValue) and true_f is not None:
             verdict = "mismatch"
         elif agreement.agrees is None:

@@ -12,28 +12,43 @@ import re
 from auditor.formula import Binary, Call, Node, Number, Unary, calls
 
 # LINEST's 5-row block by (row, column-from-the-right) for k x columns; see the design's facts.
-LINEST_SHARED = {(3, 1): "r_squared", (3, 2): "residual_sd", (4, 1): "f", (4, 2): "df",
-                 (5, 1): "ss_regression", (5, 2): "ss_residual"}
+LINEST_SHARED = {
+    (3, 1): "r_squared",
+    (3, 2): "residual_sd",
+    (4, 1): "f",
+    (4, 2): "df",
+    (5, 1): "ss_regression",
+    (5, 2): "ss_residual",
+}
 
 _LABELS: list[tuple[re.Pattern[str], str]] = [
-    (re.compile(r"^(se|s\.?e\.?|std\.? ?err(or)?|standard error)\b.*\b(intercept|b0|a)\b"),
-     "se_intercept"),
-    (re.compile(r"^(se|s\.?e\.?|std\.? ?err(or)?|standard error)\b.*\b(estimate|regression|y)\b"),
-     "residual_sd"),
+    (
+        re.compile(r"^(se|s\.?e\.?|std\.? ?err(or)?|standard error)\b.*\b(intercept|b0|a)\b"),
+        "se_intercept",
+    ),
+    (
+        re.compile(
+            r"^(se|s\.?e\.?|std\.? ?err(or)?|standard error)\b.*\b(estimate|regression|y)\b"
+        ),
+        "residual_sd",
+    ),
     (re.compile(r"^(se|s\.?e\.?|std\.? ?err(or)?|standard error|u\(b1\))"), "se_slope"),
     (re.compile(r"^t([\s(:=,_-]|$).*\b(intercept|b0)\b"), "t_intercept"),
     (re.compile(r"^(t crit|t-crit|critical t|t\(0)"), "t_critical"),
     (re.compile(r"^t([\s(:=,_-]|$)"), "t_slope"),
-    (re.compile(r"^(p([\s(:=,<_-]|$)|p-?value|prob|sig(\.|nificance)?\b).*\b(intercept|b0)\b"),
-     "p_intercept"),
-    (re.compile(r"^(p([\s(:=,<_-]|$)|p-?value|prob(ability)?\b|sig(\.|nificance)?\b)"),
-     "p_slope"),
+    (
+        re.compile(r"^(p([\s(:=,<_-]|$)|p-?value|prob|sig(\.|nificance)?\b).*\b(intercept|b0)\b"),
+        "p_intercept",
+    ),
+    (re.compile(r"^(p([\s(:=,<_-]|$)|p-?value|prob(ability)?\b|sig(\.|nificance)?\b)"), "p_slope"),
     (re.compile(r"^(df|d\.f\.|degrees of freedom|dof)\b"), "df"),
     (re.compile(r"^(n|count|points|number of (points|observations|standards))\b"), "n"),
     (re.compile(r"^(r ?(²|\^2|2|-?sq(uared)?)|rsq|coefficient of determination)"), "r_squared"),
     (re.compile(r"^(r|correl(ation)?|pearson)\b"), "r"),
-    (re.compile(r"^(s|sy\.?x|s\(y\)|steyx|residual (sd|s\.d\.|std)|res\.? ?sd|s_?res)\b"),
-     "residual_sd"),
+    (
+        re.compile(r"^(s|sy\.?x|s\(y\)|steyx|residual (sd|s\.d\.|std)|res\.? ?sd|s_?res)\b"),
+        "residual_sd",
+    ),
     (re.compile(r"^(intercept|b0|offset|blank)\b"), "intercept"),
     (re.compile(r"^(slope|b1|gradient|sensitivity|coefficient|rate)\b"), "slope"),
     (re.compile(r"^(lower|ci low|lcl|95% ?(ci)? ?low)"), "ci_slope_low"),
@@ -53,8 +68,16 @@ def role_from_label(text: str) -> str | None:
     return None
 
 
-_P_FUNCS = {"TDIST", "T.DIST", "T.DIST.2T", "T.DIST.RT", "NORM.S.DIST", "NORMSDIST", "NORM.DIST",
-            "NORMDIST"}
+_P_FUNCS = {
+    "TDIST",
+    "T.DIST",
+    "T.DIST.2T",
+    "T.DIST.RT",
+    "NORM.S.DIST",
+    "NORMSDIST",
+    "NORM.DIST",
+    "NORMDIST",
+}
 _TINV_FUNCS = {"TINV", "T.INV", "T.INV.2T"}
 
 
@@ -81,8 +104,9 @@ def role_from_shape(node: Node) -> str | None:
         return "p"
     if any(n in _TINV_FUNCS for n in names):
         return "t_critical_or_ci"
-    if "STEYX" in names and any(n in ("DEVSQ", "SUMSQ", "VAR", "VAR.S", "STDEV", "STDEV.S")
-                                for n in names):
+    if "STEYX" in names and any(
+        n in ("DEVSQ", "SUMSQ", "VAR", "VAR.S", "STDEV", "STDEV.S") for n in names
+    ):
         return "se_slope"
     if top == "COUNT" or top == "COUNTA":
         return "n"

@@ -17,7 +17,6 @@ import warnings
 import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Union
 
 from auditor.errors import UnreadableWorkbook
 
@@ -51,7 +50,7 @@ class ErrorValue:
         return self.code
 
 
-CellValue = Union[float, int, str, bool, ErrorValue, None]
+CellValue = float | int | str | bool | ErrorValue | None
 
 
 @dataclass(frozen=True)

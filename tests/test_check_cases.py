@@ -22,14 +22,14 @@ from auditor.policy import load_policy
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "tests" / "cases"
-WORKBOOKS = ROOT / "fixtures" / "workbooks"
+WORKBOOKS = ROOT / "fixtures"  # case files name "workbooks/…" or "edge/…"
 
 
 def _case_files() -> dict[str, dict[str, Any]]:
     return {p.stem: tomllib.loads(p.read_text(encoding="utf-8")) for p in CASES.glob("*.toml")}
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _audited(name: str, policy: str) -> WorkbookResult:
     return audit_workbook(WORKBOOKS / name, load_policy(policy))
 
@@ -47,8 +47,11 @@ def _findings(case: dict[str, Any], check_id: str) -> list[Finding]:
 
 
 def _all_cases() -> list[tuple[str, dict[str, Any]]]:
-    return [(check_id, case) for check_id, data in sorted(_case_files().items())
-            for case in data.get("case", [])]
+    return [
+        (check_id, case)
+        for check_id, data in sorted(_case_files().items())
+        for case in data.get("case", [])
+    ]
 
 
 def test_every_check_has_cases_both_ways() -> None:
@@ -62,8 +65,9 @@ def test_every_check_has_cases_both_ways() -> None:
         assert fires == {True, False}, f"{check_id}: needs a firing and a silent case"
 
 
-@pytest.mark.parametrize(("check_id", "case"), _all_cases(),
-                         ids=[f"{c}:{case['name']}" for c, case in _all_cases()])
+@pytest.mark.parametrize(
+    ("check_id", "case"), _all_cases(), ids=[f"{c}:{case['name']}" for c, case in _all_cases()]
+)
 def test_case(check_id: str, case: dict[str, Any]) -> None:
     found = _findings(case, check_id)
     if not case.get("fires"):

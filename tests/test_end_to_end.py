@@ -33,8 +33,20 @@ def audit(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
     workbooks = FIXTURES / "workbooks"
     before = {p.name: _digest(p) for p in workbooks.glob("*.xlsx")}
     out = tmp_path_factory.mktemp("audit")
-    code = main(["audit", str(workbooks), "--out", str(out), "--jobs", "1",
-                 "--fail-on", "never", "--timestamp", "2026-01-01T00:00:00+00:00"])
+    code = main(
+        [
+            "audit",
+            str(workbooks),
+            "--out",
+            str(out),
+            "--jobs",
+            "1",
+            "--fail-on",
+            "never",
+            "--timestamp",
+            "2026-01-01T00:00:00+00:00",
+        ]
+    )
     assert code == 0
     after = {p.name: _digest(p) for p in workbooks.glob("*.xlsx")}
     assert after == before, "an input workbook changed during the audit"
@@ -81,7 +93,9 @@ def test_every_workbook_in_the_manifest_is_audited(audit: dict[str, Any]) -> Non
 @pytest.mark.parametrize(
     ("file", "declared"), _declared(), ids=[f"{f}:{r['y_range']}" for f, r in _declared()]
 )
-def test_declared_regression_found(audit: dict[str, Any], file: str, declared: dict[str, Any]) -> None:
+def test_declared_regression_found(
+    audit: dict[str, Any], file: str, declared: dict[str, Any]
+) -> None:
     regression = _match(_workbook(audit, file), declared)
     assert regression["intercept"] == declared.get("intercept", True)
     attached = {(k.split("@")[0], v["cell"]) for k, v in regression["reported"].items()}
@@ -100,7 +114,9 @@ def test_findings_as_declared(audit: dict[str, Any], file: str, declared: dict[s
         assert all(v["verdict"] != "mismatch" for v in regression["reported"].values())
     else:
         flagged = {cell for f in regression["findings"] for cell in f["cells"]}
-        flagged |= {v["cell"] for v in regression["reported"].values() if v["verdict"] == "mismatch"}
+        flagged |= {
+            v["cell"] for v in regression["reported"].values() if v["verdict"] == "mismatch"
+        }
         for expected in declared.get("expected", []):
             cells = set(expected.get("cells", []))
             assert cells & flagged or not cells, (expected, sorted(flagged))

@@ -16,8 +16,11 @@ class WorkbookContext:
     regressions: int = 0
 
 
-@check("no-stored-values", "The file carries no stored values: 'reported' is the tool's own.",
-       scope="workbook")
+@check(
+    "no-stored-values",
+    "The file carries no stored values: 'reported' is the tool's own.",
+    scope="workbook",
+)
 def no_stored_values(context: WorkbookContext) -> list[Finding]:
     """Files written by scripts often hold formulas with no cached results (or zeros).
 
@@ -41,8 +44,11 @@ def no_stored_values(context: WorkbookContext) -> list[Finding]:
     ]
 
 
-@check("formula-unreadable", "A formula could not be parsed, so its cell was not audited.",
-       scope="workbook")
+@check(
+    "formula-unreadable",
+    "A formula could not be parsed, so its cell was not audited.",
+    scope="workbook",
+)
 def formula_unreadable(context: WorkbookContext) -> list[Finding]:
     """Report formulas the parser could not read instead of skipping them silently.
 
