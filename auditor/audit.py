@@ -19,7 +19,7 @@ from auditor.checks.workbook_level import WorkbookContext, run_workbook_checks
 from auditor.errors import RegauditError, UnreadableWorkbook
 from auditor.evaluate import Evaluator
 from auditor.extract import extract
-from auditor.fit import fit_ols
+from auditor.fit import FitResult, fit_ols
 from auditor.locate import Locator, RegressionSpec, locate
 from auditor.model import DataPoint, RegressionResult, WorkbookResult
 from auditor.policy import Policy
@@ -98,8 +98,17 @@ def _levels(x: Any) -> int:
     return len({tuple(row) for row in x.tolist()})
 
 
-def _annotate_points(points: list[DataPoint], fit: Any) -> None:
-    """Nothing to add yet beyond used/dropped; the fitted values live in the detail report."""
+def _annotate_points(points: list[DataPoint], fit: FitResult) -> None:
+    """Give each used point its fitted value, residual, leverage and Cook's distance."""
+    used = [p for p in points if p.used]
+    if len(fit.fitted) != len(used):
+        return  # the fit is undefined (too few points, constant x): nothing to attach
+    for index, point in enumerate(used):
+        point.fitted = float(fit.fitted[index])
+        point.residual = float(fit.residuals[index])
+        point.leverage = float(fit.leverage[index]) if len(fit.leverage) else None
+        if len(fit.cooks_distance):
+            point.cooks_distance = float(fit.cooks_distance[index])
 
 
 def audit_workbook(

@@ -118,6 +118,24 @@ class DataPoint:
     used: bool  # in the intended fit
     used_as_written: bool  # seen by the author's formulas
     reason: str = ""  # why it was dropped, parsed or left out
+    fitted: float | None = None  # from the intended fit, for used points
+    residual: float | None = None
+    leverage: float | None = None
+    cooks_distance: float | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "row": self.row,
+            "x": [clean_number(v) for v in self.x],
+            "y": clean_number(self.y),
+            "used": self.used,
+            "used_as_written": self.used_as_written,
+            "reason": self.reason,
+            "fitted": clean_number(self.fitted),
+            "residual": clean_number(self.residual),
+            "leverage": clean_number(self.leverage),
+            "cooks_distance": clean_number(self.cooks_distance),
+        }
 
 
 @dataclass
