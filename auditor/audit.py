@@ -129,6 +129,10 @@ def audit_workbook(
         formula_count=len(workbook.formula_cells()),
         unparsed=[(cell.address, why) for cell, why in locator.parse_errors],
         regressions=len(regressions),
+        workbook=workbook,
+        specs=specs,
+        results=regressions,
+        parsed=locator.parsed,
     )
     return WorkbookResult(
         path=str(path),

@@ -972,7 +972,15 @@ _Bounds = tuple[int, int, int, int]  # (r1, c1, r2, c2)
 
 
 def _constant(value: Any) -> Any:
-    return float(value) if type(value) is int else value
+    """A typed cell value as formulas see it: every number a Python float."""
+    kind = type(value)
+    if kind is float or kind is str or kind is bool or value is None:
+        return value
+    if kind is int:
+        return float(value)
+    if isinstance(value, np.generic):  # workbooks built in memory may carry numpy scalars
+        return _constant(value.item())
+    return value
 
 
 def _block_bounds(cell: Cell) -> _Bounds | None:
@@ -1113,7 +1121,8 @@ class Evaluator:
         if isinstance(value, _Failed):
             sheet, row, col = key
             where = f"{sheet}!{column_letter(col)}{row}"
-            raise Unsupported(f"{where} cannot be evaluated: {value.error}")
+            kind = Unverifiable if isinstance(value.error, Unverifiable) else Unsupported
+            raise kind(f"{where} cannot be evaluated: {value.error}") from value.error
         return value
 
     def _compute(self, key: _Key) -> None:
