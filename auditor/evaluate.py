@@ -27,6 +27,7 @@ from __future__ import annotations
 
 import bisect
 import math
+import operator
 import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
@@ -63,7 +64,6 @@ Value = float | str | bool | ErrorValue | None | np.ndarray
 
 CYCLE = ErrorValue("#CYCLE!")  # no spreadsheet error code exists for it; Excel shows 0 and warns
 _NA, _VALUE, _NUM, _DIV0, _REF = "#N/A", "#VALUE!", "#NUM!", "#DIV/0!", "#REF!"
-_MAX_NESTING = 200  # cells reached only through computed references (OFFSET, INDEX)
 
 
 class Unsupported(Exception):
@@ -135,6 +135,14 @@ class _Ctx:
     array: bool = False  # inside an array formula (or SUMPRODUCT): operate element-wise
 
 
+class _Defer(Exception):
+    """A formula needs a cell not yet evaluated (found through OFFSET or INDEX)."""
+
+    def __init__(self, key: tuple[str, int, int]) -> None:
+        super().__init__(key)
+        self.key = key
+
+
 @dataclass(frozen=True)
 class _Failed:
     """A cell whose formula could not be evaluated; reading it re-raises."""
@@ -162,7 +170,7 @@ def _num(value: Any) -> float:
     """A scalar as arithmetic sees it: TRUE is 1, empty is 0, text must look like a number."""
     kind = type(value)
     if kind is float:
-        return value
+        return float(value)  # already a float; float() keeps the type checker informed
     if kind is bool or kind is int:
         return float(value)
     if value is None or value is MISSING:
@@ -328,20 +336,25 @@ def _compare(op: str, left: Any, right: Any) -> bool:
     if right in (None, MISSING):
         right = blank.get(type(left), 0.0)
     ranks = (_RANK.get(type(left), 0), _RANK.get(type(right), 0))
+    a: Any
+    b: Any
     if ranks[0] != ranks[1]:
         a, b = ranks
     elif isinstance(left, str):
         a, b = left.casefold(), right.casefold()
     else:
         a, b = left, right
-    return {
-        "=": a == b,
-        "<>": a != b,
-        "<": a < b,
-        "<=": a <= b,
-        ">": a > b,
-        ">=": a >= b,
-    }[op]
+    return bool(_COMPARISONS[op](a, b))
+
+
+_COMPARISONS: dict[str, Callable[[Any, Any], Any]] = {
+    "=": operator.eq,
+    "<>": operator.ne,
+    "<": operator.lt,
+    "<=": operator.le,
+    ">": operator.gt,
+    ">=": operator.ge,
+}
 
 
 def _binary(op: str, left: Any, right: Any) -> Any:
@@ -405,7 +418,7 @@ def _pairs(known_y: Any, known_x: Any) -> tuple[np.ndarray, np.ndarray]:
         raise Fault(_NA)  # Excel; LibreOffice writes #VALUE!
     errors = [(v.error_at, v.error) for v in (y_view, x_view) if v.error is not None]
     if errors:
-        raise Fault(min(errors, key=lambda e: e[0])[1].code)  # type: ignore[union-attr]
+        raise Fault(min(errors, key=lambda e: e[0])[1].code)
     keep = y_view.is_number & x_view.is_number
     return y_view.values[keep], x_view.values[keep]
 
@@ -651,19 +664,19 @@ def _tdist(x: Any, df: Any, tails: Any) -> float:
     x_value, df_value, tail_count = _non_negative(x), _df(df), _int(tails)
     if tail_count not in (1, 2):
         raise Fault(_NUM)
-    return tail_count * stats.t.sf(x_value, df_value)
+    return tail_count * float(stats.t.sf(x_value, df_value))
 
 
 def _t_dist(x: Any, df: Any, cumulative: Any) -> float:
     value, degrees, cumulative_flag = _num(x), _df(df), _truthy(cumulative)
     if cumulative_flag:
-        return stats.t.cdf(value, degrees)  # the left tail
-    return stats.t.pdf(value, degrees)
+        return float(stats.t.cdf(value, degrees))  # the left tail
+    return float(stats.t.pdf(value, degrees))
 
 
 def _t_inv_two_tailed(p: Any, df: Any) -> float:
     """TINV and T.INV.2T take the two-tailed probability: the t with P(|T| > t) = p."""
-    return stats.t.isf(_probability(p, upper_closed=True) / 2, _df(df))
+    return float(stats.t.isf(_probability(p, upper_closed=True) / 2, _df(df)))
 
 
 def _round(x: Any, digits: Any) -> float:
@@ -697,12 +710,12 @@ def _f_args(x: Any, df1: Any, df2: Any) -> tuple[float, int, int]:
 def _f_dist(x: Any, df1: Any, df2: Any, cumulative: Any) -> float:
     value, d1, d2 = _f_args(x, df1, df2)
     if _truthy(cumulative):
-        return stats.f.cdf(value, d1, d2)
-    return stats.f.pdf(value, d1, d2)
+        return float(stats.f.cdf(value, d1, d2))
+    return float(stats.f.pdf(value, d1, d2))
 
 
 def _f_inv_rt(p: Any, df1: Any, df2: Any) -> float:
-    return stats.f.isf(_probability(p, upper_closed=True), _df(df1), _df(df2))
+    return float(stats.f.isf(_probability(p, upper_closed=True), _df(df1), _df(df2)))
 
 
 _SCALAR.update(
@@ -1000,8 +1013,8 @@ class Evaluator:
         self._values: dict[_Key, Any] = {}
         self._open: set[_Key] = set()  # cells being evaluated: meeting one again is a cycle
         self._ranges: dict[Ref, RangeValue] = {}
-        self._nesting = 0
-        self._met_open_cell = False
+        self._computing = False  # inside the evaluation loop of _compute
+        self._open_cells_met = 0  # how often a cell still open was read (a cycle)
         # Where the formula cells are (sheet -> column -> sorted rows) and the array blocks.
         self._formula_rows: dict[str, dict[int, list[int]]] = {}
         self._blocks: dict[str, dict[tuple[int, int], _Bounds]] = {}
@@ -1031,7 +1044,8 @@ class Evaluator:
         found = self.workbook.sheet(sheet)
         if found is None:
             return ErrorValue(_REF)
-        return self._cell(found.name, row, col)
+        value: Value = self._cell(found.name, row, col)
+        return value
 
     def evaluate(self, node_or_text: Node | str, sheet: str) -> Value:
         """A formula (text or tree) evaluated as an array formula on ``sheet``: a scalar, or a
@@ -1057,9 +1071,10 @@ class Evaluator:
         found = self.workbook.sheet(cell.sheet)
         key = (found.name if found is not None else cell.sheet, cell.row, cell.col)
         if not cell.formula:
-            return self._cell(*key) if key in self._members else _constant(cell.value)
+            constant: Value = self._cell(*key) if key in self._members else _constant(cell.value)
+            return constant
         self._compute(key)
-        value = self._values[key]
+        value: Value = self._values[key]
         if isinstance(value, _Failed):
             raise value.error
         return value
@@ -1114,8 +1129,10 @@ class Evaluator:
     def _formula_result(self, key: _Key) -> Any:
         if key not in self._values:
             if key in self._open:
-                self._met_open_cell = True
+                self._open_cells_met += 1
                 return CYCLE
+            if self._computing:
+                raise _Defer(key)  # reached through a computed reference: evaluate it first
             self._compute(key)
         value = self._values[key]
         if isinstance(value, _Failed):
@@ -1126,12 +1143,13 @@ class Evaluator:
         return value
 
     def _compute(self, key: _Key) -> None:
-        """Evaluate a formula cell after the formula cells it references, without recursion."""
+        """Evaluate a formula cell after the formula cells it references, without recursion.
+
+        The references a formula states are known before it runs; a cell it reaches only
+        through OFFSET or INDEX raises _Defer, is evaluated, and the formula runs again."""
         if key in self._values:
             return
-        if self._nesting >= _MAX_NESTING:
-            raise Unsupported("cells reached through computed references nest too deeply")
-        self._nesting += 1
+        self._computing = True
         try:
             stack, expanded = [key], set()
             while stack:
@@ -1139,8 +1157,12 @@ class Evaluator:
                 if top in self._values:
                     stack.pop()
                 elif top in expanded:
+                    try:
+                        self._finish(top)
+                    except _Defer as wait:
+                        stack.append(wait.key)
+                        continue
                     stack.pop()
-                    self._finish(top)
                 else:
                     expanded.add(top)
                     self._open.add(top)
@@ -1148,7 +1170,7 @@ class Evaluator:
                         if dep not in self._values and dep not in self._open:
                             stack.append(dep)
         finally:
-            self._nesting -= 1
+            self._computing = False
 
     def _dependencies(self, key: _Key) -> list[_Key]:
         sheet_name, row, col = key
@@ -1192,10 +1214,9 @@ class Evaluator:
         except (Unsupported, FormulaError) as exc:
             value = _Failed(exc)
         except RecursionError:
-            value = _Failed(Unsupported(f"the formula in {sheet}!{cell and cell.coord} nests "
-                                        "too deeply to evaluate"))  # fmt: skip
-        finally:
-            self._open.discard(key)
+            where = f"{sheet}!{column_letter(col)}{row}"
+            value = _Failed(Unsupported(f"the formula in {where} nests too deeply to evaluate"))
+        self._open.discard(key)  # not on _Defer: the cell stays open until it has a value
         self._values[key] = value
 
     def _fit_block(self, result: Any, bounds: _Bounds) -> np.ndarray:
@@ -1224,11 +1245,10 @@ class Evaluator:
             raise Unverifiable(f"{ref.address} is in another workbook, which is not at hand")
         if self.workbook.sheet(ref.sheet) is None:
             return ErrorValue(_REF)
-        met_before, self._met_open_cell = self._met_open_cell, False
+        open_cells_before = self._open_cells_met
         value = RangeValue(ref, self.range_values(ref))
-        if not self._met_open_cell:  # a block read mid-cycle is not reused
+        if self._open_cells_met == open_cells_before:  # a block read mid-cycle is not reused
             self._ranges[ref] = value
-        self._met_open_cell = met_before or self._met_open_cell
         return value
 
     def _intersect(self, value: RangeValue, ctx: _Ctx) -> Any:

@@ -244,7 +244,7 @@ def hardcoded_constant(b: Basis) -> list[Candidate]:
             continue
         p = two_sided(t, literal)
         how = f"the formula types df as {literal}, but the {b.fit.n} points now leave df {df}"
-        fix = f"replace the typed {literal} by COUNT(x) − {b.fit.n - df} or a reference to the df cell"
+        fix = f"replace the typed {literal} by COUNT(x) − {b.fit.n - df} or a reference to df"
         out.append(Candidate("hardcoded-constant", p, how, fix, {"df_typed": literal, "df": df}))
     return out
 
@@ -273,7 +273,7 @@ def se_intercept_for_slope(b: Basis) -> list[Candidate]:
 def se_sd_y(b: Basis) -> list[Candidate]:
     sd_y = float(np.std(b.y, ddof=1)) if b.y.size > 1 else math.nan
     if b.stat == "residual_sd" and _usable(sd_y):
-        how = f"the residual SD is the SD of y, STDEV(y) = {g(sd_y)}, not STEYX ({g(b.fit.residual_sd)})"
+        how = f"the residual SD is STDEV(y) = {g(sd_y)}, not STEYX ({g(b.fit.residual_sd)})"
         return [Candidate("se-sd-y", sd_y, how, f"use STEYX({b.y_range}, {b.x_range})")]
     case = _slope_se_case(b)
     if case is None or not _usable(sd_y):
@@ -327,7 +327,9 @@ def se_no_sqrt(b: Basis) -> list[Candidate]:
     fix = f"SE = STEYX/SQRT(DEVSQ({b.x_range})): the square root belongs over DEVSQ"
     return _carried(
         b, "se", se * se / s, "se-no-sqrt", f"the SE is s/Sxx = {g(se * se / s)}, not s/√Sxx", fix
-    ) + _carried(b, "se", se * se, "se-no-sqrt", f"the SE is s²/Sxx = {g(se * se)}, not s/√Sxx", fix)
+    ) + _carried(
+        b, "se", se * se, "se-no-sqrt", f"the SE is s²/Sxx = {g(se * se)}, not s/√Sxx", fix
+    )
 
 
 # --- t and coefficients ------------------------------------------------------------------------

@@ -68,11 +68,19 @@ def regression_table(workbook: WorkbookResult) -> str:
     headers = ["regression", "n"] + [label for label, _ in TABLE_STATS] + ["verdict"]
     rows = []
     for regression in workbook.regressions:
-        row = [regression.id, str(regression.n)]
-        for _, key in TABLE_STATS:
-            row.append(_pair(key, *reported_and_intended(regression, key)))
-        row.append(regression.verdict)
-        rows.append(row)
+        # A multiple regression gets one row per x column: keys slope[1], se_slope[1], ...
+        suffixes = (
+            [""]
+            if regression.x_columns <= 1
+            else [f"[{j}]" for j in range(1, regression.x_columns + 1)]
+        )
+        for suffix in suffixes:
+            name = regression.id if not suffix else f"{regression.id} x{suffix[1:-1]}"
+            row = [name, str(regression.n)]
+            for _, key in TABLE_STATS:
+                row.append(_pair(key, *reported_and_intended(regression, key + suffix)))
+            row.append(regression.verdict)
+            rows.append(row)
     align = ["left", "right"] + ["right"] * len(TABLE_STATS) + ["left"]
     return tabulate(rows, headers=headers, tablefmt="simple", disable_numparse=True, colalign=align)
 
