@@ -38,6 +38,7 @@ from auditor.mistakes import (
     Candidate,
     Evidence,
     g,
+    pair,
     stat_name,
     two_sided,
 )
@@ -98,7 +99,8 @@ def _explain(value: ReportedValue, context: RegressionContext, depth: int) -> li
 
     def keep(kind: str, reproduced: float, message: str, fix: str, evidence: Evidence) -> None:
         if kind not in found:
-            ending = _consequence(stat, reported, value.intended, context)
+            # Said once, by the cell under review; a cell it is built from only says what it is.
+            ending = _consequence(stat, reported, value.intended, context) if depth == 0 else ""
             evidence = evidence | {"reported": reported, "reproduced": reproduced}
             found[kind] = Explanation(kind, reproduced, message + ending, fix, evidence)
 
@@ -192,7 +194,7 @@ def _consequence(
         return ""
     if claimed == true:
         return ""
-    return f"; at alpha {alpha:g} the {what} is {'' if true else 'not '}significant"
+    return f"; at alpha {alpha:g} the {what} is in fact {'' if true else 'not '}significant"
 
 
 def _inherited(
@@ -212,7 +214,9 @@ def _inherited(
         base, _, column = stat_base(upstream.key).partition("[")
         name = stat_name(base, int(column.rstrip("]") or 1) - 1, context.fit.k)
         for e in _explain(upstream, context, depth + 1):
-            message = f"it follows from the {name} in {upstream.cell}, which is wrong: {e.message}"
+            chained = e.message.startswith("it follows from ")
+            tail = e.message[3:] if chained else f"is wrong: {e.message}"
+            message = f"it follows from the {name} in {upstream.cell}, which {tail}"
             evidence = e.evidence | {"from_cell": upstream.cell}
             out.append(Explanation(e.kind, computed, message, e.fix, evidence))
     return out
@@ -308,7 +312,9 @@ def _row_table(data: Extracted, intercept: bool) -> RowTable:
     else:  # no row record (data built by hand): the intended rows, numbered from 1
         rows, x, y = list(range(1, data.n + 1)), data.x, data.y
         flags = [(True, True, False, False)] * data.n
-    used, as_written, total, text = (np.array(f, dtype=bool).reshape(-1) for f in zip(*flags, strict=True))
+    used, as_written, total, text = (
+        np.array(f, dtype=bool).reshape(-1) for f in zip(*flags, strict=True)
+    )
     # Centring on the intended means keeps the sums' cancellation small (design: fit.py).
     shift = np.zeros(k + 1)
     if intercept and data.n:
@@ -485,7 +491,8 @@ def _subset_candidate(
     totals = [int(r) for r in rows[~table.used & mask & table.total]]
     texts = [int(r) for r in rows[table.used & ~mask & table.text]]
     name = stat_name(basis.stat, basis.j, context.fit.k)
-    n, intended = context.data.n, g(value.intended if value.intended is not None else math.nan)
+    shown, intended = pair(exact, value.intended if value.intended is not None else math.nan)
+    n = context.data.n
     ranges = f"{basis.y_range} and {basis.x_range}"
     evidence: Evidence = {
         "rows_left_out": rows_text(left_out) if left_out else "",
@@ -495,7 +502,7 @@ def _subset_candidate(
     if totals:
         message = (
             f"the ranges take in the total {rows_text(totals)}: with it the {name} is "
-            f"{g(exact)}; the {n} data rows give {intended}"
+            f"{shown}; the {n} data rows give {intended}"
         )
         return Candidate(
             "total-row", exact, message, f"end the ranges above the total row: {ranges}", evidence
@@ -505,7 +512,7 @@ def _subset_candidate(
         where = ", ".join(cells) or rows_text(texts)
         message = (
             f"{where} holds a number stored as text, which SLOPE, INTERCEPT, STEYX and RSQ "
-            f"skip: without {rows_text(texts)} the {name} is {g(exact)}; with it read as "
+            f"skip: without {rows_text(texts)} the {name} is {shown}; with it read as "
             f"a number, {intended}"
         )
         fix = f"convert {where} to a number (re-type it), so that every formula sees it"
@@ -513,7 +520,7 @@ def _subset_candidate(
     if left_out and not added and stale:
         word = "stored" if value.source == "stored" else "typed"
         message = (
-            f"the {word} {name} {g(exact)} matches the data without {rows_text(left_out)} "
+            f"the {word} {name} {shown} matches the data without {rows_text(left_out)} "
             f"(added or changed later?); all {n} rows give {intended}"
         )
         formula = FORMULAS.get(basis.stat, "a formula over {y} and {x}")
@@ -532,7 +539,7 @@ def _subset_candidate(
             where = f"the ranges cover rows {kept[0]}–{kept[-1]} only"
         message = (
             f"{where}, leaving out {rows_text(left_out)}: over the {len(kept)} rows left "
-            f"the {name} is {g(exact)}; the whole table ({n} rows) gives {intended}"
+            f"the {name} is {shown}; the whole table ({n} rows) gives {intended}"
         )
         return Candidate(
             "range-short",
@@ -542,7 +549,7 @@ def _subset_candidate(
             evidence,
         )
     message = (
-        f"the {name} {g(exact)} is the fit over {rows_text([int(r) for r in rows[mask]])}"
+        f"the {name} {shown} is the fit over {rows_text([int(r) for r in rows[mask]])}"
         f", not over the table's {n} rows ({intended})"
     )
     return Candidate("range-mismatch", exact, message, f"make every formula use {ranges}", evidence)

@@ -26,6 +26,7 @@ cells take part and which error a spreadsheet would show.
 from __future__ import annotations
 
 import bisect
+import functools
 import math
 import operator
 import re
@@ -169,9 +170,7 @@ def _text_to_number(text: str) -> float | None:
 def _num(value: Any) -> float:
     """A scalar as arithmetic sees it: TRUE is 1, empty is 0, text must look like a number."""
     kind = type(value)
-    if kind is float:
-        return float(value)  # already a float; float() keeps the type checker informed
-    if kind is bool or kind is int:
+    if kind is float or kind is bool or kind is int:
         return float(value)
     if value is None or value is MISSING:
         return 0.0
@@ -201,7 +200,7 @@ def _truthy(value: Any) -> bool:
 
 def _general_text(number: float) -> str:
     """A number as '&' writes it: up to 15 significant digits, no trailing zeros."""
-    if number == int(number) and abs(number) < 1e15:
+    if math.isfinite(number) and number == int(number) and abs(number) < 1e15:
         return str(int(number))
     text = f"{number:.15G}"
     if "E" in text:
@@ -360,11 +359,7 @@ _COMPARISONS: dict[str, Callable[[Any, Any], Any]] = {
 def _binary(op: str, left: Any, right: Any) -> Any:
     if op == "&":
         return _lift(lambda a, b: _text(a) + _text(b), (left, right))
-    scalar: Callable[[Any, Any], Any]
-    if op in ("+", "-", "*", "/", "^"):
-        scalar = lambda a, b: _arith(op, a, b)  # noqa: E731
-    else:
-        scalar = lambda a, b: _compare(op, a, b)  # noqa: E731
+    scalar = functools.partial(_arith if op in ("+", "-", "*", "/", "^") else _compare, op)
     fast_left, fast_right = _float_block(left), _float_block(right)
     big = isinstance(left, np.ndarray) or isinstance(right, np.ndarray)
     if big and fast_left is not None and fast_right is not None:
@@ -1040,7 +1035,9 @@ class Evaluator:
 
     def cell_value(self, sheet: str, row: int, col: int) -> Value:
         """A cell's value as formulas see it: constants as typed, formulas evaluated (a cell
-        inside an array block gets its element of the block's array), None when empty."""
+        inside an array block gets its element of the block's array), None when empty.
+        Raises Unsupported (Unverifiable for other workbooks) when a formula cannot be
+        evaluated; the message names the cell."""
         found = self.workbook.sheet(sheet)
         if found is None:
             return ErrorValue(_REF)
@@ -1067,7 +1064,8 @@ class Evaluator:
         return 0.0 if result is None or result is MISSING else _result(result)
 
     def evaluate_cell(self, cell: Cell) -> Value:
-        """A cell's as-written value; for an array formula's anchor, the whole block (2-D)."""
+        """A cell's as-written value; for an array formula's anchor, the whole block (2-D).
+        Raises the cell's own FormulaError or Unsupported when it cannot be evaluated."""
         found = self.workbook.sheet(cell.sheet)
         key = (found.name if found is not None else cell.sheet, cell.row, cell.col)
         if not cell.formula:

@@ -58,6 +58,15 @@ def g(value: float) -> str:
     return f"{value:.4g}"
 
 
+def pair(a: float, b: float) -> tuple[str, str]:
+    """Two numbers with just enough digits (four at least) to tell them apart."""
+    for digits in range(4, 13):
+        left, right = f"{a:.{digits}g}", f"{b:.{digits}g}"
+        if left != right:
+            break
+    return left, right
+
+
 def stat_name(stat: str, j: int, k: int) -> str:
     name = NAMES.get(stat, stat)
     return f"{name} of x column {j + 1}" if k > 1 and stat in PER_SLOPE else name

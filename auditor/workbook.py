@@ -255,7 +255,7 @@ def check_container(path: Path) -> None:
 def _convert_value(value: object, data_type: str | None) -> CellValue:
     if value is None:
         return None
-    if data_type == "e" or (isinstance(value, str) and value in ERROR_CODES):
+    if data_type == "e":  # a text cell holding "#N/A" is text, not an error
         return ErrorValue(str(value))
     if isinstance(value, bool):
         return value

@@ -30,6 +30,7 @@ from auditor.formula import (
     calls,
     parse,
     references,
+    walk,
 )
 from auditor.workbook import Cell, DefinedName, Sheet, Workbook
 
@@ -52,6 +53,9 @@ def book(max_row: int = 21) -> Workbook:
 
 def n(value: float) -> Number:
     return Number(value)
+
+
+A1 = RefNode(Ref("S", 1, 1, 1, 1))
 
 
 class TestPrecedence:
@@ -173,20 +177,14 @@ class TestNames:
 
     def test_a_self_referring_name_stops(self) -> None:
         node = parse("=loop", "Data", book())
-        assert NameNode("loop") in [c for c in _walk(node)]
-
-
-def _walk(node: object) -> list[object]:
-    from auditor.formula import walk
-
-    return list(walk(node))  # type: ignore[arg-type]
+        assert NameNode("loop") in list(walk(node))
 
 
 class TestCalls:
     def test_storage_prefixes_are_removed(self) -> None:
-        assert parse("=_xlfn.T.DIST.2T(A1,3)", "S").name == "T.DIST.2T"  # type: ignore[union-attr]
-        assert parse("=_xlfn._xlws.SORT(A1:A3)", "S").name == "SORT"  # type: ignore[union-attr]
-        assert parse("=stdev(A1:A3)", "S").name == "STDEV"  # type: ignore[union-attr]
+        assert parse("=_xlfn.T.DIST.2T(A1,3)", "S") == Call("T.DIST.2T", (A1, n(3)))
+        assert calls(parse("=_xlfn._xlws.SORT(A1:A3)", "S"))[0].name == "SORT"
+        assert calls(parse("=stdev(A1:A3)", "S"))[0].name == "STDEV"
 
     def test_true_as_a_function(self) -> None:
         node = parse("=LINEST(B2:B9,A2:A9,TRUE(),FALSE())", "S")
