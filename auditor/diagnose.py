@@ -21,14 +21,13 @@ import math
 import re
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import NDArray
 from scipy import stats as distributions
 
-from auditor.checks.base import RegressionContext
 from auditor.compare import Agreement, agree_stored, agree_text, agree_typed, parse_text_number
-from auditor.extract import Extracted
 from auditor.fit import fit_ols
 from auditor.mistakes import (
     FORMULA_HINTS,
@@ -44,10 +43,16 @@ from auditor.mistakes import (
 )
 from auditor.model import ReportedValue, stat_base
 
+if TYPE_CHECKING:  # only annotations: the checks package imports this module (no cycle)
+    from auditor.checks.base import RegressionContext
+    from auditor.extract import Extracted
+
 Judge = Callable[[float], Agreement]
 FloatArray = NDArray[np.float64]
 BoolArray = NDArray[np.bool_]
 MAX_END_DROP = 5  # rows dropped at each end of the table: ranges set before rows were added
+# How extract.py words why a row was left out of, or parsed for, the intended table.
+TOTAL_REASON, TEXT_REASON = "total or mean row", "number stored as text"
 SCREEN_SLACK = 1e-6  # relative: how close a running-sum candidate must come to be refitted
 MAX_DEPTH = 2  # p ← t ← slope: deep enough for every chain a results block builds
 
@@ -97,29 +102,23 @@ def _explain(value: ReportedValue, context: RegressionContext, depth: int) -> li
     )
     found: dict[str, Explanation] = {}
 
-    def keep(kind: str, reproduced: float, message: str, fix: str, evidence: Evidence) -> None:
-        if kind not in found:
+    def keep(c: Candidate) -> None:
+        if c.kind not in found:
             # Said once, by the cell under review; a cell it is built from only says what it is.
             ending = _consequence(stat, reported, value.intended, context) if depth == 0 else ""
-            evidence = evidence | {"reported": reported, "reproduced": reproduced}
-            found[kind] = Explanation(kind, reproduced, message + ending, fix, evidence)
+            number = float(c.value)  # numpy scalars out: the evidence goes into JSON
+            evidence = c.evidence | {"reported": reported, "reproduced": number}
+            found[c.kind] = Explanation(c.kind, number, c.message + ending, c.fix, evidence)
 
     for candidate in _formula_candidates(basis):
         if judge(candidate.value).agrees:
-            keep(
-                candidate.kind,
-                candidate.value,
-                candidate.message,
-                candidate.fix,
-                candidate.evidence,
-            )
+            keep(candidate)
     for candidate in _subset_candidates(value, context, basis, key, judge, reported):
-        keep(candidate.kind, candidate.value, candidate.message, candidate.fix, candidate.evidence)
-    if depth < MAX_DEPTH:
-        for e in _inherited(value, context, basis, judge, depth):
-            keep(e.kind, e.reproduced, e.message, e.fix, e.evidence)
+        keep(candidate)
+    for candidate in _inherited(value, context, basis, judge, depth) if depth < MAX_DEPTH else []:
+        keep(candidate)
     if not found and _pasted_or_stale(value, context, reported):
-        keep(*_stale_fallback(value, context, basis, reported))
+        keep(_stale_fallback(value, context, basis, reported))
     return list(found.values())
 
 
@@ -199,7 +198,7 @@ def _consequence(
 
 def _inherited(
     value: ReportedValue, context: RegressionContext, basis: Basis, judge: Judge, depth: int
-) -> list[Explanation]:
+) -> list[Candidate]:
     """The value is right for the reported cells it is built from; explain those instead."""
     recipe = _recipe(context, basis)
     if recipe is None:
@@ -218,7 +217,7 @@ def _inherited(
             tail = e.message[3:] if chained else f"is wrong: {e.message}"
             message = f"it follows from the {name} in {upstream.cell}, which {tail}"
             evidence = e.evidence | {"from_cell": upstream.cell}
-            out.append(Explanation(e.kind, computed, message, e.fix, evidence))
+            out.append(Candidate(e.kind, computed, message, e.fix, evidence))
     return out
 
 
@@ -253,7 +252,7 @@ def _recipe(context: RegressionContext, basis: Basis) -> tuple[float, list[Repor
 
 def _stale_fallback(
     value: ReportedValue, context: RegressionContext, basis: Basis, reported: float
-) -> tuple[str, float, str, str, Evidence]:
+) -> Candidate:
     name = stat_name(basis.stat, basis.j, context.fit.k)
     intended = g(value.intended) if value.intended is not None else "no value"
     if value.source in ("typed", "text"):
@@ -273,7 +272,7 @@ def _stale_fallback(
             f"gives {g(value.as_written or math.nan)} (the intended value is {intended})"
         )
         fix = "recalculate the workbook (or re-enter the formula) and re-check the figures"
-    return "stale-value", reported, message, fix, {"matched": "no current computation"}
+    return Candidate("stale-value", reported, message, fix, {"matched": "no current computation"})
 
 
 # --- row subsets -------------------------------------------------------------------------------
@@ -307,7 +306,8 @@ def _row_table(data: Extracted, intercept: bool) -> RowTable:
         x = np.array([p.x for p in points], dtype=np.float64).reshape(-1, k)
         y = np.array([p.y for p in points], dtype=np.float64)
         flags = [
-            (p.used, p.used_as_written, "total" in p.reason, "as text" in p.reason) for p in points
+            (p.used, p.used_as_written, TOTAL_REASON in p.reason, TEXT_REASON in p.reason)
+            for p in points
         ]
     else:  # no row record (data built by hand): the intended rows, numbered from 1
         rows, x, y = list(range(1, data.n + 1)), data.x, data.y
@@ -330,11 +330,16 @@ class Subset:
     source: str  # which hypothesis proposed it
     moments: FloatArray
     ends: tuple[int, int] = (0, 0)  # intended rows dropped at the start and at the end
-    mask: BoolArray | None = None  # the rows chosen, when not given by ``ends``
+    mask: BoolArray | None = None  # the rows chosen, when not given by ``ends`` or ``without``
+    without: int | None = None  # the one intended row left out (built only when it matches)
 
     def chosen(self, table: RowTable) -> BoolArray:
         if self.mask is not None:
             return self.mask
+        if self.without is not None:
+            mask = table.used.copy()
+            mask[self.without] = False
+            return mask
         positions = np.flatnonzero(table.used)
         mask = np.zeros(len(table.rows), dtype=bool)
         mask[positions[self.ends[0] : len(positions) - self.ends[1]]] = True
@@ -376,12 +381,11 @@ def rows_one_out(table: RowTable, stale: bool) -> list[Subset]:
     """A pasted value from before one row was added or changed: the fit without that row."""
     if not stale:
         return []  # a live formula cannot skip one inner row of a contiguous range
-    out = []
-    for i in np.flatnonzero(table.used):
-        mask = table.used.copy()
-        mask[i] = False
-        out.append(Subset("one-row", table.running[-1] - table.outer[i], mask=mask))
-    return out
+    total = table.running[-1]
+    return [
+        Subset("one-row", total - table.outer[i], without=int(i))
+        for i in np.flatnonzero(table.used)
+    ]
 
 
 # Most specific first: what the formulas actually see, then the commonest slips with rows.

@@ -13,6 +13,9 @@ The numbers must be trustworthy where spreadsheets are weakest, so the arithmeti
 Degenerate data never raise: :func:`fit_ols` returns a :class:`FitResult` whose ``status`` names
 the problem and whose ``message`` says it in plain words. Only malformed input (unequal lengths,
 NaN or infinity) raises ``ValueError``, because that is a bug in the caller, not in the workbook.
+
+The solving lives in :mod:`auditor.lstsq` and the tests and intervals in
+:mod:`auditor.inference`; this module turns them into a :class:`FitResult`.
 """
 
 from __future__ import annotations
@@ -21,12 +24,23 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from numpy.typing import ArrayLike, NDArray
-from scipy import stats as sps
+from numpy.typing import ArrayLike
 
+from auditor.inference import _f_test, _influence, _intervals, _r_squared, _tests
+from auditor.lstsq import COLLINEAR_RATIO, FloatArray, Solution, solve_centred
 from auditor.model import STAT_KEYS, clean_number
 
-FloatArray = NDArray[np.float64]
+__all__ = [
+    "COLLINEAR_RATIO",
+    "PERFECT_FIT_RATIO",
+    "PER_SLOPE_KEYS",
+    "FitResult",
+    "FloatArray",
+    "Solution",
+    "fit_ols",
+    "solve_centred",
+]
+
 
 # SSE at or below this share of SST is rounding noise (residuals ~1e-14 of the spread of y): the
 # points lie on the line and the standard errors are exactly 0, not 1e-17.
@@ -225,66 +239,6 @@ def _finish(
     )
 
 
-def _tests(coef: FloatArray, se: FloatArray, df: int) -> tuple[FloatArray, FloatArray]:
-    """Two-sided Student t tests; a zero SE (perfect fit) gives t undefined and p 0."""
-    t = np.full(coef.shape, np.nan)
-    p = np.full(coef.shape, np.nan)
-    if df <= 0:
-        return t, p
-    for j, (b, s) in enumerate(zip(coef, se, strict=True)):
-        if s > 0.0:
-            t[j] = b / s
-            # sf, not 1 - cdf: keeps p-values far below 1e-16 instead of rounding them to 0.
-            p[j] = 2.0 * sps.t.sf(abs(t[j]), df)
-        elif s == 0.0 and b != 0.0:
-            p[j] = 0.0  # an exact fit: no doubt that the coefficient differs from 0
-    return t, p
-
-
-def _intervals(
-    coef: FloatArray, se: FloatArray, df: int, confidence: float
-) -> tuple[FloatArray, FloatArray]:
-    if df <= 0:
-        return np.full(coef.shape, np.nan), np.full(coef.shape, np.nan)
-    half = sps.t.ppf(0.5 + confidence / 2.0, df) * se
-    return coef - half, coef + half
-
-
-def _r_squared(ss_regression: float, ss_residual: float, ss_total: float) -> float:
-    if ss_total <= 0.0:
-        return math.nan  # y constant (or all 0 through the origin): nothing to explain
-    # Whichever share is smaller is known to more relative digits; derive the other from it.
-    if ss_regression < ss_residual:
-        return ss_regression / ss_total
-    return 1.0 - ss_residual / ss_total
-
-
-def _f_test(ss_regression: float, ss_residual: float, k: int, df: int) -> tuple[float, float]:
-    if df <= 0:
-        return math.nan, math.nan
-    if ss_residual == 0.0:
-        return (math.inf, 0.0) if ss_regression > 0.0 else (math.nan, math.nan)
-    f = (ss_regression / k) / (ss_residual / df)
-    return f, float(sps.f.sf(f, k, df))
-
-
-def _influence(
-    residuals: FloatArray, leverage: FloatArray, residual_sd: float, p: int, df: int
-) -> tuple[FloatArray, FloatArray]:
-    """Internally studentised residuals and Cook's distances (common practice formulas)."""
-    if df <= 0 or not math.isfinite(residual_sd) or residuals.size == 0:
-        return np.zeros(0), np.zeros(0)
-    studentized = np.zeros(residuals.shape)
-    cooks = np.zeros(residuals.shape)
-    # A point of leverage 1 is fitted exactly (residual 0 by construction); its weight shows in
-    # the leverage itself, so its studentised residual and Cook's distance stay 0 rather than 0/0.
-    inside = (leverage < 1.0 - 1e-12) & (residual_sd > 0.0)
-    one_minus_h = 1.0 - leverage[inside]
-    studentized[inside] = residuals[inside] / (residual_sd * np.sqrt(one_minus_h))
-    cooks[inside] = studentized[inside] ** 2 * leverage[inside] / (p * one_minus_h)
-    return studentized, cooks
-
-
 def _too_few_message(n: int, k: int, intercept: bool) -> str:
     what = "a line" if k == 1 else f"{k} x columns"
     const = " with an intercept" if intercept else " through the origin"
@@ -301,197 +255,4 @@ def _perfect_message(n: int, ss_total: float) -> str:
     return (
         f"the {n} points lie exactly on the fitted line (residual sum of squares 0 to rounding): "
         "standard errors are 0, t is unbounded and p is 0"
-    )
-
-
-# --- solving: coefficients, residuals, leverage ------------------------------------------------
-
-
-@dataclass
-class Solution:
-    """The coefficients of a fit and what the statistics are built from."""
-
-    status: str  # "ok", or why the coefficients are undefined
-    message: str
-    slopes: FloatArray
-    intercept_value: float
-    g_diag: FloatArray  # diagonal of (Xc'Xc)^-1: SE(b_j) = s * sqrt(g_diag[j])
-    intercept_factor: float  # SE(b0) = s * sqrt(intercept_factor)
-    fitted: FloatArray
-    residuals: FloatArray
-    leverage: FloatArray
-    ss_regression: float
-    ss_total: float  # centred with an intercept, uncentred without
-    sxx: float
-    x_mean: float
-    y_mean: float
-
-
-# |R_jj| at or below this share of the column's own norm: column j lies in the span of the earlier
-# columns (and the constant) to within rounding, so its slope cannot be separated from theirs.
-COLLINEAR_RATIO = 1e-10
-
-
-def _mean(values: FloatArray) -> float:
-    """Mean by fsum, refined by a second pass over the deviations (two-pass algorithm)."""
-    if values.size == 0:
-        return math.nan
-    first = math.fsum(values) / values.size
-    return first + math.fsum(values - first) / values.size
-
-
-def solve_centred(x: FloatArray, y: FloatArray, intercept: bool) -> Solution:
-    n, k = x.shape
-    y_mean = _mean(y)
-    x_mean = _mean(x[:, 0]) if k == 1 else math.nan
-    need = k + (1 if intercept else 0)
-    if n < need:
-        what = "a line" if k == 1 else f"{k} slopes"
-        const = " with an intercept" if intercept else " through the origin"
-        return _undefined(
-            "too-few-points",
-            f"{n} point{'' if n == 1 else 's'} cannot determine {what}{const}: at least {need} "
-            f"are needed for the coefficients and {need + 1} for their standard errors",
-            k,
-            intercept,
-            x_mean,
-            y_mean,
-        )
-    constant = _constant_column_message(x, intercept)
-    if constant:
-        undefined = _undefined("constant-x", constant, k, intercept, x_mean, y_mean)
-        if k == 1:
-            undefined.sxx = 0.0  # a true fact, and what design checks need to say "no spread"
-        return undefined
-    y_c = y - y_mean if intercept else y
-    ss_total = math.fsum(y_c * y_c)
-    if k == 1:
-        return _solve_simple(x[:, 0], y, y_c, intercept, x_mean, y_mean, ss_total)
-    return _solve_qr(x, y, y_c, intercept, y_mean, ss_total)
-
-
-def _undefined(
-    status: str, message: str, k: int, intercept: bool, x_mean: float, y_mean: float
-) -> Solution:
-    nothing = np.zeros(0)
-    return Solution(
-        status=status,
-        message=message,
-        slopes=np.full(k, np.nan),
-        intercept_value=math.nan if intercept else 0.0,
-        g_diag=np.full(k, np.nan),
-        intercept_factor=math.nan,
-        fitted=nothing,
-        residuals=nothing,
-        leverage=nothing,
-        ss_regression=math.nan,
-        ss_total=math.nan,
-        sxx=math.nan,
-        x_mean=x_mean,
-        y_mean=y_mean,
-    )
-
-
-def _constant_column_message(x: FloatArray, intercept: bool) -> str:
-    n, k = x.shape
-    for j in range(k):
-        column = x[:, j]
-        label = "x" if k == 1 else f"x column {j + 1}"
-        if intercept and np.all(column == column[0]):
-            return (
-                f"all {n} {label} values are equal ({float(column[0])!r}): the slope is undefined"
-            )
-        if not intercept and not np.any(column):
-            return f"all {n} {label} values are 0: a line through the origin has no slope to fit"
-    return ""
-
-
-def _solve_simple(
-    x: FloatArray,
-    y: FloatArray,
-    y_c: FloatArray,
-    intercept: bool,
-    x_mean: float,
-    y_mean: float,
-    ss_total: float,
-) -> Solution:
-    x_c = x - x_mean if intercept else x
-    sxx = math.fsum(x_c * x_c)
-    sxy = math.fsum(x_c * y_c)
-    slope = sxy / sxx
-    intercept_value = y_mean - slope * x_mean if intercept else 0.0
-    # Residuals from the centred quantities: no cancellation against a large offset in x or y.
-    residuals = y_c - slope * x_c
-    leverage = x_c * x_c / sxx + (1.0 / x.size if intercept else 0.0)
-    return Solution(
-        status="ok",
-        message="",
-        slopes=np.array([slope]),
-        intercept_value=intercept_value,
-        g_diag=np.array([1.0 / sxx]),
-        intercept_factor=(1.0 / x.size + x_mean * x_mean / sxx) if intercept else math.nan,
-        fitted=y - residuals,
-        residuals=residuals,
-        leverage=leverage,
-        ss_regression=sxy * sxy / sxx,
-        ss_total=ss_total,
-        sxx=sxx,
-        x_mean=x_mean,
-        y_mean=y_mean,
-    )
-
-
-def _solve_qr(
-    x: FloatArray,
-    y: FloatArray,
-    y_c: FloatArray,
-    intercept: bool,
-    y_mean: float,
-    ss_total: float,
-) -> Solution:
-    n, k = x.shape
-    means = np.array([_mean(x[:, j]) for j in range(k)]) if intercept else np.zeros(k)
-    x_c = x - means
-    q, r = np.linalg.qr(x_c)  # reduced: q (n, k), r (k, k) upper triangular
-    norms = np.sqrt(np.einsum("ij,ij->j", x_c, x_c))
-    for j in range(1, k):
-        if abs(r[j, j]) <= COLLINEAR_RATIO * norms[j]:
-            others = "x column 1" if j == 1 else f"x columns 1-{j}"
-            const = " and the constant" if intercept else ""
-            return _undefined(
-                "collinear",
-                f"x column {j + 1} is a linear combination of {others}{const}: "
-                "their slopes cannot be told apart",
-                k,
-                intercept,
-                math.nan,
-                y_mean,
-            )
-    qty = q.T @ y_c
-    slopes = np.linalg.solve(r, qty) if k > 0 else np.zeros(0)
-    r_inv = np.linalg.solve(r, np.eye(k))  # R^-1, so (Xc'Xc)^-1 = R^-1 R^-T
-    g_diag = np.einsum("ij,ij->i", r_inv, r_inv)
-    intercept_factor = math.nan
-    intercept_value = 0.0
-    if intercept:
-        projected = r_inv.T @ means  # x̄' (Xc'Xc)^-1 x̄ = |R^-T x̄|²
-        intercept_factor = 1.0 / n + float(projected @ projected)
-        intercept_value = y_mean - math.fsum(slopes * means)
-    residuals = y_c - x_c @ slopes
-    leverage = np.einsum("ij,ij->i", q, q) + (1.0 / n if intercept else 0.0)
-    return Solution(
-        status="ok",
-        message="",
-        slopes=slopes,
-        intercept_value=intercept_value,
-        g_diag=g_diag,
-        intercept_factor=intercept_factor,
-        fitted=y - residuals,
-        residuals=residuals,
-        leverage=leverage,
-        ss_regression=math.fsum(qty * qty),
-        ss_total=ss_total,
-        sxx=math.nan,
-        x_mean=math.nan,
-        y_mean=y_mean,
     )

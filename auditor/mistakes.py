@@ -229,14 +229,17 @@ def p_wrong_df(b: Basis) -> list[Candidate]:
     # The usual slips first (COUNT−1, COUNT, one too many subtracted), then by distance from df.
     common = [d for d in (n - 1, n, n - 3) if d >= 1 and d != df]
     others = sorted(set(range(1, n + 3)) - set(common) - {df}, key=lambda d: (abs(d - df), d))
+    candidates = common + others
+    # One vectorised call: a df search over 1..n+2 stays cheap for long tables.
+    p_values = 2.0 * distributions.t.sf(abs(t), np.array(candidates, dtype=float))
+    right = g(two_sided(t, df))
+    fix = f"use df = {df} (COUNT(x) − {n - df}, or LINEST's df): T.DIST.2T(ABS(t), {df})"
     out = []
-    for d in common + others:
-        p = two_sided(t, d)
+    for d, p in zip(candidates, p_values.tolist(), strict=True):
         how = (
             f"p uses df {d} ({_df_label(d, n)}) where the {n} points leave df {df}: "
-            f"T.DIST.2T(|t|, {d}) = {g(p)}, the right p is {g(two_sided(t, df))}"
+            f"T.DIST.2T(|t|, {d}) = {g(p)}, the right p is {right}"
         )
-        fix = f"use df = {df} (COUNT(x) − {n - df}, or LINEST's df): T.DIST.2T(ABS(t), {df})"
         out.append(Candidate("p-wrong-df", p, how, fix, {"t": t, "df": df, "df_used": d}))
     return out
 
@@ -349,7 +352,14 @@ def t_inverted(b: Basis) -> list[Candidate]:
     if not b.stat.startswith(("t_", "p_")) or not coef or not _usable(coef, se):
         return []
     how = f"t is SE/estimate = {g(se)} / {g(coef)}, the division turned round"
-    return _carried(b, "t", se / coef, "t-inverted", how, "t = estimate / SE, e.g. =E4/E10")
+    return _carried(
+        b,
+        "t",
+        se / coef,
+        "t-inverted",
+        how,
+        "t = estimate / SE: the slope's cell divided by its SE's cell",
+    )
 
 
 def xy_swapped(b: Basis) -> list[Candidate]:

@@ -66,6 +66,8 @@ class Finding:
     cells: list[str] = field(default_factory=list)
     evidence: dict[str, Any] = field(default_factory=dict)
     fix: str = ""
+    identity: str = ""  # stable across runs and row moves (auditor.identity); set after the audit
+    waived: str | None = None  # the waiver's reason, who accepted it and when; None if not waived
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -76,6 +78,8 @@ class Finding:
             "message": self.message,
             "evidence": {k: clean_number(v) for k, v in self.evidence.items()},
             "fix": self.fix,
+            "identity": self.identity,
+            "waived": self.waived,
         }
 
 

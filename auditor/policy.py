@@ -6,6 +6,7 @@ No check reads a global: the :class:`Policy` is passed in.
 
 from __future__ import annotations
 
+import math
 import tomllib
 from dataclasses import dataclass, field
 from importlib import resources
@@ -23,7 +24,20 @@ KNOWN: dict[str, tuple[type, float, float]] = {
     "min_levels": (int, 2, 1000),
     "recommended_levels": (int, 2, 1000),
     "max_leverage": (float, 0.0, 1.0),
+    # Design judgement (auditor.design, auditor.checks.design).
+    "leverage_multiple": (float, 1.0, 100.0),
+    "max_sxx_share": (float, 0.0, 1.0),
+    "relevant_elasticity": (float, 0.0, 1e6),
+    "slope_that_matters": (float, 0.0, math.inf),
+    "max_ci_relative_half_width": (float, 0.0, 1e6),
+    "lack_of_fit_alpha": (float, 1e-6, 0.5),
+    "require_linearity_evidence": (int, 0, 1),
+    "extrapolation_tolerance": (float, 0.0, 10.0),
 }
+
+# Keys a policy file may leave out: the value used then, with its source. Keys absent from both a
+# file and this table are simply unset (``Policy.find`` returns None): that part of a check is off.
+DEFAULTS: dict[str, Threshold] = {}
 
 
 @dataclass(frozen=True)
@@ -41,9 +55,41 @@ class Policy:
     def get(self, key: str) -> float:
         return self.thresholds[key].value
 
+    def find(self, key: str) -> float | None:
+        """The value of an optional threshold, or None when the policy does not set it."""
+        found = self.thresholds.get(key)
+        return None if found is None else found.value
+
     @property
     def alpha(self) -> float:
         return self.get("alpha")
+
+
+DEFAULTS.update(
+    {
+        "max_leverage": Threshold(
+            0.5, "regaudit default (key absent): common practice, leverage above 0.5 dominates"
+        ),
+        "leverage_multiple": Threshold(
+            3.0, "regaudit default (key absent): common practice, leverage above 3p/n is high"
+        ),
+        "max_sxx_share": Threshold(
+            0.6, "regaudit default (key absent): one point carrying 60 % or more of Sxx"
+        ),
+        "relevant_elasticity": Threshold(
+            0.5, "regaudit default (key absent): a 10 % change in x moving y by 5 % of its mean"
+        ),
+        "lack_of_fit_alpha": Threshold(
+            0.05, "regaudit default (key absent): common practice, lack-of-fit F test at 5 %"
+        ),
+        "require_linearity_evidence": Threshold(
+            0.0, "regaudit default (key absent): linearity need not be demonstrated"
+        ),
+        "extrapolation_tolerance": Threshold(
+            0.0, "regaudit default (key absent): no prediction beyond the x range"
+        ),
+    }
+)
 
 
 def builtin_names() -> list[str]:
@@ -77,6 +123,8 @@ def _parse(data: dict[str, Any], origin: str) -> Policy:
     for key in ("alpha", "confidence", "power", "stored_relative_tolerance", "min_levels"):
         if key not in thresholds:
             raise PolicyError(f"{origin}: the required key [{key}] is missing")
+    for key, default in DEFAULTS.items():
+        thresholds.setdefault(key, default)
     return Policy(str(data.get("name", origin)), str(data.get("description", "")), thresholds)
 
 

@@ -75,21 +75,21 @@ def _write_sheet(book: xlsxwriter.Workbook, title: str, rows: int, rng: np.rando
     y = np.round(0.12 + 0.0485 * x + rng.normal(0.0, 0.02, rows), 4)
     last = rows + 2
     values = _statistics(x, y)
-    # constant_memory mode writes row by row, so the statistic block (rows 1-8) comes first.
-    sheet.write_string(0, 0, f"Turbidity sensor {title}: reference (NTU) vs reading")
-    sheet.write_string(1, 0, "Reference NTU")
-    sheet.write_string(1, 1, "Sensor NTU")
+    # constant_memory mode writes row by row (a row is flushed once a later row is written), so
+    # each row is written whole and in order: the statistic block sits in D1:E8.
     formulas = _formulas(last)
-    for index in range(len(STAT_LABELS)):
-        row = index  # D1:E8
-        if row >= 2:
+    for row in range(last):
+        if row == 0:
+            sheet.write_string(0, 0, f"Turbidity sensor {title}: reference (NTU) vs reading")
+        elif row == 1:
+            sheet.write_string(1, 0, "Reference NTU")
+            sheet.write_string(1, 1, "Sensor NTU")
+        else:
             sheet.write_number(row, 0, float(x[row - 2]))
             sheet.write_number(row, 1, float(y[row - 2]))
-        sheet.write_string(row, 3, STAT_LABELS[index])
-        sheet.write_formula(row, 4, formulas[index], None, values[index])
-    for index in range(len(STAT_LABELS) - 2, rows):
-        sheet.write_number(index + 2, 0, float(x[index]))
-        sheet.write_number(index + 2, 1, float(y[index]))
+        if row < len(STAT_LABELS):
+            sheet.write_string(row, 3, STAT_LABELS[row])
+            sheet.write_formula(row, 4, formulas[row], None, values[row])
 
 
 def write_workbook(shape: Shape, path: Path) -> Path:

@@ -1,7 +1,17 @@
 """Checks: each a small unit with a stable id, a one-line summary and a docstring that shows a
 failing and a passing example. Importing this package registers every check in ``REGISTRY``."""
 
-from auditor.checks import agreement, data, formulas, workbook_level  # noqa: F401
+from auditor.checks import (  # noqa: F401
+    agreement,
+    data,
+    design,
+    formula_audit,
+    formula_links,
+    formula_pasted,
+    formula_siblings,
+    formulas,
+    workbook_level,
+)
 from auditor.checks.base import REGISTRY, Check, RegressionContext, run_regression_checks
 
 __all__ = ["REGISTRY", "Check", "RegressionContext", "run_regression_checks"]

@@ -6,6 +6,7 @@ from scipy import stats as distributions
 
 from auditor.checks.base import RegressionContext, check
 from auditor.compare import agree_stored, parse_text_number
+from auditor.diagnose import explain
 from auditor.model import Finding, ReportedValue, Severity, stat_base
 
 NAMES = {
@@ -95,25 +96,39 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
                 if not value.key.startswith("slope")
                 else " The sign of the slope is reversed"
             ) + "."
+        message = (
+            f"The reported {describe(value.key)} is {fmt(value.value)}, but the "
+            f"{context.data.n} points of {context.data.intended_y_range} give "
+            f"{fmt(value.intended)} (tolerance: {value.tolerance}).{consequence}"
+        )
+        evidence: dict[str, object] = {
+            "key": value.key,
+            "reported": value.value,
+            "as_written": value.as_written,
+            "intended": value.intended,
+            "tolerance": value.tolerance,
+        }
+        fix = f"Recompute {value.cell} from the whole data table and report {fmt(value.intended)}."
+        kind = None
+        explanations = explain(value, context)
+        if explanations:
+            # The simplest mistake that reproduces the reported number names the cause.
+            cause = explanations[0]
+            kind, fix = cause.kind, cause.fix
+            message += f" Cause: {cause.message}"
+            evidence["reproduced_by"] = cause.kind
+            evidence["reproduced"] = cause.reproduced
+            if len(explanations) > 1:
+                evidence["also_reproduced_by"] = ", ".join(e.kind for e in explanations[1:4])
         findings.append(
             Finding(
                 check="stat-recompute",
+                kind=kind,
                 severity=severity,
                 cells=[value.cell],
-                message=(
-                    f"The reported {describe(value.key)} is {fmt(value.value)}, but the "
-                    f"{context.data.n} points of {context.data.intended_y_range} give "
-                    f"{fmt(value.intended)} (tolerance: {value.tolerance}).{consequence}"
-                ),
-                evidence={
-                    "key": value.key,
-                    "reported": value.value,
-                    "as_written": value.as_written,
-                    "intended": value.intended,
-                    "tolerance": value.tolerance,
-                },
-                fix=f"Recompute {value.cell} from the whole data table and report "
-                f"{fmt(value.intended)}.",
+                message=message,
+                evidence=evidence,
+                fix=fix,
             )
         )
     return findings

@@ -3,7 +3,8 @@
     Reporter (protocol)   filename + write(result, handle)
     ├── JsonReporter      audit.json   (the machine contract)
     ├── TextReporter      summary.txt  (the first thing a reviewer reads)
-    └── XlsxReporter      audit.xlsx   (the reviewer's workbook)
+    ├── XlsxReporter      audit.xlsx   (the reviewer's workbook)
+    └── SarifReporter     audit.sarif  (SARIF 2.1.0 for code-review tools; on request only)
 
 Reporters read only ``auditor.model``; they never open source workbooks nor import the reading,
 locating or fitting modules. ``write_reports`` is the one entry point for the CLI: it sends every
@@ -20,6 +21,7 @@ from auditor.errors import UsageError
 from auditor.model import AuditResult
 from auditor.report.json import JsonReporter
 from auditor.report.output import atomic_output, refuse_inputs
+from auditor.report.sarif import SarifReporter
 from auditor.report.text import TextReporter
 from auditor.report.xlsx import XlsxReporter
 
@@ -36,6 +38,7 @@ REPORTERS: dict[str, Reporter] = {
     "xlsx": XlsxReporter(),
     "text": TextReporter(),
     "json": JsonReporter(),
+    "sarif": SarifReporter(),
 }
 DEFAULT_FORMATS: tuple[str, ...] = ("xlsx", "text", "json")
 
@@ -84,6 +87,7 @@ __all__ = [
     "REPORTERS",
     "JsonReporter",
     "Reporter",
+    "SarifReporter",
     "TextReporter",
     "XlsxReporter",
     "audited_files",

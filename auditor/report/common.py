@@ -6,9 +6,11 @@ Keeping these in one place means summary.txt and audit.xlsx say the same thing i
 from __future__ import annotations
 
 import math
+import os
+from dataclasses import dataclass
 from typing import Any, get_args
 
-from auditor.model import AuditResult, RegressionResult, Severity, WorkbookStatus
+from auditor.model import STAT_KEYS, AuditResult, RegressionResult, Severity, WorkbookStatus
 
 MISSING = "—"
 
@@ -103,3 +105,125 @@ def plain(value: Any) -> Any:
     if hasattr(value, "tolist") and not isinstance(value, (str, bytes)):
         return plain(value.tolist())  # numpy scalars and arrays → Python numbers and lists
     return finite_or_none(value)
+
+
+# What each statistic key means, in the words the detail sheets use.
+STAT_LABELS: dict[str, str] = {
+    "slope": "slope",
+    "intercept": "intercept",
+    "se_slope": "standard error of the slope",
+    "se_intercept": "standard error of the intercept",
+    "t_slope": "t of the slope",
+    "t_intercept": "t of the intercept",
+    "p_slope": "p-value of the slope",
+    "p_intercept": "p-value of the intercept",
+    "df": "residual degrees of freedom",
+    "n": "points used (n)",
+    "residual_sd": "residual standard deviation",
+    "r_squared": "R squared",
+    "r": "correlation r",
+    "f": "F statistic",
+    "ss_regression": "regression sum of squares",
+    "ss_residual": "residual sum of squares",
+    "ci_slope_low": "confidence limit of the slope, lower",
+    "ci_slope_high": "confidence limit of the slope, upper",
+}
+
+VERDICT_MEANING: dict[str, str] = {
+    "confirmed": "reported, as written and intended values agree at the precision the value "
+    "carries",
+    "mismatch": "the reported value disagrees with what its formula computes or with what the "
+    "data support",
+    "unverifiable": "regaudit could not recompute this value (no formula it can evaluate, or an "
+    "undefined fit)",
+}
+
+THREE_VALUES: tuple[tuple[str, str], ...] = (
+    ("reported", "what the author saw: the cell's stored value, its typed constant or its text"),
+    ("as written", "what the cell's formula computes over the ranges it actually references"),
+    (
+        "intended",
+        "regaudit's own fit over the whole data table (rows below the range included, "
+        "numbers stored as text parsed, total rows left out)",
+    ),
+)
+
+
+def split_stat_key(key: str) -> tuple[str, int | None, str]:
+    """'se_slope[2]@G9' -> ('se_slope', 2, 'G9'); the parts a label is made of."""
+    base, _, cell = key.partition("@")
+    column: int | None = None
+    if base.endswith("]") and "[" in base:
+        base, _, index = base[:-1].partition("[")
+        column = int(index) if index.isdigit() else None
+    return base, column, cell
+
+
+def stat_label(key: str) -> str:
+    """A key in words: 'slope[2]' -> 'slope of x2', 'r@B8' -> 'correlation r (also in B8)'."""
+    base, column, cell = split_stat_key(key)
+    label = STAT_LABELS.get(base, base.replace("_", " "))
+    if column is not None:
+        label += f" of x{column}"
+    if cell:
+        label += f" (also in {cell})"
+    return label
+
+
+def stat_order(key: str) -> tuple[int, int, str]:
+    """Sort key putting statistics in STAT_KEYS order, x columns in turn, second cells last."""
+    base, column, cell = split_stat_key(key)
+    rank = STAT_KEYS.index(base) if base in STAT_KEYS else len(STAT_KEYS)
+    return rank, column or 0, cell
+
+
+# The design metrics regaudit knows by name; any other key is shown with its own name.
+DESIGN_LABELS: dict[str, str] = {
+    "sxx": "Sxx, the spread of x (sum of squared deviations)",
+    "x_min": "smallest x",
+    "x_max": "largest x",
+    "levels": "distinct x levels",
+    "replicates": "replicated points",
+    "max_leverage": "largest leverage",
+    "max_leverage_share": "largest leverage's share of Sxx",
+    "min_detectable_slope": "smallest slope the design can detect",
+}
+
+
+def design_label(key: str) -> str:
+    return DESIGN_LABELS.get(key, key.replace("_", " "))
+
+
+@dataclass(frozen=True)
+class AnnotatedCopy:
+    """One annotated copy of an audited workbook (made by auditor.annotate, shown by reports)."""
+
+    source: str  # the audited workbook, never changed
+    copy: str  # NAME.audited.xlsx in the output folder
+    notes: int  # cells that carry a note
+    may_lose: tuple[str, ...] = ()  # content the copy may lose, in words: "2 charts"
+
+
+def copy_caveat(copy: AnnotatedCopy) -> str:
+    """What the copy may lack, in one sentence (the Overview and the copy's own note say it)."""
+    if not copy.may_lose:
+        return "Nothing was found that the copy is known to lose; formulas recalculate on opening."
+    return (
+        f"The copy may lose or simplify {', '.join(copy.may_lose)}, which the library that "
+        "writes it cannot carry over faithfully; compare with the original before relying on "
+        "the copy for anything but the notes."
+    )
+
+
+def short_paths(result: AuditResult) -> dict[str, str]:
+    """Each workbook's path relative to the folder all of them share (the tables' "workbook").
+
+    Long shared prefixes push every other column off the screen; the Overview and the detail
+    sheets still give the full path.
+    """
+    paths = [workbook.path for workbook in result.workbooks]
+    try:
+        shared = os.path.commonpath([os.path.dirname(path) or "." for path in paths])
+    except ValueError:  # absolute and relative paths mixed, or nothing at all
+        return {path: path for path in paths}
+    return {path: os.path.relpath(path, shared) if shared else path for path in paths}

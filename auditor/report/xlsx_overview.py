@@ -2,12 +2,30 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 from xlsxwriter import Workbook
 from xlsxwriter.worksheet import Worksheet
 
 from auditor.model import SEVERITIES, AuditResult
-from auditor.report.common import CAUTION, NO_STORED_VALUES, SEVERITY_MEANING, status_counts
-from auditor.report.xlsx_style import Styles, put
+from auditor.report.common import (
+    CAUTION,
+    NO_STORED_VALUES,
+    SEVERITY_MEANING,
+    THREE_VALUES,
+    VERDICT_MEANING,
+    AnnotatedCopy,
+    copy_caveat,
+    status_counts,
+)
+from auditor.report.xlsx_layout import (
+    LINE_HEIGHT,
+    DetailRef,
+    internal_link,
+    print_setup,
+    text_lines,
+)
+from auditor.report.xlsx_style import VERDICT_PALETTE, Styles, put
 
 LABEL_WIDTH = 30
 VALUE_WIDTH = 100
@@ -29,9 +47,22 @@ class _Cursor:
         label_format: object = None,
         value_format: object = None,
     ) -> None:
-        put(self.sheet, self.row, 0, label, label_format or self.styles.label)
+        label_format = label_format or self.styles.label
+        value_format = value_format or self.styles.wrapped
+        put(self.sheet, self.row, 0, label, label_format)
         if value is not None:
-            put(self.sheet, self.row, 1, value, value_format or self.styles.wrapped)
+            put(self.sheet, self.row, 1, value, value_format)
+        # LibreOffice keeps the default height for wrapped text, so rows get theirs explicitly.
+        lines = text_lines(str(value), VALUE_WIDTH) if isinstance(value, str) else 1
+        if label_format is self.styles.wrapped and isinstance(label, str):
+            lines = max(lines, text_lines(label, LABEL_WIDTH))
+        if lines > 1:
+            self.sheet.set_row(self.row, LINE_HEIGHT * lines)
+        self.row += 1
+
+    def link(self, label: str, sheet_name: str, text: str) -> None:
+        put(self.sheet, self.row, 0, label, self.styles.label)
+        self.sheet.write_url(self.row, 1, internal_link(sheet_name), self.styles.link, string=text)
         self.row += 1
 
     def section(self, title: str) -> None:
@@ -41,13 +72,19 @@ class _Cursor:
         self.row += 1
 
 
-def overview_sheet(book: Workbook, result: AuditResult, styles: Styles) -> None:
-    sheet = book.add_worksheet("Overview")
-    sheet.set_column(0, 0, LABEL_WIDTH)
-    sheet.set_column(1, 1, VALUE_WIDTH)
-    out = _Cursor(sheet, styles)
-    out.line("regaudit audit overview", label_format=styles.title)
+def verdict_counts(result: AuditResult) -> tuple[dict[str, int], dict[str, int]]:
+    """Regressions by verdict, and reported statistics by verdict; every verdict listed."""
+    regressions = {name: 0 for name in VERDICT_PALETTE}
+    statistics = {name: 0 for name in VERDICT_PALETTE}
+    for workbook in result.workbooks:
+        for regression in workbook.regressions:
+            regressions[regression.verdict] += 1
+            for reported in regression.reported.values():
+                statistics[reported.verdict] += 1
+    return regressions, statistics
 
+
+def _audited(out: _Cursor, result: AuditResult) -> None:
     out.section("What was audited")
     out.line("Tool", f"regaudit {result.version}")
     out.line("Policy", result.policy)
@@ -61,35 +98,107 @@ def overview_sheet(book: Workbook, result: AuditResult, styles: Styles) -> None:
     for index, path in enumerate(computed):
         out.line("Computed values" if index == 0 else "", f"{path}: {NO_STORED_VALUES}")
 
+
+def _counts(out: _Cursor, result: AuditResult) -> None:
+    styles = out.styles
     totals = result.totals()
     out.section("Workbooks by status")
     for status, count in status_counts(result).items():
-        out.line(status, count, label_format=styles.top, value_format=styles.top)
-    out.line("regressions found", totals["regressions"], value_format=styles.top)
+        out.line(status, count, label_format=styles.top, value_format=styles.count)
+    out.line("regressions found", totals["regressions"], value_format=styles.count)
+
+    regressions, statistics = verdict_counts(result)
+    out.section("Regressions by verdict")
+    for verdict, count in regressions.items():
+        out.line(verdict, count, styles.verdict[verdict], styles.count)
+    out.section("Reported statistics by verdict")
+    for verdict, count in statistics.items():
+        out.line(verdict, count, styles.verdict[verdict], styles.count)
 
     out.section("Findings by severity")
     for severity in SEVERITIES:
         count = totals["findings_by_severity"].get(severity, 0)
-        out.line(severity, count, styles.severity[severity], styles.top)
+        out.line(severity, count, styles.severity[severity], styles.count)
+
+
+def _copies(out: _Cursor, copies: Sequence[AnnotatedCopy]) -> None:
+    if not copies:
+        return
+    out.section("Annotated copies")
+    for copy in copies:
+        out.line(
+            copy.copy,
+            f"copy of {copy.source} with a note on {copy.notes} flagged cell(s). "
+            + copy_caveat(copy),
+            out.styles.wrapped,
+        )
+
+
+def _guide(out: _Cursor, refs: list[DetailRef]) -> None:
+    out.section("How to read this workbook")
+    out.link("Regressions", "Regressions", "one row per regression; its link opens the detail")
+    out.link("Findings", "Findings", "one row per finding, most severe first")
+    if refs:
+        out.link(
+            "Detail sheets",
+            refs[0].sheet,
+            f"{len(refs)} sheets named R01, R02, …: the data, the three values of every "
+            "statistic, live formulas and two charts per regression",
+        )
+    for name, meaning in THREE_VALUES:
+        out.line(name, meaning, out.styles.top)
+
+
+def _legend(out: _Cursor) -> None:
+    styles = out.styles
+    out.section("Severity legend")
+    for severity in SEVERITIES:
+        out.line(severity, SEVERITY_MEANING[severity], styles.severity[severity])
+    out.section("Verdict legend")
+    for verdict, meaning in VERDICT_MEANING.items():
+        out.line(verdict, meaning, styles.verdict[verdict])
+    out.line(
+        "reported value",
+        "A reported value shown bold on the plum fill disagrees with the recomputation; its "
+        'verdict then reads "mismatch". The word is always in the cell, the colour only helps.',
+        styles.mismatch,
+    )
+    out.line(
+        "live formula",
+        "Cells on this pale green hold live formulas over a detail sheet's snapshot, stored with "
+        "regaudit's values; recalculate to see the spreadsheet's own result.",
+        styles.live,
+    )
+
+
+def overview_sheet(
+    book: Workbook,
+    result: AuditResult,
+    styles: Styles,
+    refs: list[DetailRef],
+    copies: Sequence[AnnotatedCopy] = (),
+) -> None:
+    sheet = book.add_worksheet("Overview")
+    sheet.set_column(0, 0, LABEL_WIDTH)
+    sheet.set_column(1, 1, VALUE_WIDTH)
+    out = _Cursor(sheet, styles)
+    out.line("regaudit audit overview", label_format=styles.title)
+    _audited(out, result)
+    _counts(out, result)
 
     out.section("Files that could not be read")
     unreadable = [w for w in result.workbooks if w.status == "unreadable"]
     for workbook in unreadable:
-        out.line(workbook.path, workbook.error or "no reason was recorded", styles.top)
+        out.line(workbook.path, workbook.error or "no reason was recorded", styles.wrapped)
     if not unreadable:
         out.line("none", label_format=styles.top)
 
-    out.section("Severity legend")
-    for severity in SEVERITIES:
-        out.line(severity, SEVERITY_MEANING[severity], styles.severity[severity])
-    out.line(
-        "mismatch",
-        "On the Regressions sheet a reported value shown bold on a pale fill disagrees with the "
-        'recomputation; its "verdict" column then reads mismatch.',
-        styles.mismatch,
-    )
+    _copies(out, copies)
+    _guide(out, refs)
+    _legend(out)
 
     out.section("Caution")
     sheet.merge_range(out.row, 0, out.row, 1, CAUTION, styles.caution)
     sheet.set_row(out.row, CAUTION_ROW_HEIGHT)
+    print_setup(sheet, "Overview")
     sheet.activate()  # the reviewer lands on the overview

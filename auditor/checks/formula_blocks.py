@@ -1,0 +1,256 @@
+"""Sibling blocks: the same statistics block copied for several instruments, sites or runs.
+
+Two regressions are siblings when their statistic cells have the same shape: the same statistics
+at the same offsets from the block's top-left statistic cell, on one sheet or across sheets.
+Their formulas are then compared cell by cell in a *frame form*: every reference is written
+relative to the frame it belongs to, so that copies agree even where a plain R1C1 text would
+not (a results sheet whose blocks read tables on other sheets):
+
+* a reference into the regression's own data columns, relative to its data table (start rows
+  from the table's first row, end rows from its last, so blocks of 8 and 10 points agree);
+* any other reference on the block's sheet, relative to the block's top-left statistic cell;
+* anything else (another sheet, another workbook) as it is written, absolute.
+
+``$`` signs are left out of the frame form: where a reference points is what must agree; how it
+is anchored is judged separately (an anchored reference is how a copy keeps pointing back).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from auditor.formula import Ref
+from auditor.locate import RegressionSpec, StatCell
+from auditor.model import RegressionResult, stat_base
+from auditor.r1c1 import Corner, Reference, canonical, rewrite_references
+from auditor.workbook import column_letter
+
+Position = tuple[str, int, int]  # (statistic, rows below the block's top, columns right of it)
+MIN_SHARED = 3  # statistics two blocks must share at the same offsets to be siblings
+MIN_SHARE = 0.6  # ... and the share of the larger block's statistics they must make up
+
+
+@dataclass
+class Block:
+    """One regression's statistics block, with the frames its references are read in."""
+
+    index: int  # position in the workbook's list of regressions
+    spec: RegressionSpec
+    result: RegressionResult
+    sheet: str
+    top: tuple[int, int]
+    cells: dict[Position, StatCell] = field(default_factory=dict)
+
+    @property
+    def data_sheet(self) -> str:
+        return self.spec.y.sheet
+
+    @property
+    def data_box(self) -> tuple[int, int, int, int]:
+        """(first row, first column, last row, last column) of the x and y ranges together."""
+        x, y = self.spec.x, self.spec.y
+        return min(x.r1, y.r1), min(x.c1, y.c1), max(x.r2, y.r2), max(x.c2, y.c2)
+
+    title: str = ""  # the block's own title where it is unique in the workbook, else its place
+
+    @property
+    def name(self) -> str:
+        return self.title or self.spec.id
+
+    def owns_data(self, sheet: str, r1: int, c1: int, r2: int, c2: int) -> bool:
+        fr1, fc1, fr2, fc2 = self.data_box
+        return (
+            sheet.lower() == self.data_sheet.lower()
+            and c1 >= fc1
+            and c2 <= fc2
+            and r1 <= fr2 + 1
+            and r2 >= fr1 - 1
+        )
+
+    def owns_result(self, sheet: str, r1: int, c1: int, r2: int, c2: int) -> bool:
+        return any(
+            stat.cell.sheet.lower() == sheet.lower()
+            and r1 <= stat.cell.row <= r2
+            and c1 <= stat.cell.col <= c2
+            for stat in self.spec.stats.values()
+        )
+
+
+def blocks_of(specs: list[RegressionSpec], results: list[RegressionResult]) -> list[Block]:
+    blocks = []
+    for index, (spec, result) in enumerate(zip(specs, results, strict=True)):
+        on_sheet = [
+            s
+            for s in spec.stats.values()
+            if s.cell.sheet.lower() == spec.sheet.lower()
+            and (s.how != "linest-block" or s.block_position == (0, 0))
+        ]
+        if not on_sheet:
+            continue
+        top = (min(s.cell.row for s in on_sheet), min(s.cell.col for s in on_sheet))
+        block = Block(index, spec, result, spec.sheet, top)
+        for stat in on_sheet:
+            position = (stat_base(stat.key), stat.cell.row - top[0], stat.cell.col - top[1])
+            block.cells.setdefault(position, stat)
+        blocks.append(block)
+    titles = [b.spec.label for b in blocks]
+    for block in blocks:
+        place = f"{block.sheet}!{column_letter(block.top[1])}{block.top[0]}"
+        label = block.spec.label
+        block.title = f"{label} ({place})" if label and titles.count(label) == 1 else place
+    return blocks
+
+
+def sibling_groups(blocks: list[Block]) -> list[list[Block]]:
+    """Blocks of the same shape, grouped (each group has two or more, in workbook order)."""
+    parent = list(range(len(blocks)))
+
+    def find(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for i, a in enumerate(blocks):
+        for j in range(i):
+            b = blocks[j]
+            if a.spec.x_columns != b.spec.x_columns or a.spec.intercept != b.spec.intercept:
+                continue
+            shared = len(set(a.cells) & set(b.cells))
+            if shared >= MIN_SHARED and shared >= MIN_SHARE * max(len(a.cells), len(b.cells)):
+                parent[find(i)] = find(j)
+    groups: dict[int, list[Block]] = {}
+    for i, block in enumerate(blocks):
+        groups.setdefault(find(i), []).append(block)
+    return [g for g in groups.values() if len(g) > 1]
+
+
+def resolve(ref: Reference, block: Block, cell_sheet: str) -> Ref | None:
+    """The grid block a reference names (whole columns to the data's last row)."""
+    if ref.external is not None:
+        return None
+    sheet = ref.sheet or cell_sheet
+    rows = [c.row for c in ref.corners if c.row is not None]
+    cols = [c.col for c in ref.corners if c.col is not None]
+    last_row = block.data_box[2]
+    r1, r2 = (min(rows), max(rows)) if rows else (1, last_row)
+    c1, c2 = (min(cols), max(cols)) if cols else (1, 16_384)
+    return Ref(sheet, r1, c1, r2, c2)
+
+
+def _frame_of(ref: Reference, block: Block, cell_sheet: str) -> str:
+    """'data', 'block' or 'other': which frame a reference is read in (see the module doc)."""
+    target = resolve(ref, block, cell_sheet)
+    if target is None:
+        return "other"
+    if block.owns_data(target.sheet, target.r1, target.c1, target.r2, target.c2):
+        return "data"
+    if target.sheet.lower() == block.sheet.lower():
+        return "block"
+    return "other"
+
+
+def _corner_form(corner: Corner, origin: tuple[int, int], tag: str) -> str:
+    row = "" if corner.row is None else f"{tag}{corner.row - origin[0]}"
+    col = "" if corner.col is None else f"c{corner.col - origin[1]}"
+    return row + col
+
+
+def frame_text(ref: Reference, block: Block, cell_sheet: str) -> str:
+    frame = _frame_of(ref, block, cell_sheet)
+    fr1, fc1, fr2, _ = block.data_box
+    if frame == "data":
+        start = _corner_form(ref.start, (fr1, fc1), "s")
+        end = "" if ref.end is None else ":" + _corner_form(ref.end, (fr2, fc1), "e")
+        return "{data " + start + end + "}"
+    if frame == "block":
+        start = _corner_form(ref.start, block.top, "r")
+        end = "" if ref.end is None else ":" + _corner_form(ref.end, block.top, "r")
+        return "{block " + start + end + "}"
+    plain = Reference(ref.prefix or f"'{cell_sheet}'!", _bare(ref.start), _bare_opt(ref.end))
+    return _a1(plain).upper()
+
+
+def _bare(corner: Corner) -> Corner:
+    return Corner(corner.row, corner.col)
+
+
+def _bare_opt(corner: Corner | None) -> Corner | None:
+    return None if corner is None else _bare(corner)
+
+
+def _a1(ref: Reference) -> str:
+    def one(c: Corner) -> str:
+        col = "" if c.col is None else ("$" if c.col_absolute else "") + column_letter(c.col)
+        row = "" if c.row is None else ("$" if c.row_absolute else "") + str(c.row)
+        return col + row
+
+    return ref.prefix + one(ref.start) + ("" if ref.end is None else ":" + one(ref.end))
+
+
+def frame_form(formula: str, block: Block, cell_sheet: str) -> str:
+    """The formula with spelling normalised and each reference in its frame (module doc)."""
+    return rewrite_references(canonical(formula), lambda ref: frame_text(ref, block, cell_sheet))
+
+
+def _quoted(sheet: str) -> str:
+    plain = sheet.replace("_", "").isalnum() and not sheet[0].isdigit()
+    return sheet if plain else "'" + sheet.replace("'", "''") + "'"
+
+
+def translate(formula: str, source: Block, cell_sheet: str, target: Block) -> str:
+    """A sibling's formula rewritten for ``target``: its data and its own block's cells."""
+    sr1, sc1, sr2, _ = source.data_box
+    tr1, tc1, tr2, _ = target.data_box
+
+    def move(ref: Reference) -> str | None:
+        frame = _frame_of(ref, source, cell_sheet)
+        if frame == "other":
+            return None
+        if frame == "data":
+            prefix = ""
+            if ref.prefix or target.data_sheet.lower() != target.sheet.lower():
+                prefix = _quoted(target.data_sheet) + "!"
+            start_rows, end_rows, cols = tr1 - sr1, tr2 - sr2, tc1 - sc1
+        else:
+            prefix = "" if not ref.prefix else _quoted(target.sheet) + "!"
+            start_rows = end_rows = target.top[0] - source.top[0]
+            cols = target.top[1] - source.top[1]
+
+        def shift(c: Corner, rows: int) -> Corner:
+            row = None if c.row is None else c.row + rows
+            col = None if c.col is None else c.col + cols
+            return Corner(row, col, c.row_absolute, c.col_absolute)
+
+        end = None if ref.end is None else shift(ref.end, end_rows)
+        return _a1(Reference(prefix, shift(ref.start, start_rows), end))
+
+    return rewrite_references(formula, move)
+
+
+def repoint(formula: str, cell_sheet: str, wrong: Block, right: Block) -> str:
+    """The formula with each reference into ``wrong``'s data moved onto ``right``'s data."""
+    wr1, wc1, wr2, _ = wrong.data_box
+    rr1, rc1, rr2, _ = right.data_box
+
+    def move(ref: Reference) -> str | None:
+        target = resolve(ref, wrong, cell_sheet)
+        if target is None or not wrong.owns_data(
+            target.sheet, target.r1, target.c1, target.r2, target.c2
+        ):
+            return None
+        prefix = ref.prefix
+        if prefix or right.data_sheet.lower() != cell_sheet.lower():
+            prefix = _quoted(right.data_sheet) + "!"
+            if right.data_sheet.lower() == cell_sheet.lower():
+                prefix = ""
+
+        def shift(c: Corner, rows: int) -> Corner:
+            row = None if c.row is None else c.row + rows
+            col = None if c.col is None else c.col + rc1 - wc1
+            return Corner(row, col, c.row_absolute, c.col_absolute)
+
+        end = None if ref.end is None else shift(ref.end, rr2 - wr2)
+        return _a1(Reference(prefix, shift(ref.start, rr1 - wr1), end))
+
+    return rewrite_references(formula, move)

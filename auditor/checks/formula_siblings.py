@@ -1,0 +1,246 @@
+"""Copied blocks: sibling blocks should hold the same formulas, each on its own data.
+
+Three faults, in the order they are looked for (a cell is reported once):
+
+1. a reference into *another* sibling's data or results (the copy still points back);
+2. a cell whose formula, in frame form (:mod:`formula_blocks`), differs from the form most of its
+   siblings share at the same place (an edited or half-updated copy);
+3. a reference anchored with ``$`` to the block's own data where a sibling uses a relative one:
+   right today, but a copy of this block will keep pointing here (a risk, minor).
+
+A call whose x or y range differs from its own regression's is left to ranges-disagree.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass
+
+from auditor.checks.base import check
+from auditor.checks.formula_blocks import (
+    Block,
+    Position,
+    blocks_of,
+    frame_form,
+    frame_text,
+    repoint,
+    resolve,
+    sibling_groups,
+    translate,
+)
+from auditor.checks.formula_support import reached_cells, severity_in_result
+from auditor.checks.workbook_level import WorkbookContext
+from auditor.errors import FormulaError
+from auditor.model import Finding, Severity
+from auditor.r1c1 import Reference, references
+
+CHECK = "sibling-formula-differs"
+
+
+@dataclass
+class Member:
+    block: Block
+    position: Position
+    cell: str
+    sheet: str
+    formula: str
+    form: str
+
+
+def _members(group: list[Block], covered: set[str]) -> dict[Position, list[Member]]:
+    by_position: dict[Position, list[Member]] = {}
+    for block in group:
+        for position, stat in block.cells.items():
+            formula = stat.cell.formula
+            if not formula or stat.cell.address in covered:
+                continue
+            try:
+                form = frame_form(formula, block, stat.cell.sheet)
+            except FormulaError:
+                continue
+            member = Member(block, position, stat.cell.address, stat.cell.sheet, formula, form)
+            by_position.setdefault(position, []).append(member)
+    return {p: ms for p, ms in by_position.items() if len({m.block.index for m in ms}) > 1}
+
+
+def _finding(
+    context: WorkbookContext, member: Member, severity: Severity, message: str, fix: str
+) -> Finding:
+    reached = reached_cells(member.block.spec, member.cell, context.parsed)
+    return Finding(
+        check=CHECK,
+        kind="copied-block",
+        severity=severity,
+        cells=[member.cell] + [c for c in reached if c != member.cell],
+        message=message,
+        evidence={"block": member.block.name, "formula": member.formula},
+        fix=fix,
+    )
+
+
+def _severity(context: WorkbookContext, member: Member) -> Severity:
+    reached = reached_cells(member.block.spec, member.cell, context.parsed)
+    return severity_in_result(member.block.result, reached)
+
+
+def _points_back(member: Member, group: list[Block]) -> tuple[Reference, Block] | None:
+    """The first reference of the member's formula into another sibling's data or results."""
+    own = member.block
+    for ref in references(member.formula):
+        target = resolve(ref, own, member.sheet)
+        if target is None:
+            continue
+        box = (target.sheet, target.r1, target.c1, target.r2, target.c2)
+        if own.owns_data(*box) or own.owns_result(*box):
+            continue
+        for other in group:
+            if other is not own and (other.owns_data(*box) or other.owns_result(*box)):
+                return ref, other
+    return None
+
+
+def _text(ref: Reference) -> str:
+    from auditor.r1c1 import a1_text
+
+    return a1_text(ref)
+
+
+@check(
+    CHECK,
+    "A cell of a copied block differs from the same cell of its sibling blocks, or still "
+    "points at another block.",
+    scope="workbook",
+)
+def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
+    """Blocks copied for several instruments, sites or runs must differ only in their data.
+
+    Failing: three photometer blocks where PH-3's ``=H16/SQRT(DEVSQ($D$3:$D$12))`` still
+    divides by PH-2's x spread; six line sheets where Line 1's p-value is ``=TDIST(…,1)`` and
+    the five others' ``=T.DIST.2T(…)``; PH-2's ``=STEYX($E$3:$E$12,$D$3:$D$12)`` anchored on its
+    own data while PH-1 writes ``=STEYX(B3:B12,A3:A12)`` (minor: the next copy will point back).
+    Passing: every block's formulas read, relative to its own table, the same.
+    """
+    covered = {
+        use.cell.address
+        for spec in context.specs
+        for use in spec.uses
+        if (use.x, use.y) != (spec.x, spec.y)
+    }
+    findings: list[Finding] = []
+    for group in sibling_groups(blocks_of(context.specs, context.results)):
+        reported: set[str] = set()
+        members = _members(group, covered)
+        for position_members in members.values():
+            for member in position_members:
+                back = _points_back(member, group)
+                if back is None:
+                    continue
+                ref, other = back
+                reported.add(member.cell)
+                fix = repoint(member.formula, member.sheet, other, member.block)
+                findings.append(
+                    _finding(
+                        context,
+                        member,
+                        _severity(context, member),
+                        f"{member.cell} ({member.block.name}) uses {_text(ref)}, which belongs "
+                        f"to the sibling block {other.name}: {member.formula}. The block was "
+                        "copied and this reference still points back.",
+                        f"Point it at this block's own data: {fix}",
+                    )
+                )
+        for position_members in members.values():
+            findings += _breaks(context, position_members, reported)
+        for position_members in members.values():
+            findings += _anchoring(context, position_members, reported)
+    return findings
+
+
+def _pattern(members: list[Member]) -> str:
+    counts = Counter(m.form for m in members)
+
+    def rank(form: str) -> tuple[int, int, int]:
+        holders = [m for m in members if m.form == form]
+        wrong = sum(_wrong(m) for m in holders)
+        return (-counts[form], wrong, min(m.block.index for m in holders))
+
+    return min(counts, key=rank)
+
+
+def _wrong(member: Member) -> bool:
+    value = next((v for v in member.block.result.reported.values() if v.cell == member.cell), None)
+    return value is not None and value.verdict == "mismatch"
+
+
+def _breaks(context: WorkbookContext, members: list[Member], reported: set[str]) -> list[Finding]:
+    live = [m for m in members if m.cell not in reported]
+    if len({m.form for m in live}) < 2:
+        return []
+    pattern = _pattern(live)
+    model = next(m for m in live if m.form == pattern)
+    holders = [m.cell for m in live if m.form == pattern and m is not model]
+    out = []
+    for member in live:
+        if member.form == pattern:
+            continue
+        reported.add(member.cell)
+        fixed = translate(model.formula, model.block, model.sheet, member.block)
+        also = ", ".join(holders[:3]) + ("…" if len(holders) > 3 else "")
+        also = f" (so do {also})" if also else ""
+        out.append(
+            _finding(
+                context,
+                member,
+                _severity(context, member),
+                f"{member.cell} ({member.block.name}) does not follow its sibling blocks: here "
+                f"{member.formula}, while {model.cell} computes {model.formula} on its own "
+                f"data{also}.",
+                f"If the blocks are meant to compute the same statistic, use {fixed}.",
+            )
+        )
+    return out
+
+
+def _anchors(member: Member) -> list[bool]:
+    """For each reference into the block's own data: is it anchored with $?"""
+    flags = []
+    for ref in references(member.formula):
+        if frame_text(ref, member.block, member.sheet).startswith("{data"):
+            flags.append(ref.anchored)
+    return flags
+
+
+def _anchoring(
+    context: WorkbookContext, members: list[Member], reported: set[str]
+) -> list[Finding]:
+    live = [m for m in members if m.cell not in reported]
+    relative = [m for m in live if _anchors(m) and not any(_anchors(m))]
+    if not relative:
+        return []
+    out = []
+    for member in live:
+        if not any(_anchors(member)):
+            continue
+        same_sheet = [
+            b
+            for b in {m.block.index: m.block for m in live}.values()
+            if b is not member.block and b.sheet.lower() == member.block.sheet.lower()
+        ]
+        if not same_sheet:
+            continue  # copies on other sheets: an anchor moves with the sheet copy
+        reported.add(member.cell)
+        model = relative[0]
+        out.append(
+            _finding(
+                context,
+                member,
+                "minor",
+                f"{member.cell} ({member.block.name}) anchors its data with $: "
+                f"{member.formula}, while {model.cell} ({model.block.name}) uses relative "
+                "references. The value is right, but a copy of this block will keep reading "
+                "these cells.",
+                f"Use relative references: "
+                f"{translate(model.formula, model.block, model.sheet, member.block)}",
+            )
+        )
+    return out

@@ -1,0 +1,97 @@
+"""The values formulas pass around, the errors that stop them, and the function signatures."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from auditor.formula import Node, Ref
+from auditor.workbook import ErrorValue
+
+if TYPE_CHECKING:
+    from auditor.evaluation.expressions import ExpressionEvaluator
+
+Value = float | str | bool | ErrorValue | None | np.ndarray
+
+CYCLE = ErrorValue("#CYCLE!")  # no spreadsheet error code exists for it; Excel shows 0 and warns
+_NA, _VALUE, _NUM, _DIV0, _REF = "#N/A", "#VALUE!", "#NUM!", "#DIV/0!", "#REF!"
+
+
+class Unsupported(Exception):
+    """A function or construct the evaluator does not evaluate; the message names it."""
+
+
+class Unverifiable(Unsupported):
+    """The formula reads another workbook, which is not at hand."""
+
+
+class Fault(Exception):
+    """A spreadsheet error raised inside a function; it becomes an ErrorValue."""
+
+    def __init__(self, code: str) -> None:
+        super().__init__(code)
+        self.code = code
+
+
+class _MissingArg:
+    """An empty argument (``LINEST(y, x, , TRUE)``): 0 for arithmetic, the default otherwise."""
+
+    def __repr__(self) -> str:
+        return "MISSING"
+
+
+MISSING = _MissingArg()
+
+
+@dataclass
+class RangeValue:
+    """A reference as a function argument sees it: the block and its cells' values."""
+
+    ref: Ref
+    values: np.ndarray  # 2-D object array; None for an empty cell
+    _numeric: _Numeric | None = None
+
+    def numeric(self) -> _Numeric:
+        if self._numeric is None:
+            self._numeric = _Numeric.of(self.values)
+        return self._numeric
+
+
+@dataclass(frozen=True)
+class _Numeric:
+    """The numbers of a block, flattened row by row, and its first error."""
+
+    values: np.ndarray  # float64, NaN where the cell is not a number
+    is_number: np.ndarray  # bool; logicals and text-numbers are not numbers here
+    error_at: int  # index of the first error value, or -1
+    error: ErrorValue | None
+
+    @staticmethod
+    def of(block: np.ndarray) -> _Numeric:
+        flat = block.ravel()
+        is_number = np.fromiter((type(v) is float for v in flat), dtype=bool, count=flat.size)
+        values = np.full(flat.size, np.nan)
+        values[is_number] = flat[is_number].astype(float)
+        is_error = np.fromiter((type(v) is ErrorValue for v in flat), dtype=bool, count=flat.size)
+        error_at = int(np.argmax(is_error)) if is_error.any() else -1
+        error = flat[error_at] if error_at >= 0 else None
+        return _Numeric(values, is_number, error_at, error)
+
+
+@dataclass(frozen=True)
+class _Ctx:
+    sheet: str
+    row: int | None = None  # the formula's own cell, for implicit intersection
+    col: int | None = None
+    array: bool = False  # inside an array formula (or SUMPRODUCT): operate element-wise
+
+
+# The signatures of the three kinds of function; auditor.evaluation.functions says what each
+# kind receives. Declared here so that every family module can name them without a cycle.
+
+ScalarFn = Callable[..., Any]
+RangedFn = Callable[["ExpressionEvaluator", list[Any], _Ctx], Any]
+LazyFn = Callable[["ExpressionEvaluator", tuple[Node, ...], _Ctx], Any]

@@ -1,0 +1,103 @@
+"""Formula text -> tokens, on top of openpyxl's tokenizer.
+
+openpyxl's :class:`~openpyxl.formula.tokenizer.Tokenizer` glues a range operator onto a function
+name (``A1:INDEX(``) and keeps whitespace; this module splits the one and keeps the other only
+where it is the intersection operator. The binding powers the parser uses live here too.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from openpyxl.formula.tokenizer import Tokenizer, TokenizerError
+
+from auditor.errors import FormulaError
+
+# Binding powers (left, right) of the infix operators; right = left + 1 makes them left-assoc.
+_INFIX = {
+    ",": (1, 2),
+    "=": (10, 11),
+    "<>": (10, 11),
+    "<": (10, 11),
+    "<=": (10, 11),
+    ">": (10, 11),
+    ">=": (10, 11),
+    "&": (20, 21),
+    "+": (30, 31),
+    "-": (30, 31),
+    "*": (40, 41),
+    "/": (40, 41),
+    "^": (50, 51),
+    " ": (80, 81),
+    ":": (90, 91),
+}
+_PERCENT_BP = 60
+_PREFIX_BP = 70
+_STORAGE_PREFIXES = ("_XLFN.", "_XLWS.", "_XLUDF.")
+
+
+@dataclass(frozen=True)
+class _Tok:
+    kind: str  # NUM TEXT BOOL ERR REF FUNC ( ) , ; { } PREFIX INFIX POSTFIX
+    value: str = ""
+
+
+def _split_outside_quotes(text: str, sep: str) -> list[str]:
+    parts, depth_quote, start = [], False, 0
+    for i, char in enumerate(text):
+        if char == "'":
+            depth_quote = not depth_quote  # '' inside a quoted name toggles twice: no effect
+        elif char == sep and not depth_quote:
+            parts.append(text[start:i])
+            start = i + 1
+    parts.append(text[start:])
+    return parts
+
+
+def _tokens(text: str) -> list[_Tok]:
+    try:
+        raw = Tokenizer(text).items
+    except (TokenizerError, IndexError, AssertionError, KeyError, ValueError) as exc:
+        # The tokenizer signals unbalanced text with several exception types.
+        raise FormulaError(f"cannot parse formula {text!r}: {exc}") from exc
+    out: list[_Tok] = []
+    for item in raw:
+        kind, sub, value = item.type, item.subtype, item.value
+        if kind == "OPERAND":
+            simple = {"NUMBER": "NUM", "TEXT": "TEXT", "LOGICAL": "BOOL", "ERROR": "ERR"}
+            out.append(_Tok(simple.get(sub, "REF"), value))
+        elif kind == "FUNC" and sub == "OPEN":
+            # The tokenizer glues a range operator onto a function: "A1:INDEX(" or ":(".
+            head, colon, name = value[:-1].rpartition(":")
+            if colon:
+                if head:
+                    out.append(_Tok("REF", head))
+                out.append(_Tok("INFIX", ":"))
+            out.append(_Tok("FUNC", name) if name else _Tok("("))
+        elif kind in ("FUNC", "PAREN"):
+            out.append(_Tok("(" if sub == "OPEN" else ")"))
+        elif kind == "ARRAY":
+            out.append(_Tok("{" if sub == "OPEN" else "}"))
+        elif kind == "SEP":
+            out.append(_Tok("," if sub == "ARG" else ";"))
+        elif kind == "OPERATOR-PREFIX":
+            out.append(_Tok("PREFIX", value))
+        elif kind == "OPERATOR-INFIX":
+            out.append(_Tok("INFIX", value))
+        elif kind == "OPERATOR-POSTFIX":
+            out.append(_Tok("POSTFIX", value))
+        elif kind == "WHITE-SPACE":
+            out.append(_Tok("WS", value))
+        else:
+            raise FormulaError(f"cannot parse formula {text!r}: unexpected token {value!r}")
+    # Whitespace matters only between two operands, where it is the intersection operator.
+    ends = {"NUM", "TEXT", "BOOL", "ERR", "REF", ")", "}", "POSTFIX"}
+    starts = {"REF", "FUNC", "("}
+    cleaned: list[_Tok] = []
+    for i, tok in enumerate(out):
+        if tok.kind != "WS":
+            cleaned.append(tok)
+        elif cleaned and cleaned[-1].kind in ends and i + 1 < len(out):
+            if out[i + 1].kind in starts:
+                cleaned.append(_Tok("INFIX", " "))
+    return cleaned

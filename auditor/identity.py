@@ -1,0 +1,257 @@
+"""The stable identity of a finding: what a baseline entry and a waiver refer to.
+
+A finding must keep its identity when rows are inserted above its block, when the block moves,
+or when the numbers change, and lose it when its formula is rewritten. Its key is
+
+    workbook path relative to the audited root │ sheet │ check id │ anchor
+
+where the anchor is, by what the finding's first cell is:
+
+    a reported statistic with a formula   statistic key + the formula in relative R1C1 form
+    a typed reported statistic            statistic key + "constant"
+    another cell of a regression          its offset from the regression's anchor statistic,
+                                          + that statistic's key and R1C1 formula
+    a workbook-level finding              the cell as written (nothing steadier is known)
+
+Relative R1C1 is what makes a formula independent of where it sits: ``=E4/E10`` in E11 and
+``=E14/E20`` in E21 are both ``=R[-7]C/R[-1]C``. That is also why two blocks copied side by side
+can give equal keys; equal keys in one workbook are numbered in document order (``#2``, ``#3``).
+The identity shown to users is the first 16 hex digits of the key's SHA-256: short enough to
+copy into ``regaudit waive --identity``, 64 bits against accidental collisions.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import re
+from collections.abc import Iterable
+from pathlib import Path
+
+from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
+from openpyxl.utils.cell import column_index_from_string
+
+from auditor.model import AuditResult, Finding, RegressionResult, ReportedValue, stat_base
+
+IDENTITY_DIGITS = 16
+SEPARATOR = "\x1f"  # the ASCII unit separator: cannot occur in a path, sheet name or check id
+MAX_ROW = 1_048_576  # the xlsx grid; anything beyond is a defined name, not a cell
+MAX_COLUMN = 16_384
+
+_BOOKS = (".xlsx", ".xlsm")
+_CELL = re.compile(r"^(\$?)([A-Za-z]{1,3})(\$?)([0-9]+)$")
+_COLUMNS = re.compile(r"^(\$?)([A-Za-z]{1,3}):(\$?)([A-Za-z]{1,3})$")
+_ROWS = re.compile(r"^(\$?)([0-9]+):(\$?)([0-9]+)$")
+# Statistics tried in turn as the anchor of a regression's other cells: the slope first, since
+# every regression reports it and its formula names both data ranges.
+_ANCHOR_ORDER = ("slope", "intercept", "residual_sd", "r_squared", "se_slope", "t_slope")
+
+
+def audit_root(inputs: Iterable[str | Path]) -> Path:
+    """The folder identities are relative to: the common folder of the inputs.
+
+    A folder input counts as itself and a file as its parent, so ``audit book.xlsx`` and
+    ``audit .`` in the same folder give the same identities; an input that no longer exists
+    counts as a file when its name ends in .xlsx or .xlsm. Paths are made absolute without
+    resolving symbolic links, so a linked workbook keeps the path under which it was found.
+    """
+    folders = []
+    for raw in inputs:
+        path = Path(os.path.abspath(raw))
+        # An input that is gone (a result read back later) is judged by its name.
+        is_file = path.is_file() or (not path.exists() and path.suffix.lower() in _BOOKS)
+        folders.append(path.parent if is_file else path)
+    if not folders:
+        return Path(os.path.abspath(os.curdir))
+    try:
+        return Path(os.path.commonpath(folders))
+    except ValueError:  # inputs on two Windows drives share no folder: keep full paths
+        return Path(os.path.abspath(os.curdir))
+
+
+def relative_workbook_path(path: str | Path, root: Path) -> str:
+    """The workbook's path below ``root`` with forward slashes (the same on every system)."""
+    absolute = Path(os.path.abspath(path))
+    try:
+        return absolute.relative_to(root).as_posix()
+    except ValueError:
+        return absolute.as_posix()  # outside the root (cannot happen for collected inputs)
+
+
+def split_cell(reference: str) -> tuple[str, str]:
+    """'My Sheet!B4:B9' -> ('My Sheet', 'B4:B9'); a sheet name may itself hold '!'."""
+    sheet, bang, address = reference.rpartition("!")
+    return (sheet, address) if bang else ("", reference)
+
+
+def _position(address: str) -> tuple[int, int] | None:
+    """'E11' or '$E$11' -> (11, 5); None for anything that is not one cell."""
+    match = _CELL.match(address)
+    if match is None:
+        return None
+    row, column = int(match.group(4)), _column(match.group(2))
+    if not (1 <= row <= MAX_ROW and 1 <= column <= MAX_COLUMN):
+        return None
+    return row, column
+
+
+def _column(letters: str) -> int:
+    return column_index_from_string(letters.upper())
+
+
+def _part(letter: str, absolute: bool, value: int, origin: int) -> str:
+    if absolute:
+        return f"{letter}{value}"
+    offset = value - origin
+    return letter if offset == 0 else f"{letter}[{offset}]"
+
+
+def _cell_r1c1(address: str, origin: tuple[int, int]) -> str | None:
+    match = _CELL.match(address)
+    position = _position(address)
+    if match is None or position is None:
+        return None
+    row_part = _part("R", bool(match.group(3)), position[0], origin[0])
+    return row_part + _part("C", bool(match.group(1)), position[1], origin[1])
+
+
+def reference_r1c1(reference: str, origin: tuple[int, int]) -> str | None:
+    """One A1 reference (cell, range, whole columns or rows) in R1C1 relative to ``origin``.
+
+    None when ``reference`` is not an A1 reference (a defined name, a table reference).
+    """
+    corners = reference.split(":")
+    whole: list[str] | None = None
+    if len(corners) == 2 and (columns := _COLUMNS.match(reference)):
+        # Whole columns carry no row: they are relative to the origin's column only.
+        whole = [
+            _part("C", bool(columns.group(i)), _column(columns.group(i + 1)), origin[1])
+            for i in (1, 3)
+        ]
+    elif len(corners) == 2 and (rows := _ROWS.match(reference)):
+        whole = [_part("R", bool(rows.group(i)), int(rows.group(i + 1)), origin[0]) for i in (1, 3)]
+    if whole is not None:
+        # One whole column or row is written once, as the spreadsheet's R1C1 view does (C[-2]).
+        return whole[0] if whole[0] == whole[1] else ":".join(whole)
+    converted = [_cell_r1c1(corner, origin) for corner in corners]
+    if len(converted) > 2 or any(part is None for part in converted):
+        return None
+    return ":".join(part for part in converted if part is not None)
+
+
+def formula_r1c1(formula: str, cell: str) -> str:
+    """``=SLOPE(B4:B13,A4:A13)`` in E4 -> ``=SLOPE(RC[-3]:R[9]C[-3],RC[-4]:R[9]C[-4])``.
+
+    Whitespace outside text is dropped, so re-spacing a formula does not change its identity.
+    A formula the tokenizer cannot read is kept as written: its identity then depends on its
+    place, which is the best that can be said of it.
+    """
+    origin = _position(split_cell(cell)[1].replace("$", ""))
+    text = formula if formula.startswith("=") else "=" + formula
+    if origin is None:
+        return text
+    try:
+        tokens = Tokenizer(text).items
+    except TokenizerError:
+        return text
+    pieces: list[str] = []
+    for token in tokens:
+        if token.type == Token.WSPACE:
+            continue
+        if token.type == Token.OPERAND and token.subtype == Token.RANGE:
+            prefix, bang, reference = token.value.rpartition("!")
+            converted = reference_r1c1(reference, origin)
+            pieces.append(token.value if converted is None else prefix + bang + converted)
+        else:
+            pieces.append(token.value)
+    return "=" + "".join(pieces)
+
+
+def _offset(cell: str, anchor: str) -> str:
+    """The place of ``cell`` (a cell or a range) relative to the cell ``anchor``, in R1C1."""
+    origin = _position(split_cell(anchor)[1])
+    address = split_cell(cell)[1]
+    converted = reference_r1c1(address, origin) if origin else None
+    return converted if converted is not None else address
+
+
+def _reported_by_cell(regression: RegressionResult | None) -> dict[str, tuple[str, ReportedValue]]:
+    if regression is None:
+        return {}
+    return {value.cell: (key, value) for key, value in regression.reported.items()}
+
+
+def _statistic_anchor(key: str, value: ReportedValue) -> str:
+    if value.formula:
+        return f"{stat_base(key)}:{formula_r1c1(value.formula, value.cell)}"
+    return f"{stat_base(key)}:constant"
+
+
+def _regression_anchor(regression: RegressionResult) -> tuple[str, ReportedValue] | None:
+    """The reported statistic other cells of the regression are placed against."""
+    for key in _ANCHOR_ORDER:
+        if key in regression.reported:
+            return key, regression.reported[key]
+    for key, value in regression.reported.items():
+        return key, value
+    return None
+
+
+def finding_key(finding: Finding, workbook: str, regression: RegressionResult | None) -> str:
+    """The readable identity key of one finding (see the module docstring); no occurrence."""
+    first = finding.cells[0] if finding.cells else ""
+    sheet = split_cell(first)[0] if first else (regression.sheet if regression else "")
+    reported = _reported_by_cell(regression)
+    if first in reported:
+        key, value = reported[first]
+        anchor = _statistic_anchor(key, value)
+    elif regression is not None and (found := _regression_anchor(regression)) is not None:
+        key, value = found
+        place = _offset(first, value.cell) if first else "-"
+        anchor = f"at {place} of {_statistic_anchor(key, value)}"
+    else:
+        # Workbook-level findings (or a regression without reported cells): only the address.
+        anchor = f"cell:{split_cell(first)[1]}" if first else "workbook"
+    return SEPARATOR.join((workbook, sheet, finding.check, anchor))
+
+
+def digest(key: str) -> str:
+    return hashlib.sha256(key.encode("utf-8")).hexdigest()[:IDENTITY_DIGITS]
+
+
+def workbook_keys(
+    findings: Iterable[tuple[Finding, RegressionResult | None]], workbook: str
+) -> list[tuple[Finding, str]]:
+    """Keys of one workbook's findings in document order, repeated keys numbered ``#2``…"""
+    seen: dict[str, int] = {}
+    keyed: list[tuple[Finding, str]] = []
+    for finding, regression in findings:
+        key = finding_key(finding, workbook, regression)
+        seen[key] = seen.get(key, 0) + 1
+        keyed.append((finding, key if seen[key] == 1 else f"{key}#{seen[key]}"))
+    return keyed
+
+
+def identity_keys(result: AuditResult, root: Path | None = None) -> list[tuple[Finding, str]]:
+    """Every finding of ``result`` with its readable key; ``root`` defaults to the inputs'."""
+    base = root if root is not None else audit_root(result.inputs or [os.curdir])
+    keyed: list[tuple[Finding, str]] = []
+    for workbook in result.workbooks:
+        in_order: list[tuple[Finding, RegressionResult | None]] = [
+            (f, None) for f in workbook.findings
+        ]
+        in_order += [(f, r) for r in workbook.regressions for f in r.findings]
+        keyed += workbook_keys(in_order, relative_workbook_path(workbook.path, base))
+    return keyed
+
+
+def assign_identities(result: AuditResult, root: Path | None = None) -> AuditResult:
+    """Set ``Finding.identity`` on every finding of ``result`` (in place); return ``result``."""
+    for finding, key in identity_keys(result, root):
+        finding.identity = digest(key)
+    return result
+
+
+def readable(key: str) -> str:
+    """A key for people: the separator shown as ' | '."""
+    return key.replace(SEPARATOR, " | ")

@@ -1,0 +1,237 @@
+"""Layout helpers of audit.xlsx: fitted column widths, tables, links and detail-sheet names.
+
+XlsxWriter cannot measure text, so ``SheetWriter`` remembers the longest value written into each
+column and sets widths from that at the end ("widths that fit" without a spreadsheet engine).
+Links to the source workbooks are HYPERLINK formulas rather than XlsxWriter's ``external:`` URLs:
+XlsxWriter rewrites those into Windows paths, which breaks absolute POSIX paths.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from xlsxwriter.worksheet import Worksheet
+
+from auditor.model import AuditResult, RegressionResult, WorkbookResult
+from auditor.report.common import finite_or_none, is_number, stat_order
+from auditor.report.xlsx_style import Styles, put, shown_number
+
+SHEET_NAME_LIMIT = 31  # Excel's limit on a sheet name
+FORBIDDEN_IN_SHEET_NAMES = re.compile(r"[\[\]:*?/\\]")
+HYPERLINK_LIMIT = 255  # Excel refuses a longer link location in HYPERLINK()
+NUMBER_DISPLAY = 11  # "General" shows about this many characters of a long number
+FILTER_BUTTON = 3  # characters a table header needs for its filter arrow
+DEFAULT_WIDTH = 8.43  # Excel's default column width, in characters
+LINE_HEIGHT = 15  # points per line of 11-point text
+
+
+@dataclass(frozen=True)
+class DetailRef:
+    """One regression and the name of its detail sheet."""
+
+    workbook: WorkbookResult
+    regression: RegressionResult
+    sheet: str
+
+
+def detail_sheet_name(index: int, width: int, regression_id: str) -> str:
+    """'R07 Stability 25C E5': a running number (unique, stable) and the id (readable)."""
+    cleaned = FORBIDDEN_IN_SHEET_NAMES.sub(" ", regression_id)
+    cleaned = " ".join(cleaned.replace("'", "").split())
+    return f"R{index:0{width}d} {cleaned}"[:SHEET_NAME_LIMIT].rstrip()
+
+
+def detail_refs(result: AuditResult) -> list[DetailRef]:
+    """Every regression in reading order, each with its detail sheet's name."""
+    pairs = [(w, r) for w in result.workbooks for r in w.regressions]
+    width = max(2, len(str(len(pairs))))
+    return [
+        DetailRef(workbook, regression, detail_sheet_name(index, width, regression.id))
+        for index, (workbook, regression) in enumerate(pairs, start=1)
+    ]
+
+
+def quote_sheet(name: str) -> str:
+    return "'" + name.replace("'", "''") + "'"
+
+
+def internal_link(sheet: str, cell: str = "A1") -> str:
+    return f"internal:{quote_sheet(sheet)}!{cell}"
+
+
+def split_cell(cell: str) -> tuple[str, str]:
+    """'My Sheet!E5' -> ('My Sheet', 'E5'); the sheet's own name, unquoted (the JSON contract)."""
+    sheet, _, address = cell.rpartition("!")
+    return sheet.strip("'"), address.replace("$", "")
+
+
+def source_link(path: str, cell: str) -> str | None:
+    """The HYPERLINK target of a cell in a source workbook, or None when Excel cannot hold it."""
+    sheet, address = split_cell(cell)
+    if not sheet or not address:
+        return None
+    first = address.split(":", 1)[0]
+    target = f"{Path(path).resolve().as_uri()}#{quote_sheet(sheet)}!{first}"
+    return target if len(target) <= HYPERLINK_LIMIT else None
+
+
+def hyperlink_formula(target: str, text: str) -> str:
+    def quoted(value: str) -> str:
+        return '"' + value.replace('"', '""') + '"'
+
+    return f"=HYPERLINK({quoted(target)},{quoted(text)})"
+
+
+def anchor_cell(regression: RegressionResult) -> str:
+    """The cell a reviewer should land on: the reported slope, else the first reported value."""
+    if regression.reported:
+        for key in ("slope", "slope[1]"):
+            if key in regression.reported:
+                return regression.reported[key].cell
+        first = min(regression.reported, key=stat_order)
+        return regression.reported[first].cell
+    return regression.x_range
+
+
+def display_length(value: Any) -> int:
+    value = finite_or_none(value)
+    if value is None:
+        return 0
+    if is_number(value) and not isinstance(value, bool):
+        return min(len(f"{value:.10g}"), NUMBER_DISPLAY)
+    return max((len(line) for line in str(value).splitlines()), default=0)
+
+
+class SheetWriter:
+    """Writes cells and remembers how wide each column and how tall each row needs to be.
+
+    Neither Excel's nor LibreOffice's row heights can be trusted to follow wrapped text in a
+    file written by a script (LibreOffice keeps the default height), so rows holding wrapped
+    text get an explicit height estimated from the final column widths.
+    """
+
+    def __init__(self, sheet: Worksheet, styles: Styles) -> None:
+        self.sheet = sheet
+        self.styles = styles
+        self.widths: dict[int, int] = {}
+        self.wrapped: list[tuple[int, int, int, str]] = []  # row, first col, last col, text
+
+    def fit(self, col: int, length: int) -> None:
+        self.widths[col] = max(self.widths.get(col, 0), length)
+
+    def put(
+        self,
+        row: int,
+        col: int,
+        value: Any,
+        cell_format: Any = None,
+        fit: bool = True,
+        wrap: bool = False,
+    ) -> None:
+        put(self.sheet, row, col, value, cell_format)
+        if wrap and value:
+            self.wrapped.append((row, col, col, str(value)))
+        elif fit:
+            self.fit(col, display_length(value))
+
+    def num(self, row: int, col: int, value: Any, kind: str = "plain") -> None:
+        """A computed number, shown to six significant digits (the cell keeps every digit)."""
+        value = finite_or_none(value)
+        if not is_number(value) or isinstance(value, bool):
+            self.put(row, col, value, self.styles.top)
+            return
+        self.sheet.write_number(row, col, value, self.styles.numeric(float(value), kind))
+        self.fit(col, len(shown_number(float(value))))
+
+    def merge(self, row: int, first: int, last: int, text: str, cell_format: Any) -> None:
+        self.sheet.merge_range(row, first, row, last, text, cell_format)
+        self.wrapped.append((row, first, last, text))
+
+    def header(self, row: int, col: int, text: str, filtered: bool = False) -> None:
+        """A header cell; it wraps, so only its longest word must fit."""
+        put(self.sheet, row, col, text, self.styles.header)
+        longest = max((len(word) for word in text.split()), default=0)
+        self.fit(col, longest + (FILTER_BUTTON if filtered else 0))
+        self.wrapped.append((row, col, col, text + " " * (FILTER_BUTTON if filtered else 0)))
+
+    def link(self, row: int, col: int, url: str, text: str, fit: bool = True) -> None:
+        self.sheet.write_url(row, col, url, self.styles.link, string=text)
+        if fit:
+            self.fit(col, len(text))
+
+    def source(self, row: int, col: int, path: str, cell: str, text: str = "") -> None:
+        """A link into a source workbook, or plain text when no link can be made."""
+        text = text or cell
+        target = source_link(path, cell)
+        if target is None:
+            self.put(row, col, text, self.styles.top)
+            return
+        self.sheet.write_formula(row, col, hyperlink_formula(target, text), self.styles.link, text)
+        self.fit(col, len(text))
+
+    def apply_widths(
+        self, minimum: int = 6, maximum: int = 50, fixed: dict[int, float] | None = None
+    ) -> dict[int, float]:
+        """Set every column's width and the height of rows with wrapped text; return the widths."""
+        fixed = fixed or {}
+        widths: dict[int, float] = {}
+        for col in sorted(set(self.widths) | set(fixed)):
+            if col in fixed:
+                widths[col] = fixed[col]
+            else:
+                widths[col] = min(max(self.widths[col] + 2, minimum), maximum)
+            self.sheet.set_column(col, col, widths[col])
+        lines: dict[int, int] = {}
+        for row, first, last, text in self.wrapped:
+            width = sum(widths.get(col, DEFAULT_WIDTH) for col in range(first, last + 1))
+            lines[row] = max(lines.get(row, 1), text_lines(text, width))
+        for row in sorted(lines):
+            if lines[row] > 1:
+                self.sheet.set_row(row, LINE_HEIGHT * lines[row])
+        return widths
+
+
+def add_table(sheet: Worksheet, name: str, headers: list[str], rows: int, styles: Styles) -> None:
+    """An Excel table over the header and ``rows`` data rows, with filters and a frozen header."""
+    last_row = max(rows, 1)  # a table needs one data row; an empty result gets a blank one
+    columns = [{"header": header, "header_format": styles.header} for header in headers]
+    sheet.add_table(
+        0,
+        0,
+        last_row,
+        len(headers) - 1,
+        {"name": name, "columns": columns, "style": "Table Style Light 1", "autofilter": True},
+    )
+    sheet.freeze_panes(1, 0)
+
+
+def text_lines(text: str, width: float) -> int:
+    """How many lines ``text`` wraps to in a column ``width`` characters wide (an estimate)."""
+    usable = max(int(width) - 1, 1)
+    total = 0
+    for paragraph in text.splitlines() or [""]:
+        # Word wrap: a word that does not fit on the line starts the next one.
+        count, filled = 1, 0
+        for word in paragraph.split():
+            needed = len(word) if filled == 0 else filled + 1 + len(word)
+            if needed <= usable or filled == 0:
+                filled = needed
+            else:
+                count, filled = count + 1, len(word)
+            while filled > usable:  # a word longer than a line breaks anywhere
+                count, filled = count + 1, filled - usable
+        total += count
+    return total
+
+
+def print_setup(sheet: Worksheet, title: str) -> None:
+    """Landscape, one page wide, the sheet's name and page numbers: ready to print and sign."""
+    sheet.set_landscape()
+    sheet.set_paper(9)  # A4
+    sheet.fit_to_pages(1, 0)
+    sheet.set_margins(left=0.5, right=0.5, top=0.7, bottom=0.7)
+    sheet.set_header(f"&L&8regaudit audit&R&8{title.replace('&', '&&')}")
+    sheet.set_footer("&R&8page &P of &N")
