@@ -139,7 +139,8 @@ def parse_baseline(text: str, origin: str) -> Baseline:
     entries = data.get("entries")
     if not isinstance(entries, list):
         raise UsageError(f"baseline {origin!r} has no list of 'entries'")
-    tool = data.get("tool") if isinstance(data.get("tool"), dict) else {}
+    tool = data.get("tool")
+    tool = tool if isinstance(tool, dict) else {}
     return Baseline(
         [_entry(raw, f"baseline {origin!r}: entry {n}") for n, raw in enumerate(entries, 1)],
         version=str(tool.get("version", "")),
@@ -192,15 +193,23 @@ def apply_baseline(
     )
 
 
-def describe_outcome(outcome: BaselineOutcome) -> list[str]:
-    """Lines for the terminal: how many findings the baseline hid, which ones are gone."""
+def describe_outcome(outcome: BaselineOutcome, limit: int = 20) -> list[str]:
+    """Lines for the terminal: how many findings the baseline hid, which ones are gone.
+
+    At most ``limit`` entries are listed one by one; a large share lists the rest as a count.
+    """
     lines = [
         f"baseline: {outcome.known} known finding(s) left out, "
         f"{len(outcome.fixed)} no longer occur, {len(outcome.unchecked)} not checked this run"
     ]
-    for entry in outcome.fixed:
-        cells = ", ".join(entry.cells) or "(workbook)"
-        lines.append(f"  fixed: {entry.workbook} {cells} {entry.check} [{entry.identity}]")
-    for entry in outcome.unchecked:
-        lines.append(f"  not checked (workbook not audited): {entry.workbook} [{entry.identity}]")
-    return lines
+    listed = [
+        f"  fixed: {e.workbook} {', '.join(e.cells) or '(workbook)'} {e.check} [{e.identity}]"
+        for e in outcome.fixed
+    ]
+    listed += [
+        f"  not checked (workbook not audited): {e.workbook} [{e.identity}]"
+        for e in outcome.unchecked
+    ]
+    if len(listed) > limit:
+        listed = [*listed[:limit], f"  … and {len(listed) - limit} more"]
+    return lines + listed

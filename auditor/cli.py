@@ -11,99 +11,26 @@ import os
 import shutil
 import sys
 import time
-import tomllib
-from datetime import UTC, datetime
 from importlib import resources
 from pathlib import Path
-from typing import Any
 
 from tabulate import tabulate
 
 from auditor import __version__
+from auditor.cli_review import add_review_parsers, cluster_options
 from auditor.errors import PolicyError, RegauditError, UsageError
 from auditor.model import SEVERITIES, SEVERITY_RANK, AuditResult
+from auditor.runner import FORMATS, run_audit
 
 FAIL_CHOICES = ("critical", "major", "minor", "info", "never")
-FORMATS = ("json", "text", "xlsx")
+FORMAT_CHOICES = (*FORMATS, "sarif")  # audit.sarif only when asked for
 
 EPILOG = """exit codes:
   0  no finding at or above --fail-on (default: critical)
   1  at least one finding at or above --fail-on
   2  a usage error, or none of the inputs could be read
+waived findings (regaudit-waivers.toml) and findings in --baseline never give exit 1
 """
-
-
-def _timestamp(option: str | None) -> str:
-    if option:
-        return option
-    epoch = os.environ.get("SOURCE_DATE_EPOCH")
-    if epoch:
-        try:
-            return datetime.fromtimestamp(int(epoch), tz=UTC).isoformat(timespec="seconds")
-        except ValueError as exc:
-            raise UsageError(
-                f"SOURCE_DATE_EPOCH={epoch!r} is not a whole number of seconds"
-            ) from exc
-    return datetime.now(tz=UTC).isoformat(timespec="seconds")
-
-
-def _load_bindings(path: str | None) -> list[dict[str, Any]] | None:
-    if path is None:
-        return None
-    try:
-        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
-    except FileNotFoundError as exc:
-        raise UsageError(f"bindings file {path!r} does not exist") from exc
-    except tomllib.TOMLDecodeError as exc:
-        raise UsageError(f"bindings file {path!r} is not valid TOML: {exc}") from exc
-    entries = data.get("regression", [])
-    if not isinstance(entries, list) or not entries:
-        raise UsageError(f"bindings file {path!r} needs one or more [[regression]] tables")
-    for index, entry in enumerate(entries, start=1):
-        missing = [key for key in ("x", "y") if key not in entry]
-        if missing:
-            raise UsageError(
-                f"bindings file {path!r}: [[regression]] number {index} lacks {', '.join(missing)}"
-                ' (give ranges such as x = "Data!A2:A21")'
-            )
-    return list(entries)
-
-
-def run_audit(
-    inputs: list[str],
-    out_dir: Path,
-    policy_name: str = "general",
-    jobs: int = 1,
-    formats: tuple[str, ...] = FORMATS,
-    bindings_file: str | None = None,
-    timestamp: str | None = None,
-) -> AuditResult:
-    from auditor.audit import audit_batch, collect_inputs
-    from auditor.policy import load_policy
-    from auditor.report import write_reports
-    from auditor.workbook import assert_safe_xml
-
-    assert_safe_xml()
-    policy = load_policy(policy_name)
-    bindings = _load_bindings(bindings_file)
-    missing = [p for p in inputs if not Path(p).exists()]
-    if missing:
-        raise UsageError(f"no such file or folder: {', '.join(repr(m) for m in missing)}")
-    paths = collect_inputs(inputs)
-    if not paths:
-        raise UsageError(
-            f"no .xlsx or .xlsm workbooks found in {', '.join(repr(p) for p in inputs)}"
-        )
-    workbooks = audit_batch(paths, policy, bindings, jobs=jobs)
-    result = AuditResult(
-        version=__version__,
-        policy=policy.name,
-        workbooks=workbooks,
-        generated=_timestamp(timestamp),
-        inputs=[str(p) for p in inputs],
-    )
-    write_reports(result, out_dir, list(formats), input_paths=[Path(p) for p in paths])
-    return result
 
 
 def _print_outcome(result: AuditResult, out_dir: Path, formats: tuple[str, ...]) -> None:
@@ -116,25 +43,37 @@ def _print_outcome(result: AuditResult, out_dir: Path, formats: tuple[str, ...])
         f"audited {totals['workbooks']} workbook(s): {totals['regressions']} regression(s); "
         f"findings: {severities}"
     )
-    names = {"json": "audit.json", "text": "summary.txt", "xlsx": "audit.xlsx"}
+    names = {
+        "json": "audit.json",
+        "text": "summary.txt",
+        "xlsx": "audit.xlsx",
+        "sarif": "audit.sarif",
+    }
     for fmt in formats:
         print(f"  wrote {out_dir / names[fmt]}")
 
 
 def exit_code(result: AuditResult, fail_on: str) -> int:
+    from auditor.waivers import counts_for_gate
+
     if not any(w.status != "unreadable" for w in result.workbooks):
         return 2
     if fail_on == "never":
         return 0
     limit = SEVERITY_RANK[fail_on]
-    return 1 if any(SEVERITY_RANK[f.severity] <= limit for f in result.all_findings()) else 0
+    failing = [
+        f
+        for f in result.all_findings()
+        if SEVERITY_RANK[f.severity] <= limit and counts_for_gate(f)
+    ]
+    return 1 if failing else 0
 
 
 def cmd_audit(args: argparse.Namespace) -> int:
     formats = tuple(args.format.split(",")) if args.format else FORMATS
-    bad = [f for f in formats if f not in FORMATS]
+    bad = [f for f in formats if f not in FORMAT_CHOICES]
     if bad:
-        raise UsageError(f"unknown format {bad[0]!r}; choose from {', '.join(FORMATS)}")
+        raise UsageError(f"unknown format {bad[0]!r}; choose from {', '.join(FORMAT_CHOICES)}")
     started = time.perf_counter()
     result = run_audit(
         args.paths,
@@ -144,6 +83,10 @@ def cmd_audit(args: argparse.Namespace) -> int:
         formats=formats,
         bindings_file=args.bindings,
         timestamp=args.timestamp,
+        cluster=args.cluster,
+        ship_bytes=args.ship_bytes,
+        waivers_file=args.waivers,
+        baseline_file=args.baseline,
     )
     _print_outcome(result, Path(args.out), formats)
     print(f"  in {time.perf_counter() - started:.1f} s")
@@ -216,7 +159,7 @@ def build_parser() -> argparse.ArgumentParser:
         "--format",
         default=None,
         metavar="LIST",
-        help="comma-separated outputs among json,text,xlsx (default: all)",
+        help="comma-separated outputs among json,text,xlsx,sarif (default: json,text,xlsx)",
     )
     audit.add_argument(
         "--bindings",
@@ -225,7 +168,23 @@ def build_parser() -> argparse.ArgumentParser:
         help="TOML file mapping the cells of a workbook template",
     )
     audit.add_argument("--timestamp", default=None, help="date shown in reports (reproducible)")
+    audit.add_argument(
+        "--baseline",
+        default=None,
+        metavar="FILE",
+        help="report only findings not recorded in FILE (from 'regaudit baseline create'), "
+        "and list recorded ones that no longer occur",
+    )
+    audit.add_argument(
+        "--waivers",
+        default=None,
+        metavar="FILE",
+        help="accepted findings (default: regaudit-waivers.toml in the audited folder, if any)",
+    )
+    cluster_options(audit)
     audit.set_defaults(handler=cmd_audit)
+
+    add_review_parsers(sub, cores)
 
     rules = sub.add_parser("rules", help="list the checks and the policy's thresholds")
     rules.add_argument("--policy", default="general")

@@ -16,6 +16,7 @@ workbooks does not hold every file's bytes in the client's memory. Dask is an op
 
 from __future__ import annotations
 
+import logging
 import os
 import sys
 import tempfile
@@ -32,7 +33,7 @@ from auditor.model import WorkbookResult
 from auditor.policy import Policy
 
 INSTALL_HINT = "pip install 'regaudit[cluster]'"
-CONNECT_SECONDS = 30  # to reach the scheduler; a wrong address should fail fast, not hang
+CONNECT_SECONDS = 20  # to reach the scheduler; a wrong address should fail fast, not hang
 WORKER_WAIT_SECONDS = 60  # for the first worker to join a scheduler that has none yet
 TASKS_PER_THREAD = 4  # enough to keep workers busy between two round trips
 
@@ -84,8 +85,6 @@ def connect(target: ClusterTarget) -> Iterator[Any]:
     """A ``distributed.Client`` for ``target`` with at least one worker; closed afterwards."""
     distributed = _distributed()
     if target.local_workers:
-        import logging
-
         with (
             distributed.LocalCluster(
                 n_workers=target.local_workers,
@@ -182,12 +181,11 @@ def audit_shipped_bytes(content: bytes, shown: str, settings: _Settings) -> Work
         return _audit(copy, shown, settings)
 
 
-def _read_for_shipping(path: Path) -> bytes | WorkbookResult:
+def _readable_bytes(path: Path) -> bytes | None:
     try:
         return path.read_bytes()  # read only; the input file is never changed
-    except OSError as exc:
-        reason = exc.strerror or type(exc).__name__
-        return WorkbookResult(str(path), "", "unreadable", error=f"{path} cannot be read: {reason}")
+    except OSError:
+        return None
 
 
 def _lost(shown: str, exc: BaseException) -> WorkbookResult:
@@ -214,22 +212,24 @@ def audit_on_cluster(
         return []
     with connect(target) as client:
         check_workers(client)
-        settings = client.scatter(_Settings(policy, bindings), broadcast=True)
+        local_settings = _Settings(policy, bindings)
+        settings = client.scatter(local_settings, broadcast=True)
         threads = sum(client.nthreads().values()) or 1
         window = max(2, TASKS_PER_THREAD * threads)
         results: dict[int, WorkbookResult] = {}
         keys: dict[str, tuple[int, str]] = {}
-        pending = iter(enumerate(paths))
+        pending = iter(enumerate(Path(p) for p in paths))
         running = distributed.as_completed()
 
         def submit_next() -> bool:
             for index, path in pending:
                 shown = str(path)
-                if ship_bytes:
-                    content = _read_for_shipping(path)
-                    if isinstance(content, WorkbookResult):
-                        results[index] = content
-                        continue
+                content = _readable_bytes(path) if ship_bytes else None
+                if not path.is_file() or (ship_bytes and content is None):
+                    # The client cannot read it either: audit it here, in the local run's words.
+                    results[index] = _audit(path, shown, local_settings)
+                    continue
+                if content is not None:
                     # Scattered rather than put into the task itself, which Dask warns
                     # against for large objects and would keep in the scheduler's graph.
                     data = client.scatter(content, hash=False)

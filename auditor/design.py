@@ -206,7 +206,8 @@ def _fill_simple(
         default = relative_slope_that_matters(x, y, policy.find("relevant_elasticity") or 0.0)
         if default is not None:
             metrics.slope_that_matters = default
-            metrics.slope_that_matters_source = "relative default"
+            elasticity = policy.find("relevant_elasticity")
+            metrics.slope_that_matters_source = f"the relative default {elasticity:g}·|ȳ|/|x̄|"
 
 
 def _fill_inputs(metrics: DesignMetrics, inputs: DesignInputs | None, policy: Policy) -> None:
@@ -219,9 +220,7 @@ def _fill_inputs(metrics: DesignMetrics, inputs: DesignInputs | None, policy: Po
         low, high = metrics.x_min or 0.0, metrics.x_max or 0.0
         margin = (policy.find("extrapolation_tolerance") or 0.0) * (high - low)
         slack = margin + 1e-12 * max(abs(low), abs(high), high - low)
-        metrics.outside = [
-            p for p in inputs.predictions if p.x < low - slack or p.x > high + slack
-        ]
+        metrics.outside = [p for p in inputs.predictions if p.x < low - slack or p.x > high + slack]
         metrics.working_range = inputs.working_range
         metrics.working_range_cell = inputs.working_range_cell
     target = metrics.slope_that_matters

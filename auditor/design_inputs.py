@@ -27,7 +27,7 @@ from auditor.errors import FormulaError
 from auditor.evaluate import Evaluator, Fault, Unsupported
 from auditor.formula import Binary, Call, Node, Ref, RefNode, parse, walk
 from auditor.locate import RegressionSpec
-from auditor.workbook import Cell, Workbook
+from auditor.workbook import Cell, Workbook, column_letter
 
 WINDOW_ROWS = (6, 14)  # rows above the result block, rows below it
 WINDOW_COLS = (6, 8)
@@ -39,7 +39,9 @@ _MATTERS = re.compile(
     r"relevant\s+slope",
     re.I,
 )
-_WORKING_RANGE = re.compile(r"(working|calibrat\w*|reporting|measuring)\s+range|range\s+of\s+use", re.I)
+_WORKING_RANGE = re.compile(
+    r"(working|calibrat\w*|reporting|measuring)\s+range|range\s+of\s+use", re.I
+)
 _RANGE_TEXT = re.compile(r"^\s*(-?[\d.,]+)\s*(?:-|–|—|to|\.\.)\s*(-?[\d.,]+)")
 
 
@@ -178,9 +180,9 @@ class DesignInputReader:
         if second is None:
             return None
         high = self.evaluator.cell_value(second.sheet, second.row, second.col)
-        if all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in (low, high)):
-            a, b = float(low), float(high)  # type: ignore[arg-type]
-            return (min(a, b), max(a, b)), first.address
+        ends = _numbers(np.array([low, high], dtype=object))
+        if len(ends) == 2 and not any(isinstance(v, bool) for v in (low, high)):
+            return (min(ends), max(ends)), first.address
         return None
 
     # -- predictions --------------------------------------------------------------------------
@@ -246,8 +248,6 @@ def _key(cell: Cell) -> tuple[str, int, int]:
 
 
 def _coord(row: int, col: int) -> str:
-    from auditor.workbook import column_letter
-
     return f"{column_letter(col)}{row}"
 
 

@@ -95,9 +95,10 @@ def drop_one(
     b1 = float(fit.slopes[0])
     significant = full_p < alpha
     crossing = [i for i in range(x.size) if finite_p[i] and (p[i] < alpha) != significant]
-    crossing_row = crossing_p = None
+    crossing_row: int | None = None
+    crossing_p: float | None = None
     if crossing:
-        pick = max(crossing, key=lambda i: abs(math.log10(max(p[i], 1e-300) / alpha)))
+        pick = max(crossing, key=lambda i: abs(math.log10(max(float(p[i]), 1e-300) / alpha)))
         crossing_row, crossing_p = rows[pick], float(p[pick])
     flips = [i for i in range(x.size) if finite_b[i] and slope[i] * b1 < 0.0]
     flip_row = rows[max(flips, key=lambda i: abs(slope[i]))] if flips else None

@@ -5,13 +5,17 @@ or when the numbers change, and lose it when its formula is rewritten. Its key i
 
     workbook path relative to the audited root │ sheet │ check id │ anchor
 
-where the anchor is, by what the finding's first cell is:
+where the anchor is the first of these that applies to the finding's first cell:
 
     a reported statistic with a formula   statistic key + the formula in relative R1C1 form
+    (of any regression of the workbook)
     a typed reported statistic            statistic key + "constant"
-    another cell of a regression          its offset from the regression's anchor statistic,
+    a cell whose formula the finding      "formula:" + that formula in relative R1C1 form
+    quotes (evidence["formula"])
+    another cell                          its offset from the anchor statistic of its
+                                          regression (or of the first one on its sheet),
                                           + that statistic's key and R1C1 formula
-    a workbook-level finding              the cell as written (nothing steadier is known)
+    none of these                         the cell as written (nothing steadier is known)
 
 Relative R1C1 is what makes a formula independent of where it sits: ``=E4/E10`` in E11 and
 ``=E14/E20`` in E21 are both ``=R[-7]C/R[-1]C``. That is also why two blocks copied side by side
@@ -25,13 +29,20 @@ from __future__ import annotations
 import hashlib
 import os
 import re
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from pathlib import Path
 
 from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 from openpyxl.utils.cell import column_index_from_string
 
-from auditor.model import AuditResult, Finding, RegressionResult, ReportedValue, stat_base
+from auditor.model import (
+    AuditResult,
+    Finding,
+    RegressionResult,
+    ReportedValue,
+    WorkbookResult,
+    stat_base,
+)
 
 IDENTITY_DIGITS = 16
 SEPARATOR = "\x1f"  # the ASCII unit separator: cannot occur in a path, sheet name or check id
@@ -96,7 +107,7 @@ def _position(address: str) -> tuple[int, int] | None:
 
 
 def _column(letters: str) -> int:
-    return column_index_from_string(letters.upper())
+    return int(column_index_from_string(letters.upper()))
 
 
 def _part(letter: str, absolute: bool, value: int, origin: int) -> str:
@@ -175,12 +186,6 @@ def _offset(cell: str, anchor: str) -> str:
     return converted if converted is not None else address
 
 
-def _reported_by_cell(regression: RegressionResult | None) -> dict[str, tuple[str, ReportedValue]]:
-    if regression is None:
-        return {}
-    return {value.cell: (key, value) for key, value in regression.reported.items()}
-
-
 def _statistic_anchor(key: str, value: ReportedValue) -> str:
     if value.formula:
         return f"{stat_base(key)}:{formula_r1c1(value.formula, value.cell)}"
@@ -197,21 +202,43 @@ def _regression_anchor(regression: RegressionResult) -> tuple[str, ReportedValue
     return None
 
 
-def finding_key(finding: Finding, workbook: str, regression: RegressionResult | None) -> str:
-    """The readable identity key of one finding (see the module docstring); no occurrence."""
+def _statistic_at(cell: str, regressions: Iterable[RegressionResult]) -> str | None:
+    for regression in regressions:
+        for key, value in regression.reported.items():
+            if value.cell == cell:
+                return _statistic_anchor(key, value)
+    return None
+
+
+def finding_key(
+    finding: Finding,
+    workbook: str,
+    regression: RegressionResult | None = None,
+    regressions: Sequence[RegressionResult] = (),
+) -> str:
+    """The readable identity key of one finding (see the module docstring); no occurrence.
+
+    ``regression`` is the one the finding belongs to (None for a workbook-level finding);
+    ``regressions`` are all of the workbook's, searched when the finding's own does not hold
+    its cell (workbook-level checks often point at a regression's statistic).
+    """
     first = finding.cells[0] if finding.cells else ""
     sheet = split_cell(first)[0] if first else (regression.sheet if regression else "")
-    reported = _reported_by_cell(regression)
-    if first in reported:
-        key, value = reported[first]
-        anchor = _statistic_anchor(key, value)
-    elif regression is not None and (found := _regression_anchor(regression)) is not None:
-        key, value = found
-        place = _offset(first, value.cell) if first else "-"
-        anchor = f"at {place} of {_statistic_anchor(key, value)}"
-    else:
-        # Workbook-level findings (or a regression without reported cells): only the address.
-        anchor = f"cell:{split_cell(first)[1]}" if first else "workbook"
+    own = [regression] if regression is not None else []
+    anchor = _statistic_at(first, [*own, *regressions]) if first else None
+    formula = finding.evidence.get("formula")
+    if anchor is None and first and isinstance(formula, str) and formula.startswith("="):
+        anchor = f"formula:{formula_r1c1(formula, first)}"
+    if anchor is None:
+        # A data cell: placed against the statistic of its regression (or of the first one on
+        # its sheet), so the whole block may move.
+        home = regression or next((r for r in regressions if r.sheet == sheet), None)
+        found = _regression_anchor(home) if home is not None else None
+        if found is not None:
+            place = _offset(first, found[1].cell) if first else "-"
+            anchor = f"at {place} of {_statistic_anchor(*found)}"
+    if anchor is None:
+        anchor = f"cell:{split_cell(first)[1]}" if first else "workbook"  # nothing steadier
     return SEPARATOR.join((workbook, sheet, finding.check, anchor))
 
 
@@ -219,14 +246,16 @@ def digest(key: str) -> str:
     return hashlib.sha256(key.encode("utf-8")).hexdigest()[:IDENTITY_DIGITS]
 
 
-def workbook_keys(
-    findings: Iterable[tuple[Finding, RegressionResult | None]], workbook: str
-) -> list[tuple[Finding, str]]:
+def workbook_keys(workbook: WorkbookResult, path: str) -> list[tuple[Finding, str]]:
     """Keys of one workbook's findings in document order, repeated keys numbered ``#2``…"""
+    in_order: list[tuple[Finding, RegressionResult | None]] = [
+        (finding, None) for finding in workbook.findings
+    ]
+    in_order += [(finding, r) for r in workbook.regressions for finding in r.findings]
     seen: dict[str, int] = {}
     keyed: list[tuple[Finding, str]] = []
-    for finding, regression in findings:
-        key = finding_key(finding, workbook, regression)
+    for finding, regression in in_order:
+        key = finding_key(finding, path, regression, workbook.regressions)
         seen[key] = seen.get(key, 0) + 1
         keyed.append((finding, key if seen[key] == 1 else f"{key}#{seen[key]}"))
     return keyed
@@ -237,11 +266,7 @@ def identity_keys(result: AuditResult, root: Path | None = None) -> list[tuple[F
     base = root if root is not None else audit_root(result.inputs or [os.curdir])
     keyed: list[tuple[Finding, str]] = []
     for workbook in result.workbooks:
-        in_order: list[tuple[Finding, RegressionResult | None]] = [
-            (f, None) for f in workbook.findings
-        ]
-        in_order += [(f, r) for r in workbook.regressions for f in r.findings]
-        keyed += workbook_keys(in_order, relative_workbook_path(workbook.path, base))
+        keyed += workbook_keys(workbook, relative_workbook_path(workbook.path, base))
     return keyed
 
 

@@ -72,7 +72,12 @@ def request_from_args(args: argparse.Namespace, policy: Policy) -> PlanRequest:
         origin = f"regression {found['id']!r} of {args.source}"
     missing = [
         name
-        for name, value in (("--n", n_values), ("--x-low", low), ("--x-high", high), ("--sd", sigma))
+        for name, value in (
+            ("--n", n_values),
+            ("--x-low", low),
+            ("--x-high", high),
+            ("--sd", sigma),
+        )
         if value is None
     ]
     if missing:
@@ -117,7 +122,9 @@ def regression_from_workbook(path: str, regression: str | None, policy: Policy) 
     chosen = [r for r in result.regressions if r.id == regression]
     if not chosen:
         known = ", ".join(repr(i) for i in ids) or "none found"
-        raise UsageError(f"--regression {regression!r} is not in {path!r}; its regressions: {known}")
+        raise UsageError(
+            f"--regression {regression!r} is not in {path!r}; its regressions: {known}"
+        )
     found = chosen[0]
     sd = found.intended.get("residual_sd")
     if found.x_columns != 1 or sd is None or not sd > 0.0:
@@ -235,16 +242,40 @@ def add_plan_parser(subparsers: Any) -> None:
     plan.add_argument("--x-low", type=float, default=None, metavar="X", help="lowest x")
     plan.add_argument("--x-high", type=float, default=None, metavar="X", help="highest x")
     plan.add_argument("--sd", type=float, default=None, metavar="S", help="expected residual SD")
-    plan.add_argument("--target-se", type=float, default=None, metavar="SE",
-                      help="largest acceptable SE of the slope")
-    plan.add_argument("--target-half-width", type=float, default=None, metavar="W",
-                      help="largest acceptable half-width of the slope's CI")
-    plan.add_argument("--detect-slope", type=float, default=None, metavar="B",
-                      help="slope to detect with the policy's power at its alpha")
-    plan.add_argument("--from", dest="source", default=None, metavar="WORKBOOK",
-                      help="take n, x range and residual SD from a regression in this workbook")
-    plan.add_argument("--regression", default=None, metavar="ID",
-                      help="the regression's id as the audit shows it (e.g. 'Cal/E4')")
+    plan.add_argument(
+        "--target-se",
+        type=float,
+        default=None,
+        metavar="SE",
+        help="largest acceptable SE of the slope",
+    )
+    plan.add_argument(
+        "--target-half-width",
+        type=float,
+        default=None,
+        metavar="W",
+        help="largest acceptable half-width of the slope's CI",
+    )
+    plan.add_argument(
+        "--detect-slope",
+        type=float,
+        default=None,
+        metavar="B",
+        help="slope to detect with the policy's power at its alpha",
+    )
+    plan.add_argument(
+        "--from",
+        dest="source",
+        default=None,
+        metavar="WORKBOOK",
+        help="take n, x range and residual SD from a regression in this workbook",
+    )
+    plan.add_argument(
+        "--regression",
+        default=None,
+        metavar="ID",
+        help="the regression's id as the audit shows it (e.g. 'Cal/E4')",
+    )
     plan.add_argument("--policy", default="general", help="policy name or TOML file")
     plan.add_argument("--json", action="store_true", help="print JSON instead of a table")
     plan.set_defaults(handler=run_plan)

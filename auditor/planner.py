@@ -191,7 +191,9 @@ def needed_sxx(request: PlanRequest, policy: Policy, n: int) -> float | None:
         needs.append((critical * request.sigma / request.target_half_width) ** 2)
     if request.detect_slope is not None:
         needs.append(
-            sxx_to_detect(request.detect_slope, request.sigma, df, policy.alpha, policy.get("power"))
+            sxx_to_detect(
+                request.detect_slope, request.sigma, df, policy.alpha, policy.get("power")
+            )
         )
     return max(needs) if needs else None
 
@@ -206,8 +208,15 @@ def reach_hint(request: PlanRequest, policy: Policy) -> str:
     from auditor.power import smallest_n, sxx_even, width_for_sxx_even
 
     def need_at(df: int) -> float:
-        other = PlanRequest([df + 2], low, high, request.sigma, request.target_se,
-                            request.target_half_width, request.detect_slope)
+        other = PlanRequest(
+            [df + 2],
+            low,
+            high,
+            request.sigma,
+            request.target_se,
+            request.target_half_width,
+            request.detect_slope,
+        )
         return needed_sxx(other, policy, df + 2) or 0.0
 
     count = smallest_n(lambda k: sxx_even(k, low, high), need_at, 3, 100_000)

@@ -61,9 +61,7 @@ def noncentrality_for(power: float, df: int, alpha: float) -> float:
         high *= 2.0
         if high > 1e8:  # unreachable at any sane df and power; say so rather than loop
             raise ValueError(f"power {power!r} cannot be reached with df = {df}")
-    return float(
-        optimize.brentq(lambda d: power_at(d, df, alpha) - power, 0.0, high, xtol=1e-12)
-    )
+    return float(optimize.brentq(lambda d: power_at(d, df, alpha) - power, 0.0, high, xtol=1e-12))
 
 
 def min_detectable_slope(sigma: float, sxx: float, df: int, alpha: float, power: float) -> float:

@@ -196,12 +196,22 @@ def _tokens(formula: str) -> list[Token]:
 
 
 def rewrite_references(
-    formula: str, rewrite: Rewrite, parse: Callable[[str], Reference | None] = parse_a1
+    formula: str,
+    rewrite: Rewrite,
+    parse: Callable[[str], Reference | None] = parse_a1,
+    expand: Callable[[str], str | None] | None = None,
 ) -> str:
-    """The formula with every reference operand replaced by ``rewrite``'s text for it."""
+    """The formula with every reference operand replaced by ``rewrite``'s text for it.
+
+    ``expand`` maps an operand that is not a reference (a defined name) to the reference text it
+    stands for, which is then rewritten in its place; None leaves the operand as written.
+    """
 
     def convert(operand: str) -> str:
         ref = parse(operand)
+        if ref is None and expand is not None:
+            meant = expand(operand)
+            ref = parse(meant) if meant else None
         if ref is None:
             return operand
         new = rewrite(ref)
@@ -220,14 +230,14 @@ def rewrite_references(
     return "=" + "".join(out)
 
 
-def references(formula: str) -> list[Reference]:
-    """Every A1 reference operand of the formula, in order."""
+def references(formula: str, expand: Callable[[str], str | None] | None = None) -> list[Reference]:
+    """Every A1 reference operand of the formula, in order (names expanded by ``expand``)."""
     found: list[Reference] = []
 
     def keep(ref: Reference) -> None:
         found.append(ref)
 
-    rewrite_references(formula, lambda ref: keep(ref))
+    rewrite_references(formula, lambda ref: keep(ref), expand=expand)
     return found
 
 

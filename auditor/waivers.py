@@ -207,23 +207,31 @@ def add_waiver(path: Path, waiver: Waiver, inputs: Iterable[Path | str] = ()) ->
         handle.write(text.encode("utf-8"))
 
 
+def new_waiver(
+    identity: str, reason: str, name: str, date: str | None = None, **about: str
+) -> Waiver:
+    """A checked waiver dated today unless ``date``; ``about`` fills workbook, cell and check."""
+    for label, text in (("reason", reason), ("name", name)):
+        if not text.strip():
+            raise UsageError(f"the waiver's {label} {text!r} is empty; say why and who accepts it")
+    return Waiver(
+        identity=check_identity(identity),
+        reason=reason.strip(),
+        name=name.strip(),
+        date=check_date(date) if date else dt.date.today().isoformat(),
+        **about,
+    )
+
+
 def waiver_for(
     finding: Finding, workbook: str, reason: str, name: str, date: str | None = None
 ) -> Waiver:
     """A waiver of ``finding`` (which carries its identity), dated today unless ``date``."""
     if not finding.identity:
         raise ValueError("assign identities (auditor.identity.assign_identities) first")
-    for label, text in (("reason", reason), ("name", name)):
-        if not text.strip():
-            raise UsageError(f"the waiver's {label} {text!r} is empty; say why and who accepts it")
-    return Waiver(
-        identity=finding.identity,
-        reason=reason.strip(),
-        name=name.strip(),
-        date=check_date(date) if date else dt.date.today().isoformat(),
-        workbook=workbook,
-        cell=finding.cells[0] if finding.cells else "",
-        check=finding.check,
+    cell = finding.cells[0] if finding.cells else ""
+    return new_waiver(
+        finding.identity, reason, name, date, workbook=workbook, cell=cell, check=finding.check
     )
 
 
@@ -254,3 +262,20 @@ def normalise_cell(cell: str) -> str:
     if sheet.startswith("'") and sheet.endswith("'") and len(sheet) >= 2:
         sheet = sheet[1:-1].replace("''", "'")
     return f"{sheet}{bang}{address.replace('$', '').upper()}"
+
+
+def choose_finding(
+    result: AuditResult, workbook: str, cell: str, check: str | None = None
+) -> Finding:
+    """The one finding ``regaudit waive --workbook --cell [--check]`` means, or a UsageError
+    that lists what is there, so the user can say which."""
+    matches = find_findings(result, workbook, cell, check)
+    if len(matches) == 1:
+        return matches[0]
+    where = f"{cell!r} of {workbook!r}" + (f" from check {check!r}" if check else "")
+    if not matches:
+        present = [f for w in result.workbooks for f in w.all_findings()]
+        listing = "; ".join(f"{f.cells[0] if f.cells else '-'} {f.check}" for f in present[:12])
+        raise UsageError(f"no finding at {where}; findings in this workbook: {listing or 'none'}")
+    listing = ", ".join(sorted({f.check for f in matches}))
+    raise UsageError(f"{len(matches)} findings at {where} ({listing}); add --check to pick one")

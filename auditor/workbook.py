@@ -1,19 +1,18 @@
 """Reading workbooks: every cell's formula text, stored value and number format; defined names.
 
-This is the only module that opens input files. It opens them read-only, checks the container
-before inflating anything, and translates every library error into
-:class:`auditor.errors.UnreadableWorkbook` with a message that says what the file is and what to do.
-
-openpyxl keeps either the formula or the stored value of a cell per load, so a workbook is loaded
-twice (formulas, then cached values). openpyxl parses XML through defusedxml when it is installed,
-which regaudit requires; :func:`assert_safe_xml` checks that at start-up.
+The reading layer is the only one that opens input files: this module (the data classes, the
+container check, :func:`read_workbook`), :mod:`auditor.xlsxstream` (the one-pass reader regaudit
+uses), :mod:`auditor.xlsxparts` and :mod:`auditor.xmlsafe` (package parts, hostile XML) and
+:mod:`auditor.workbook_openpyxl` (the two-load reference reader). Files are opened read-only; the
+zip central directory is checked before anything is inflated; every library error becomes
+:class:`auditor.errors.UnreadableWorkbook` with a message that says what the file is and what to
+do. Macros in .xlsm files are never run: only worksheet XML is read.
 """
 
 from __future__ import annotations
 
 import hashlib
 import re
-import warnings
 import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -34,10 +33,12 @@ ERROR_CODES = (
 )
 
 # Limits against hostile containers (checked on the central directory, before inflating).
-MAX_TOTAL_UNCOMPRESSED = 2 * 1024**3
+# A 1,048,576-row sheet of numbers is about 100 MB of XML; 1 GB declared is refused.
+MAX_TOTAL_UNCOMPRESSED = 1_000_000_000
 MAX_MEMBERS = 10_000
-MAX_RATIO = 200.0
-RATIO_FLOOR_BYTES = 10 * 1024**2
+MAX_RATIO = 200.0  # real sheet XML deflates 5-50 fold
+RATIO_FLOOR_BYTES = 10 * 1024**2  # small parts may compress better; only large ones are judged
+ENGINES = ("stream", "openpyxl")
 
 
 @dataclass(frozen=True)
@@ -53,7 +54,7 @@ class ErrorValue:
 CellValue = float | int | str | bool | ErrorValue | None
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Cell:
     """One cell as the file holds it."""
 
@@ -175,34 +176,85 @@ def sha256_of(path: Path) -> str:
 
 
 def assert_safe_xml() -> None:
-    """Refuse to run if openpyxl would parse XML without defusedxml's protections."""
+    """Refuse to run unless both XML paths are protected against hostile markup: openpyxl must
+    parse through defusedxml, and the one-pass reader's guard must refuse an entity declaration
+    (tried here on a tiny billion-laughs prolog, which costs microseconds)."""
     from openpyxl import xml as openpyxl_xml
+
+    from auditor.xmlsafe import refuse_declarations
 
     if not getattr(openpyxl_xml, "DEFUSEDXML", False):
         raise RuntimeError(
             "openpyxl is not using defusedxml; install defusedxml so that hostile XML "
             "(entity expansion) cannot be used against the reader"
         )
+    probe = b'<?xml version="1.0"?><!DOCTYPE x [<!ENTITY a "aaaa">]><x>&a;</x>'
+    try:
+        refuse_declarations(probe, "start-up probe")
+    except UnreadableWorkbook:
+        return
+    raise RuntimeError("the XML guard let an entity declaration through; refusing to run")
+
+
+def _compound_streams(path: Path) -> bytes:
+    """The first directory sector of an OLE compound file (MS-CFB): it names the streams that
+    tell a password-protected xlsx (EncryptionInfo, EncryptedPackage) from a legacy .xls
+    (Workbook or Book). Empty when the header does not make sense."""
+    with open(path, "rb") as handle:
+        header = handle.read(512)
+        if len(header) < 512:
+            return b""
+        shift = int.from_bytes(header[30:32], "little")
+        first_directory = int.from_bytes(header[48:52], "little")
+        if not 7 <= shift <= 16 or first_directory >= 0xFFFFFFFA:
+            return b""
+        handle.seek((first_directory + 1) << shift)
+        return handle.read(1 << shift)
+
+
+def _looks_like_text(head: bytes) -> bool:
+    try:
+        text = head[:2048].decode("utf-8")
+    except UnicodeDecodeError as exc:
+        if exc.start < len(head[:2048]) - 4:  # not just a character cut at the end
+            return False
+        text = head[: exc.start].decode("utf-8")
+    return bool(text) and all(ch.isprintable() or ch in "\t\r\n" for ch in text)
 
 
 def _describe_non_zip(head: bytes, path: Path) -> str:
-    if head.startswith(b"\xd0\xcf\x11\xe0"):
+    if head.startswith(b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"):
+        streams = _compound_streams(path)
+        if "EncryptedPackage".encode("utf-16-le") in streams:
+            return (
+                f"{path.name} is a password-protected workbook (an encrypted package inside an "
+                "OLE compound file); regaudit cannot read it. Open it with the password, save "
+                "an unprotected copy as .xlsx, and audit the copy"
+            )
+        if any(name.encode("utf-16-le") in streams for name in ("Workbook", "Book")):
+            return (
+                f"{path.name} is a legacy Excel 97-2003 workbook (.xls), not an xlsx package; "
+                "open it and save it as .xlsx, then audit the copy"
+            )
         return (
             f"{path.name} is an OLE compound file, not an xlsx package: either a legacy .xls "
             "workbook or an xlsx protected with a password (encryption wraps it this way). "
             "Remove the password or save it as .xlsx, then audit the copy"
         )
+    if not head:
+        return f"{path.name} is empty (0 bytes); ask for a fresh copy"
     text = head.lstrip()
     if text.startswith((b"<?xml", b"<html", b"<HTML", b"<!DOCTYPE")):
         return f"{path.name} is an XML or HTML text file, not an xlsx package; save it as .xlsx"
-    if head and all(32 <= b < 127 or b in (9, 10, 13) for b in head[:512]):
+    if _looks_like_text(head):
         return (
             f"{path.name} is plain text (perhaps a CSV renamed to .xlsx), not an xlsx package; "
             "open it in a spreadsheet and save it as .xlsx"
         )
-    if not head:
-        return f"{path.name} is empty (0 bytes)"
-    return f"{path.name} is not a zip container, so not an xlsx package (it may be truncated)"
+    return (
+        f"{path.name} is not a zip container, so not an xlsx package (it may be damaged or "
+        "truncated at the start); ask for a fresh copy"
+    )
 
 
 def check_container(path: Path) -> None:
@@ -224,19 +276,30 @@ def check_container(path: Path) -> None:
             f"{path.name} holds {len(members):,} parts (limit {MAX_MEMBERS:,}); refused as unsafe"
         )
     total = sum(m.file_size for m in members)
-    if total > MAX_TOTAL_UNCOMPRESSED:
+    if total >= MAX_TOTAL_UNCOMPRESSED:
         raise UnreadableWorkbook(
-            f"{path.name} declares {total / 1024**3:.1f} GiB once unpacked "
-            f"(limit {MAX_TOTAL_UNCOMPRESSED / 1024**3:.0f} GiB); refused as a possible zip bomb"
+            f"{path.name} declares {total / 1e9:,.1f} GB once unpacked (limit "
+            f"{MAX_TOTAL_UNCOMPRESSED / 1e9:.0f} GB); refused as a possible zip bomb or a file too "
+            "large to audit"
         )
     for member in members:
-        if member.file_size > RATIO_FLOOR_BYTES and member.compress_size > 0:
-            ratio = member.file_size / member.compress_size
+        if member.file_size > RATIO_FLOOR_BYTES:
+            ratio = member.file_size / max(member.compress_size, 1)
             if ratio > MAX_RATIO:
                 raise UnreadableWorkbook(
                     f"{path.name}: part {member.filename!r} inflates {ratio:,.0f}-fold "
                     f"(limit {MAX_RATIO:.0f}); refused as a possible zip bomb"
                 )
+        if member.flag_bits & 0x1:
+            raise UnreadableWorkbook(
+                f"{path.name}: part {member.filename!r} is encrypted at the zip level, which no "
+                "spreadsheet application writes; ask for an unprotected .xlsx"
+            )
+        if member.compress_type not in (zipfile.ZIP_STORED, zipfile.ZIP_DEFLATED):
+            raise UnreadableWorkbook(
+                f"{path.name}: part {member.filename!r} uses zip compression method "
+                f"{member.compress_type}, which xlsx files never use; re-save it as .xlsx"
+            )
     names = {m.filename for m in members}
     if "xl/workbook.bin" in names:
         raise UnreadableWorkbook(
@@ -246,141 +309,32 @@ def check_container(path: Path) -> None:
         raise UnreadableWorkbook(
             f"{path.name} is an OpenDocument spreadsheet (.ods); save it as .xlsx"
         )
+    for part, kind in (("word/document.xml", "a Word"), ("ppt/presentation.xml", "a PowerPoint")):
+        if part in names:
+            raise UnreadableWorkbook(f"{path.name} is {kind} document, not a workbook")
     if "xl/workbook.xml" not in names:
         raise UnreadableWorkbook(
-            f"{path.name} is a zip file but not an xlsx workbook (no xl/workbook.xml)"
+            f"{path.name} is a zip file but not an xlsx workbook (no xl/workbook.xml); if it "
+            "is an archive of workbooks, unpack it and audit the folder"
         )
 
 
-def _convert_value(value: object, data_type: str | None) -> CellValue:
-    if value is None:
-        return None
-    if data_type == "e":  # a text cell holding "#N/A" is text, not an error
-        return ErrorValue(str(value))
-    if isinstance(value, bool):
-        return value
-    if isinstance(value, (int, float)):
-        return float(value) if isinstance(value, float) else int(value)
-    if hasattr(value, "isoformat"):
-        # Dates: regaudit works on serial numbers as a spreadsheet does.
-        from openpyxl.utils.datetime import to_excel
+def read_workbook(path: str | Path, engine: str = "stream") -> Workbook:
+    """Every cell's formula, stored value and number format, and the defined names.
 
-        try:
-            return float(to_excel(value))  # type: ignore[arg-type]
-        except (TypeError, ValueError):
-            return str(value)
-    return str(value)
-
-
-def _range_bounds(ref: str) -> tuple[int, int, int, int]:
-    first, _, last = ref.partition(":")
-    r1, c1 = parse_cell(first)
-    r2, c2 = parse_cell(last or first)
-    return min(r1, r2), min(c1, c2), max(r1, r2), max(c1, c2)
-
-
-def read_workbook(path: str | Path) -> Workbook:
-    """Read every cell's formula, stored value and number format. Never writes to ``path``."""
-    import openpyxl
-    from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
-
+    ``engine`` "stream" is the one-pass reader; "openpyxl" the two-load reference. Never writes
+    to ``path``."""
     path = Path(path)
     if not path.is_file():
         raise UnreadableWorkbook(f"{path} does not exist or is not a file")
+    if engine not in ENGINES:
+        raise ValueError(f"unknown reader engine {engine!r}; choose from {', '.join(ENGINES)}")
     check_container(path)
     digest = sha256_of(path)
-    try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            book_f = openpyxl.load_workbook(path, read_only=False, data_only=False, keep_vba=False)
-            book_v = openpyxl.load_workbook(path, read_only=False, data_only=True, keep_vba=False)
-    except UnreadableWorkbook:
-        raise
-    except (zipfile.BadZipFile, KeyError, OSError, EOFError) as exc:
-        raise UnreadableWorkbook(
-            f"{path.name} could not be unpacked ({type(exc).__name__}: {exc}); "
-            "the file is damaged or truncated: ask for a fresh copy"
-        ) from exc
-    except Exception as exc:  # openpyxl raises many types on malformed XML parts
-        raise UnreadableWorkbook(
-            f"{path.name} has a malformed workbook part ({type(exc).__name__}: {exc}); "
-            "open and re-save it in a spreadsheet application, then audit the copy"
-        ) from exc
+    if engine == "openpyxl":
+        from auditor.workbook_openpyxl import read_with_openpyxl
 
-    sheets: dict[str, Sheet] = {}
-    names: list[DefinedName] = []
-    arrays: dict[tuple[str, int, int], tuple[int, int, int, int]] = {}
-    formula_count = 0
-    valued_formulas = 0
-    for ws_f in book_f.worksheets:
-        ws_v = book_v[ws_f.title]
-        sheet = Sheet(name=ws_f.title)
-        values = {(c.row, c.column): c for row in ws_v.iter_rows() for c in row}
-        for row in ws_f.iter_rows():
-            for cell_f in row:
-                raw = cell_f.value
-                in_array = (ws_f.title, cell_f.row, cell_f.column) in arrays
-                if raw is None and cell_f.data_type != "f" and not in_array:
-                    continue
-                cell_v = values.get((cell_f.row, cell_f.column))
-                stored = (
-                    _convert_value(cell_v.value, cell_v.data_type) if cell_v is not None else None
-                )
-                formula: str | None = None
-                array_ref: str | None = None
-                if isinstance(raw, ArrayFormula):
-                    formula = raw.text if raw.text.startswith("=") else "=" + raw.text
-                    array_ref = raw.ref
-                    bounds = _range_bounds(raw.ref)
-                    for r in range(bounds[0], bounds[2] + 1):
-                        for c in range(bounds[1], bounds[3] + 1):
-                            arrays[(ws_f.title, r, c)] = bounds
-                elif isinstance(raw, DataTableFormula):
-                    formula = None
-                elif isinstance(raw, str) and cell_f.data_type == "f":
-                    formula = raw
-                if formula is not None:
-                    formula_count += 1
-                    if stored not in (None, 0, "") and not (
-                        isinstance(stored, float) and stored == 0.0
-                    ):
-                        valued_formulas += 1
-                    value = stored
-                elif in_array:
-                    value = stored
-                else:
-                    value = _convert_value(raw, cell_f.data_type)
-                if value is None and formula is None:
-                    continue
-                sheet.cells[(cell_f.row, cell_f.column)] = Cell(
-                    sheet=ws_f.title,
-                    row=cell_f.row,
-                    col=cell_f.column,
-                    value=value,
-                    formula=formula,
-                    number_format=cell_f.number_format or "General",
-                    array_ref=array_ref,
-                )
-                sheet.max_row = max(sheet.max_row, cell_f.row)
-                sheet.max_col = max(sheet.max_col, cell_f.column)
-        sheets[ws_f.title] = sheet
-        for name, defined in getattr(ws_f, "defined_names", {}).items():
-            if defined.attr_text:
-                names.append(DefinedName(name, defined.attr_text, scope=ws_f.title))
-    for name, defined in book_f.defined_names.items():
-        if defined.attr_text:
-            scope = None
-            if defined.localSheetId is not None:
-                scope = book_f.worksheets[int(defined.localSheetId)].title
-            names.append(DefinedName(name, defined.attr_text, scope=scope))
-    # Cells inside an array block other than its anchor hold only their stored values; they
-    # were kept above (``in_array``) and the block is known from ``array_anchors``.
-    stored = formula_count == 0 or valued_formulas > 0
-    return Workbook(
-        path=str(path),
-        sha256=digest,
-        sheets=sheets,
-        names=names,
-        stored_values=stored,
-        array_anchors=arrays,
-    )
+        return read_with_openpyxl(path, digest)
+    from auditor.xlsxstream import read_package
+
+    return read_package(path, digest)

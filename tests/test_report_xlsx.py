@@ -1,11 +1,12 @@
-"""audit.xlsx read back with openpyxl: sheets, rows, tables, frozen headers, reproducible bytes."""
+"""audit.xlsx read back with openpyxl (the outside reader): sheets, rows, tables, links, legend,
+reproducible bytes; over the hand-built sample result. Detail sheets: test_report_xlsx_detail."""
 
 from __future__ import annotations
 
 import io
-import json
 import zipfile
 from datetime import datetime
+from pathlib import Path
 
 import openpyxl
 import pytest
@@ -13,7 +14,7 @@ from test_report_sample import AUDITED_PATH, UNREADABLE_ERROR, UNREADABLE_PATH, 
 
 from auditor.model import AuditResult
 from auditor.report.xlsx import XlsxReporter, created_date
-from auditor.report.xlsx_style import PALETTE
+from auditor.report.xlsx_style import MISMATCH_FILL, PALETTE, VERDICT_PALETTE
 
 
 def _bytes(result: AuditResult) -> bytes:
@@ -33,8 +34,10 @@ def _rows(sheet) -> list[dict[str, object]]:
     return [dict(zip(header, row, strict=True)) for row in values[1:]]
 
 
-def test_three_sheets_overview_first(book: openpyxl.Workbook) -> None:
-    assert book.sheetnames == ["Overview", "Findings", "Regressions"]
+def test_overview_then_tables_then_one_detail_sheet_per_regression(
+    book: openpyxl.Workbook,
+) -> None:
+    assert book.sheetnames == ["Overview", "Regressions", "Findings", "R01 calib-1", "R02 drift-1"]
     assert book.active.title == "Overview"
 
 
@@ -48,12 +51,14 @@ def test_every_finding_is_a_row_most_severe_first(book: openpyxl.Workbook) -> No
         "workbook-context",
     ]
     assert [row["regression"] for row in rows] == ["calib-1", "calib-1", "drift-1", None]
-    assert {row["workbook"] for row in rows} == {AUDITED_PATH}
+    # The tables show paths below the folder all workbooks share; the detail sheets the full path.
+    assert {row["workbook"] for row in rows} == {"calibration-2024.xlsx"}
     major = rows[1]
     assert major["kind"] == "range-short"
-    assert major["cells"] == "Calib!F4, Calib!A2:A9"
+    assert major["cells"].startswith("=HYPERLINK(") and "Calib!F4, Calib!A2:A9" in major["cells"]
     assert major["fix"] == "Extend both ranges to row 9."
     assert rows[3]["kind"] is None and rows[3]["evidence"] is None
+    assert rows[3]["cells"] is None and rows[3]["waived"] is None
 
 
 def test_formula_like_text_stays_text(book: openpyxl.Workbook) -> None:
@@ -63,24 +68,36 @@ def test_formula_like_text_stays_text(book: openpyxl.Workbook) -> None:
     assert cell.data_type == "s"
 
 
-def test_evidence_is_compact_json(book: openpyxl.Workbook) -> None:
+def test_evidence_reads_as_words(book: openpyxl.Workbook) -> None:
     critical = _rows(book["Findings"])[0]
-    assert "\n" not in critical["evidence"]
-    assert json.loads(critical["evidence"]) == {
-        "reported": 0.0213,
-        "two_tailed": 0.0426,
-        "alpha": 0.01,
-        "ratio": None,
-    }
+    # NaN has no place in a cell; it reads as the dash the text summary uses.
+    assert critical["evidence"] == "reported: 0.0213; two tailed: 0.0426; alpha: 0.01; ratio: —"
+    major = _rows(book["Findings"])[1]
+    assert major["evidence"] == "formula rows: [2, 8]; table rows: [2, 9]"
+
+
+def test_links_open_the_detail_sheet_and_the_source_cell(book: openpyxl.Workbook) -> None:
+    sheet = book["Regressions"]
+    header = [cell.value for cell in sheet[1]]
+    detail = sheet.cell(row=2, column=header.index("detail sheet") + 1)
+    assert detail.value == "R01 calib-1"
+    assert detail.hyperlink.location == "'R01 calib-1'!A1"
+    source = sheet.cell(row=2, column=header.index("source cell") + 1).value
+    # The anchor is the reported slope's cell, in the audited file given by its absolute path.
+    target = (Path.cwd() / AUDITED_PATH).resolve().as_uri()
+    assert source == f'=HYPERLINK("{target}#\'Calib\'!F4","Calib!F4")'
+    findings = book["Findings"]
+    regression_links = [c.hyperlink.location for c in findings["E"][1:] if c.hyperlink]
+    assert regression_links == ["'R01 calib-1'!A1", "'R01 calib-1'!A1", "'R02 drift-1'!A1"]
 
 
 def test_every_regression_is_a_row(book: openpyxl.Workbook) -> None:
     rows = _rows(book["Regressions"])
     assert [row["regression"] for row in rows] == ["calib-1", "drift-1"]
     calib, drift = rows
-    assert calib["workbook"] == AUDITED_PATH and calib["sheet"] == "Calib"
+    assert calib["workbook"] == "calibration-2024.xlsx" and calib["sheet"] == "Calib"
     assert calib["x range"] == "Calib!A2:A9" and calib["found by"] == "formulas"
-    assert calib["n"] == 8
+    assert calib["n"] == 8 and calib["x columns"] == 1
     assert calib["p reported"] == pytest.approx(0.0213)
     assert calib["p intended"] == pytest.approx(0.0426)
     assert calib["verdict"] == "mismatch"
@@ -100,11 +117,12 @@ def test_mismatched_reported_value_is_highlighted(book: openpyxl.Workbook) -> No
 
 def test_tables_with_filters_and_frozen_headers(book: openpyxl.Workbook) -> None:
     findings, regressions = book["Findings"], book["Regressions"]
-    assert findings.tables["FindingsTable"].ref == "A1:I5"
-    assert regressions.tables["RegressionsTable"].ref == "A1:R3"
+    assert findings.tables["FindingsTable"].ref == "A1:J5"
+    assert regressions.tables["RegressionsTable"].ref == "A1:U3"
     assert findings.tables["FindingsTable"].autoFilter is not None
     assert regressions.tables["RegressionsTable"].autoFilter is not None
-    assert findings.freeze_panes == "A2" and regressions.freeze_panes == "A2"
+    # Regressions keeps the workbook, sheet and id in view while scrolling right.
+    assert findings.freeze_panes == "A2" and regressions.freeze_panes == "D2"
     assert findings.column_dimensions["G"].width > findings.column_dimensions["A"].width
     assert findings["G2"].alignment.wrap_text
 
@@ -122,19 +140,40 @@ def test_overview_lists_what_was_audited(book: openpyxl.Workbook) -> None:
     assert ("audited", 1) in rows and ("unreadable", 1) in rows and ("no-regressions", 0) in rows
     assert ("critical", 1) in rows and ("info", 1) in rows
     assert (UNREADABLE_PATH, UNREADABLE_ERROR) in rows
+    assert ("confirmed", 1) in rows and ("mismatch", 1) in rows  # regressions by verdict
     caution = next(label for label, _ in rows if str(label).startswith("Caution: "))
     assert "licensed professional practice decide" in caution
 
 
-def test_legend_colours_always_carry_the_word(book: openpyxl.Workbook) -> None:
+@pytest.mark.parametrize(
+    ("title", "palette"), [("Severity legend", PALETTE), ("Verdict legend", VERDICT_PALETTE)]
+)
+def test_legend_colours_always_carry_the_word(
+    book: openpyxl.Workbook, title: str, palette: dict[str, tuple[str, str]]
+) -> None:
     sheet = book["Overview"]
-    legend_start = next(c.row for c in sheet["A"] if c.value == "Severity legend")
-    for offset, severity in enumerate(PALETTE, start=1):
+    legend_start = next(c.row for c in sheet["A"] if c.value == title)
+    for offset, word in enumerate(palette, start=1):
         cell = sheet.cell(row=legend_start + offset, column=1)
-        assert cell.value == severity
-        text_colour, fill_colour = PALETTE[severity]
+        assert cell.value == word
+        text_colour, fill_colour = palette[word]
         assert cell.font.color.rgb == "FF" + text_colour.lstrip("#")
         assert cell.fill.fgColor.rgb == "FF" + fill_colour.lstrip("#")
+
+
+def test_every_coloured_cell_holds_its_word(book: openpyxl.Workbook) -> None:
+    fills = {"FF" + fill.lstrip("#"): word for word, (_, fill) in PALETTE.items()}
+    fills |= {"FF" + fill.lstrip("#"): word for word, (_, fill) in VERDICT_PALETTE.items()}
+    fills.pop("FF" + MISMATCH_FILL.lstrip("#"))  # also shades a disagreeing reported number
+    checked = 0
+    for sheet in book.worksheets:
+        for row in sheet.iter_rows():
+            for cell in row:
+                word = fills.get(cell.fill.fgColor.rgb) if cell.fill.fill_type else None
+                if word:
+                    assert cell.value == word, f"{sheet.title}!{cell.coordinate}"
+                    checked += 1
+    assert checked > 10
 
 
 def test_same_result_gives_identical_bytes() -> None:
@@ -168,7 +207,8 @@ def test_created_date(generated: str, expected: datetime) -> None:
 def test_empty_result_still_gives_tables() -> None:
     empty = AuditResult(version="0.1.0", policy="general", workbooks=[])
     book = openpyxl.load_workbook(io.BytesIO(_bytes(empty)))
-    assert book["Findings"].tables["FindingsTable"].ref == "A1:I2"
+    assert book["Findings"].tables["FindingsTable"].ref == "A1:J2"
+    assert book.sheetnames == ["Overview", "Regressions", "Findings"]
     assert _bytes(empty) == _bytes(empty)
 
 

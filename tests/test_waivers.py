@@ -25,6 +25,7 @@ from auditor.waivers import (
     Waiver,
     add_waiver,
     apply_waivers,
+    choose_finding,
     counts_for_gate,
     default_waiver_file,
     find_findings,
@@ -76,12 +77,9 @@ def test_waived_findings_stay_in_the_report_but_do_not_fail_the_run(
     assert not _fails(result, "critical")
     assert _fails(result, "major")  # the major findings are not waived
     document = json.loads(render_json(result))
-    marked = [
-        f
-        for r in document["workbooks"][0]["regressions"]
-        for f in r["findings"]
-        if f["waived"] is not None
-    ]
+    book = document["workbooks"][0]
+    every = book["findings"] + [f for r in book["regressions"] for f in r["findings"]]
+    marked = [f for f in every if f["waived"] is not None]
     assert len(marked) == len(critical)
     assert (
         marked[0]["waived"] == "Rerun agreed; see QA log 17 (accepted by A. Reviewer on 2024-05-03)"
@@ -123,6 +121,12 @@ def test_find_findings_needs_the_check_when_several_share_a_cell(lines_folder: P
     both = find_findings(result, LINES, "Line 2!E4")
     assert sorted(f.check for f in both) == ["ranges-disagree", "stat-recompute"]
     assert find_findings(result, "other.xlsx", "Line 2!E4") == []
+    with pytest.raises(UsageError, match="2 findings at 'Line 2!E4'.*add --check"):
+        choose_finding(result, LINES, "Line 2!E4")
+    with pytest.raises(UsageError, match="no finding at 'Line 2!A1'.*Line 2!E4 stat-recompute"):
+        choose_finding(result, LINES, "Line 2!A1")
+    chosen = choose_finding(result, LINES, "Line 2!E4", "stat-recompute")
+    assert chosen.check == "stat-recompute" and chosen.cells == ["Line 2!E4"]
 
 
 @pytest.mark.parametrize(

@@ -212,14 +212,15 @@ def range_beyond_table(context: RegressionContext) -> list[Finding]:
     by_row = {p.row: p for p in data.points}
     ranges = [spec.x, spec.y]
     whole = any(r.whole_column for r in ranges)
+    # Rows past the sheet's last used row are not in the table's points: they are blank.
     outside = [
         r
         for r in range(max(spec.x.r1, spec.y.r1), min(spec.x.r2, spec.y.r2) + 1)
-        if (r < first or r > last) and r in by_row and not by_row[r].used
+        if (r < first or r > last) and (r not in by_row or not by_row[r].used)
     ]
     if not outside and not whole:
         return []
-    blank = [r for r in outside if by_row[r].reason == "empty"]
+    blank = [r for r in outside if r not in by_row or by_row[r].reason == "empty"]
     text = [r for r in outside if r not in blank]
     uses = [u for u in spec.uses if u.x == spec.x and u.y == spec.y] or spec.uses
     cells = list(dict.fromkeys(u.cell.address for u in uses))

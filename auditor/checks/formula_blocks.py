@@ -17,6 +17,7 @@ is anchored is judged separately (an anchored reference is how a copy keeps poin
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 from auditor.formula import Ref
@@ -55,6 +56,7 @@ class Block:
 
     @property
     def name(self) -> str:
+        """How a message names the block: its own title, or where it is."""
         return self.title or self.spec.id
 
     def owns_data(self, sheet: str, r1: int, c1: int, r2: int, c2: int) -> bool:
@@ -97,7 +99,8 @@ def blocks_of(specs: list[RegressionSpec], results: list[RegressionResult]) -> l
     for block in blocks:
         place = f"{block.sheet}!{column_letter(block.top[1])}{block.top[0]}"
         label = block.spec.label
-        block.title = f"{label} ({place})" if label and titles.count(label) == 1 else place
+        unique = label and titles.count(label) == 1
+        block.title = f"block '{label}' ({place})" if unique else f"the block at {place}"
     return blocks
 
 
@@ -156,10 +159,28 @@ def _corner_form(corner: Corner, origin: tuple[int, int], tag: str) -> str:
     return row + col
 
 
-def frame_text(ref: Reference, block: Block, cell_sheet: str) -> str:
+def _is(target: Ref, meant: Ref) -> bool:
+    return (
+        target.sheet.lower() == meant.sheet.lower()
+        and (target.c1, target.c2) == (meant.c1, meant.c2)
+        and (target.r1, target.r2) == (meant.r1, meant.r2)
+    )
+
+
+def frame_text(ref: Reference, block: Block, cell_sheet: str, coarse: bool = False) -> str:
+    """One reference in frame form; ``coarse`` writes every reference into the block's own data
+    as ``{data}``, so that two forms compare equal when they differ only in which of its own
+    rows a formula reads (a range fault of the regression, not of the copy)."""
     frame = _frame_of(ref, block, cell_sheet)
     fr1, fc1, fr2, _ = block.data_box
     if frame == "data":
+        target = resolve(ref, block, cell_sheet)
+        if coarse:
+            return "{data}"
+        if target is not None and _is(target, block.spec.x):
+            return "{x}"
+        if target is not None and _is(target, block.spec.y):
+            return "{y}"
         start = _corner_form(ref.start, (fr1, fc1), "s")
         end = "" if ref.end is None else ":" + _corner_form(ref.end, (fr2, fc1), "e")
         return "{data " + start + end + "}"
@@ -188,9 +209,27 @@ def _a1(ref: Reference) -> str:
     return ref.prefix + one(ref.start) + ("" if ref.end is None else ":" + one(ref.end))
 
 
-def frame_form(formula: str, block: Block, cell_sheet: str) -> str:
-    """The formula with spelling normalised and each reference in its frame (module doc)."""
-    return rewrite_references(canonical(formula), lambda ref: frame_text(ref, block, cell_sheet))
+Names = Callable[[str, str], str | None]  # (name, sheet) -> the reference it stands for
+
+
+def no_names(_name: str, _sheet: str) -> str | None:
+    return None
+
+
+def frame_form(
+    formula: str, block: Block, cell_sheet: str, coarse: bool = False, names: Names = no_names
+) -> str:
+    """The formula with spelling normalised, defined names replaced by what they refer to, and
+    each reference in its frame (module doc)."""
+    return rewrite_references(
+        canonical(formula),
+        lambda ref: frame_text(ref, block, cell_sheet, coarse),
+        expand=lambda operand: names(operand, cell_sheet),
+    )
+
+
+def frame_of(ref: Reference, block: Block, cell_sheet: str) -> str:
+    return _frame_of(ref, block, cell_sheet)
 
 
 def _quoted(sheet: str) -> str:

@@ -118,7 +118,7 @@ def _finding(
     value = _reported(block, cell)
     reached = reached_cells(block.spec, cell, context.parsed)
     beside = (
-        f"the same cell of {model[0].name} is the formula {model[1]}"
+        f"the same cell of its sibling, {model[0].name}, is the formula {model[1]}"
         if model is not None
         else "the rest of its block is computed by formulas"
     )

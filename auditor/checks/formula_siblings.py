@@ -19,10 +19,12 @@ from dataclasses import dataclass
 from auditor.checks.base import check
 from auditor.checks.formula_blocks import (
     Block,
+    Names,
     Position,
     blocks_of,
     frame_form,
-    frame_text,
+    frame_of,
+    no_names,
     repoint,
     resolve,
     sibling_groups,
@@ -45,9 +47,27 @@ class Member:
     sheet: str
     formula: str
     form: str
+    coarse: str  # the form with every reference into its own data as {data}
+    names: Names
+
+    def references(self) -> list[Reference]:
+        return references(self.formula, lambda operand: self.names(operand, self.sheet))
 
 
-def _members(group: list[Block], covered: set[str]) -> dict[Position, list[Member]]:
+def _names(context: WorkbookContext) -> Names:
+    """Defined names as the references they stand for (sheet scope first)."""
+    workbook = context.workbook
+    if workbook is None:
+        return no_names
+
+    def resolve(name: str, sheet: str) -> str | None:
+        refers_to = workbook.resolve_name(name, sheet)
+        return refers_to.lstrip("=") if refers_to else None
+
+    return resolve
+
+
+def _members(group: list[Block], covered: set[str], names: Names) -> dict[Position, list[Member]]:
     by_position: dict[Position, list[Member]] = {}
     for block in group:
         for position, stat in block.cells.items():
@@ -55,10 +75,12 @@ def _members(group: list[Block], covered: set[str]) -> dict[Position, list[Membe
             if not formula or stat.cell.address in covered:
                 continue
             try:
-                form = frame_form(formula, block, stat.cell.sheet)
+                form = frame_form(formula, block, stat.cell.sheet, names=names)
+                coarse = frame_form(formula, block, stat.cell.sheet, coarse=True, names=names)
             except FormulaError:
                 continue
-            member = Member(block, position, stat.cell.address, stat.cell.sheet, formula, form)
+            cell = stat.cell
+            member = Member(block, position, cell.address, cell.sheet, formula, form, coarse, names)
             by_position.setdefault(position, []).append(member)
     return {p: ms for p, ms in by_position.items() if len({m.block.index for m in ms}) > 1}
 
@@ -86,7 +108,7 @@ def _severity(context: WorkbookContext, member: Member) -> Severity:
 def _points_back(member: Member, group: list[Block]) -> tuple[Reference, Block] | None:
     """The first reference of the member's formula into another sibling's data or results."""
     own = member.block
-    for ref in references(member.formula):
+    for ref in member.references():
         target = resolve(ref, own, member.sheet)
         if target is None:
             continue
@@ -129,7 +151,7 @@ def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
     findings: list[Finding] = []
     for group in sibling_groups(blocks_of(context.specs, context.results)):
         reported: set[str] = set()
-        members = _members(group, covered)
+        members = _members(group, covered, _names(context))
         for position_members in members.values():
             for member in position_members:
                 back = _points_back(member, group)
@@ -143,8 +165,8 @@ def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
                         context,
                         member,
                         _severity(context, member),
-                        f"{member.cell} ({member.block.name}) uses {_text(ref)}, which belongs "
-                        f"to the sibling block {other.name}: {member.formula}. The block was "
+                        f"{member.cell}, in {member.block.name}, uses {_text(ref)}, which belongs "
+                        f"to its sibling, {other.name}: {member.formula}. The block was "
                         "copied and this reference still points back.",
                         f"Point it at this block's own data: {fix}",
                     )
@@ -156,20 +178,13 @@ def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
     return findings
 
 
-def _pattern(members: list[Member]) -> str:
-    counts = Counter(m.form for m in members)
-
-    def rank(form: str) -> tuple[int, int, int]:
-        holders = [m for m in members if m.form == form]
-        wrong = sum(_wrong(m) for m in holders)
-        return (-counts[form], wrong, min(m.block.index for m in holders))
-
-    return min(counts, key=rank)
-
-
-def _wrong(member: Member) -> bool:
-    value = next((v for v in member.block.result.reported.values() if v.cell == member.cell), None)
-    return value is not None and value.verdict == "mismatch"
+def _pattern(members: list[Member]) -> str | None:
+    """The form most siblings share, if at least two do and no other form is as common: with
+    two blocks that differ, or every block different, there is no pattern to break."""
+    ranked = Counter(m.form for m in members).most_common()
+    if ranked[0][1] < 2 or (len(ranked) > 1 and ranked[1][1] == ranked[0][1]):
+        return None
+    return ranked[0][0]
 
 
 def _breaks(context: WorkbookContext, members: list[Member], reported: set[str]) -> list[Finding]:
@@ -177,12 +192,14 @@ def _breaks(context: WorkbookContext, members: list[Member], reported: set[str])
     if len({m.form for m in live}) < 2:
         return []
     pattern = _pattern(live)
+    if pattern is None:
+        return []
     model = next(m for m in live if m.form == pattern)
     holders = [m.cell for m in live if m.form == pattern and m is not model]
     out = []
     for member in live:
-        if member.form == pattern:
-            continue
+        if member.form == pattern or member.coarse == model.coarse:
+            continue  # the same formula over other rows of its own data: ranges-disagree's
         reported.add(member.cell)
         fixed = translate(model.formula, model.block, model.sheet, member.block)
         also = ", ".join(holders[:3]) + ("…" if len(holders) > 3 else "")
@@ -192,7 +209,7 @@ def _breaks(context: WorkbookContext, members: list[Member], reported: set[str])
                 context,
                 member,
                 _severity(context, member),
-                f"{member.cell} ({member.block.name}) does not follow its sibling blocks: here "
+                f"{member.cell}, in {member.block.name}, does not follow its sibling blocks: here "
                 f"{member.formula}, while {model.cell} computes {model.formula} on its own "
                 f"data{also}.",
                 f"If the blocks are meant to compute the same statistic, use {fixed}.",
@@ -203,11 +220,11 @@ def _breaks(context: WorkbookContext, members: list[Member], reported: set[str])
 
 def _anchors(member: Member) -> list[bool]:
     """For each reference into the block's own data: is it anchored with $?"""
-    flags = []
-    for ref in references(member.formula):
-        if frame_text(ref, member.block, member.sheet).startswith("{data"):
-            flags.append(ref.anchored)
-    return flags
+    return [
+        ref.anchored
+        for ref in member.references()
+        if frame_of(ref, member.block, member.sheet) == "data"
+    ]
 
 
 def _anchoring(
@@ -235,8 +252,8 @@ def _anchoring(
                 context,
                 member,
                 "minor",
-                f"{member.cell} ({member.block.name}) anchors its data with $: "
-                f"{member.formula}, while {model.cell} ({model.block.name}) uses relative "
+                f"{member.cell}, in {member.block.name}, anchors its data with $: "
+                f"{member.formula}, while {model.cell}, in {model.block.name}, uses relative "
                 "references. The value is right, but a copy of this block will keep reading "
                 "these cells.",
                 f"Use relative references: "

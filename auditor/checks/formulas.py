@@ -4,8 +4,13 @@ each call should pair x and y from the same rows."""
 from __future__ import annotations
 
 from auditor.checks.base import RegressionContext, check
-from auditor.checks.formula_support import local_text, reached_cells, severity_in_regression
-from auditor.formula import Ref
+from auditor.checks.formula_support import (
+    local_text,
+    parse_quietly,
+    reached_cells,
+    severity_in_regression,
+)
+from auditor.formula import Node, Ref, RefNode, calls
 from auditor.locate import PairUse
 from auditor.model import Finding, Severity
 
@@ -72,10 +77,12 @@ def ranges_disagree(context: RegressionContext) -> list[Finding]:
     range-mismatch), ``=STEYX(B5:B16,A5:A16)`` (moved a row: range-shifted),
     ``=SLOPE(A4:A13,B4:B13)`` (x and y swapped), or a block copied across whose STEYX still names
     the first block's columns (``$E$3:$E$12``: copied-block).
+    Also ``=COUNT(A4:A15)-2`` for df beside ranges that run to row 17 (range-mismatch): every
+    statistic, not only the pair functions, must read the regression's x and y ranges.
     Passing: all calls name A4:A15 and B4:B15.
     """
     spec = context.spec
-    findings = []
+    findings = _other_readers(context)
     for use in spec.uses:
         if use.x == spec.x and use.y == spec.y:
             continue
@@ -102,6 +109,64 @@ def ranges_disagree(context: RegressionContext) -> list[Finding]:
             )
         )
     return findings
+
+
+def _other_readers(context: RegressionContext) -> list[Finding]:
+    """Statistic cells built by hand (COUNT, DEVSQ, AVERAGE, STDEV over the data) whose range
+    over the x or y column differs from the regression's."""
+    spec = context.spec
+    pair_cells = {u.cell.address for u in spec.uses}
+    findings = []
+    for stat in spec.stats.values():
+        cell = stat.cell
+        if cell.address in pair_cells or stat.how == "linest-block":
+            continue
+        node = parse_quietly(cell.formula, cell.sheet)
+        if node is None:
+            continue
+        for call, used, meant, axis in _column_readers(node, spec.x, spec.y):
+            moved = shift(used, meant)
+            kind = "range-shifted" if moved else "range-mismatch"
+            moved_text = f" (the same range moved {_moved(*moved)})" if moved else ""
+            findings.append(
+                Finding(
+                    check="ranges-disagree",
+                    kind=kind,
+                    severity=severity_in_regression(context, reached_cells(spec, cell.address)),
+                    cells=[cell.address],
+                    message=(
+                        f"{call} in {cell.address} reads {used.address}, while the regression's "
+                        f"{axis} range is {meant.address}{moved_text}."
+                    ),
+                    evidence={"function": call, "used": used.address, axis: meant.address},
+                    fix=f"Use {local_text(meant.address, cell.sheet)} in {cell.address}, as "
+                    "the other statistics do.",
+                )
+            )
+            break  # one finding a cell: the fix is the same for every range in it
+    return findings
+
+
+def _column_readers(node: Node, x: Ref, y: Ref) -> list[tuple[str, Ref, Ref, str]]:
+    """(function, range used, range meant, "x" or "y") for each call argument that reads part of
+    the x or y column over other rows."""
+    found = []
+    for call in calls(node):
+        for arg in call.args:
+            if not isinstance(arg, RefNode) or arg.ref.whole_column or arg.ref.rows < 2:
+                continue
+            used = arg.ref
+            for meant, axis in ((x, "x"), (y, "y")):
+                if (
+                    used.sheet.lower() == meant.sheet.lower()
+                    and (used.c1, used.c2) == (meant.c1, meant.c2)
+                    and (used.r1, used.r2) != (meant.r1, meant.r2)
+                    and used.r1 <= meant.r2
+                    and meant.r1 <= used.r2
+                    and not meant.whole_column
+                ):
+                    found.append((call.name, used, meant, axis))
+    return found
 
 
 @check(

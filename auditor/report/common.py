@@ -179,7 +179,7 @@ def stat_order(key: str) -> tuple[int, int, str]:
 
 # The design metrics regaudit knows by name; any other key is shown with its own name.
 DESIGN_LABELS: dict[str, str] = {
-    "sxx": "Sxx, the spread of x (sum of squared deviations)",
+    "sxx": "Sxx (spread of x)",
     "x_min": "smallest x",
     "x_max": "largest x",
     "levels": "distinct x levels",

@@ -54,22 +54,17 @@ def _catalogue() -> Mapping[str, Any]:
 
 
 _LABEL = re.compile(r"^(Failing|Passing|Severity):")
+_LABEL_ANYWHERE = re.compile(r"(?<!\S)(?=(?:Failing|Passing|Severity):)")
 
 
 def doc_sections(doc: str) -> list[str]:
-    """A check's docstring as paragraphs, each labelled line (``Failing:``…) starting its own."""
-    sections: list[list[str]] = []
-    current: list[str] | None = None
-    for line in doc.strip().splitlines():
-        text = line.strip()
-        if not text:
-            current = None
-            continue
-        if current is None or _LABEL.match(text):
-            current = []
-            sections.append(current)
-        current.append(text)
-    return [" ".join(lines) for lines in sections]
+    """A check's docstring as paragraphs; each ``Failing:``/``Passing:``/``Severity:`` label
+    starts a section of its own, at the start of a line or within one."""
+    sections: list[str] = []
+    for paragraph in re.split(r"\n\s*\n", doc.strip()):
+        text = " ".join(paragraph.split())
+        sections += [part.strip() for part in _LABEL_ANYWHERE.split(text) if part.strip()]
+    return sections
 
 
 def _example(sections: list[str], label: str) -> str | None:

@@ -9,6 +9,7 @@ are a separate series with their own marker, so they stand out in grey print as 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 from xlsxwriter import Workbook
 from xlsxwriter.worksheet import Worksheet
@@ -19,11 +20,12 @@ CHART_GAP = 12
 POINT_COLOUR = "#24456B"  # slate, as "info": the data themselves
 LINE_COLOUR = "#7A3E00"  # clay: the fit
 DROPPED_COLOUR = "#6B1D5C"  # plum, as "mismatch": what the author's formula missed
+SERIES_NAMES = ("seen by the author's formula", "missed by the author's formula")
 
 
 @dataclass(frozen=True)
 class Block:
-    """Rows ``first``..``last`` (0-based, inclusive) of the used or dropped columns."""
+    """Rows ``first``..``last`` (0-based, inclusive) of the used-points columns."""
 
     first: int
     last: int
@@ -36,14 +38,13 @@ class Block:
 @dataclass(frozen=True)
 class ChartSource:
     sheet: str
-    used: Block
+    used: Block  # every used point: the fitted line
+    seen: Block  # the used points the author's formula saw (the first rows of ``used``)
+    missed: Block  # those it did not see (the last rows): their own series
     x_col: int  # the first used x column (one x) or the fitted column (several)
     y_col: int
     fitted_col: int
     residual_col: int
-    dropped: Block
-    dropped_x_col: int
-    dropped_y_col: int
     x_title: str
     y_title: str
     against_fitted: bool
@@ -66,25 +67,37 @@ def _points(name: str, colour: str, marker: str, size: int = 6) -> dict[str, obj
     }
 
 
-def _axes(chart: object, x_title: str, y_title: str) -> None:
+def _axes(chart: Any, x_title: str, y_title: str) -> None:
     grid = {"visible": True, "line": {"color": "#E2E2E2"}}
-    chart.set_x_axis(  # type: ignore[attr-defined]
-        {"name": x_title, "major_gridlines": grid, "label_position": "low"}
-    )
-    chart.set_y_axis({"name": y_title, "major_gridlines": grid})  # type: ignore[attr-defined]
-    chart.set_legend({"position": "bottom"})  # type: ignore[attr-defined]
-    chart.set_size({"width": CHART_WIDTH, "height": CHART_HEIGHT})  # type: ignore[attr-defined]
+    chart.set_x_axis({"name": x_title, "major_gridlines": grid, "label_position": "low"})
+    chart.set_y_axis({"name": y_title, "major_gridlines": grid})
+    chart.set_legend({"position": "bottom"})
+    chart.set_size({"width": CHART_WIDTH, "height": CHART_HEIGHT})
 
 
-def fit_chart(book: Workbook, source: ChartSource) -> object:
-    chart = book.add_chart({"type": "scatter", "subtype": "straight"})
-    assert chart is not None
-    observed = _points("points used", POINT_COLOUR, "circle")
-    observed |= {
-        "categories": _ref(source, source.used, source.x_col),
-        "values": _ref(source, source.used, source.y_col),
-    }
-    chart.add_series(observed)
+def _point_series(chart: Any, source: ChartSource, value_col: int, names: tuple[str, str]) -> None:
+    """The seen points, then the missed ones in a shape and colour of their own."""
+    seen_name, missed_name = names if not source.missed.empty else ("points used", "")
+    if not source.seen.empty:
+        series = _points(seen_name, POINT_COLOUR, "circle")
+        series |= {
+            "categories": _ref(source, source.seen, source.x_col),
+            "values": _ref(source, source.seen, value_col),
+        }
+        chart.add_series(series)
+    if not source.missed.empty:
+        # A different shape as well as a different colour: it must show in grey print too.
+        series = _points(missed_name, DROPPED_COLOUR, "triangle", 8)
+        series |= {
+            "categories": _ref(source, source.missed, source.x_col),
+            "values": _ref(source, source.missed, value_col),
+        }
+        chart.add_series(series)
+
+
+def fit_chart(book: Workbook, source: ChartSource) -> Any:
+    chart: Any = book.add_chart({"type": "scatter", "subtype": "straight"})
+    _point_series(chart, source, source.y_col, SERIES_NAMES)
     chart.add_series(
         {
             "name": "line of equality" if source.against_fitted else "fitted line",
@@ -94,34 +107,22 @@ def fit_chart(book: Workbook, source: ChartSource) -> object:
             "line": {"color": LINE_COLOUR, "width": 1.5},
         }
     )
-    if not source.dropped.empty:
-        dropped = _points("not seen by the author's formula", DROPPED_COLOUR, "diamond", 8)
-        dropped |= {
-            "categories": _ref(source, source.dropped, source.dropped_x_col),
-            "values": _ref(source, source.dropped, source.dropped_y_col),
-        }
-        chart.add_series(dropped)
     title = "Observed against fitted" if source.against_fitted else "Data and fitted line"
     chart.set_title({"name": title, "name_font": {"size": 11, "bold": True}})
     _axes(chart, source.x_title, source.y_title)
     return chart
 
 
-def residual_chart(book: Workbook, source: ChartSource) -> object:
-    chart = book.add_chart({"type": "scatter"})
-    assert chart is not None
-    series = _points("residual", POINT_COLOUR, "circle")
-    series |= {
-        "categories": _ref(source, source.used, source.x_col),
-        "values": _ref(source, source.used, source.residual_col),
-    }
-    chart.add_series(series)
+def residual_chart(book: Workbook, source: ChartSource) -> Any:
+    chart: Any = book.add_chart({"type": "scatter"})
+    _point_series(chart, source, source.residual_col, SERIES_NAMES)
     against = "fitted value" if source.against_fitted else "x"
     chart.set_title(
         {"name": f"Residuals against {against}", "name_font": {"size": 11, "bold": True}}
     )
     _axes(chart, source.x_title, "residual (y minus fitted)")
-    chart.set_legend({"none": True})
+    if source.missed.empty:
+        chart.set_legend({"none": True})  # one series needs no legend
     return chart
 
 

@@ -77,7 +77,7 @@ def _style(styles: Styles, name: str) -> Any:
         return styles.for_verdict(name.split(":", 1)[1])
     if name.startswith("severity:"):
         return styles.for_severity(name.split(":", 1)[1])
-    return styles.number if name == "number" else styles.top
+    return styles.count if name == "number" else styles.top  # counts sit left, beside text
 
 
 def stat_rows(regression: RegressionResult) -> list[tuple[str, ReportedValue | None, Any]]:
@@ -98,13 +98,13 @@ def _statistics(out: SheetWriter, ref: DetailRef, top: int) -> None:
     styles = out.styles
     out.put(top, 0, "Statistics: reported, as written, intended", styles.section, fit=False)
     for col, text in enumerate(STAT_HEADERS):
-        out.header(top + 1, col, text)
+        out.header(top + 1, col, text, numeric=col in (1, 2, 3))
     for offset, (key, reported, intended) in enumerate(stat_rows(ref.regression)):
         row = top + 2 + offset
         out.put(row, 0, stat_label(key), styles.top)
         out.num(row, 3, intended)
         if reported is None:
-            out.put(row, 4, "not reported", styles.muted)
+            out.put(row, 4, "not reported", styles.muted_indented)
             continue
         kind = "mismatch" if reported.verdict == "mismatch" else "plain"
         if reported.source in ("typed", "text"):
@@ -158,7 +158,7 @@ def detail_sheet(book: Workbook, styles: Styles, ref: DetailRef) -> None:
     title = f"{ref.sheet}: regression {regression.id}"
     out.put(0, 0, title, styles.title, fit=False)
     out.link(1, 0, internal_link("Regressions"), "back to Regressions", fit=False)
-    out.source(1, 1, ref.workbook.path, anchor_cell(regression), "open the source cell")
+    out.source(1, 1, ref.workbook.path, anchor_cell(regression), "open the source cell", fit=False)
 
     ident = _identification(ref)
     for offset, (label, value, style) in enumerate(ident):
@@ -178,7 +178,8 @@ def detail_sheet(book: Workbook, styles: Styles, ref: DetailRef) -> None:
     write_design(out, regression, design_top, snapshot.ranges)
     _findings(out, ref, findings_top, snapshot.reason_col)
 
-    fixed = {9: NOTE_WIDTH, snapshot.reason_col: NOTE_WIDTH}
+    # Wrapped columns get a fixed width only when they hold text; empty, they fit their header.
+    fixed = {col: NOTE_WIDTH for col in (9, snapshot.reason_col) if col in out.wrapped_columns}
     widths = out.apply_widths(maximum=44, fixed=fixed)
 
     # The charts go right of the longest identification value, so they never cover it.

@@ -100,7 +100,11 @@ def stat_templates(regression: RegressionResult) -> dict[str, str]:
 
 def design_templates(regression: RegressionResult) -> dict[str, str]:
     if regression.x_columns == 1:
-        return dict(DESIGN_SIMPLE)
+        templates = dict(DESIGN_SIMPLE)
+        if not regression.intercept:
+            # Through the origin SE(slope) = s / sqrt(sum of x squared): Sxx is not centred.
+            templates["sxx"] = "SUMSQ({x})"
+        return templates
     # With several x columns the design's range is that of the first; levels count rows.
     return {key: DESIGN_SIMPLE[key] for key in ("x_min", "x_max")}
 

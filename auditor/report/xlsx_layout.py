@@ -26,6 +26,7 @@ NUMBER_DISPLAY = 11  # "General" shows about this many characters of a long numb
 FILTER_BUTTON = 3  # characters a table header needs for its filter arrow
 DEFAULT_WIDTH = 8.43  # Excel's default column width, in characters
 LINE_HEIGHT = 15  # points per line of 11-point text
+TEXT_PER_DIGIT = 1.15  # characters of running text per unit of column width (measured in LO)
 
 
 @dataclass(frozen=True)
@@ -118,6 +119,7 @@ class SheetWriter:
         self.styles = styles
         self.widths: dict[int, int] = {}
         self.wrapped: list[tuple[int, int, int, str]] = []  # row, first col, last col, text
+        self.wrapped_columns: set[int] = set()  # columns with wrapped text (headers aside)
 
     def fit(self, col: int, length: int) -> None:
         self.widths[col] = max(self.widths.get(col, 0), length)
@@ -134,6 +136,7 @@ class SheetWriter:
         put(self.sheet, row, col, value, cell_format)
         if wrap and value:
             self.wrapped.append((row, col, col, str(value)))
+            self.wrapped_columns.add(col)
         elif fit:
             self.fit(col, display_length(value))
 
@@ -150,9 +153,14 @@ class SheetWriter:
         self.sheet.merge_range(row, first, row, last, text, cell_format)
         self.wrapped.append((row, first, last, text))
 
-    def header(self, row: int, col: int, text: str, filtered: bool = False) -> None:
-        """A header cell; it wraps, so only its longest word must fit."""
-        put(self.sheet, row, col, text, self.styles.header)
+    def header(
+        self, row: int, col: int, text: str, filtered: bool = False, numeric: bool = False
+    ) -> None:
+        """A header cell; it wraps, so only its longest word must fit.
+
+        ``numeric`` aligns it right, over the right-aligned numbers of its column.
+        """
+        put(self.sheet, row, col, text, self.styles.header_right if numeric else self.styles.header)
         longest = max((len(word) for word in text.split()), default=0)
         self.fit(col, longest + (FILTER_BUTTON if filtered else 0))
         self.wrapped.append((row, col, col, text + " " * (FILTER_BUTTON if filtered else 0)))
@@ -162,15 +170,18 @@ class SheetWriter:
         if fit:
             self.fit(col, len(text))
 
-    def source(self, row: int, col: int, path: str, cell: str, text: str = "") -> None:
+    def source(
+        self, row: int, col: int, path: str, cell: str, text: str = "", fit: bool = True
+    ) -> None:
         """A link into a source workbook, or plain text when no link can be made."""
         text = text or cell
         target = source_link(path, cell)
         if target is None:
-            self.put(row, col, text, self.styles.top)
+            self.put(row, col, text, self.styles.top, fit=fit)
             return
         self.sheet.write_formula(row, col, hyperlink_formula(target, text), self.styles.link, text)
-        self.fit(col, len(text))
+        if fit:
+            self.fit(col, len(text))
 
     def apply_widths(
         self, minimum: int = 6, maximum: int = 50, fixed: dict[int, float] | None = None
@@ -194,10 +205,26 @@ class SheetWriter:
         return widths
 
 
-def add_table(sheet: Worksheet, name: str, headers: list[str], rows: int, styles: Styles) -> None:
-    """An Excel table over the header and ``rows`` data rows, with filters and a frozen header."""
+def add_table(
+    sheet: Worksheet,
+    name: str,
+    headers: list[str],
+    rows: int,
+    styles: Styles,
+    numeric: frozenset[str] = frozenset(),
+) -> None:
+    """An Excel table over the header and ``rows`` data rows, with filters and a frozen header.
+
+    The headers of ``numeric`` columns are aligned right, over their numbers.
+    """
     last_row = max(rows, 1)  # a table needs one data row; an empty result gets a blank one
-    columns = [{"header": header, "header_format": styles.header} for header in headers]
+    columns = [
+        {
+            "header": header,
+            "header_format": styles.header_right if header in numeric else styles.header,
+        }
+        for header in headers
+    ]
     sheet.add_table(
         0,
         0,
@@ -210,7 +237,8 @@ def add_table(sheet: Worksheet, name: str, headers: list[str], rows: int, styles
 
 def text_lines(text: str, width: float) -> int:
     """How many lines ``text`` wraps to in a column ``width`` characters wide (an estimate)."""
-    usable = max(int(width) - 1, 1)
+    # A column's width counts digit widths; ordinary text runs about 15% narrower.
+    usable = max(int(width * TEXT_PER_DIGIT) - 1, 1)
     total = 0
     for paragraph in text.splitlines() or [""]:
         # Word wrap: a word that does not fit on the line starts the next one.

@@ -12,7 +12,14 @@ import json
 from xlsxwriter.utility import xl_rowcol_to_cell
 
 from auditor.model import RegressionResult
-from auditor.report.common import design_label, finite_or_none, is_number, plain, stat_label
+from auditor.report.common import (
+    MISSING,
+    design_label,
+    finite_or_none,
+    is_number,
+    plain,
+    stat_label,
+)
 from auditor.report.xlsx_formulas import (
     LiveFormula,
     agreement_formula,
@@ -54,7 +61,7 @@ def _row(out: SheetWriter, row: int, label: str, value: object, live: LiveFormul
     shown = finite_or_none(value)
     if not is_number(shown) and shown is not None and not isinstance(shown, str):
         shown = json.dumps(plain(shown), ensure_ascii=False)  # lists and tables of a metric
-    out.num(row, 1, shown)
+    out.num(row, 1, MISSING if shown is None else shown)
     if live is None:
         return
     out.sheet.write_formula(row, 2, live.formula, styles.numeric(live.value, "live"), live.value)
@@ -100,7 +107,7 @@ def write_live(
         fit=False,
     )
     for col, text in enumerate(LIVE_HEADERS):
-        out.header(top + 2, col, text)
+        out.header(top + 2, col, text, numeric=col in (1, 2))
     first = top + 3
     formulas = _formulas(templates, regression.intended, keys, first, ranges)
     for offset, key in enumerate(keys):
@@ -123,7 +130,7 @@ def write_design(
     styles = out.styles
     out.put(top, 0, "Design of x", styles.section, fit=False)
     for col, text in enumerate(DESIGN_HEADERS):
-        out.header(top + 1, col, text)
+        out.header(top + 1, col, text, numeric=col in (1, 2))
     first = top + 2
     keys = list(regression.design)
     templates = design_templates(regression)

@@ -146,7 +146,7 @@ def _guide(out: _Cursor, refs: list[DetailRef]) -> None:
             "statistic, live formulas and two charts per regression",
         )
     for name, meaning in THREE_VALUES:
-        out.line(name, meaning, out.styles.top)
+        out.line(name, meaning)
 
 
 def _legend(out: _Cursor) -> None:

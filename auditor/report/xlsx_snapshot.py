@@ -3,7 +3,8 @@
 The snapshot lists every row of the intended data table as regaudit saw it: x, y, whether the
 intended fit used it, whether the author's formula saw it, why not, and the fitted value, residual,
 leverage and Cook's distance. To its right, the used points are repeated in columns of their own,
-so that SLOPE() and the charts need no filtering; then the points the author's formula missed.
+so that SLOPE() and the charts need no filtering: first those the author's formula saw, then those
+it missed, so that each chart series reads one contiguous range.
 """
 
 from __future__ import annotations
@@ -53,15 +54,17 @@ def _table(out: SheetWriter, regression: RegressionResult, top: int) -> int:
     k = regression.x_columns
     headers = ["source row", *x_headers(k), "y", "in intended fit", "seen by author's formula"]
     headers += ["fitted", "residual", "leverage", "Cook's distance", "why"]
+    flags = {"source row", "in intended fit", "seen by author's formula", "why"}
     for col, text in enumerate(headers):
-        out.header(top, col, text)
+        out.header(top, col, text, numeric=text not in flags)
     for offset, point in enumerate(regression.data, start=1):
         row = top + offset
         differs = point.used != point.used_as_written
         flag = styles.mismatch if differs else styles.top
         # The data as read (General shows them as typed); what regaudit computed, 6 digits.
         raw = [point.row, *(_x(point, j) for j in range(k)), point.y]
-        for col, value in enumerate(raw):
+        out.put(row, 0, point.row, styles.count)  # a row number names a row: left, like text
+        for col, value in enumerate(raw[1:], start=1):
             out.put(row, col, value, styles.number)
         col = len(raw)
         out.put(row, col, "yes" if point.used else "no", flag)
@@ -92,30 +95,26 @@ def write_snapshot(
     reason_col = _table(out, regression, header_row)
     first = header_row + 1
 
+    # The used points again, those the author's formula saw first and those it missed last:
+    # the formulas read the whole block, each chart series a contiguous part of it.
     used = [p for p in regression.data if p.used]
+    seen = [p for p in used if p.used_as_written]
+    used = seen + [p for p in used if not p.used_as_written]
     used_col = reason_col + 2  # one empty column keeps the two blocks apart
     used_headers = [f"{h} used" for h in x_headers(k)] + ["y used", "fitted", "residual"]
     for col, text in enumerate(used_headers, start=used_col):
-        out.header(header_row, col, text)
+        out.header(header_row, col, text, numeric=True)
+    seen_col = used_col + k + 3
+    out.header(header_row, seen_col, "seen by author's formula")
     for offset, point in enumerate(used):
         row = first + offset
         for col, value in enumerate([*(_x(point, j) for j in range(k)), point.y], start=used_col):
             out.put(row, col, value, styles.number)
         out.num(row, used_col + k + 1, point.fitted)
         out.num(row, used_col + k + 2, point.residual)
+        flag = styles.top if point.used_as_written else styles.mismatch
+        out.put(row, seen_col, "yes" if point.used_as_written else "no", flag)
     y_col, fitted_col, residual_col = used_col + k, used_col + k + 1, used_col + k + 2
-
-    # Points the intended fit uses but the author's formula did not see (short range, text).
-    missed = [p for p in used if not p.used_as_written]
-    dropped_col = residual_col + 2
-    against_fitted = k > 1
-    first_header = "fitted" if against_fitted else "x"
-    for col, text in enumerate((f"{first_header} not seen", "y not seen"), start=dropped_col):
-        out.header(header_row, col, text)
-    for offset, point in enumerate(missed):
-        horizontal = point.fitted if against_fitted else _x(point, 0)
-        out.num(first + offset, dropped_col, horizontal)
-        out.put(first + offset, dropped_col + 1, point.y, styles.number)
 
     last_used = first + len(used) - 1
     ranges: dict[str, str] = {}
@@ -125,16 +124,16 @@ def write_snapshot(
             "X": _absolute(first, used_col, last_used, used_col + k - 1),
             "y": _absolute(first, y_col, last_used, y_col),
         }
+    against_fitted = k > 1
     chart = ChartSource(
         sheet=sheet_name,
         used=Block(first, last_used),
+        seen=Block(first, first + len(seen) - 1),
+        missed=Block(first + len(seen), last_used),
         x_col=fitted_col if against_fitted else used_col,
         y_col=y_col,
         fitted_col=fitted_col,
         residual_col=residual_col,
-        dropped=Block(first, first + len(missed) - 1),
-        dropped_x_col=dropped_col,
-        dropped_y_col=dropped_col + 1,
         x_title="fitted value"
         if against_fitted
         else axis_title("x", regression.intended_x_range or regression.x_range),

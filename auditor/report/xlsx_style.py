@@ -68,7 +68,9 @@ def shown_number(value: float, digits: int = SIGNIFICANT) -> str:
 
 
 def _coloured(book: Workbook, text: str, fill: str) -> Format:
-    return book.add_format({"bold": True, "valign": "top", "font_color": text, "bg_color": fill})
+    # The indent keeps the word clear of a right-aligned number in the cell to its left.
+    properties = {"bold": True, "valign": "top", "font_color": text, "bg_color": fill}
+    return book.add_format(properties | {"indent": 1})
 
 
 class Styles:
@@ -83,6 +85,17 @@ class Styles:
         self.header: Format = book.add_format(
             {"bold": True, "bg_color": HEADER_FILL, "bottom": 1, "text_wrap": True, "valign": "top"}
         )
+        self.header_right: Format = book.add_format(
+            {
+                "bold": True,
+                "bg_color": HEADER_FILL,
+                "bottom": 1,
+                "text_wrap": True,
+                "valign": "top",
+                "align": "right",
+                "indent": 1,  # keeps it clear of a left-aligned header to its right
+            }
+        )
         self.top: Format = book.add_format({"valign": "top"})
         self.wrapped: Format = book.add_format({"valign": "top", "text_wrap": True})
         self.number: Format = book.add_format({"valign": "top", "num_format": "General"})
@@ -90,11 +103,14 @@ class Styles:
         self.link: Format = book.add_format(
             {"valign": "top", "font_color": "#1F4E9A", "underline": 1}
         )
-        self.live: Format = book.add_format({"valign": "top", "bg_color": LIVE_FILL})
+        self.live: Format = book.add_format({"valign": "top", "bg_color": LIVE_FILL, "indent": 1})
         self.formula_text: Format = book.add_format(
             {"valign": "top", "font_name": "Courier New", "font_size": 9, "font_color": "#333333"}
         )
         self.muted: Format = book.add_format({"valign": "top", "font_color": "#666666"})
+        self.muted_indented: Format = book.add_format(
+            {"valign": "top", "font_color": "#666666", "indent": 1}
+        )
         # A reported value that disagrees: bold on the mismatch fill; the verdict column says so.
         self.mismatch: Format = book.add_format(
             {"valign": "top", "bold": True, "bg_color": MISMATCH_FILL}

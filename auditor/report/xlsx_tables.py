@@ -12,7 +12,13 @@ from typing import Any
 from xlsxwriter import Workbook
 
 from auditor.model import SEVERITY_RANK, AuditResult, Finding, RegressionResult
-from auditor.report.common import TABLE_STATS, plain, reported_and_intended, short_paths
+from auditor.report.common import (
+    TABLE_STATS,
+    format_value,
+    plain,
+    reported_and_intended,
+    short_paths,
+)
 from auditor.report.xlsx_layout import (
     DetailRef,
     SheetWriter,
@@ -42,6 +48,19 @@ def compact_json(evidence: dict[str, Any]) -> str:
     if not evidence:
         return ""
     return json.dumps(plain(evidence), ensure_ascii=False, allow_nan=False, separators=(", ", ": "))
+
+
+def evidence_text(evidence: dict[str, Any]) -> str:
+    """Evidence as a reviewer reads it: "reported: 0.0213; two tailed: 0.0426" (audit.json keeps
+    every digit; nested values stay compact JSON)."""
+    parts = []
+    for key, value in plain(evidence).items():
+        if isinstance(value, (dict, list)):
+            text = json.dumps(value, ensure_ascii=False, separators=(", ", ": "))
+        else:
+            text = format_value(key, value)
+        parts.append(f"{key.replace('_', ' ')}: {text}")
+    return "; ".join(parts)
 
 
 def ordered_findings(result: AuditResult) -> list[tuple[Finding, str, str]]:
@@ -88,7 +107,7 @@ def findings_sheet(
         else:
             out.put(row, 5, "", styles.top)
         out.put(row, 6, finding.message, styles.wrapped, wrap=True)
-        out.put(row, 7, compact_json(finding.evidence), styles.wrapped, wrap=True)
+        out.put(row, 7, evidence_text(finding.evidence), styles.wrapped, wrap=True)
         out.put(row, 8, finding.fix, styles.wrapped, wrap=True)
         out.put(row, 9, finding.waived, styles.wrapped)
     fixed = {headers.index(name): width for name, width in WRAPPED_FINDING_WIDTHS.items()}
@@ -119,8 +138,15 @@ def regressions_sheet(
     sheet = book.add_worksheet("Regressions")
     out = SheetWriter(sheet, styles)
     headers = regression_headers()
+    numeric = frozenset(
+        h
+        for h in headers
+        if h in ("n", "x columns", "findings")
+        or " " in h
+        and h.split()[-1] in ("reported", "intended")
+    )
     for col, name in enumerate(headers):
-        out.header(0, col, name, filtered=True)
+        out.header(0, col, name, filtered=True, numeric=name in numeric)
     shown = short_paths(result)
     for row, ref in enumerate(refs, start=1):
         regression = ref.regression
@@ -148,7 +174,7 @@ def regressions_sheet(
         out.put(row, col + 1, worst or "none", styles.for_severity(worst))
         out.put(row, col + 2, len(regression.findings), styles.number)
     out.apply_widths(maximum=45)
-    add_table(sheet, "RegressionsTable", headers, len(refs), styles)
+    add_table(sheet, "RegressionsTable", headers, len(refs), styles, numeric)
     sheet.freeze_panes(1, 3)  # the workbook, sheet and id stay in view while scrolling right
     print_setup(sheet, "Regressions")
     sheet.repeat_rows(0)

@@ -1,0 +1,123 @@
+"""One audit run: inputs collected, policy and bindings loaded, workbooks audited (locally or
+on a cluster), identities, waivers and a baseline applied, reports written."""
+
+from __future__ import annotations
+
+import os
+import sys
+import tomllib
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+from auditor import __version__
+from auditor.errors import UsageError
+from auditor.model import AuditResult
+
+FORMATS = ("json", "text", "xlsx")  # written by default
+
+
+def timestamp_text(option: str | None) -> str:
+    if option:
+        return option
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch:
+        try:
+            return datetime.fromtimestamp(int(epoch), tz=UTC).isoformat(timespec="seconds")
+        except ValueError as exc:
+            raise UsageError(
+                f"SOURCE_DATE_EPOCH={epoch!r} is not a whole number of seconds"
+            ) from exc
+    return datetime.now(tz=UTC).isoformat(timespec="seconds")
+
+
+def load_bindings(path: str | None) -> list[dict[str, Any]] | None:
+    if path is None:
+        return None
+    try:
+        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
+    except FileNotFoundError as exc:
+        raise UsageError(f"bindings file {path!r} does not exist") from exc
+    except tomllib.TOMLDecodeError as exc:
+        raise UsageError(f"bindings file {path!r} is not valid TOML: {exc}") from exc
+    entries = data.get("regression", [])
+    if not isinstance(entries, list) or not entries:
+        raise UsageError(f"bindings file {path!r} needs one or more [[regression]] tables")
+    for index, entry in enumerate(entries, start=1):
+        missing = [key for key in ("x", "y") if key not in entry]
+        if missing:
+            raise UsageError(
+                f"bindings file {path!r}: [[regression]] number {index} lacks {', '.join(missing)}"
+                ' (give ranges such as x = "Data!A2:A21")'
+            )
+    return list(entries)
+
+
+def run_audit(
+    inputs: list[str],
+    out_dir: Path,
+    policy_name: str = "general",
+    jobs: int = 1,
+    formats: tuple[str, ...] = FORMATS,
+    bindings_file: str | None = None,
+    timestamp: str | None = None,
+    cluster: str | None = None,
+    ship_bytes: bool = False,
+    waivers_file: str | None = None,
+    baseline_file: str | None = None,
+    write: bool = True,
+) -> AuditResult:
+    from auditor.audit import audit_batch, collect_inputs
+    from auditor.baseline import apply_baseline, describe_outcome, load_baseline
+    from auditor.identity import assign_identities, audit_root
+    from auditor.policy import load_policy
+    from auditor.report import write_reports
+    from auditor.waivers import apply_waivers, default_waiver_file, load_waivers
+    from auditor.workbook import assert_safe_xml
+
+    assert_safe_xml()
+    policy = load_policy(policy_name)
+    bindings = load_bindings(bindings_file)
+    missing = [p for p in inputs if not Path(p).exists()]
+    if missing:
+        raise UsageError(f"no such file or folder: {', '.join(repr(m) for m in missing)}")
+    paths = collect_inputs(inputs)
+    if not paths:
+        raise UsageError(
+            f"no .xlsx or .xlsm workbooks found in {', '.join(repr(p) for p in inputs)}"
+        )
+    # Read the baseline and waivers first: a typo in them should not cost a whole audit.
+    root = audit_root(inputs)
+    waiver_path = Path(waivers_file) if waivers_file else default_waiver_file(root)
+    waivers = load_waivers(waiver_path, required=waivers_file is not None)
+    baseline = load_baseline(Path(baseline_file)) if baseline_file else None
+    if cluster:
+        from auditor.cluster import audit_on_cluster
+
+        workbooks = audit_on_cluster(
+            paths, policy, bindings, cluster=cluster, ship_bytes=ship_bytes
+        )
+    else:
+        workbooks = audit_batch(paths, policy, bindings, jobs=jobs)
+    result = AuditResult(
+        version=__version__,
+        policy=policy.name,
+        workbooks=workbooks,
+        generated=timestamp_text(timestamp),
+        inputs=[str(p) for p in inputs],
+    )
+    assign_identities(result, root)
+    for unused in apply_waivers(result, waivers):
+        print(
+            f"warning: {waiver_path}: the waiver of {unused.identity} ({unused.workbook} "
+            f"{unused.cell} {unused.check}) matches no finding of this run; remove it if fixed",
+            file=sys.stderr,
+        )
+    if baseline is not None:
+        outcome = apply_baseline(result, baseline, root)
+        result = outcome.result
+        for line in describe_outcome(outcome):
+            print(line)
+    if write:
+        write_reports(result, out_dir, list(formats), input_paths=[Path(p) for p in paths])
+    return result
