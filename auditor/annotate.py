@@ -28,6 +28,7 @@ from openpyxl.styles import PatternFill
 from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.worksheet import Worksheet
 
+from auditor.errors import UnreadableWorkbook
 from auditor.model import SEVERITY_RANK, AuditResult, Finding, WorkbookResult, worst
 from auditor.report import audited_files
 from auditor.report.common import AnnotatedCopy, copy_caveat
@@ -170,12 +171,29 @@ def annotate_book(
     return len(anchors)
 
 
+def _annotate_one(
+    workbook: WorkbookResult, target: Path, result: AuditResult, inputs: set[Path]
+) -> AnnotatedCopy:
+    source = Path(workbook.path)
+    check_container(source)  # the same limits the audit applied, before inflating anything
+    losses = lossy_content(source)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        book = openpyxl.load_workbook(source, keep_links=True)
+    losses += [f'what openpyxl warned of ("{text}")' for text in _warnings(caught)]
+    notes = annotate_book(book, workbook, result, losses)
+    with atomic_output(target, inputs) as handle:
+        book.save(handle)
+    return AnnotatedCopy(workbook.path, str(target), notes, tuple(losses))
+
+
 def annotate_copies(
     result: AuditResult, out_dir: Path, input_paths: Iterable[Path | str] = ()
 ) -> list[AnnotatedCopy]:
     """Write one annotated copy per audited workbook with findings; return what was written.
 
-    Raises UsageError, before writing anything, when a copy would overwrite an audited file.
+    Raises UsageError, before writing anything, when a copy would overwrite an audited file. A
+    workbook openpyxl cannot load gets no copy; its record says why (``error``).
     """
     out_dir = Path(out_dir)
     inputs = audited_files(result) | {Path(p) for p in input_paths}
@@ -185,15 +203,10 @@ def annotate_copies(
     out_dir.mkdir(parents=True, exist_ok=True)
     copies = []
     for workbook, target in targets:
-        source = Path(workbook.path)
-        check_container(source)  # the same limits the audit applied, before inflating anything
-        losses = lossy_content(source)
-        with warnings.catch_warnings(record=True) as caught:
-            warnings.simplefilter("always")
-            book = openpyxl.load_workbook(source, keep_links=True)
-        losses += [f'what openpyxl warned of ("{text}")' for text in _warnings(caught)]
-        notes = annotate_book(book, workbook, result, losses)
-        with atomic_output(target, inputs) as handle:
-            book.save(handle)
-        copies.append(AnnotatedCopy(workbook.path, str(target), notes, tuple(losses)))
+        try:
+            copies.append(_annotate_one(workbook, target, result, inputs))
+        except (UnreadableWorkbook, OSError, ValueError, KeyError, zipfile.BadZipFile) as exc:
+            # The audit read the file its own way; if openpyxl cannot, the others still get copies.
+            why = f"no copy was made: {type(exc).__name__}: {exc}"
+            copies.append(AnnotatedCopy(workbook.path, str(target), 0, (), error=why))
     return copies

@@ -16,12 +16,14 @@ from typing import Any
 
 from auditor.checks import RegressionContext, run_regression_checks
 from auditor.checks.workbook_level import WorkbookContext, run_workbook_checks
+from auditor.design import design_metrics
+from auditor.design_inputs import DesignInputReader
 from auditor.errors import RegauditError, UnreadableWorkbook
 from auditor.evaluate import Evaluator
 from auditor.extract import extract
 from auditor.fit import FitResult, fit_ols
 from auditor.locate import Locator, RegressionSpec, locate
-from auditor.model import DataPoint, RegressionResult, WorkbookResult
+from auditor.model import DataPoint, Finding, RegressionResult, WorkbookResult
 from auditor.policy import Policy
 from auditor.reported import build_reported
 from auditor.workbook import Workbook, read_workbook, sha256_of
@@ -53,7 +55,11 @@ def collect_inputs(paths: Iterable[str | Path]) -> list[Path]:
 
 
 def audit_regression(
-    workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec, policy: Policy
+    workbook: Workbook,
+    evaluator: Evaluator,
+    spec: RegressionSpec,
+    policy: Policy,
+    inputs_reader: DesignInputReader | None = None,
 ) -> RegressionResult:
     data = extract(workbook, evaluator, spec)
     fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
@@ -61,7 +67,10 @@ def audit_regression(
     reported = build_reported(
         spec, evaluator, intended, workbook.stored_values, policy.get("stored_relative_tolerance")
     )
-    context = RegressionContext(spec, data, fit, reported, policy, workbook.stored_values)
+    inputs = (inputs_reader or DesignInputReader(workbook, evaluator)).read(spec)
+    context = RegressionContext(
+        spec, data, fit, reported, policy, workbook.stored_values, design_inputs=inputs
+    )
     findings = run_regression_checks(context)
     points = list(data.points)
     _annotate_points(points, fit)
@@ -76,26 +85,13 @@ def audit_regression(
         x_columns=spec.x_columns,
         intended=intended,
         reported=reported,
-        design={
-            "sxx": fit.sxx,
-            "x_min": _x_bound(data.x, min),
-            "x_max": _x_bound(data.x, max),
-            "levels": _levels(data.x),
-        },
+        design=design_metrics(data, fit, policy, inputs),
         findings=findings,
         data=points,
         intended_x_range=data.intended_x_range,
         intended_y_range=data.intended_y_range,
         label=spec.label,
     )
-
-
-def _x_bound(x: Any, pick: Any) -> float | None:
-    return float(pick(x[:, 0])) if x.shape[0] else None
-
-
-def _levels(x: Any) -> int:
-    return len({tuple(row) for row in x.tolist()})
 
 
 def _annotate_points(points: list[DataPoint], fit: FitResult) -> None:
@@ -123,7 +119,8 @@ def audit_workbook(
     evaluator = Evaluator(workbook)
     locator = Locator(workbook, bindings)
     specs = locate(workbook, bindings, locator)
-    regressions = [audit_regression(workbook, evaluator, spec, policy) for spec in specs]
+    reader = DesignInputReader(workbook, evaluator, locator.parsed)
+    regressions = [audit_regression(workbook, evaluator, spec, policy, reader) for spec in specs]
     context = WorkbookContext(
         stored_values=workbook.stored_values,
         formula_count=len(workbook.formula_cells()),
@@ -133,6 +130,7 @@ def audit_workbook(
         specs=specs,
         results=regressions,
         parsed=locator.parsed,
+        policy=policy,
     )
     return WorkbookResult(
         path=str(path),
@@ -140,8 +138,19 @@ def audit_workbook(
         status="audited" if regressions else "no-regressions",
         stored_values=workbook.stored_values,
         regressions=regressions,
-        findings=run_workbook_checks(context),
+        findings=_route(run_workbook_checks(context), regressions),
     )
+
+
+def _route(findings: list[Finding], regressions: list[RegressionResult]) -> list[Finding]:
+    """A workbook-level finding that starts at a regression's reported cell is shown with that
+    regression (sibling blocks, pasted values, links); the rest stay with the workbook."""
+    owners = {value.cell: r for r in regressions for value in r.reported.values()}
+    kept = []
+    for finding in findings:
+        owner = owners.get(finding.cells[0]) if finding.cells else None
+        (owner.findings if owner is not None else kept).append(finding)
+    return kept
 
 
 def _audit_one(args: tuple[str, Policy, list[dict[str, Any]] | None]) -> WorkbookResult:

@@ -20,6 +20,7 @@ from auditor import __version__
 from auditor.cli_review import add_review_parsers, cluster_options
 from auditor.errors import PolicyError, RegauditError, UsageError
 from auditor.model import SEVERITIES, SEVERITY_RANK, AuditResult
+from auditor.plan import add_plan_parser
 from auditor.runner import FORMATS, run_audit
 
 FAIL_CHOICES = ("critical", "major", "minor", "info", "never")
@@ -185,6 +186,7 @@ def build_parser() -> argparse.ArgumentParser:
     audit.set_defaults(handler=cmd_audit)
 
     add_review_parsers(sub, cores)
+    add_plan_parser(sub)
 
     rules = sub.add_parser("rules", help="list the checks and the policy's thresholds")
     rules.add_argument("--policy", default="general")

@@ -58,6 +58,8 @@ def _number(value: object) -> tuple[float | None, str]:
 
 
 def _column_values(evaluator: Evaluator, sheet: str, col: int, r1: int, r2: int) -> list[object]:
+    if r2 < r1:
+        return []  # a range past the sheet's last row (a damaged or empty sheet) holds nothing
     ref = Ref(sheet, r1, col, r2, col)
     return [row[0] for row in evaluator.range_values(ref)]
 

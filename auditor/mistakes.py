@@ -244,11 +244,31 @@ def p_wrong_df(b: Basis) -> list[Candidate]:
     return out
 
 
+def _ci_typed_df(b: Basis) -> list[Candidate]:
+    """A confidence limit whose critical t uses a typed df: ``E4 - TINV(0.05, 10) * E7``."""
+    if b.stat not in ("ci_slope_low", "ci_slope_high") or not b.formula:
+        return []
+    slope, se = float(b.fit.slopes[b.j]), float(b.fit.se_slopes[b.j])
+    if not _usable(slope, se):
+        return []
+    level, df, sign = b.fit.confidence, b.fit.df, (-1.0 if b.stat == "ci_slope_low" else 1.0)
+    out = []
+    for literal in sorted({int(m) for m in NUMBER_LITERAL.findall(b.formula)}):
+        if literal < 1 or literal == df:
+            continue
+        limit = slope + sign * float(distributions.t.ppf(0.5 + level / 2, literal)) * se
+        how = f"the critical t uses a typed df of {literal}, but the {b.fit.n} points leave df {df}"
+        fix = f"replace the typed {literal} by COUNT(x) − {b.fit.n - df} or a reference to df"
+        out.append(Candidate("hardcoded-constant", limit, how, fix, {"df_typed": literal}))
+    return out
+
+
 def hardcoded_constant(b: Basis) -> list[Candidate]:
-    """A df typed into the p formula (``T.DIST.2T(ABS(E11), 10)``) that the data no longer give."""
+    """A df typed into the p formula (``T.DIST.2T(ABS(E11), 10)``) that the data no longer give,
+    or into the critical t of a confidence limit."""
     case = _p_case(b)
     if case is None or not b.formula:
-        return []
+        return _ci_typed_df(b)
     t, df = case
     out = []
     for literal in sorted({int(m) for m in NUMBER_LITERAL.findall(b.formula)}):

@@ -34,6 +34,40 @@ def _scale_for(key: str, stats: dict[str, float | int | None]) -> float | None:
     return None
 
 
+# Statistics built on the residual sum of squares lose digits when the fit is nearly perfect:
+# SSE = SST − SSR cancels, so a spreadsheet's one-pass STEYX carries a relative error of about
+# eps / (1 − R²) (measured: LibreOffice's STEYX off by 1.5e-9 relative at 1 − R² ≈ 1e-7).
+RESIDUAL_BASED = (
+    "residual_sd",
+    "se_slope",
+    "se_intercept",
+    "t_slope",
+    "t_intercept",
+    "ss_residual",
+    "f",
+    "ci_slope_low",
+    "ci_slope_high",
+)
+CANCELLATION_FACTOR = 50 * 2.220446049250313e-16  # 50 × double-precision epsilon
+
+
+def relative_tolerance(key: str, base: float, intended: dict[str, float | int | None]) -> float:
+    """The stored-value tolerance for one statistic, widened where the engine's arithmetic
+    cannot be better than the conditioning of the fit allows."""
+    name = stat_base(key).split("[")[0]
+    r_squared = intended.get("r_squared")
+    if not isinstance(r_squared, (int, float)) or not 0 <= r_squared < 1:
+        return base
+    widened = CANCELLATION_FACTOR / (1.0 - float(r_squared))
+    if name.startswith("p_"):
+        # A relative error d in t moves p by about (df + 1)·d relative in the tail.
+        df = intended.get("df")
+        widened *= (float(df) + 1.0) if isinstance(df, (int, float)) else 1.0
+    elif name not in RESIDUAL_BASED:
+        return base
+    return max(base, widened)
+
+
 def as_written_value(evaluator: Evaluator, stat: StatCell) -> tuple[float | None, str]:
     """What the cell's formula computes now; a note says why it could not be computed."""
     if stat.cell.formula is None:
@@ -92,7 +126,10 @@ def build_reported(
                 value, note = str(raw), f"the cell shows {raw.code}"
         true = intended.get(stat_base(key))
         true_f = float(true) if isinstance(true, (int, float)) else None
-        agreement = judge(value, true_f, source, cell.number_format, rel, _scale_for(key, intended))
+        tolerance = relative_tolerance(key, rel, intended)
+        agreement = judge(
+            value, true_f, source, cell.number_format, tolerance, _scale_for(key, intended)
+        )
         if isinstance(raw, ErrorValue) and true_f is not None:
             verdict = "mismatch"
         elif agreement.agrees is None:

@@ -266,7 +266,9 @@ def check_container(path: Path) -> None:
     try:
         with zipfile.ZipFile(path) as archive:
             members = archive.infolist()
-    except zipfile.BadZipFile as exc:
+    # A damaged central directory can also hold a name that is not the UTF-8 its flag says,
+    # claim a zip version from the future, or point past the end of the file.
+    except (zipfile.BadZipFile, UnicodeDecodeError, NotImplementedError, OSError, EOFError) as exc:
         raise UnreadableWorkbook(
             f"{path.name} is a damaged or truncated zip container ({exc}); "
             "ask for a fresh copy of the file"

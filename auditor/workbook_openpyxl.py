@@ -10,6 +10,7 @@ defusedxml (:func:`auditor.workbook.assert_safe_xml` checks that).
 
 from __future__ import annotations
 
+import math
 import warnings
 import zipfile
 from pathlib import Path
@@ -33,6 +34,8 @@ def _convert_value(value: object, data_type: str | None) -> CellValue:
         return ErrorValue(str(value))
     if isinstance(value, bool):
         return value
+    if isinstance(value, float) and not math.isfinite(value):
+        return ErrorValue("#NUM!")  # as the one-pass reader: no spreadsheet holds infinity
     if isinstance(value, (int, float)):
         return float(value) if isinstance(value, float) else int(value)
     if hasattr(value, "isoformat"):
@@ -60,10 +63,15 @@ def read_with_openpyxl(path: Path, digest: str) -> Workbook:
     from openpyxl.worksheet.formula import ArrayFormula, DataTableFormula
 
     try:
-        with warnings.catch_warnings():
+        # openpyxl leaves its zip file open when a part fails to parse: hand it a handle that
+        # is closed here whatever happens.
+        with warnings.catch_warnings(), open(path, "rb") as handle:
             warnings.simplefilter("ignore")
-            book_f = openpyxl.load_workbook(path, read_only=False, data_only=False, keep_vba=False)
-            book_v = openpyxl.load_workbook(path, read_only=False, data_only=True, keep_vba=False)
+            book_f = openpyxl.load_workbook(
+                handle, read_only=False, data_only=False, keep_vba=False
+            )
+            handle.seek(0)
+            book_v = openpyxl.load_workbook(handle, read_only=False, data_only=True, keep_vba=False)
     except UnreadableWorkbook:
         raise
     except (zipfile.BadZipFile, KeyError, OSError, EOFError) as exc:

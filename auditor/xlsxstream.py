@@ -18,6 +18,7 @@ points past the style table reads as General instead of failing the whole file.
 from __future__ import annotations
 
 import gc
+import struct
 import zipfile
 import zlib
 from pathlib import Path
@@ -46,6 +47,17 @@ from auditor.xlsxparts import (
 )
 from auditor.xmlsafe import iter_part, prune
 
+# What zipfile raises on a damaged container: a bad header or checksum, a deflate stream that
+# breaks off, a seek past the end, a member name that is not the UTF-8 its flag promises.
+UNPACKING_ERRORS = (
+    zipfile.BadZipFile,
+    zlib.error,
+    EOFError,
+    OSError,
+    UnicodeDecodeError,
+    struct.error,
+)
+NOT_A_NUMBER = ErrorValue("#NUM!")
 MAX_CELLS = 10_000_000  # per workbook; about 2 GB as cell objects, beyond any real review file
 MAX_ARRAY_CELLS = 1_000_000  # cells covered by array-formula blocks, per workbook
 PRUNE_EVERY = 512  # rows between drops of parsed rows from the tree (memory stays flat)
@@ -170,10 +182,10 @@ class _SheetReader:
                             else None
                         )
                     elif t is None or t == "n":
-                        if s is not None and s in dates:
+                        if "." in text or "E" in text or "e" in text or (s in dates):
                             value = float(text)
-                        elif "." in text or "E" in text or "e" in text:
-                            value = float(text)
+                            if value - value != 0.0:  # 1E400: no spreadsheet holds infinity
+                                value = NOT_A_NUMBER
                         else:
                             value = int(text)
                     elif t == "s":
@@ -358,7 +370,7 @@ def read_package(path: Path, digest: str) -> Workbook:
     try:
         with zipfile.ZipFile(path) as archive:
             return _BookReader(archive, label).read(path, digest)
-    except (zipfile.BadZipFile, zlib.error, EOFError) as exc:
+    except UNPACKING_ERRORS as exc:
         raise UnreadableWorkbook(
             f"{label} could not be unpacked ({type(exc).__name__}: {exc}); the file is damaged "
             "or truncated: ask for a fresh copy"

@@ -76,26 +76,36 @@ def refuse_declarations(head: bytes, where: str) -> None:
             break
         position = match.end()
     rest = text[position:]
+    unclosed = rest.startswith(("<!--", "<?"))  # a comment or instruction open at the head's end
+    if len(head) >= PROLOG_LIMIT and (unclosed or rest == ""):
+        raise UnreadableWorkbook(
+            f"{where} opens with more than {PROLOG_LIMIT // 1024} KB before its first element; "
+            "refused as unsafe"
+        )
+    if unclosed:
+        raise UnreadableWorkbook(
+            f"{where} is not well-formed XML (its opening {rest[:5]!r}... is never closed)"
+        )
     if rest[:2] == "<!":
         raise UnreadableWorkbook(
             f"{where} declares a document type ({rest[:9]!r}...); spreadsheet parts never do, "
             "and such declarations are how entity-expansion attacks start: refused as unsafe"
         )
-    if rest == "" and len(head) >= PROLOG_LIMIT:
-        raise UnreadableWorkbook(
-            f"{where} opens with more than {PROLOG_LIMIT // 1024} KB before its first element; "
-            "refused as unsafe"
-        )
 
 
-def _open(archive: zipfile.ZipFile, name: str, where: str) -> _Rewound:
+def _open(archive: zipfile.ZipFile, name: str, where: str) -> tuple[IO[bytes], _Rewound]:
+    """The part's stream (to close) and a reader over it whose prolog has been checked."""
     try:
         stream = archive.open(name)
     except KeyError as exc:
         raise UnreadableWorkbook(f"{where} is missing from the package") from exc
-    head = stream.read(PROLOG_LIMIT)
-    refuse_declarations(head, where)
-    return _Rewound(head, stream)
+    try:
+        head = stream.read(PROLOG_LIMIT)
+        refuse_declarations(head, where)
+    except BaseException:
+        stream.close()
+        raise
+    return stream, _Rewound(head, stream)
 
 
 def _refuse_dtd(tree: Any, where: str) -> None:
@@ -107,11 +117,13 @@ def _refuse_dtd(tree: Any, where: str) -> None:
 def parse_part(archive: zipfile.ZipFile, name: str, where: str) -> Any:
     """The whole part as an element tree (for the small parts: workbook, relationships,
     styles); ``where`` names the part in messages ("book.xlsx: part 'xl/styles.xml'")."""
-    stream = _open(archive, name, where)
+    stream, reader = _open(archive, name, where)
     try:
-        root = etree.parse(stream, _SAFE_PARSER).getroot()
+        root = etree.parse(reader, _SAFE_PARSER).getroot()
     except etree.XMLSyntaxError as exc:
-        raise UnreadableWorkbook(f"{where} is not well-formed XML ({exc})") from exc
+        raise UnreadableWorkbook(f"{where} is not well-formed XML ({exc.msg})") from exc
+    finally:
+        stream.close()
     _refuse_dtd(root, where)
     return root
 
@@ -123,13 +135,15 @@ def iter_part(
 
     The caller clears what it has used; :func:`prune` drops the cleared elements so that memory
     stays flat on a million rows."""
-    stream = _open(archive, name, where)
-    events = etree.iterparse(stream, events=("end",), tag=tags, **_PARSER_OPTIONS)
+    stream, reader = _open(archive, name, where)
+    events = etree.iterparse(reader, events=("end",), tag=tags, **_PARSER_OPTIONS)
     try:
         for _event, element in events:
             yield element
     except etree.XMLSyntaxError as exc:
-        raise UnreadableWorkbook(f"{where} is not well-formed XML ({exc})") from exc
+        raise UnreadableWorkbook(f"{where} is not well-formed XML ({exc.msg})") from exc
+    finally:
+        stream.close()
     root = events.root
     if root is not None:
         _refuse_dtd(root, where)

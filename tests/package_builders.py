@@ -39,13 +39,7 @@ def package_parts(
         for i in range(1, len(sheets) + 1)
     )
     parts: dict[str, str | bytes] = {
-        "[Content_Types].xml": (
-            f'{DECL}<Types xmlns="http://schemas.openxmlformats.org/package/2006/content-types">'
-            '<Default Extension="rels" ContentType="application/vnd.openxmlformats-package.'
-            'relationships+xml"/><Default Extension="xml" ContentType="application/xml"/>'
-            '<Override PartName="/xl/workbook.xml" ContentType="application/vnd.openxmlformats-'
-            'officedocument.spreadsheetml.sheet.main+xml"/></Types>'
-        ),
+        "[Content_Types].xml": _content_types(len(sheets), shared_strings is not None, styles),
         "_rels/.rels": (
             f'{DECL}<Relationships xmlns="{PKG}"><Relationship Id="rId1" '
             f'Type="{REL}/officeDocument" Target="xl/workbook.xml"/></Relationships>'
@@ -73,6 +67,23 @@ def package_parts(
     for i, xml in enumerate(sheets.values(), start=1):
         parts[f"xl/worksheets/sheet{i}.xml"] = xml
     return parts
+
+
+def _content_types(sheets: int, strings: bool, styles: str | None) -> str:
+    sml = "application/vnd.openxmlformats-officedocument.spreadsheetml."
+    overrides = [("/xl/workbook.xml", "sheet.main+xml")]
+    overrides += [(f"/xl/worksheets/sheet{i}.xml", "worksheet+xml") for i in range(1, sheets + 1)]
+    if strings:
+        overrides.append(("/xl/sharedStrings.xml", "sharedStrings+xml"))
+    if styles is not None:
+        overrides.append(("/xl/styles.xml", "styles+xml"))
+    body = "".join(f'<Override PartName="{n}" ContentType="{sml}{t}"/>' for n, t in overrides)
+    return (
+        f'{DECL}<Types xmlns="http://schemas.openxmlformats.org/package/2006/content-types">'
+        '<Default Extension="rels" ContentType="application/vnd.openxmlformats-package.'
+        'relationships+xml"/><Default Extension="xml" ContentType="application/xml"/>'
+        f"{body}</Types>"
+    )
 
 
 def write_package(path: Path, parts: dict[str, str | bytes]) -> Path:

@@ -146,9 +146,9 @@ def test_the_overview_lists_the_copies_and_their_caveat(source: Path, tmp_path: 
     copies = annotate_copies(result, tmp_path / "out", [source])
     overview = openpyxl.load_workbook(io.BytesIO(xlsx_bytes(result, XlsxReporter(copies))))
     rows = {row[0]: row[1] for row in overview["Overview"].iter_rows(values_only=True)}
-    assert "Annotated copies" in rows
-    text = rows[copies[0].copy]
-    assert text.startswith(f"copy of {source} with a note on 3 flagged cell(s).")
+    assert "Annotated copies" in rows and rows["Folder"] == str(tmp_path / "out")
+    text = rows["Copies"]
+    assert text.startswith(f"lab.audited.xlsx: copy of {source}, notes on 3 cell(s).")
     assert "may lose or simplify 1 chart, 1 image" in text
 
 
@@ -185,3 +185,16 @@ def test_pivot_tables_are_found_from_the_part_names(source: Path, tmp_path: Path
         copy.writestr("xl/pivotTables/pivotTable1.xml", "<pivotTableDefinition/>")
         copy.writestr("xl/pivotTables/pivotTable2.xml", "<pivotTableDefinition/>")
     assert lossy_content(with_pivot) == ["1 chart", "1 image", "2 pivot tables"]
+
+
+def test_a_workbook_that_cannot_be_copied_does_not_stop_the_others(
+    source: Path, tmp_path: Path
+) -> None:
+    gone = tmp_path / "in" / "gone.xlsx"
+    shutil.copyfile(source, gone)
+    result = result_for([gone, source])
+    gone.unlink()  # moved away between the audit and the copies
+    copies = annotate_copies(result, tmp_path / "out", [source])
+    assert copies[0].error.startswith("no copy was made: FileNotFoundError")
+    assert not Path(copies[0].copy).exists()
+    assert copies[1].error == "" and Path(copies[1].copy).is_file()

@@ -179,3 +179,50 @@ def test_workbook_faults_as_declared(
         if f["kind"] == expected["kind"] and set(expected["cells"]) & set(f["cells"])
     ]
     assert named, (expected, [(f["check"], f["kind"], f["cells"][:3]) for f in everything])
+
+
+def test_every_kind_is_planted_twice_in_different_places() -> None:
+    """The corpus plants each kind at least twice, on different sheets or workbooks (a risk of a
+    clean regression counts: it is a fault that changes no number yet)."""
+    places: dict[str, set[tuple[str, str]]] = {}
+    for entry in MANIFEST["workbooks"]:
+        for regression in entry["regressions"]:
+            for expected in regression["expected"] + regression.get("risks", []):
+                places.setdefault(expected["kind"], set()).add((entry["file"], regression["sheet"]))
+        for expected in entry.get("expected", []):
+            sheet = expected["cells"][0].rpartition("!")[0]
+            places.setdefault(expected["kind"], set()).add((entry["file"], sheet))
+    thin = {kind: sorted(where) for kind, where in places.items() if len(where) < 2}
+    assert thin == {}
+    clean = [r for e in MANIFEST["workbooks"] for r in e["regressions"] if r["clean"]]
+    assert len(clean) >= 10
+
+
+def _changes_conclusion(value: dict[str, Any], key: str, alpha: float) -> bool:
+    reported, intended = value["value"], value["intended"]
+    if not isinstance(reported, int | float) or not isinstance(intended, int | float):
+        return False
+    if key == "p_slope":
+        return (reported < alpha) != (intended < alpha)
+    return key == "slope" and reported * intended < 0
+
+
+@pytest.mark.parametrize(
+    ("file", "declared"), _declared(), ids=[f"{f}:{r['y_range']}" for f, r in _declared()]
+)
+def test_decision_changing_defects_are_critical(
+    audit: dict[str, Any], file: str, declared: dict[str, Any]
+) -> None:
+    """A reported p on the other side of alpha (0.05, the general policy) or a slope of the
+    wrong sign gets a critical finding."""
+    workbook = _workbook(audit, file)
+    regression = _match(workbook, declared)
+    changed = [
+        v["cell"]
+        for key, v in regression["reported"].items()
+        if _changes_conclusion(v, key.split("@")[0], 0.05)
+    ]
+    if not changed:
+        return
+    critical = [f for f in _findings_of(workbook, regression) if f["severity"] == "critical"]
+    assert critical, changed

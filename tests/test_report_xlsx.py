@@ -11,6 +11,7 @@ from pathlib import Path
 import openpyxl
 import pytest
 from test_report_sample import AUDITED_PATH, UNREADABLE_ERROR, UNREADABLE_PATH, sample_result
+from test_report_xlsx_support import chart_formulas
 
 from auditor.model import AuditResult
 from auditor.report.xlsx import XlsxReporter, created_date
@@ -221,3 +222,41 @@ def test_non_finite_values_become_empty_cells() -> None:
     book = openpyxl.load_workbook(io.BytesIO(_bytes(result)))
     calib = _rows(book["Regressions"])[0]
     assert calib["slope reported"] is None and calib["slope intended"] is None
+
+
+def test_a_detail_sheet_without_data_has_no_charts_and_says_so() -> None:
+    # The sample carries no data points: nothing to chart, nothing for a formula to read.
+    data = _bytes(sample_result())
+    assert chart_formulas(data)["R01 calib-1"] == []
+    sheet = openpyxl.load_workbook(io.BytesIO(data))["R01 calib-1"]
+    column_a = [cell.value for cell in sheet["A"]]
+    start = column_a.index("Recomputed here")
+    assert column_a[start + 3] == "no statistic could be recomputed (the fit is undefined)"
+    formulas = [c.value for row in sheet.iter_rows() for c in row if c.data_type == "f"]
+    assert all(formula.startswith("=HYPERLINK(") for formula in formulas)
+    # The author's formula is text in the statistics table, never a live formula.
+    texts = [c for row in sheet.iter_rows() for c in row if c.value == "=SLOPE(B2:B8,A2:A8)"]
+    assert [c.data_type for c in texts] == ["s"]
+
+
+def test_every_design_metric_is_shown_whatever_its_name_or_shape() -> None:
+    result = sample_result()
+    design = result.workbooks[0].regressions[0].design
+    design["needed"] = {"sxx": 412.0, "points": 8}  # a metric another module may add later
+    design["advice"] = "8 points evenly spaced over 10-40"
+    sheet = openpyxl.load_workbook(io.BytesIO(_bytes(result)))["R01 calib-1"]
+    column_a = [cell.value for cell in sheet["A"]]
+    start = column_a.index("Design of x") + 2
+    rows = {
+        sheet.cell(row, 1).value: sheet.cell(row, 2).value
+        for row in range(start + 1, start + 1 + len(design))
+    }
+    assert rows == {
+        "Sxx (spread of x)": 42,
+        "smallest x": 1,
+        "largest x": 8,
+        "distinct x levels": 8,
+        "largest leverage": "—",  # infinity has no place in a cell
+        "needed": '{"sxx": 412.0, "points": 8}',
+        "advice": "8 points evenly spaced over 10-40",
+    }

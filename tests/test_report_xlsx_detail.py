@@ -23,12 +23,13 @@ import pytest
 import statsmodels.api as sm
 from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.worksheet import Worksheet
+from scipy import stats as scipy_stats
 from test_report_xlsx_support import chart_formulas, fixture_audit, split_range, xlsx_bytes
 
 from auditor.model import RegressionResult
-from auditor.report.common import short_paths, stat_label
+from auditor.report.common import design_label, short_paths, stat_label
 from auditor.report.json import audit_document
-from auditor.report.xlsx_layout import detail_refs
+from auditor.report.xlsx_links import detail_refs
 
 RELATIVE = 1e-9
 HYPERLINK = re.compile(r'^=HYPERLINK\("(?P<target>[^"]+)","(?P<text>[^"]*)"\)$')
@@ -42,6 +43,11 @@ def data() -> bytes:
 @pytest.fixture(scope="module")
 def book(data: bytes) -> openpyxl.Workbook:
     return openpyxl.load_workbook(io.BytesIO(data))
+
+
+@pytest.fixture(scope="module")
+def charts(data: bytes) -> dict[str, list[list[str]]]:
+    return chart_formulas(data)
 
 
 @pytest.fixture(scope="module")
@@ -149,15 +155,14 @@ def _used_points(sheet: Worksheet, regression: RegressionResult) -> list[tuple[A
 
 @pytest.mark.parametrize("index", range(len(detail_refs(fixture_audit()))))
 def test_charts_plot_this_sheets_snapshot(
-    index: int, data: bytes, stored: openpyxl.Workbook
+    index: int, charts: dict[str, list[list[str]]], stored: openpyxl.Workbook
 ) -> None:
     ref = detail_refs(fixture_audit())[index]
     sheet = stored[ref.sheet]
-    charts = chart_formulas(data)[ref.sheet]
     used = _used_points(sheet, ref.regression)
-    assert len(charts) == 2
+    assert len(charts[ref.sheet]) == 2
     k = ref.regression.x_columns
-    for formulas in charts:
+    for formulas in charts[ref.sheet]:
         for formula in formulas:
             sheet_name, first_col, first_row, last_col, last_row = split_range(formula)
             assert sheet_name == ref.sheet and first_col == last_col
@@ -165,12 +170,12 @@ def test_charts_plot_this_sheets_snapshot(
     # Point series plot y against x (one x) or against the fitted value (several): first the
     # points the author's formula saw, then (a series of their own) those it missed.
     def values(formula: str) -> list[Any]:
-        return [row[0].value for row in sheet[formula.split("!")[1].replace("$", "")]]
+        return list(_cells(sheet, formula.split("!")[1])[:, 0])
 
     seen = [row for row in used if row[k + 3] == "yes"]
     missed = [row for row in used if row[k + 3] == "no"]
     groups = [group for group in (seen, missed) if group]
-    fit_chart, residual_chart = charts
+    fit_chart, residual_chart = charts[ref.sheet]
     assert len(fit_chart) == 2 * len(groups) + 2 and len(residual_chart) == 2 * len(groups)
     for index_, group in enumerate(groups):
         x_formula, y_formula = fit_chart[2 * index_ : 2 * index_ + 2]
@@ -267,19 +272,65 @@ def _x_block(sheet: Worksheet, y_range: str, columns: int) -> str:
 
 
 @pytest.mark.parametrize("index", range(len(detail_refs(fixture_audit()))))
-def test_design_metrics_all_shown_and_recomputed(index: int, stored: openpyxl.Workbook) -> None:
+def numpy_design(x: np.ndarray, y: np.ndarray, intercept: bool) -> dict[str, float]:
+    """Design metrics computed directly with numpy and scipy (the outside reference)."""
+    levels, counts = np.unique(x, return_counts=True)
+    n = len(x)
+    values = {
+        "n": n,
+        "levels": len(levels),
+        "replicated_levels": int((counts > 1).sum()),
+        "max_replicates": int(counts.max()),
+        "x_min": x.min(),
+        "x_max": x.max(),
+        "x_mean": x.mean(),
+        "x_range": x.max() - x.min(),
+    }
+    if not intercept:
+        return values | {"sxx": float((x**2).sum())}
+    deviations = (x - x.mean()) ** 2
+    sxx = float(deviations.sum())
+    line = scipy_stats.linregress(x, y)
+    residuals = y - (line.intercept + line.slope * x)
+    return values | {
+        "sxx": sxx,
+        "max_leverage": float((1 / n + deviations / sxx).max()),
+        "max_sxx_share": float(deviations.max() / sxx),
+        "residual_sd": math.sqrt(float((residuals**2).sum()) / (n - 2)),
+        "df": n - 2,
+        "slope": line.slope,
+        "p_slope": line.pvalue,
+    }
+
+
+@pytest.mark.parametrize("index", range(len(detail_refs(fixture_audit()))))
+def test_design_metrics_are_all_shown_and_numpy_agrees(
+    index: int, book: openpyxl.Workbook, stored: openpyxl.Workbook
+) -> None:
     ref = detail_refs(fixture_audit())[index]
+    regression = ref.regression
     rows = section(stored[ref.sheet], "Design of x")
-    assert len(rows) == len(ref.regression.design)
-    for row in rows:
-        if row[2] is not None:  # a live formula: it agrees with regaudit's value
-            assert row[3] == "agrees" and close(row[1], row[2])
+    assert len(rows) == len(regression.design)
+    live = [row for row in rows if row[2] is not None]
+    if not live:
+        return
+    formulas = book[ref.sheet]
+    y_range = re.search(r"COUNT\((\$[A-Z]+\$\d+:\$[A-Z]+\$\d+)\)", _all_formulas(formulas))
+    assert y_range
+    y = _cells(formulas, y_range.group(1))[:, 0]
+    x = _cells(formulas, _x_block(formulas, y_range.group(1), regression.x_columns))[:, 0]
+    expected = numpy_design(x, y, regression.intercept)
+    labels = {design_label(key): key for key in regression.design}
+    for row in live:
+        key = labels[row[0]]
+        # regaudit's value, and the value stored with the live formula, against numpy's.
+        assert close(row[1], expected[key]) and close(row[2], expected[key]), key
+    assert "n" in {labels[row[0]] for row in live}
 
 
-def test_statistics_table_shows_the_three_values() -> None:
-    result = fixture_audit()
-    ref = next(r for r in detail_refs(result) if r.regression.verdict == "mismatch")
-    sheet = openpyxl.load_workbook(io.BytesIO(xlsx_bytes(result)), data_only=True)[ref.sheet]
+def test_statistics_table_shows_the_three_values(stored: openpyxl.Workbook) -> None:
+    ref = next(r for r in detail_refs(fixture_audit()) if r.regression.verdict == "mismatch")
+    sheet = stored[ref.sheet]
     rows = {row[0]: row for row in section(sheet, "Statistics: reported, as written, intended")}
     for key, reported in ref.regression.reported.items():
         row = rows[stat_label(key)]
@@ -292,10 +343,9 @@ def test_statistics_table_shows_the_three_values() -> None:
             assert row[2] == pytest.approx(reported.as_written, rel=1e-15)
 
 
-def test_several_x_columns_get_one_row_per_column() -> None:
-    result = fixture_audit()
-    ref = next(r for r in detail_refs(result) if r.regression.x_columns > 1)
-    sheet = openpyxl.load_workbook(io.BytesIO(xlsx_bytes(result)))[ref.sheet]
+def test_several_x_columns_get_one_row_per_column(book: openpyxl.Workbook) -> None:
+    ref = next(r for r in detail_refs(fixture_audit()) if r.regression.x_columns > 1)
+    sheet = book[ref.sheet]
     labels = [row[0] for row in section(sheet, "Statistics: reported, as written, intended")]
     assert {"slope of x1", "slope of x2", "standard error of the slope of x2"} <= set(labels)
     header_row = next(c.row for c in sheet["A"] if c.value == "Data snapshot") + 2

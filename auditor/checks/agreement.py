@@ -7,6 +7,7 @@ from scipy import stats as distributions
 from auditor.checks.base import RegressionContext, check
 from auditor.compare import agree_stored, parse_text_number
 from auditor.diagnose import explain
+from auditor.reported import relative_tolerance
 from auditor.model import Finding, ReportedValue, Severity, stat_base
 
 NAMES = {
@@ -143,13 +144,15 @@ def stat_stale(context: RegressionContext) -> list[Finding]:
     Passing: the stored value equals the formula's result to 1e-9 relative.
     """
     rel = context.policy.get("stored_relative_tolerance")
+    intended = context.fit.stats()
     findings = []
     for value in context.reported.values():
         if value.source != "stored" or value.as_written is None or isinstance(value.value, str):
             continue
         if value.value is None:
             continue
-        if agree_stored(float(value.value), value.as_written, rel=rel).agrees:
+        allowed = relative_tolerance(value.key, rel, intended)
+        if agree_stored(float(value.value), value.as_written, rel=allowed).agrees:
             continue
         wrong = value.verdict == "mismatch"
         findings.append(

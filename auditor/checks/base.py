@@ -7,6 +7,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
+from auditor.design_inputs import DesignInputs
 from auditor.extract import Extracted
 from auditor.fit import FitResult
 from auditor.locate import RegressionSpec
@@ -24,6 +25,7 @@ class RegressionContext:
     reported: dict[str, ReportedValue]
     policy: Policy
     stored_values: bool = True
+    design_inputs: DesignInputs | None = None  # claim text, stated working range, predictions
 
 
 CheckFunction = Callable[[RegressionContext], list[Finding]]

@@ -135,6 +135,8 @@ def typed_count_in_formula(context: RegressionContext) -> list[Finding]:
             still_right = typed.typed == actual
             reached = reached_cells(context.spec, cell.address)
             severity = "minor" if still_right else severity_in_regression(context, reached)
+            if not still_right and severity == "minor":
+                severity = "major"  # a wrong count is a wrong value, seen or not
             source = _count_source(context, typed.what, cell.sheet)
             fixed = None
             if typed.function is not None and cell.formula:

@@ -34,7 +34,7 @@ from auditor.checks.formula_support import reached_cells, severity_in_result
 from auditor.checks.workbook_level import WorkbookContext
 from auditor.errors import FormulaError
 from auditor.model import Finding, Severity
-from auditor.r1c1 import Reference, references
+from auditor.r1c1 import Reference, a1_text, references
 
 CHECK = "sibling-formula-differs"
 
@@ -121,12 +121,6 @@ def _points_back(member: Member, group: list[Block]) -> tuple[Reference, Block] 
     return None
 
 
-def _text(ref: Reference) -> str:
-    from auditor.r1c1 import a1_text
-
-    return a1_text(ref)
-
-
 @check(
     CHECK,
     "A cell of a copied block differs from the same cell of its sibling blocks, or still "
@@ -165,8 +159,8 @@ def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
                         context,
                         member,
                         _severity(context, member),
-                        f"{member.cell}, in {member.block.name}, uses {_text(ref)}, which belongs "
-                        f"to its sibling, {other.name}: {member.formula}. The block was "
+                        f"{member.cell}, in {member.block.name}, uses {a1_text(ref)}, which "
+                        f"belongs to its sibling, {other.name}: {member.formula}. The block was "
                         "copied and this reference still points back.",
                         f"Point it at this block's own data: {fix}",
                     )
@@ -219,10 +213,11 @@ def _breaks(context: WorkbookContext, members: list[Member], reported: set[str])
 
 
 def _anchors(member: Member) -> list[bool]:
-    """For each reference into the block's own data: is it anchored with $?"""
+    """For each reference written into the block's own data: is it anchored with $? (A defined
+    name is absolute by nature and names what it means: it is not counted.)"""
     return [
         ref.anchored
-        for ref in member.references()
+        for ref in references(member.formula)
         if frame_of(ref, member.block, member.sheet) == "data"
     ]
 
@@ -254,8 +249,8 @@ def _anchoring(
                 "minor",
                 f"{member.cell}, in {member.block.name}, anchors its data with $: "
                 f"{member.formula}, while {model.cell}, in {model.block.name}, uses relative "
-                "references. The value is right, but a copy of this block will keep reading "
-                "these cells.",
+                "references. It reads this block's own data, but a copy of the block will keep "
+                "reading these cells.",
                 f"Use relative references: "
                 f"{translate(model.formula, model.block, model.sheet, member.block)}",
             )

@@ -17,7 +17,8 @@ from auditor.checks.base import RegressionContext
 from auditor.errors import FormulaError
 from auditor.formula import Node, parse, references
 from auditor.locate import RegressionSpec
-from auditor.model import SEVERITY_RANK, Finding, RegressionResult, Severity
+from auditor.model import RegressionResult, Severity
+from auditor.workbook import column_letter
 
 
 def parse_quietly(formula: str | None, sheet: str) -> Node | None:
@@ -58,8 +59,6 @@ def reached_cells(
 
 
 def _address(sheet: str, row: int, col: int) -> str:
-    from auditor.workbook import column_letter
-
     return f"{sheet}!{column_letter(col)}{row}"
 
 
@@ -87,10 +86,6 @@ def severity_in_result(result: RegressionResult, cells: Iterable[str]) -> Severi
     return "minor"
 
 
-def worst_of(severities: Iterable[Severity]) -> Severity:
-    return min(severities, key=lambda s: SEVERITY_RANK[s], default="minor")
-
-
 def fmt(value: object) -> str:
     if isinstance(value, float):
         return f"{value:.6g}"
@@ -104,10 +99,6 @@ def local_text(address: str, on_sheet: str) -> str:
         return block
     plain = sheet.replace("_", "").isalnum() and not sheet[0].isdigit()
     return f"{sheet}!{block}" if plain else "'" + sheet.replace("'", "''") + f"'!{block}"
-
-
-def findings_at(findings: Iterable[Finding], cell: str) -> list[Finding]:
-    return [f for f in findings if f.cells and f.cells[0].lower() == cell.lower()]
 
 
 def replace_argument(formula: str, function: str, index: int, new_text: str) -> str | None:

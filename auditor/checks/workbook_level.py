@@ -22,6 +22,7 @@ class WorkbookContext:
     specs: list[Any] = field(default_factory=list)  # auditor.locate.RegressionSpec, in order
     results: list[Any] = field(default_factory=list)  # auditor.model.RegressionResult, same order
     parsed: dict[tuple[str, int, int], Any] = field(default_factory=dict)  # formula ASTs by cell
+    policy: Any = None  # auditor.policy.Policy
 
 
 @check(

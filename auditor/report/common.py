@@ -179,14 +179,44 @@ def stat_order(key: str) -> tuple[int, int, str]:
 
 # The design metrics regaudit knows by name; any other key is shown with its own name.
 DESIGN_LABELS: dict[str, str] = {
+    "n": "points used (n)",
+    "levels": "distinct x levels",
+    "replicated_levels": "levels with replicates",
+    "max_replicates": "most points at one level",
     "sxx": "Sxx (spread of x)",
     "x_min": "smallest x",
     "x_max": "largest x",
-    "levels": "distinct x levels",
-    "replicates": "replicated points",
+    "x_mean": "mean of x",
+    "x_range": "range of x",
+    "spacing_evenness": "evenness of spacing (smallest gap / largest)",
     "max_leverage": "largest leverage",
-    "max_leverage_share": "largest leverage's share of Sxx",
-    "min_detectable_slope": "smallest slope the design can detect",
+    "max_leverage_row": "row of the largest leverage",
+    "leverage_bound": "leverage limit",
+    "max_sxx_share": "largest one point's share of Sxx",
+    "max_sxx_share_row": "row of that point",
+    "top_share_slope_without": "slope without that point",
+    "top_share_p_without": "p-value without that point",
+    "residual_sd": "residual standard deviation",
+    "df": "residual degrees of freedom",
+    "slope": "slope",
+    "p_slope": "p-value of the slope",
+    "ci_low": "confidence limit of the slope, lower",
+    "ci_high": "confidence limit of the slope, upper",
+    "ci_half_width": "half-width of that interval",
+    "slope_that_matters": "slope that matters",
+    "slope_that_matters_source": "where that slope comes from",
+    "power": "power to detect the slope that matters",
+    "min_detectable_slope": "smallest detectable slope",
+    "sxx_needed": "Sxx needed",
+    "se_needed": "standard error of the slope that Sxx gives",
+    "n_even_needed": "evenly spaced points needed (present range)",
+    "width_needed": "x range needed (present n, evenly spaced)",
+    "predictions": "predictions read off the line",
+    "predictions_outside": "predictions outside the x range",
+    "lack_of_fit_f": "lack-of-fit F",
+    "lack_of_fit_p": "lack-of-fit p-value",
+    "lack_of_fit_df": "lack-of-fit degrees of freedom",
+    "pure_error_df": "pure-error degrees of freedom",
 }
 
 
@@ -202,6 +232,7 @@ class AnnotatedCopy:
     copy: str  # NAME.audited.xlsx in the output folder
     notes: int  # cells that carry a note
     may_lose: tuple[str, ...] = ()  # content the copy may lose, in words: "2 charts"
+    error: str = ""  # why no copy was made, when none could be
 
 
 def copy_caveat(copy: AnnotatedCopy) -> str:

@@ -26,7 +26,7 @@ from xlsxwriter import Workbook
 from auditor.model import AuditResult
 from auditor.report.common import AnnotatedCopy
 from auditor.report.xlsx_detail import detail_sheet
-from auditor.report.xlsx_layout import detail_refs
+from auditor.report.xlsx_links import detail_refs
 from auditor.report.xlsx_overview import overview_sheet
 from auditor.report.xlsx_style import Styles
 from auditor.report.xlsx_tables import (

@@ -16,13 +16,8 @@ from xlsxwriter import Workbook
 from auditor.model import RegressionResult, ReportedValue
 from auditor.report.common import finite_or_none, stat_label, stat_order
 from auditor.report.xlsx_charts import insert_charts
-from auditor.report.xlsx_layout import (
-    DetailRef,
-    SheetWriter,
-    anchor_cell,
-    internal_link,
-    print_setup,
-)
+from auditor.report.xlsx_layout import SheetWriter, print_setup
+from auditor.report.xlsx_links import DetailRef, anchor_cell, internal_link
 from auditor.report.xlsx_live import design_height, live_height, write_design, write_live
 from auditor.report.xlsx_snapshot import write_snapshot
 from auditor.report.xlsx_style import Styles
@@ -118,7 +113,9 @@ def _statistics(out: SheetWriter, ref: DetailRef, top: int) -> None:
         out.put(row, 5, reported.tolerance, styles.top)
         out.put(row, 6, reported.source, styles.top)
         out.source(row, 7, ref.workbook.path, reported.cell)
-        out.put(row, 8, reported.formula, styles.formula_text)
+        # As the author sees it in the formula bar: without the file format's "_xlfn." prefix.
+        shown_formula = (reported.formula or "").replace("_xlfn.", "")
+        out.put(row, 8, shown_formula, styles.formula_text)
         out.put(row, 9, reported.note, styles.wrapped, wrap=True)
 
 

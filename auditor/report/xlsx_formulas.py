@@ -42,12 +42,27 @@ SIMPLE: dict[str, str] = {
     "ss_residual": "INDEX(LINEST({y},{x},TRUE,TRUE),5,2)",
 }
 
-# Design metrics that a formula over the used x values reproduces exactly.
-DESIGN_SIMPLE: dict[str, str] = {
-    "sxx": "DEVSQ({x})",
+# Design metrics that a formula over the used points reproduces, whatever the model.
+DESIGN_ANY: dict[str, str] = {
+    "n": "COUNT({y})",
+    "levels": "SUMPRODUCT(1/COUNTIF({x},{x}))",
+    "replicated_levels": "SUMPRODUCT((COUNTIF({x},{x})>1)/COUNTIF({x},{x}))",
+    "max_replicates": "SUMPRODUCT(MAX(COUNTIF({x},{x})))",
     "x_min": "MIN({x})",
     "x_max": "MAX({x})",
-    "levels": "SUMPRODUCT(1/COUNTIF({x},{x}))",
+    "x_mean": "AVERAGE({x})",
+    "x_range": "MAX({x})-MIN({x})",
+}
+# ... and those of a straight line with an intercept. SUMPRODUCT makes both Excel and LibreOffice
+# evaluate the inner expression over the whole range without an array formula.
+DESIGN_LINE: dict[str, str] = {
+    "sxx": "DEVSQ({x})",
+    "max_leverage": "SUMPRODUCT(MAX(1/COUNT({x})+({x}-AVERAGE({x}))^2/DEVSQ({x})))",
+    "max_sxx_share": "SUMPRODUCT(MAX(({x}-AVERAGE({x}))^2))/DEVSQ({x})",
+    "residual_sd": "STEYX({y},{x})",
+    "df": "COUNT({y})-2",
+    "slope": "SLOPE({y},{x})",
+    "p_slope": "_xlfn.T.DIST.2T(ABS(SLOPE({y},{x})/STEYX({y},{x})*SQRT(DEVSQ({x}))),COUNT({y})-2)",
 }
 
 
@@ -99,14 +114,16 @@ def stat_templates(regression: RegressionResult) -> dict[str, str]:
 
 
 def design_templates(regression: RegressionResult) -> dict[str, str]:
-    if regression.x_columns == 1:
-        templates = dict(DESIGN_SIMPLE)
-        if not regression.intercept:
-            # Through the origin SE(slope) = s / sqrt(sum of x squared): Sxx is not centred.
-            templates["sxx"] = "SUMSQ({x})"
-        return templates
-    # With several x columns the design's range is that of the first; levels count rows.
-    return {key: DESIGN_SIMPLE[key] for key in ("x_min", "x_max")}
+    if regression.x_columns > 1:
+        # With several x columns the design's range is that of the first; levels count rows.
+        return {key: DESIGN_ANY[key] for key in ("n", "x_min", "x_max")}
+    templates = dict(DESIGN_ANY)
+    if regression.intercept:
+        templates |= DESIGN_LINE
+    else:
+        # Through the origin SE(slope) = s / sqrt(sum of x squared): Sxx is not centred.
+        templates["sxx"] = "SUMSQ({x})"
+    return templates
 
 
 def _value(values: dict[str, object], key: str) -> float | None:

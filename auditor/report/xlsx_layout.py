@@ -1,100 +1,25 @@
-"""Layout helpers of audit.xlsx: fitted column widths, tables, links and detail-sheet names.
+"""Layout helpers of audit.xlsx: fitted column widths, row heights, tables, print setup.
 
 XlsxWriter cannot measure text, so ``SheetWriter`` remembers the longest value written into each
-column and sets widths from that at the end ("widths that fit" without a spreadsheet engine).
-Links to the source workbooks are HYPERLINK formulas rather than XlsxWriter's ``external:`` URLs:
-XlsxWriter rewrites those into Windows paths, which breaks absolute POSIX paths.
+column and sets widths from that at the end ("widths that fit" without a spreadsheet engine), and
+estimates the height of rows holding wrapped text from the final widths.
 """
 
 from __future__ import annotations
 
-import re
-from dataclasses import dataclass
-from pathlib import Path
 from typing import Any
 
 from xlsxwriter.worksheet import Worksheet
 
-from auditor.model import AuditResult, RegressionResult, WorkbookResult
-from auditor.report.common import finite_or_none, is_number, stat_order
+from auditor.report.common import finite_or_none, is_number
+from auditor.report.xlsx_links import hyperlink_formula, source_link
 from auditor.report.xlsx_style import Styles, put, shown_number
 
-SHEET_NAME_LIMIT = 31  # Excel's limit on a sheet name
-FORBIDDEN_IN_SHEET_NAMES = re.compile(r"[\[\]:*?/\\]")
-HYPERLINK_LIMIT = 255  # Excel refuses a longer link location in HYPERLINK()
 NUMBER_DISPLAY = 11  # "General" shows about this many characters of a long number
 FILTER_BUTTON = 3  # characters a table header needs for its filter arrow
 DEFAULT_WIDTH = 8.43  # Excel's default column width, in characters
 LINE_HEIGHT = 15  # points per line of 11-point text
 TEXT_PER_DIGIT = 1.15  # characters of running text per unit of column width (measured in LO)
-
-
-@dataclass(frozen=True)
-class DetailRef:
-    """One regression and the name of its detail sheet."""
-
-    workbook: WorkbookResult
-    regression: RegressionResult
-    sheet: str
-
-
-def detail_sheet_name(index: int, width: int, regression_id: str) -> str:
-    """'R07 Stability 25C E5': a running number (unique, stable) and the id (readable)."""
-    cleaned = FORBIDDEN_IN_SHEET_NAMES.sub(" ", regression_id)
-    cleaned = " ".join(cleaned.replace("'", "").split())
-    return f"R{index:0{width}d} {cleaned}"[:SHEET_NAME_LIMIT].rstrip()
-
-
-def detail_refs(result: AuditResult) -> list[DetailRef]:
-    """Every regression in reading order, each with its detail sheet's name."""
-    pairs = [(w, r) for w in result.workbooks for r in w.regressions]
-    width = max(2, len(str(len(pairs))))
-    return [
-        DetailRef(workbook, regression, detail_sheet_name(index, width, regression.id))
-        for index, (workbook, regression) in enumerate(pairs, start=1)
-    ]
-
-
-def quote_sheet(name: str) -> str:
-    return "'" + name.replace("'", "''") + "'"
-
-
-def internal_link(sheet: str, cell: str = "A1") -> str:
-    return f"internal:{quote_sheet(sheet)}!{cell}"
-
-
-def split_cell(cell: str) -> tuple[str, str]:
-    """'My Sheet!E5' -> ('My Sheet', 'E5'); the sheet's own name, unquoted (the JSON contract)."""
-    sheet, _, address = cell.rpartition("!")
-    return sheet.strip("'"), address.replace("$", "")
-
-
-def source_link(path: str, cell: str) -> str | None:
-    """The HYPERLINK target of a cell in a source workbook, or None when Excel cannot hold it."""
-    sheet, address = split_cell(cell)
-    if not sheet or not address:
-        return None
-    first = address.split(":", 1)[0]
-    target = f"{Path(path).resolve().as_uri()}#{quote_sheet(sheet)}!{first}"
-    return target if len(target) <= HYPERLINK_LIMIT else None
-
-
-def hyperlink_formula(target: str, text: str) -> str:
-    def quoted(value: str) -> str:
-        return '"' + value.replace('"', '""') + '"'
-
-    return f"=HYPERLINK({quoted(target)},{quoted(text)})"
-
-
-def anchor_cell(regression: RegressionResult) -> str:
-    """The cell a reviewer should land on: the reported slope, else the first reported value."""
-    if regression.reported:
-        for key in ("slope", "slope[1]"):
-            if key in regression.reported:
-                return regression.reported[key].cell
-        first = min(regression.reported, key=stat_order)
-        return regression.reported[first].cell
-    return regression.x_range
 
 
 def display_length(value: Any) -> int:
@@ -150,7 +75,9 @@ class SheetWriter:
         self.fit(col, len(shown_number(float(value))))
 
     def merge(self, row: int, first: int, last: int, text: str, cell_format: Any) -> None:
-        self.sheet.merge_range(row, first, row, last, text, cell_format)
+        # merge_range writes with the generic write(), which would make "=…" text a formula.
+        self.sheet.merge_range(row, first, row, last, "", cell_format)
+        put(self.sheet, row, first, text, cell_format)
         self.wrapped.append((row, first, last, text))
 
     def header(

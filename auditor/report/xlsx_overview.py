@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
+from pathlib import Path
 
 from xlsxwriter import Workbook
 from xlsxwriter.worksheet import Worksheet
@@ -18,17 +19,18 @@ from auditor.report.common import (
     copy_caveat,
     status_counts,
 )
-from auditor.report.xlsx_layout import (
-    LINE_HEIGHT,
-    DetailRef,
-    internal_link,
-    print_setup,
-    text_lines,
-)
+from auditor.report.xlsx_layout import LINE_HEIGHT, print_setup, text_lines
+from auditor.report.xlsx_links import DetailRef, internal_link
 from auditor.report.xlsx_style import VERDICT_PALETTE, Styles, put
 
 LABEL_WIDTH = 30
 VALUE_WIDTH = 100
+COPIES_NOTE = (
+    "The audited workbook with a note (message and fix) and a light fill on every flagged cell, "
+    "and a note on the first sheet's A1 saying where it came from. The original is never "
+    "changed. Formulas keep their text and recalculate when the copy is opened; content the "
+    "copying library cannot carry over faithfully is named below, copy by copy."
+)
 CAUTION_ROW_HEIGHT = 62  # merged cells are not fitted by Excel; this holds the paragraph
 
 
@@ -122,16 +124,20 @@ def _counts(out: _Cursor, result: AuditResult) -> None:
 
 
 def _copies(out: _Cursor, copies: Sequence[AnnotatedCopy]) -> None:
+    """One line per copy; what copies lose in general is said once, what one loses beside it."""
     if not copies:
         return
     out.section("Annotated copies")
-    for copy in copies:
-        out.line(
-            copy.copy,
-            f"copy of {copy.source} with a note on {copy.notes} flagged cell(s). "
-            + copy_caveat(copy),
-            out.styles.wrapped,
-        )
+    folders = sorted({str(Path(copy.copy).parent) for copy in copies})
+    out.line("Folder", ", ".join(folders))
+    out.line("What a copy is", COPIES_NOTE)
+    for index, copy in enumerate(copies):
+        text = f"{Path(copy.copy).name}: copy of {copy.source}, notes on {copy.notes} cell(s)."
+        if copy.error:
+            text = f"{copy.source}: {copy.error}"
+        elif copy.may_lose:
+            text += " " + copy_caveat(copy)
+        out.line("Copies" if index == 0 else "", text)
 
 
 def _guide(out: _Cursor, refs: list[DetailRef]) -> None:

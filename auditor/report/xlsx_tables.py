@@ -19,14 +19,8 @@ from auditor.report.common import (
     reported_and_intended,
     short_paths,
 )
-from auditor.report.xlsx_layout import (
-    DetailRef,
-    SheetWriter,
-    add_table,
-    anchor_cell,
-    internal_link,
-    print_setup,
-)
+from auditor.report.xlsx_layout import SheetWriter, add_table, print_setup
+from auditor.report.xlsx_links import DetailRef, anchor_cell, internal_link
 from auditor.report.xlsx_style import Styles
 
 FINDING_HEADERS: tuple[str, ...] = (
