@@ -69,7 +69,9 @@ def _formulas(last: int) -> list[str]:
     ]
 
 
-def _write_sheet(book: xlsxwriter.Workbook, title: str, rows: int, rng: np.random.Generator) -> None:
+def _write_sheet(
+    book: xlsxwriter.Workbook, title: str, rows: int, rng: np.random.Generator
+) -> None:
     sheet = book.add_worksheet(title)
     x = np.round(rng.uniform(0.5, 40.0, rows), 3)
     y = np.round(0.12 + 0.0485 * x + rng.normal(0.0, 0.02, rows), 4)

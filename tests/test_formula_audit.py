@@ -202,7 +202,7 @@ def test_minor_while_right_major_when_wrong() -> None:
     # The manifest declares Run 3's pasted slope right and Run 4's from before two rows were
     # added; LibreOffice's stored values confirm both (fixtures/make_fixtures.py verifies them).
     _, result = _audited("ops_glue_runs_copied_sheets.xlsx")
-    by_cell = {f.cells[0]: f for f in result.findings if f.check == "pasted-result"}
+    by_cell = {f.cells[0]: f for f in result.all_findings() if f.check == "pasted-result"}
     assert by_cell["Run 3!E4"].severity == "minor"
     assert by_cell["Run 4!E4"].severity == "major"
     run_4 = next(r for r in result.regressions if r.sheet == "Run 4")

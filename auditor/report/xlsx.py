@@ -30,7 +30,7 @@ from auditor.report.xlsx_links import detail_refs
 from auditor.report.xlsx_overview import overview_sheet
 from auditor.report.xlsx_style import Styles
 from auditor.report.xlsx_tables import (
-    compact_json,
+    evidence_text,
     findings_sheet,
     ordered_findings,
     regression_headers,
@@ -85,7 +85,7 @@ class XlsxReporter:
 
 __all__ = [
     "XlsxReporter",
-    "compact_json",
+    "evidence_text",
     "created_date",
     "ordered_findings",
     "regression_headers",

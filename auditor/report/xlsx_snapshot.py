@@ -17,9 +17,6 @@ from auditor.model import DataPoint, RegressionResult
 from auditor.report.xlsx_charts import Block, ChartSource
 from auditor.report.xlsx_layout import SheetWriter
 
-REASON_WIDTH = 36  # the "why" column wraps at this width
-ROWS_ABOVE_DATA = 3  # title, explanation, header
-
 
 @dataclass(frozen=True)
 class Snapshot:
@@ -141,7 +138,3 @@ def write_snapshot(
         against_fitted=against_fitted,
     )
     return Snapshot(ranges, chart, reason_col)
-
-
-def snapshot_height(regression: RegressionResult) -> int:
-    return ROWS_ABOVE_DATA + len(regression.data)

@@ -38,12 +38,6 @@ FINDING_HEADERS: tuple[str, ...] = (
 WRAPPED_FINDING_WIDTHS: dict[str, float] = {"message": 60, "evidence": 40, "fix": 50}
 
 
-def compact_json(evidence: dict[str, Any]) -> str:
-    if not evidence:
-        return ""
-    return json.dumps(plain(evidence), ensure_ascii=False, allow_nan=False, separators=(", ", ": "))
-
-
 def evidence_text(evidence: dict[str, Any]) -> str:
     """Evidence as a reviewer reads it: "reported: 0.0213; two tailed: 0.0426" (audit.json keeps
     every digit; nested values stay compact JSON)."""
