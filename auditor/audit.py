@@ -43,7 +43,8 @@ def collect_inputs(paths: Iterable[str | Path]) -> list[Path]:
                     for p in path.rglob("*")
                     if p.is_file()
                     and p.suffix.lower() in WORKBOOK_SUFFIXES
-                    and not p.name.startswith("~$")
+                    and not p.name.startswith("~$")  # a lock file of an open workbook
+                    and ".audited." not in p.name  # regaudit's own annotated copies
                 )
             )
         else:

@@ -88,6 +88,7 @@ def cmd_audit(args: argparse.Namespace) -> int:
         ship_bytes=args.ship_bytes,
         waivers_file=args.waivers,
         baseline_file=args.baseline,
+        annotate=args.annotate,
     )
     _print_outcome(result, Path(args.out), formats)
     print(f"  in {time.perf_counter() - started:.1f} s")
@@ -121,7 +122,12 @@ def cmd_demo(args: argparse.Namespace) -> int:
     print(f"wrote {len(demo_workbooks())} demo workbooks to {inputs}")
     out_dir = target / "audit"
     result = run_audit(
-        [str(inputs)], out_dir, args.policy, jobs=args.jobs, timestamp=args.timestamp
+        [str(inputs)],
+        out_dir,
+        args.policy,
+        jobs=args.jobs,
+        timestamp=args.timestamp,
+        annotate=True,
     )
     _print_outcome(result, out_dir, FORMATS)
     print(f"open {out_dir / 'audit.xlsx'} or read {out_dir / 'summary.txt'}")
@@ -181,6 +187,12 @@ def build_parser() -> argparse.ArgumentParser:
         default=None,
         metavar="FILE",
         help="accepted findings (default: regaudit-waivers.toml in the audited folder, if any)",
+    )
+    audit.add_argument(
+        "--annotate",
+        action="store_true",
+        help="also write NAME.audited.xlsx into --out for each workbook with findings: a note "
+        "(message and fix) and a light fill on every flagged cell; the originals are never changed",
     )
     cluster_options(audit)
     audit.set_defaults(handler=cmd_audit)

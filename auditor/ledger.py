@@ -18,18 +18,16 @@ carries on from there. Only the parent process writes; workers never touch the l
 from __future__ import annotations
 
 import dataclasses
-import functools
 import json
 import os
 import sqlite3
-import types
-import typing
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
+from auditor import resultjson
 from auditor.errors import RegauditError
 from auditor.model import WorkbookResult
 from auditor.workbook import sha256_of
@@ -90,7 +88,9 @@ def settings_digest(policy: Any, bindings: Any = None) -> str:
     """A digest of everything besides the file that decides a result: thresholds, bindings."""
     import hashlib
 
-    text = json.dumps([_plain(policy), bindings], sort_keys=True, default=str)
+    is_record = dataclasses.is_dataclass(policy) and not isinstance(policy, type)
+    plain = dataclasses.asdict(policy) if is_record else policy
+    text = json.dumps([plain, bindings], sort_keys=True, default=str)
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
@@ -173,9 +173,7 @@ class Ledger:
         reusable: bool = True,
     ) -> None:
         """Store one file's result; committed before this returns."""
-        payload = json.dumps(
-            dataclasses.asdict(result), separators=(",", ":"), default=_json_default
-        )
+        payload = resultjson.dumps(result)
         with self._transaction():
             self.db.execute(
                 "INSERT INTO audits (run, path, sha256, size, audited_at, seconds, policy,"
@@ -206,7 +204,7 @@ class Ledger:
         if row is None:
             return None
         try:
-            return _build(WorkbookResult, json.loads(row[0]))
+            return resultjson.loads(row[0])
         except (TypeError, ValueError, KeyError):
             return None  # written by a model this version cannot rebuild: audit again
 
@@ -277,54 +275,3 @@ def audit_with_ledger(
             ledger.record(run, paths[index], identity, key, result, seconds, reusable)
         yield index, result
     ledger.finish_run(run, reused)
-
-
-# --- rebuilding the result model from JSON ---------------------------------------------------
-
-
-def _json_default(value: Any) -> Any:
-    """numpy scalars (in evidence dicts) as Python numbers; anything else as its text."""
-    item = getattr(value, "item", None)
-    return item() if callable(item) else str(value)
-
-
-@functools.cache
-def _hints(cls: Any) -> dict[str, Any]:
-    return typing.get_type_hints(cls)
-
-
-def _plain(value: Any) -> Any:
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return dataclasses.asdict(value)
-    return value
-
-
-def _build(cls: Any, data: Any) -> Any:
-    """``cls`` (a dataclass of the result model) from what ``dataclasses.asdict`` gave; fields
-    added since are left at their defaults, fields since removed are ignored."""
-    hints = _hints(cls)
-    values = {}
-    for item in dataclasses.fields(cls):
-        if item.name in data:
-            values[item.name] = _convert(hints[item.name], data[item.name])
-    return cls(**values)
-
-
-def _convert(hint: Any, value: Any) -> Any:
-    if value is None:
-        return None
-    origin = typing.get_origin(hint)
-    if origin in (typing.Union, types.UnionType):
-        for option in typing.get_args(hint):
-            if dataclasses.is_dataclass(option) and isinstance(value, dict):
-                return _build(option, value)
-        return value
-    if dataclasses.is_dataclass(hint) and isinstance(value, dict):
-        return _build(hint, value)
-    if origin is list and isinstance(value, list):
-        (item_hint,) = typing.get_args(hint) or (Any,)
-        return [_convert(item_hint, item) for item in value]
-    if origin is dict and isinstance(value, dict):
-        _key_hint, item_hint = typing.get_args(hint) or (Any, Any)
-        return {k: _convert(item_hint, v) for k, v in value.items()}
-    return value

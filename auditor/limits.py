@@ -16,6 +16,8 @@ from __future__ import annotations
 
 import multiprocessing
 import os
+import sys
+import threading
 import time
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
@@ -229,7 +231,23 @@ def _memory_reason(limits: FileLimits) -> str:
     )
 
 
+def _os_threads() -> int:
+    """Threads of this process, the interpreter's and the libraries' (OpenBLAS starts some)."""
+    try:
+        return len(os.listdir("/proc/self/task"))
+    except OSError:
+        return threading.active_count()
+
+
 def _context() -> Any:
-    # fork starts a worker in milliseconds with regaudit already imported; elsewhere, spawn.
+    """fork starts a worker in milliseconds with regaudit already imported. Forking a process
+    that runs other threads can deadlock the child (Python 3.12 warns of it), so then a fork
+    server, which is itself single-threaded, forks the workers; spawn where neither exists."""
     methods = multiprocessing.get_all_start_methods()
-    return multiprocessing.get_context("fork" if "fork" in methods else "spawn")
+    if "fork" in methods and (sys.version_info < (3, 12) or _os_threads() == 1):
+        return multiprocessing.get_context("fork")
+    if "forkserver" in methods:
+        context = multiprocessing.get_context("forkserver")
+        context.set_forkserver_preload(["auditor.audit"])
+        return context
+    return multiprocessing.get_context("spawn")

@@ -66,7 +66,9 @@ def run_audit(
     waivers_file: str | None = None,
     baseline_file: str | None = None,
     write: bool = True,
+    annotate: bool = False,
 ) -> AuditResult:
+    from auditor.annotate import annotate_copies
     from auditor.audit import audit_batch, collect_inputs
     from auditor.baseline import apply_baseline, describe_outcome, load_baseline
     from auditor.identity import assign_identities, audit_root
@@ -119,5 +121,14 @@ def run_audit(
         for line in describe_outcome(outcome):
             print(line)
     if write:
-        write_reports(result, out_dir, list(formats), input_paths=[Path(p) for p in paths])
+        # Copies first: the Overview lists them, and a refusal stops the run before any write.
+        copies = annotate_copies(result, out_dir, paths) if annotate else []
+        write_reports(
+            result, out_dir, list(formats), input_paths=[Path(p) for p in paths], copies=copies
+        )
+        for copy in copies:
+            if copy.error:
+                print(f"error: {copy.source}: {copy.error}", file=sys.stderr)
+            else:
+                print(f"  wrote {copy.copy}")
     return result

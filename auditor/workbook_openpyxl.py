@@ -43,7 +43,7 @@ def _convert_value(value: object, data_type: str | None) -> CellValue:
         from openpyxl.utils.datetime import to_excel
 
         try:
-            return float(to_excel(value))  # type: ignore[arg-type]
+            return float(to_excel(value))
         except (TypeError, ValueError):
             return str(value)
     return str(value)

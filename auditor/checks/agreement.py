@@ -7,8 +7,8 @@ from scipy import stats as distributions
 from auditor.checks.base import RegressionContext, check
 from auditor.compare import agree_stored, parse_text_number
 from auditor.diagnose import explain
+from auditor.model import STAT_KEYS, Finding, ReportedValue, Severity, stat_base
 from auditor.reported import relative_tolerance
-from auditor.model import Finding, ReportedValue, Severity, stat_base
 
 NAMES = {
     "slope": "slope",
@@ -82,7 +82,8 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
     Severity: critical when the slope's sign or its significance at the policy's alpha changes,
     major otherwise.
     """
-    findings = []
+    findings: list[Finding] = []
+    causes: list[tuple[ReportedValue, str]] = []
     for value in context.reported.values():
         if value.verdict != "mismatch":
             continue
@@ -132,7 +133,75 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
                 fix=fix,
             )
         )
-    return findings
+        causes.append((value, explanations[0].message if explanations else ""))
+    return _merge_by_cause(findings, causes, context)
+
+
+def _merge_by_cause(
+    findings: list[Finding],
+    causes: list[tuple[ReportedValue, str]],
+    context: RegressionContext,
+) -> list[Finding]:
+    """One finding per mistake: a short range or a stale slope makes SE, t and p wrong too, and a
+    reviewer needs the cause once, with every cell it reaches and both numbers for each."""
+    groups: dict[str, list[int]] = {}
+    for index, finding in enumerate(findings):
+        if finding.kind is not None:
+            groups.setdefault(finding.kind, []).append(index)
+    merged: list[Finding] = []
+    done: set[int] = set()
+    for index, finding in enumerate(findings):
+        if index in done:
+            continue
+        members = groups.get(finding.kind or "", [index]) if finding.kind else [index]
+        if len(members) == 1:
+            merged.append(finding)
+            continue
+        done.update(members)
+        order = sorted(members, key=lambda i: _stat_rank(causes[i][0].key))
+        values = [causes[i][0] for i in order]
+        critical = any(findings[i].severity == "critical" for i in members)
+        lines = "; ".join(
+            f"{describe(v.key)} in {v.cell}: reported {fmt(v.value)}, recomputed {fmt(v.intended)}"
+            for v in values
+        )
+        consequence = (
+            f" At alpha = {context.policy.alpha:g} this changes the conclusion." if critical else ""
+        )
+        root = causes[order[0]][1]
+        merged.append(
+            Finding(
+                check="stat-recompute",
+                kind=finding.kind,
+                severity="critical" if critical else "major",
+                cells=[v.cell for v in values],
+                message=(
+                    f"{len(values)} reported statistics disagree with the recomputation from the "
+                    f"{context.data.n} points of {context.data.intended_y_range}, and one mistake "
+                    f"explains them all. Cause: {root.rstrip('. ')}. Values: {lines}.{consequence}"
+                ),
+                evidence={
+                    "reproduced_by": finding.kind,
+                    "values": [
+                        {
+                            "cell": v.cell,
+                            "key": v.key,
+                            "reported": v.value,
+                            "intended": v.intended,
+                            "tolerance": v.tolerance,
+                        }
+                        for v in values
+                    ],
+                },
+                fix=findings[order[0]].fix,
+            )
+        )
+    return merged
+
+
+def _stat_rank(key: str) -> int:
+    base = stat_base(key).split("[")[0]
+    return STAT_KEYS.index(base) if base in STAT_KEYS else len(STAT_KEYS)
 
 
 @check("stat-stale", "A stored value no longer matches what its own formula computes.")

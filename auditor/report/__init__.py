@@ -19,6 +19,7 @@ from typing import BinaryIO, Protocol
 
 from auditor.errors import UsageError
 from auditor.model import AuditResult
+from auditor.report.common import AnnotatedCopy
 from auditor.report.json import JsonReporter
 from auditor.report.output import atomic_output, refuse_inputs
 from auditor.report.sarif import SarifReporter
@@ -55,6 +56,7 @@ def write_reports(
     out_dir: Path,
     formats: Sequence[str] = DEFAULT_FORMATS,
     input_paths: Iterable[Path | str] = (),
+    copies: Sequence[AnnotatedCopy] = (),
 ) -> list[Path]:
     """Write one file per format into ``out_dir`` (created if missing); return their paths.
 
@@ -68,7 +70,10 @@ def write_reports(
         raise UsageError(f"unknown report format {unknown[0]!r}; choose from {known}")
     inputs = audited_files(result) | {Path(source) for source in input_paths}
     out_dir = Path(out_dir)
-    chosen = [REPORTERS[name] for name in dict.fromkeys(formats)]  # keeps order, drops repeats
+    chosen = [  # keeps order, drops repeats; the workbook lists the annotated copies
+        XlsxReporter(copies) if name == "xlsx" else REPORTERS[name]
+        for name in dict.fromkeys(formats)
+    ]
     # Check every target first, so a refusal does not leave a half-written set of reports.
     for reporter in chosen:
         refuse_inputs(out_dir / reporter.filename, inputs)

@@ -7,6 +7,7 @@ estimates the height of rows holding wrapped text from the final widths.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from typing import Any
 
 from xlsxwriter.worksheet import Worksheet
@@ -111,7 +112,7 @@ class SheetWriter:
             self.fit(col, len(text))
 
     def apply_widths(
-        self, minimum: int = 6, maximum: int = 50, fixed: dict[int, float] | None = None
+        self, minimum: int = 6, maximum: int = 50, fixed: Mapping[int, float] | None = None
     ) -> dict[int, float]:
         """Set every column's width and the height of rows with wrapped text; return the widths."""
         fixed = fixed or {}
