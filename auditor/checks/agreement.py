@@ -117,7 +117,7 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
             # The simplest mistake that reproduces the reported number names the cause.
             cause = explanations[0]
             kind, fix = cause.kind, cause.fix
-            message += f" Cause: {cause.message}"
+            message += f" Cause: {cause.message.rstrip('. ')}."
             evidence["reproduced_by"] = cause.kind
             evidence["reproduced"] = cause.reproduced
             if len(explanations) > 1:
