@@ -5,10 +5,11 @@ those whose number agrees with the reported one *at its precision* (:mod:`audito
 returned simplest first, one per kind:
 
 1. formula slips (:data:`auditor.mistakes.HYPOTHESES`): a one-tailed p, SUMSQ for DEVSQ, …;
-2. row subsets (:data:`ROW_SUBSETS`): the fit over the rows the author's ranges took in or left
-   out. Rows dropped at either end are screened with running sums of the centred cross products,
-   so each candidate costs O(1) whatever the table's length; the few that come close are
-   confirmed by an exact refit, because sums lose digits that a 1e-9 comparison needs;
+2. row subsets (:data:`auditor.rowsearch.ROW_SUBSETS`): the fit over the rows the author's ranges
+   took in or left out. Rows dropped at either end are screened with running sums of the centred
+   cross products, so each candidate costs O(1) whatever the table's length; the few that come
+   close are confirmed here by an exact refit, because sums lose digits that a 1e-9 comparison
+   needs; :mod:`auditor.mistakes_rows` words them;
 3. inherited: the value follows correctly from other reported cells that are wrong themselves
    (``t = E4/E10`` with a stale slope in E4); their explanations carry over.
 
@@ -18,16 +19,12 @@ A typed or stale stored value that nothing reproduces is explained last as ``sta
 from __future__ import annotations
 
 import math
-import re
-from collections.abc import Callable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-import numpy as np
-from numpy.typing import NDArray
 from scipy import stats as distributions
 
-from auditor.compare import Agreement, agree_stored, agree_text, agree_typed, parse_text_number
+from auditor.compare import agree_stored, agree_text, agree_typed, parse_text_number
 from auditor.fit import fit_ols
 from auditor.mistakes import (
     FORMULA_HINTS,
@@ -35,37 +32,61 @@ from auditor.mistakes import (
     PER_SLOPE,
     Basis,
     Candidate,
-    Evidence,
-    g,
-    pair,
     stat_name,
     two_sided,
 )
+from auditor.mistakes_rows import FORMULAS, stale_fallback, subset_candidate
 from auditor.model import ReportedValue, stat_base
+from auditor.rowsearch import (
+    MAX_END_DROP,
+    ROW_SUBSETS,
+    SCREEN_SLACK,
+    TEXT_REASON,
+    TOTAL_REASON,
+    BoolArray,
+    FloatArray,
+    Judge,
+    RowTable,
+    Subset,
+    moment_stat,
+    near_subsets,
+    row_table,
+    rows_as_written,
+    rows_at_ends,
+    rows_one_out,
+    rows_text,
+    rows_with_total,
+    rows_without_text,
+)
 
 if TYPE_CHECKING:  # only annotations: the checks package imports this module (no cycle)
     from auditor.checks.base import RegressionContext
-    from auditor.extract import Extracted
 
-Judge = Callable[[float], Agreement]
-FloatArray = NDArray[np.float64]
-BoolArray = NDArray[np.bool_]
-MAX_END_DROP = 5  # rows dropped at each end of the table: ranges set before rows were added
-# How extract.py words why a row was left out of, or parsed for, the intended table.
-TOTAL_REASON, TEXT_REASON = "total or mean row", "number stored as text"
-SCREEN_SLACK = 1e-6  # relative: how close a running-sum candidate must come to be refitted
+# What other modules and tests have imported from here since the row search moved out.
+__all__ = [
+    "FORMULAS",
+    "MAX_END_DROP",
+    "ROW_SUBSETS",
+    "SCREEN_SLACK",
+    "TEXT_REASON",
+    "TOTAL_REASON",
+    "BoolArray",
+    "Explanation",
+    "FloatArray",
+    "Judge",
+    "RowTable",
+    "Subset",
+    "explain",
+    "moment_stat",
+    "rows_as_written",
+    "rows_at_ends",
+    "rows_one_out",
+    "rows_text",
+    "rows_with_total",
+    "rows_without_text",
+]
+_row_table = row_table  # the name tests/test_diagnose.py imports
 MAX_DEPTH = 2  # p ← t ← slope: deep enough for every chain a results block builds
-
-# A formula over the whole table for each statistic a stale value should be replaced by.
-FORMULAS = {
-    "slope": "=SLOPE({y}, {x})",
-    "intercept": "=INTERCEPT({y}, {x})",
-    "residual_sd": "=STEYX({y}, {x})",
-    "r_squared": "=RSQ({y}, {x})",
-    "n": "=COUNT({x})",
-    "se_slope": "=STEYX({y}, {x})/SQRT(DEVSQ({x}))",
-    "df": "=COUNT({x})-2",
-}
 
 
 @dataclass(frozen=True)
@@ -118,7 +139,7 @@ def _explain(value: ReportedValue, context: RegressionContext, depth: int) -> li
     for candidate in _inherited(value, context, basis, judge, depth) if depth < MAX_DEPTH else []:
         keep(candidate)
     if not found and _pasted_or_stale(value, context, reported):
-        keep(_stale_fallback(value, context, basis, reported))
+        keep(stale_fallback(value, context, basis, reported))
     return list(found.values())
 
 
@@ -250,206 +271,6 @@ def _recipe(context: RegressionContext, basis: Basis) -> tuple[float, list[Repor
     return None
 
 
-def _stale_fallback(
-    value: ReportedValue, context: RegressionContext, basis: Basis, reported: float
-) -> Candidate:
-    name = stat_name(basis.stat, basis.j, context.fit.k)
-    intended = g(value.intended) if value.intended is not None else "no value"
-    if value.source in ("typed", "text"):
-        formula = FORMULAS.get(basis.stat, "a formula over {y} and {x}")
-        message = (
-            f"the typed {name} {g(reported)} matches no computation from the current data "
-            f"(the {context.data.n} rows give {intended}; no slip in a formula and no rows left "
-            "out give it): it was typed or pasted before the data changed"
-        )
-        fix = (
-            f"replace the typed value by {formula.format(y=basis.y_range, x=basis.x_range)}, "
-            "so that it follows the data"
-        )
-    else:
-        message = (
-            f"the stored {name} {g(reported)} is out of date: its formula {value.formula} now "
-            f"gives {g(value.as_written or math.nan)} (the intended value is {intended})"
-        )
-        fix = "recalculate the workbook (or re-enter the formula) and re-check the figures"
-    return Candidate("stale-value", reported, message, fix, {"matched": "no current computation"})
-
-
-# --- row subsets -------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class RowTable:
-    """The rows with numbers in x and y, in sheet order, and the running sums over them."""
-
-    rows: list[int]
-    x: FloatArray  # (m, k)
-    y: FloatArray
-    used: BoolArray  # in the intended table
-    as_written: BoolArray
-    total: BoolArray
-    text: BoolArray  # a number stored as text, parsed for the intended table
-    shift: FloatArray  # subtracted from [x..., y] before the sums: the intended means
-    outer: FloatArray  # (m, p, p): z zᵀ per row, z = [1, x − shift, y − shift]
-    running: FloatArray  # (n + 1, p, p): cumulative sums of ``outer`` over the intended rows
-    intercept: bool
-
-    def moments(self, mask: BoolArray) -> FloatArray:
-        return np.asarray(self.outer[mask].sum(axis=0), dtype=np.float64)
-
-
-def _row_table(data: Extracted, intercept: bool) -> RowTable:
-    k = data.x.shape[1]
-    points = [p for p in data.points if p.y is not None and len(p.x) == k and None not in p.x]
-    if sum(p.used for p in points) == data.n:
-        rows = [p.row for p in points]
-        x = np.array([p.x for p in points], dtype=np.float64).reshape(-1, k)
-        y = np.array([p.y for p in points], dtype=np.float64)
-        flags = [
-            (p.used, p.used_as_written, TOTAL_REASON in p.reason, TEXT_REASON in p.reason)
-            for p in points
-        ]
-    else:  # no row record (data built by hand): the intended rows, numbered from 1
-        rows, x, y = list(range(1, data.n + 1)), data.x, data.y
-        flags = [(True, True, False, False)] * data.n
-    used, as_written, total, text = (
-        np.array(f, dtype=bool).reshape(-1) for f in zip(*flags, strict=True)
-    )
-    # Centring on the intended means keeps the sums' cancellation small (design: fit.py).
-    shift = np.zeros(k + 1)
-    if intercept and data.n:
-        shift = np.append(data.x.mean(axis=0), data.y.mean())
-    z = np.column_stack([np.ones(len(rows)), x - shift[:k], y - shift[k]])
-    outer = np.einsum("ni,nj->nij", z, z)
-    running = np.concatenate([np.zeros((1, k + 2, k + 2)), np.cumsum(outer[used], axis=0)])
-    return RowTable(rows, x, y, used, as_written, total, text, shift, outer, running, intercept)
-
-
-@dataclass(frozen=True)
-class Subset:
-    source: str  # which hypothesis proposed it
-    moments: FloatArray
-    ends: tuple[int, int] = (0, 0)  # intended rows dropped at the start and at the end
-    mask: BoolArray | None = None  # the rows chosen, when not given by ``ends`` or ``without``
-    without: int | None = None  # the one intended row left out (built only when it matches)
-
-    def chosen(self, table: RowTable) -> BoolArray:
-        if self.mask is not None:
-            return self.mask
-        if self.without is not None:
-            mask = table.used.copy()
-            mask[self.without] = False
-            return mask
-        positions = np.flatnonzero(table.used)
-        mask = np.zeros(len(table.rows), dtype=bool)
-        mask[positions[self.ends[0] : len(positions) - self.ends[1]]] = True
-        return mask
-
-
-def rows_as_written(table: RowTable, stale: bool) -> list[Subset]:
-    """The rows the author's SLOPE-family formulas see (short ranges, skipped text, totals)."""
-    if not table.as_written.any() or (table.as_written == table.used).all():
-        return []
-    return [Subset("as-written", table.moments(table.as_written), mask=table.as_written)]
-
-
-def rows_with_total(table: RowTable, stale: bool) -> list[Subset]:
-    mask = table.used | table.total
-    return [Subset("with-total", table.moments(mask), mask=mask)] if table.total.any() else []
-
-
-def rows_without_text(table: RowTable, stale: bool) -> list[Subset]:
-    mask = table.used & ~table.text
-    return [Subset("without-text", table.moments(mask), mask=mask)] if table.text.any() else []
-
-
-def rows_at_ends(table: RowTable, stale: bool) -> list[Subset]:
-    """Up to MAX_END_DROP rows off each end, fewest first and the end before the start."""
-    n, k = int(table.used.sum()), table.x.shape[1]
-    out = []
-    for dropped in range(1, 2 * MAX_END_DROP + 1):
-        for at_end in range(min(dropped, MAX_END_DROP), -1, -1):
-            at_start = dropped - at_end
-            if at_start > MAX_END_DROP or n - dropped < k + 2 + int(table.intercept) - 1:
-                continue
-            moments = table.running[n - at_end] - table.running[at_start]
-            out.append(Subset("ends", moments, ends=(at_start, at_end)))
-    return out
-
-
-def rows_one_out(table: RowTable, stale: bool) -> list[Subset]:
-    """A pasted value from before one row was added or changed: the fit without that row."""
-    if not stale:
-        return []  # a live formula cannot skip one inner row of a contiguous range
-    total = table.running[-1]
-    return [
-        Subset("one-row", total - table.outer[i], without=int(i))
-        for i in np.flatnonzero(table.used)
-    ]
-
-
-# Most specific first: what the formulas actually see, then the commonest slips with rows.
-ROW_SUBSETS: dict[str, Callable[[RowTable, bool], list[Subset]]] = {
-    "rows-as-written": rows_as_written,
-    "rows-with-total": rows_with_total,
-    "rows-without-text": rows_without_text,
-    "rows-at-ends": rows_at_ends,
-    "rows-one-out": rows_one_out,
-}
-
-
-def moment_stat(moments: FloatArray, stat: str, j: int, table: RowTable) -> float:
-    """One statistic of the fit over a subset, from its sums of cross products alone."""
-    k, intercept = table.x.shape[1], table.intercept
-    m = float(moments[0, 0])
-    df = round(m) - k - int(intercept)
-    if stat in ("n", "df"):
-        return m if stat == "n" else float(df)
-    if df <= 0:
-        return math.nan
-    mx = moments[0, 1 : k + 1] / m if intercept else np.zeros(k)
-    my = float(moments[0, k + 1]) / m if intercept else 0.0
-    sxx = moments[1 : k + 1, 1 : k + 1] - m * np.outer(mx, mx)
-    sxy = moments[1 : k + 1, k + 1] - m * mx * my
-    syy = float(moments[k + 1, k + 1]) - m * my * my
-    singular = np.linalg.svd(sxx, compute_uv=False)
-    if not singular[-1] > 1e-12 * singular[0]:
-        return math.nan  # x constant (or collinear) over the subset: no slope to compare
-    inverse = np.linalg.inv(sxx)
-    b = inverse @ sxy
-    s = math.sqrt(max(syy - float(b @ sxy), 0.0) / df)
-    x_mean = mx + table.shift[:k]
-    coefficient = {"slope": float(b[j])}
-    coefficient["intercept"] = my + float(table.shift[k]) - float(b @ x_mean) if intercept else 0.0
-    se = {"slope": s * math.sqrt(inverse[j, j])}
-    if intercept:
-        se["intercept"] = s * math.sqrt(1.0 / m + float(x_mean @ inverse @ x_mean))
-    fam = "intercept" if stat.endswith("intercept") else "slope"
-    simple = {
-        "residual_sd": s,
-        "r_squared": 1.0 - s * s * df / syy if syy > 0 else math.nan,
-        fam: coefficient[fam],
-    }
-    if stat in simple:
-        return simple[stat]
-    if fam not in se:
-        return math.nan
-    t = coefficient[fam] / se[fam] if se[fam] > 0 else math.nan
-    return {f"se_{fam}": se[fam], f"t_{fam}": t, f"p_{fam}": two_sided(t, df)}.get(stat, math.nan)
-
-
-def rows_text(rows: list[int]) -> str:
-    """[4, 16, 17] -> "rows 4, 16–17"."""
-    runs: list[list[int]] = []
-    for row in sorted(rows):
-        if runs and row == runs[-1][-1] + 1:
-            runs[-1].append(row)
-        else:
-            runs.append([row])
-    parts = [f"{r[0]}" if len(r) == 1 else f"{r[0]}–{r[-1]}" for r in runs]
-    return ("row " if len(rows) == 1 else "rows ") + ", ".join(parts)
-
-
 def _subset_candidates(
     value: ReportedValue,
     context: RegressionContext,
@@ -458,107 +279,13 @@ def _subset_candidates(
     judge: Judge,
     reported: float,
 ) -> list[Candidate]:
-    table = _row_table(context.data, context.fit.intercept)
+    table = row_table(context.data, context.fit.intercept)
     stale = _pasted_or_stale(value, context, reported)
-    out, seen = [], set()
-    for propose in ROW_SUBSETS.values():
-        for subset in propose(table, stale):
-            approx = moment_stat(subset.moments, basis.stat, basis.j, table)
-            if not math.isfinite(approx):
-                continue
-            allowed = judge(approx).allowed or 0.0
-            if abs(approx - reported) > allowed + SCREEN_SLACK * max(abs(reported), abs(approx)):
-                continue
-            mask = subset.chosen(table)
-            if mask.tobytes() in seen:
-                continue
-            seen.add(mask.tobytes())
-            refit = fit_ols(table.x[mask], table.y[mask], intercept=table.intercept)
-            exact = refit.stats().get(key)
-            if exact is not None and judge(float(exact)).agrees:
-                out.append(_subset_candidate(mask, table, value, context, basis, exact, stale))
+    out = []
+    for mask in near_subsets(table, basis.stat, basis.j, reported, judge, stale):
+        # Looked up here, not in rowsearch, so the refits stay countable (tests patch fit_ols).
+        refit = fit_ols(table.x[mask], table.y[mask], intercept=table.intercept)
+        exact = refit.stats().get(key)
+        if exact is not None and judge(float(exact)).agrees:
+            out.append(subset_candidate(mask, table, value, context, basis, exact, stale))
     return out
-
-
-def _subset_candidate(
-    mask: BoolArray,
-    table: RowTable,
-    value: ReportedValue,
-    context: RegressionContext,
-    basis: Basis,
-    exact: float,
-    stale: bool,
-) -> Candidate:
-    rows = np.array(table.rows)
-    left_out = [int(r) for r in rows[table.used & ~mask]]
-    added = [int(r) for r in rows[~table.used & mask]]
-    totals = [int(r) for r in rows[~table.used & mask & table.total]]
-    texts = [int(r) for r in rows[table.used & ~mask & table.text]]
-    name = stat_name(basis.stat, basis.j, context.fit.k)
-    shown, intended = pair(exact, value.intended if value.intended is not None else math.nan)
-    n = context.data.n
-    ranges = f"{basis.y_range} and {basis.x_range}"
-    evidence: Evidence = {
-        "rows_left_out": rows_text(left_out) if left_out else "",
-        "rows_added": rows_text(added) if added else "",
-        "n_used": int(mask.sum()),
-    }
-    if totals:
-        message = (
-            f"the ranges take in the total {rows_text(totals)}: with it the {name} is "
-            f"{shown}; the {n} data rows give {intended}"
-        )
-        return Candidate(
-            "total-row", exact, message, f"end the ranges above the total row: {ranges}", evidence
-        )
-    if texts:
-        cells = [cell for cell, _ in context.data.parsed if _row_of(cell) in texts]
-        where = ", ".join(cells) or rows_text(texts)
-        message = (
-            f"{where} holds a number stored as text, which SLOPE, INTERCEPT, STEYX and RSQ "
-            f"skip: without {rows_text(texts)} the {name} is {shown}; with it read as "
-            f"a number, {intended}"
-        )
-        fix = f"convert {where} to a number (re-type it), so that every formula sees it"
-        return Candidate("text-number", exact, message, fix, evidence)
-    if left_out and not added and stale:
-        word = "stored" if value.source == "stored" else "typed"
-        message = (
-            f"the {word} {name} {shown} matches the data without {rows_text(left_out)} "
-            f"(added or changed later?); all {n} rows give {intended}"
-        )
-        formula = FORMULAS.get(basis.stat, "a formula over {y} and {x}")
-        fix = (
-            f"replace the value by {formula.format(y=basis.y_range, x=basis.x_range)}, so "
-            "that it follows the data"
-        )
-        return Candidate("stale-value", exact, message, fix, evidence)
-    if left_out and not added:
-        kept = [int(r) for r in rows[mask]]
-        if all(r > kept[-1] for r in left_out):
-            where = f"the ranges stop at row {kept[-1]}"
-        elif all(r < kept[0] for r in left_out):
-            where = f"the ranges start at row {kept[0]}"
-        else:
-            where = f"the ranges cover rows {kept[0]}–{kept[-1]} only"
-        message = (
-            f"{where}, leaving out {rows_text(left_out)}: over the {len(kept)} rows left "
-            f"the {name} is {shown}; the whole table ({n} rows) gives {intended}"
-        )
-        return Candidate(
-            "range-short",
-            exact,
-            message,
-            f"extend the ranges to the whole table: {ranges}",
-            evidence,
-        )
-    message = (
-        f"the {name} {shown} is the fit over {rows_text([int(r) for r in rows[mask]])}"
-        f", not over the table's {n} rows ({intended})"
-    )
-    return Candidate("range-mismatch", exact, message, f"make every formula use {ranges}", evidence)
-
-
-def _row_of(cell: str) -> int:
-    digits = re.search(r"(\d+)$", cell)
-    return int(digits.group(1)) if digits else -1

@@ -59,6 +59,7 @@ def locate(
     specs.extend(by_labels)
     for spec in specs:
         spec.label = locator.block_title(spec)
+        spec.x_headers = locator.x_headers(spec)
     seen: set[str] = set()
     for spec in specs:
         base, n = spec.id, 2

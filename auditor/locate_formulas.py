@@ -88,6 +88,7 @@ class FormulaLocator:
         if key in spec.stats:
             key = f"{key}@{stat.cell.coord}"
         stat.key = key
+        stat.label = stat.label or label_for(self.workbook, stat.cell) or ""
         spec.stats[key] = stat
 
     def _assign_anchor_roles(self, spec: RegressionSpec) -> None:
@@ -125,8 +126,28 @@ class FormulaLocator:
                 self._put(
                     spec,
                     role,
-                    StatCell(role or "", cell_with_formula, "linest-block", (r - r1, c - c1)),
+                    StatCell(
+                        role or "",
+                        cell_with_formula,
+                        "linest-block",
+                        (r - r1, c - c1),
+                        column_header=self._text_above(anchor.sheet, r1, c),
+                    ),
                 )
+
+    def _text_above(self, sheet_name: str, row: int, col: int) -> str:
+        """The nearest text within three rows above a cell (a column header of a block)."""
+        sheet = self.workbook.sheet(sheet_name)
+        for r in range(row - 1, max(0, row - 4), -1):
+            value = sheet.value(r, col) if sheet is not None else None
+            if isinstance(value, str) and value.strip():
+                return value
+        return ""
+
+    def x_headers(self, spec: RegressionSpec) -> list[str]:
+        return [
+            self._text_above(spec.x.sheet, spec.x.r1, c) for c in range(spec.x.c1, spec.x.c2 + 1)
+        ]
 
     def _stat_addresses(self, spec: RegressionSpec) -> dict[tuple[str, int, int], str]:
         out = {}

@@ -18,6 +18,8 @@ class StatCell:
     cell: Cell
     how: str  # "formula", "linest-block", "name", "binding", "label"
     block_position: tuple[int, int] | None = None  # (row, col) inside an array block
+    label: str = ""  # the author's words beside the cell ("t (analyte)")
+    column_header: str = ""  # for a LINEST block cell: the text above its column of the block
 
 
 @dataclass
@@ -42,6 +44,8 @@ class RegressionSpec:
     stats: dict[str, StatCell] = field(default_factory=dict)
     uses: list[PairUse] = field(default_factory=list)
     label: str = ""
+
+    x_headers: list[str] = field(default_factory=list)  # header text of each x column
 
     @property
     def x_columns(self) -> int:

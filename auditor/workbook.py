@@ -1,12 +1,17 @@
 """Reading workbooks: every cell's formula text, stored value and number format; defined names.
 
-The reading layer is the only one that opens input files: this module (the data classes, the
-container check, :func:`read_workbook`), :mod:`auditor.xlsxstream` (the one-pass reader regaudit
-uses), :mod:`auditor.xlsxparts` and :mod:`auditor.xmlsafe` (package parts, hostile XML) and
-:mod:`auditor.workbook_openpyxl` (the two-load reference reader). Files are opened read-only; the
-zip central directory is checked before anything is inflated; every library error becomes
-:class:`auditor.errors.UnreadableWorkbook` with a message that says what the file is and what to
-do. Macros in .xlsm files are never run: only worksheet XML is read.
+The reading layer is the only one that opens input files:
+
+    workbook.py           the data classes and read_workbook(path, engine)
+    container.py          what a file is, from its first bytes and zip central directory
+    xlsxstream.py         the one-pass reader regaudit uses (one sheet: xlsxsheet.py)
+    xlsxparts.py          relationships, sheets and names, shared strings, number formats
+    xmlsafe.py            XML parsing that entity tricks cannot get through
+    workbook_openpyxl.py  the two-load openpyxl reader, the reference the tests compare with
+
+Files are opened read-only; the zip central directory is checked before anything is inflated;
+every library error becomes :class:`auditor.errors.UnreadableWorkbook` with a message that says
+what the file is and what to do. Macros in .xlsm files are never run: only worksheet XML is read.
 """
 
 from __future__ import annotations

@@ -195,7 +195,7 @@ class SheetReader:
                         f"{where} holds more than {MAX_CELLS:,} cells; refused as too large to "
                         "audit (split the workbook, or audit an extract of the data)"
                     )
-        except (ValueError, IndexError, OverflowError) as exc:
+        except (ValueError, IndexError, OverflowError, TypeError) as exc:
             at = f" at cell {ref!r}" if ref else ""
             raise UnreadableWorkbook(
                 f"{where}{at} holds a value that is not what its type says ({exc}); the file is "

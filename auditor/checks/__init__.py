@@ -3,6 +3,7 @@ failing and a passing example. Importing this package registers every check in `
 
 from auditor.checks import (  # noqa: F401
     agreement,
+    coefficients,
     data,
     design,
     formula_audit,
