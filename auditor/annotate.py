@@ -28,13 +28,13 @@ from openpyxl.styles import PatternFill
 from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.worksheet import Worksheet
 
+from auditor.container import check_container
 from auditor.errors import UnreadableWorkbook
 from auditor.model import SEVERITY_RANK, AuditResult, Finding, WorkbookResult, worst
 from auditor.report import audited_files
 from auditor.report.common import AnnotatedCopy, copy_caveat
 from auditor.report.output import atomic_output, refuse_inputs
 from auditor.report.xlsx_style import PALETTE
-from auditor.workbook import check_container
 
 COPY_SUFFIX = ".audited.xlsx"
 AUTHOR = "regaudit"
@@ -130,7 +130,7 @@ def _fill(sheet: Worksheet, reference: str, colour: str) -> str:
     for row in sheet.iter_rows(min_row, max_row, min_col, max_col):
         for cell in row:
             cell.fill = fill
-    return sheet.cell(min_row, min_col).coordinate
+    return str(sheet.cell(min_row, min_col).coordinate)
 
 
 def annotate_book(

@@ -147,7 +147,7 @@ def _route(findings: list[Finding], regressions: list[RegressionResult]) -> list
     """A workbook-level finding that starts at a regression's reported cell is shown with that
     regression (sibling blocks, pasted values, links); the rest stay with the workbook."""
     owners = {value.cell: r for r in regressions for value in r.reported.values()}
-    kept = []
+    kept: list[Finding] = []
     for finding in findings:
         owner = owners.get(finding.cells[0]) if finding.cells else None
         (owner.findings if owner is not None else kept).append(finding)

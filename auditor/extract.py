@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -103,7 +104,7 @@ def extract(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> E
     max_row = sheet.max_row if sheet is not None else last
     last = min(last, max_row)
 
-    def row_values(r: int) -> list[object]:
+    def row_values(r: int) -> list[Any]:
         return [evaluator.cell_value(x_ref.sheet, r, c) for c in x_cols] + [
             evaluator.cell_value(y_ref.sheet, r, y_ref.c1)
         ]

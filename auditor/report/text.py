@@ -82,7 +82,9 @@ def regression_table(workbook: WorkbookResult) -> str:
             row.append(regression.verdict)
             rows.append(row)
     align = ["left", "right"] + ["right"] * len(TABLE_STATS) + ["left"]
-    return tabulate(rows, headers=headers, tablefmt="simple", disable_numparse=True, colalign=align)
+    return str(
+        tabulate(rows, headers=headers, tablefmt="simple", disable_numparse=True, colalign=align)
+    )
 
 
 def finding_block(finding: Finding) -> list[str]:
