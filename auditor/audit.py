@@ -7,10 +7,7 @@ batch goes on.
 
 from __future__ import annotations
 
-import sys
-import traceback
 from collections.abc import Iterable
-from concurrent.futures import ProcessPoolExecutor
 from pathlib import Path
 from typing import Any
 
@@ -18,7 +15,7 @@ from auditor.checks import RegressionContext, run_regression_checks
 from auditor.checks.workbook_level import WorkbookContext, run_workbook_checks
 from auditor.design import design_metrics
 from auditor.design_inputs import DesignInputReader
-from auditor.errors import RegauditError, UnreadableWorkbook
+from auditor.errors import UnreadableWorkbook
 from auditor.evaluate import Evaluator
 from auditor.extract import extract
 from auditor.fit import FitResult, fit_ols
@@ -154,27 +151,7 @@ def _route(findings: list[Finding], regressions: list[RegressionResult]) -> list
     return kept
 
 
-def _audit_one(args: tuple[str, Policy, list[dict[str, Any]] | None]) -> WorkbookResult:
-    path, policy, bindings = args
-    try:
-        return audit_workbook(path, policy, bindings)
-    except RegauditError as exc:
-        return WorkbookResult(path, "", "unreadable", error=str(exc))
-    except Exception as exc:  # a bug: keep the traceback, keep the batch going
-        traceback.print_exc(file=sys.stderr)
-        return WorkbookResult(
-            path,
-            "",
-            "unreadable",
-            error=f"internal error while auditing ({type(exc).__name__}: {exc}); please report it",
-        )
+# The batch lives in auditor.batch; these names stay importable from here.
+from auditor.batch import _audit_one, audit_batch  # noqa: E402
 
-
-def audit_batch(
-    paths: list[Path], policy: Policy, bindings: list[dict[str, Any]] | None = None, jobs: int = 1
-) -> list[WorkbookResult]:
-    tasks = [(str(p), policy, bindings) for p in paths]
-    if jobs <= 1 or len(tasks) <= 1:
-        return [_audit_one(task) for task in tasks]
-    with ProcessPoolExecutor(max_workers=jobs) as pool:
-        return list(pool.map(_audit_one, tasks, chunksize=1))
+__all__ = ["_audit_one", "audit_batch", "audit_regression", "audit_workbook", "collect_inputs"]

@@ -7,7 +7,6 @@ input could be read.
 from __future__ import annotations
 
 import argparse
-import os
 import shutil
 import sys
 import time
@@ -19,6 +18,7 @@ from tabulate import tabulate
 from auditor import __version__
 from auditor.cli_review import add_review_parsers, cluster_options
 from auditor.errors import PolicyError, RegauditError, UsageError
+from auditor.limits import default_jobs
 from auditor.model import SEVERITIES, SEVERITY_RANK, AuditResult
 from auditor.plan import add_plan_parser
 from auditor.runner import FORMATS, run_audit
@@ -89,6 +89,11 @@ def cmd_audit(args: argparse.Namespace) -> int:
         waivers_file=args.waivers,
         baseline_file=args.baseline,
         annotate=args.annotate,
+        changed=args.changed,
+        ledger_file=args.ledger,
+        use_ledger=not args.no_ledger,
+        time_limit=args.time_limit,
+        memory_limit_gb=args.memory_limit,
     )
     _print_outcome(result, Path(args.out), formats)
     print(f"  in {time.perf_counter() - started:.1f} s")
@@ -105,6 +110,46 @@ def cmd_rules(args: argparse.Namespace) -> int:
     print(f"\npolicy {policy.name!r}: {policy.description}")
     rows2 = [(k, f"{t.value:g}", t.source) for k, t in policy.thresholds.items()]
     print(tabulate(rows2, headers=["threshold", "value", "source"], tablefmt="simple"))
+    return 0
+
+
+def cmd_history(args: argparse.Namespace) -> int:
+    from auditor.ledger import Ledger, default_ledger_path
+
+    path = Path(args.ledger) if args.ledger else default_ledger_path()
+    if not path.exists():
+        raise UsageError(f"no ledger at {str(path)!r}: run an audit first, or give --ledger")
+    with Ledger(path) as ledger:
+        entries = ledger.history(args.file)
+    if not entries:
+        print(f"{args.file}: no audits recorded in {path}")
+        return 0
+    rows = [
+        (
+            e.audited_at,
+            e.sha256[:12],
+            f"{e.size:,}",
+            e.policy,
+            e.version,
+            e.status,
+            e.regressions,
+            ", ".join(f"{n} {s}" for s, n in e.findings.items()) or "none",
+            f"{e.seconds:.2f} s",
+        )
+        for e in entries
+    ]
+    headers = [
+        "audited (UTC)",
+        "sha256",
+        "bytes",
+        "policy",
+        "version",
+        "status",
+        "regressions",
+        "findings",
+        "time",
+    ]
+    print(tabulate(rows, headers=headers))
     return 0
 
 
@@ -144,7 +189,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--version", action="version", version=f"regaudit {__version__}")
     sub = parser.add_subparsers(dest="command", required=True)
-    cores = os.cpu_count() or 1
+    cores = default_jobs()
 
     audit = sub.add_parser(
         "audit",
@@ -194,11 +239,44 @@ def build_parser() -> argparse.ArgumentParser:
         help="also write NAME.audited.xlsx into --out for each workbook with findings: a note "
         "(message and fix) and a light fill on every flagged cell; the originals are never changed",
     )
+    audit.add_argument(
+        "--changed",
+        action="store_true",
+        help="re-audit only files whose content changed since the last run with the same policy "
+        "and version; reuse the ledger's results for the rest (reports still cover every file)",
+    )
+    audit.add_argument(
+        "--ledger",
+        default=None,
+        metavar="FILE",
+        help="SQLite ledger of past audits (default: $REGAUDIT_LEDGER, else "
+        "~/.local/state/regaudit/ledger.sqlite)",
+    )
+    audit.add_argument("--no-ledger", action="store_true", help="record nothing in the ledger")
+    audit.add_argument(
+        "--time-limit",
+        type=float,
+        default=600.0,
+        metavar="SECONDS",
+        help="stop a file that takes longer and report it (default: 600; 0: no limit)",
+    )
+    audit.add_argument(
+        "--memory-limit",
+        type=float,
+        default=4.0,
+        metavar="GB",
+        help="stop a file whose worker needs more memory and report it (default: 4; 0: no limit)",
+    )
     cluster_options(audit)
     audit.set_defaults(handler=cmd_audit)
 
     add_review_parsers(sub, cores)
     add_plan_parser(sub)
+
+    history = sub.add_parser("history", help="show the past audits of a file from the ledger")
+    history.add_argument("file", metavar="FILE", help="a workbook audited before")
+    history.add_argument("--ledger", default=None, metavar="FILE", help="the ledger to read")
+    history.set_defaults(handler=cmd_history)
 
     rules = sub.add_parser("rules", help="list the checks and the policy's thresholds")
     rules.add_argument("--policy", default="general")

@@ -53,6 +53,44 @@ def load_bindings(path: str | None) -> list[dict[str, Any]] | None:
     return list(entries)
 
 
+def _audit_locally(
+    paths: list[Path],
+    policy: Any,
+    bindings: list[dict[str, Any]] | None,
+    jobs: int,
+    changed: bool,
+    ledger_file: str | None,
+    use_ledger: bool,
+    time_limit: float | None,
+    memory_limit_gb: float | None,
+) -> list[Any]:
+    from auditor.batch import audit_batch
+    from auditor.ledger import Ledger, default_ledger_path
+    from auditor.limits import FileLimits
+
+    if changed and not use_ledger:
+        raise UsageError("--changed needs the ledger: drop --no-ledger")
+    memory = int(memory_limit_gb * 1024**3) if memory_limit_gb else None
+    limits = FileLimits(seconds=time_limit or None, memory_bytes=memory)
+    ledger = None
+    if use_ledger:
+        ledger = Ledger(Path(ledger_file) if ledger_file else default_ledger_path())
+    try:
+        return audit_batch(
+            paths,
+            policy,
+            bindings,
+            jobs=jobs,
+            ledger=ledger,
+            changed=changed,
+            limits=limits,
+            progress=True,
+        )
+    finally:
+        if ledger is not None:
+            ledger.close()
+
+
 def run_audit(
     inputs: list[str],
     out_dir: Path,
@@ -67,9 +105,14 @@ def run_audit(
     baseline_file: str | None = None,
     write: bool = True,
     annotate: bool = False,
+    changed: bool = False,
+    ledger_file: str | None = None,
+    use_ledger: bool = True,
+    time_limit: float | None = 600.0,
+    memory_limit_gb: float | None = 4.0,
 ) -> AuditResult:
     from auditor.annotate import annotate_copies
-    from auditor.audit import audit_batch, collect_inputs
+    from auditor.audit import collect_inputs
     from auditor.baseline import apply_baseline, describe_outcome, load_baseline
     from auditor.identity import assign_identities, audit_root
     from auditor.policy import load_policy
@@ -100,7 +143,17 @@ def run_audit(
             paths, policy, bindings, cluster=cluster, ship_bytes=ship_bytes
         )
     else:
-        workbooks = audit_batch(paths, policy, bindings, jobs=jobs)
+        workbooks = _audit_locally(
+            paths,
+            policy,
+            bindings,
+            jobs,
+            changed,
+            ledger_file,
+            use_ledger,
+            time_limit,
+            memory_limit_gb,
+        )
     result = AuditResult(
         version=__version__,
         policy=policy.name,

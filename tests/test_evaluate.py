@@ -499,3 +499,15 @@ def test_a_200000_row_slope_is_quick() -> None:
     elapsed = time.perf_counter() - started
     assert slope == pytest.approx(np.polyfit(xs, ys, 1)[0], rel=1e-10)  # numpy polyfit
     assert elapsed < 1.0
+
+
+def test_a_range_of_the_whole_sheet_is_refused_not_allocated() -> None:
+    # A1:XFD1048576 holds 17,179,869,184 cells (16,384 columns × 1,048,576 rows, the xlsx
+    # limits: common practice); allocating it would need over 100 GiB.
+    from auditor.evaluate import Evaluator, Unsupported
+    from auditor.workbook import Cell, Sheet, Workbook
+
+    sheet = Sheet("S", {(1, 1): Cell("S", 1, 1, 1.0)}, max_row=1, max_col=1)
+    evaluator = Evaluator(Workbook("mem.xlsx", "", {"S": sheet}, [], True))
+    with pytest.raises(Unsupported, match="17,179,869,184 cells"):
+        evaluator.evaluate("=SUM(A1:XFD1048576)", "S")

@@ -31,6 +31,8 @@ from auditor.evaluation.values import (
 from auditor.formula import Node, Ref, parse, references
 from auditor.workbook import Cell, ErrorValue, Workbook, column_letter
 
+MAX_BLOCK_CELLS = 20_000_000  # about 160 MB of object pointers; larger ranges are refused
+
 
 class _Defer(Exception):
     """A formula needs a cell not yet evaluated (found through OFFSET or INDEX)."""
@@ -119,6 +121,12 @@ class Evaluator(ExpressionEvaluator):
         r2 = min(ref.r2, max(sheet.max_row, ref.r1)) if ref.whole_column else ref.r2
         c2 = min(ref.c2, max(sheet.max_col, ref.c1)) if ref.whole_row else ref.c2
         rows, cols = r2 - ref.r1 + 1, c2 - ref.c1 + 1
+        if rows * cols > MAX_BLOCK_CELLS:
+            # An explicit A1:XFD1048576 would need 128 GiB as an object array: not evaluated.
+            raise Unsupported(
+                f"{ref.address} spans {rows * cols:,} cells, more than the "
+                f"{MAX_BLOCK_CELLS:,} regaudit evaluates in one range"
+            )
         out = np.empty((rows, cols), dtype=object)
         cells = sheet.cells
         row_span = range(ref.r1, r2 + 1)
