@@ -97,12 +97,16 @@ def _annotate_points(points: list[DataPoint], fit: FitResult) -> None:
     used = [p for p in points if p.used]
     if len(fit.fitted) != len(used):
         return  # the fit is undefined (too few points, constant x): nothing to attach
+    # tolist() gives the same Python floats as float() of each element, in one C call.
+    fitted, residuals = fit.fitted.tolist(), fit.residuals.tolist()
+    leverage = fit.leverage.tolist() if len(fit.leverage) else None
+    cooks = fit.cooks_distance.tolist() if len(fit.cooks_distance) else None
     for index, point in enumerate(used):
-        point.fitted = float(fit.fitted[index])
-        point.residual = float(fit.residuals[index])
-        point.leverage = float(fit.leverage[index]) if len(fit.leverage) else None
-        if len(fit.cooks_distance):
-            point.cooks_distance = float(fit.cooks_distance[index])
+        point.fitted = fitted[index]
+        point.residual = residuals[index]
+        point.leverage = leverage[index] if leverage is not None else None
+        if cooks is not None:
+            point.cooks_distance = cooks[index]
 
 
 def audit_workbook(

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
@@ -108,7 +108,162 @@ class _RunningTotal:
         )
 
 
-def extract(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> Extracted:
+class _IntendedRows:
+    """Turns the rows of the extended block into DataPoints, the intended x and y, and the notes
+    on dropped, parsed and total cells.
+
+    Most rows hold Python floats only (the evaluator gives every number as one); for them the
+    outcome is fixed (used, no note, ``float(v)`` is ``v``) but for the total-or-mean test, so
+    they skip the per-cell classification, and the row label is read only where it can matter.
+    Every other row (text, blank, logical, error, anything not exactly a float) goes cell by
+    cell. ``cell_by_cell=True`` sends every row that way: the reference the fast path is tested
+    against.
+    """
+
+    def __init__(
+        self,
+        workbook: Workbook,
+        sheet: str,
+        x_cols: list[int],
+        y_col: int,
+        rows_referenced: set[int],
+        result: Extracted,
+        *,
+        cell_by_cell: bool = False,
+    ) -> None:
+        self.workbook, self.sheet, self.result = workbook, sheet, result
+        self.x_cols, self.y_col = x_cols, y_col
+        self.label_col = min(x_cols + [y_col])
+        self.rows_referenced = rows_referenced
+        self.cell_by_cell = cell_by_cell
+        self.running = _RunningTotal()
+        self.xs_used: list[list[float]] = []
+        self.ys_used: list[float] = []
+
+    def add_all(self, first: int, last: int, x_block: np.ndarray, y_column: list[Any]) -> None:
+        x_columns: list[list[Any]] = [x_block[:, j].tolist() for j in range(len(self.x_cols))]
+        rows = range(first, last + 1)
+        if self.cell_by_cell:
+            for offset, r in enumerate(rows):
+                self._add_cell_by_cell(
+                    r, [column[offset] for column in x_columns], y_column[offset]
+                )
+            return
+        # Offsets of rows with any cell that is not a Python float (the evaluator gives every
+        # number as one): those go cell by cell.
+        mixed: set[int] = set()
+        for column in [*x_columns, y_column]:
+            mixed.update(offset for offset, v in enumerate(column) if type(v) is not float)
+        # _row_label returns "" unless a label cell holds text, so only those rows (and rows
+        # whose y matches the running sum or mean) need it.
+        text_rows = _text_label_rows(self.workbook, self.sheet, first, last, self.label_col)
+        result, running, referenced = self.result, self.running, self.rows_referenced
+        points = result.points
+        xs_used, ys_used = self.xs_used, self.ys_used
+        x_rows = map(list, zip(*x_columns, strict=True)) if x_columns else ([] for _ in rows)
+        for offset, (r, xs, y) in enumerate(zip(rows, x_rows, y_column, strict=True)):
+            if offset in mixed:
+                self._add_cell_by_cell(r, xs, y)
+            elif r in text_rows or running.looks_like_total(y):
+                self._add_possible_total(r, xs, y)
+            else:  # what _add_cell_by_cell gives for a row of floats that is not a total
+                in_refs = r in referenced
+                if in_refs:
+                    result.n_as_written += 1
+                reason = "" if in_refs else "outside the formula's range"
+                points.append(DataPoint(r, xs, y, True, in_refs, reason))
+                xs_used.append(xs)
+                ys_used.append(y)
+                running.add(y)
+
+    def _add_possible_total(self, r: int, xs: list[float], y: float) -> None:
+        """A row of Python floats whose label cells hold text or whose y matches the running sum
+        or mean: what ``_add_cell_by_cell`` gives for it (there are no notes to record)."""
+        result = self.result
+        used, reason = True, ""
+        label = _row_label(self.workbook, self.sheet, r, self.label_col)
+        if (label and TOTAL_LABEL.match(label)) or self.running.looks_like_total(y):
+            used = False
+            reason = f"total or mean row ({label.strip() or 'equals the sum or mean above'})"
+            result.total_rows.append(r)
+        in_refs = r in self.rows_referenced
+        if used and not in_refs:
+            reason = "outside the formula's range"
+        if in_refs:
+            result.n_as_written += 1
+        result.points.append(DataPoint(r, cast("list[float | None]", xs), y, used, in_refs, reason))
+        if used:
+            self.xs_used.append(xs)
+            self.ys_used.append(y)
+            self.running.add(y)
+
+    def _add_cell_by_cell(self, r: int, raw_x: list[object], raw_y: object) -> None:
+        result, x_cols, sheet = self.result, self.x_cols, self.sheet
+        numbers = [_number(v) for v in raw_x] + [_number(raw_y)]
+        in_refs = r in self.rows_referenced
+        pair_ok = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw_x) and (
+            isinstance(raw_y, (int, float)) and not isinstance(raw_y, bool)
+        )
+        xs = [n for n, _ in numbers[:-1]]
+        y = numbers[-1][0]
+        reason = ""
+        used = all(v is not None for v in xs) and y is not None
+        notes = [
+            note for (_, note), col in zip(numbers, x_cols + [self.y_col], strict=True) if note
+        ]
+        if used:
+            label = _row_label(self.workbook, sheet, r, self.label_col)
+            if (label and TOTAL_LABEL.match(label)) or self.running.looks_like_total(y):  # type: ignore[arg-type]
+                used = False
+                reason = f"total or mean row ({label.strip() or 'equals the sum or mean above'})"
+                result.total_rows.append(r)
+        if not used and not reason:
+            reason = "; ".join(n for n in notes if not n.startswith("number stored")) or "empty"
+            for (_, note), col in zip(numbers, x_cols + [self.y_col], strict=True):
+                if note and not note.startswith("number stored"):
+                    result.dropped.append((f"{sheet}!{column_letter(col)}{r}", note))
+        elif used:
+            for (_, note), col in zip(numbers, x_cols + [self.y_col], strict=True):
+                if note.startswith("number stored"):
+                    result.parsed.append((f"{sheet}!{column_letter(col)}{r}", note))
+                    reason = note + " (parsed)"
+            if not in_refs:
+                reason = (reason + "; " if reason else "") + "outside the formula's range"
+        used_as_written = in_refs and pair_ok
+        if used_as_written:
+            result.n_as_written += 1
+        result.points.append(DataPoint(r, list(xs), y, used, used_as_written, reason))
+        if used:
+            self.xs_used.append([float(v) for v in xs])  # type: ignore[arg-type]
+            self.ys_used.append(float(y))  # type: ignore[arg-type]
+            self.running.add(float(y))  # type: ignore[arg-type]
+
+
+def _text_label_rows(
+    workbook: Workbook, sheet: str, first: int, last: int, label_col: int
+) -> set[int]:
+    """The rows whose label cells, as ``_row_label`` reads them, hold any text."""
+    found = workbook.sheet(sheet)
+    if found is None:
+        return set()
+    get = found.cells.get
+    rows = range(first, last + 1)
+    text_rows: set[int] = set()
+    for col in range(max(1, label_col - 3), label_col + 1):
+        cells = [get((row, col)) for row in rows]
+        text_rows.update(
+            row
+            for row, cell in zip(rows, cells, strict=True)
+            if cell is not None and isinstance(cell.value, str)
+        )
+    return text_rows
+
+
+def extract(
+    workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec, *, cell_by_cell: bool = False
+) -> Extracted:
+    """The intended table of ``spec``. ``cell_by_cell=True`` classifies every row one cell at a
+    time (slow on large tables): the reference the fast path is tested against."""
     x_ref, y_ref = spec.x, spec.y
     k = x_ref.c2 - x_ref.c1 + 1
     x_cols = list(range(x_ref.c1, x_ref.c2 + 1))
@@ -148,50 +303,12 @@ def extract(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> E
         intended_x_range=_range_text(x_ref.sheet, x_ref.c1, first, x_ref.c2, last),
         intended_y_range=_range_text(y_ref.sheet, y_ref.c1, first, y_ref.c1, last),
     )
-    xs_used: list[list[float]] = []
-    ys_used: list[float] = []
-    running = _RunningTotal()
-    for offset, r in enumerate(range(first, last + 1)):
-        raw_x = list(x_block[offset]) if k else []
-        raw_y = y_column[offset]
-        numbers = [_number(v) for v in raw_x] + [_number(raw_y)]
-        in_refs = r in rows_referenced
-        pair_ok = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw_x) and (
-            isinstance(raw_y, (int, float)) and not isinstance(raw_y, bool)
-        )
-        xs = [n for n, _ in numbers[:-1]]
-        y = numbers[-1][0]
-        reason = ""
-        used = all(v is not None for v in xs) and y is not None
-        notes = [note for (_, note), col in zip(numbers, x_cols + [y_ref.c1], strict=True) if note]
-        if used:
-            label = _row_label(workbook, y_ref.sheet, r, min(x_cols + [y_ref.c1]))
-            if (label and TOTAL_LABEL.match(label)) or running.looks_like_total(y):  # type: ignore[arg-type]
-                used = False
-                reason = f"total or mean row ({label.strip() or 'equals the sum or mean above'})"
-                result.total_rows.append(r)
-        if not used and not reason:
-            reason = "; ".join(n for n in notes if not n.startswith("number stored")) or "empty"
-            for (_, note), col in zip(numbers, x_cols + [y_ref.c1], strict=True):
-                if note and not note.startswith("number stored"):
-                    result.dropped.append((f"{y_ref.sheet}!{column_letter(col)}{r}", note))
-        elif used:
-            for (_, note), col in zip(numbers, x_cols + [y_ref.c1], strict=True):
-                if note.startswith("number stored"):
-                    result.parsed.append((f"{y_ref.sheet}!{column_letter(col)}{r}", note))
-                    reason = note + " (parsed)"
-            if not in_refs:
-                reason = (reason + "; " if reason else "") + "outside the formula's range"
-        used_as_written = in_refs and pair_ok
-        if used_as_written:
-            result.n_as_written += 1
-        points.append(DataPoint(r, list(xs), y, used, used_as_written, reason))
-        if used:
-            xs_used.append([float(v) for v in xs])  # type: ignore[arg-type]
-            ys_used.append(float(y))  # type: ignore[arg-type]
-            running.add(float(y))  # type: ignore[arg-type]
-    result.x = np.array(xs_used, dtype=float).reshape(-1, k)
-    result.y = np.array(ys_used, dtype=float)
+    rows = _IntendedRows(
+        workbook, y_ref.sheet, x_cols, y_ref.c1, rows_referenced, result, cell_by_cell=cell_by_cell
+    )
+    rows.add_all(first, last, x_block, y_column)
+    result.x = np.array(rows.xs_used, dtype=float).reshape(-1, k)
+    result.y = np.array(rows.ys_used, dtype=float)
     return result
 
 

@@ -112,7 +112,7 @@ class ReportedValue:
         }
 
 
-@dataclass
+@dataclass(slots=True)  # one per data row: 200,000 of them in a large table
 class DataPoint:
     """One row of the intended data table, with what happened to it."""
 
