@@ -25,8 +25,9 @@ import numpy as np
 from auditor.compare import parse_text_number
 from auditor.errors import FormulaError
 from auditor.evaluate import Evaluator, Fault, Unsupported
-from auditor.formula import Binary, Call, Node, Ref, RefNode, parse, walk
+from auditor.formula import Binary, Call, Node, RefNode, parse, walk
 from auditor.locate import RegressionSpec
+from auditor.spec import overlaps
 from auditor.workbook import Cell, Workbook, column_letter
 
 WINDOW_ROWS = (6, 14)  # rows above the result block, rows below it
@@ -60,16 +61,6 @@ class DesignInputs:
     slope_that_matters_cell: str | None = None
     working_range: tuple[float, float] | None = None
     working_range_cell: str | None = None
-
-
-def _overlaps(a: Ref, b: Ref) -> bool:
-    return (
-        a.sheet.lower() == b.sheet.lower()
-        and a.r1 <= b.r2
-        and b.r1 <= a.r2
-        and a.c1 <= b.c2
-        and b.c1 <= a.c2
-    )
 
 
 def _numbers(value: object) -> list[float]:
@@ -238,8 +229,8 @@ class DesignInputReader:
         return (
             isinstance(y_node, RefNode)
             and isinstance(x_node, RefNode)
-            and _overlaps(y_node.ref, spec.y)
-            and _overlaps(x_node.ref, spec.x)
+            and overlaps(y_node.ref, spec.y)
+            and overlaps(x_node.ref, spec.x)
         )
 
 

@@ -34,7 +34,7 @@ def rows_outside_range(context: RegressionContext) -> list[Finding]:
             cells=[spec.y.address],
             message=(
                 f"The formulas use {spec.y.address}, but the data table continues: "
-                f"{len(rows)} row(s) ({_rows_text(rows)}) hold data the regression leaves out. "
+                f"{len(rows)} row(s) ({rows_text(rows)}) hold data the regression leaves out. "
                 f"The full table is {context.data.intended_y_range}."
             ),
             evidence={"rows_left_out": len(rows), "first_row": rows[0], "last_row": rows[-1]},
@@ -90,7 +90,7 @@ def total_row_in_range(context: RegressionContext) -> list[Finding]:
             severity=_severity(context),
             cells=[f"{spec.y.sheet}!{column_letter(spec.y.c1)}{r}" for r in inside],
             message=(
-                f"Row(s) {_rows_text(inside)} of {spec.y.address} hold a total or mean, which "
+                f"Row(s) {rows_text(inside)} of {spec.y.address} hold a total or mean, which "
                 "the formulas fit as a data point."
             ),
             evidence={"rows": inside},
@@ -122,7 +122,8 @@ def fit_degenerate(context: RegressionContext) -> list[Finding]:
     ]
 
 
-def _rows_text(rows: list[int]) -> str:
+def rows_text(rows: list[int]) -> str:
+    """[16, 17] -> "rows 16–17"; shared by the data and formula-audit checks."""
     if len(rows) == 1:
         return f"row {rows[0]}"
     if rows == list(range(rows[0], rows[-1] + 1)):

@@ -11,6 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from auditor.checks.base import RegressionContext, check
+from auditor.checks.data import rows_text
 from auditor.checks.formula_support import (
     fmt,
     local_text,
@@ -178,14 +179,6 @@ def typed_count_in_formula(context: RegressionContext) -> list[Finding]:
     return findings
 
 
-def _rows_text(rows: list[int]) -> str:
-    if len(rows) == 1:
-        return f"row {rows[0]}"
-    if rows == list(range(rows[0], rows[-1] + 1)):
-        return f"rows {rows[0]}–{rows[-1]}"
-    return "rows " + ", ".join(str(r) for r in rows)
-
-
 def _cut(ref: Ref, first: int, last: int) -> str:
     return (
         f"{ref.sheet}!{column_letter(ref.c1)}{first}:{column_letter(ref.c2)}{last}"
@@ -233,9 +226,9 @@ def range_beyond_table(context: RegressionContext) -> list[Finding]:
         severity = "major"  # LINEST gives an error value over blank or text cells
     parts = []
     if text:
-        parts.append(f"{_rows_text(text)} with text (a header or note)")
+        parts.append(f"{rows_text(text)} with text (a header or note)")
     if blank:
-        parts.append(f"{len(blank)} blank row(s) ({_rows_text(blank)})")
+        parts.append(f"{len(blank)} blank row(s) ({rows_text(blank)})")
     taken = " and ".join(parts) if parts else "every row the table may grow into"
     reach = "whole columns" if whole else f"{spec.y.address} and {spec.x.address}"
     return [

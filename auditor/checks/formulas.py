@@ -13,16 +13,7 @@ from auditor.checks.formula_support import (
 from auditor.formula import Node, Ref, RefNode, calls
 from auditor.locate import PairUse
 from auditor.model import Finding, Severity
-
-
-def _overlap(a: Ref, b: Ref) -> bool:
-    return (
-        a.sheet.lower() == b.sheet.lower()
-        and a.r1 <= b.r2
-        and b.r1 <= a.r2
-        and a.c1 <= b.c2
-        and b.c1 <= a.c2
-    )
+from auditor.spec import overlaps
 
 
 def shift(used: Ref, meant: Ref) -> tuple[int, int] | None:
@@ -51,7 +42,7 @@ def _classify(use: PairUse, x: Ref, y: Ref) -> tuple[str, str] | None:
     """(kind, what is wrong) for a call whose ranges differ from the regression's; None when
     the difference changes nothing (CORREL's arguments in either order)."""
     symmetric = use.function in ("CORREL", "PEARSON", "RSQ")
-    swapped = _overlap(use.x, y) and _overlap(use.y, x)
+    swapped = overlaps(use.x, y) and overlaps(use.y, x)
     if swapped and symmetric:
         return None
     if swapped:
@@ -64,7 +55,7 @@ def _classify(use: PairUse, x: Ref, y: Ref) -> tuple[str, str] | None:
             if move
         ]
         return "range-shifted", " and ".join(said)
-    if not (_overlap(use.x, x) and _overlap(use.y, y)):
+    if not (overlaps(use.x, x) and overlaps(use.y, y)):
         return "copied-block", "names the data of another block"
     return "range-mismatch", "uses other ranges"
 
