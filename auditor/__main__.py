@@ -1,3 +1,3 @@
-from auditor.cli import main
+from auditor.cli.main import main
 
 raise SystemExit(main())

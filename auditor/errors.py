@@ -7,7 +7,7 @@
     └── UsageError                a bad command line (exit 2)
 
 Errors from openpyxl, zipfile and XML parsers are translated into these at the reading
-boundary (auditor.workbook) with ``raise ... from``; bugs keep their own traceback.
+boundary (auditor.read.workbook) with ``raise ... from``; bugs keep their own traceback.
 """
 
 from __future__ import annotations

@@ -14,12 +14,12 @@ from typing import Any, cast
 
 import numpy as np
 
-from auditor.compare import parse_text_number
-from auditor.evaluate import Evaluator
-from auditor.formula import Ref
-from auditor.locate import RegressionSpec
+from auditor.compare.precision import parse_text_number
+from auditor.evaluation.evaluator import Evaluator
+from auditor.formula.syntax import Ref
+from auditor.locate.locator import RegressionSpec
 from auditor.model import DataPoint
-from auditor.workbook import ErrorValue, Workbook, column_letter
+from auditor.read.workbook import ErrorValue, Workbook, column_letter
 
 TOTAL_LABEL = re.compile(r"^\s*(grand\s+)?(total|sum|mean|average|avg|σ|Σ)\b", re.I)
 MAX_GAP_SCAN = 1_048_576

@@ -66,7 +66,9 @@ class Finding:
     cells: list[str] = field(default_factory=list)
     evidence: dict[str, Any] = field(default_factory=dict)
     fix: str = ""
-    identity: str = ""  # stable across runs and row moves (auditor.identity); set after the audit
+    identity: str = (
+        ""  # stable across runs and row moves (auditor.review.identity); set after the audit
+    )
     waived: str | None = None  # the waiver's reason, who accepted it and when; None if not waived
 
     def to_dict(self) -> dict[str, Any]:
@@ -220,6 +222,18 @@ class WorkbookResult:
         }
 
 
+@dataclass(frozen=True)
+class CheckInfo:
+    """What a report may say about a check: its id, summary and documentation (the registry in
+    :mod:`auditor.checks` is the source; reporters read this copy and never import the checks)."""
+
+    id: str
+    summary: str
+    doc: str = ""
+    family: str = ""
+    scope: str = "regression"
+
+
 @dataclass
 class AuditResult:
     version: str
@@ -227,6 +241,7 @@ class AuditResult:
     workbooks: list[WorkbookResult]
     generated: str = ""  # ISO date shown in reports; fixed by --timestamp / SOURCE_DATE_EPOCH
     inputs: list[str] = field(default_factory=list)
+    checks: list[CheckInfo] = field(default_factory=list)  # the checks this run ran, for SARIF
 
     def all_findings(self) -> list[Finding]:
         return [f for w in self.workbooks for f in w.all_findings()]

@@ -24,7 +24,7 @@ KNOWN: dict[str, tuple[type, float, float]] = {
     "min_levels": (int, 2, 1000),
     "recommended_levels": (int, 2, 1000),
     "max_leverage": (float, 0.0, 1.0),
-    # Design judgement (auditor.design, auditor.checks.design).
+    # Design judgement (auditor.design.metrics, auditor.checks.design).
     "leverage_multiple": (float, 1.0, 100.0),
     "max_sxx_share": (float, 0.0, 1.0),
     "relevant_elasticity": (float, 0.0, 1e6),

@@ -23,7 +23,7 @@ def install() -> None:
 
 def check(fixtures: Path) -> None:
     """The patches that remain change no fixture's audit (kept for the next proposal)."""
-    from auditor.audit import audit_workbook
+    from auditor.pipeline.audit import audit_workbook
     from auditor.policy import load_policy
 
     policy = load_policy("general")
@@ -70,7 +70,7 @@ class ColumnarCells(MutableMapping):  # type: ignore[type-arg]
         self._count = len(self._cells) + sum(len(c) for c in by_column.values())
 
     def _constant(self, row: int, col: int) -> Any:
-        from auditor.workbook import Cell
+        from auditor.read.workbook import Cell
 
         column = self._columns.get(col)
         if column is None:
@@ -116,8 +116,8 @@ class ColumnarCells(MutableMapping):  # type: ignore[type-arg]
 
 
 def install_columnar() -> None:
-    import auditor.audit
-    from auditor import workbook as workbook_module
+    import auditor.pipeline.audit
+    from auditor.read import workbook as workbook_module
 
     original = workbook_module.read_workbook
 
@@ -127,4 +127,4 @@ def install_columnar() -> None:
             sheet.cells = ColumnarCells(sheet.name, sheet.cells)  # type: ignore[assignment]
         return book
 
-    auditor.audit.read_workbook = read_compact  # type: ignore[assignment]
+    auditor.pipeline.audit.read_workbook = read_compact  # type: ignore[assignment]

@@ -70,20 +70,20 @@ def raw_pass(path: Path) -> int:
 
 
 def read_only(path: Path) -> object:
-    from auditor.workbook import read_workbook
+    from auditor.read.open import read_workbook
 
     return read_workbook(path)
 
 
 def read_openpyxl(path: Path) -> object:
-    from auditor.workbook import read_workbook
+    from auditor.read.open import read_workbook
 
     return read_workbook(path, engine="openpyxl")
 
 
 def whole_audit(path: Path) -> int:
     """One file audited as the batch does it, and its JSON (the result's share of audit.json)."""
-    from auditor.audit import audit_workbook
+    from auditor.pipeline.audit import audit_workbook
     from auditor.policy import load_policy
 
     result = audit_workbook(path, load_policy("general"))
@@ -149,7 +149,7 @@ def in_child(what: str, args: list[object], timeout: float) -> dict[str, float] 
 
 def audit_batch_timed(folder: str, jobs: int) -> float:
     """All workbooks in ``folder`` through the limited pool with ``jobs`` workers, JSON too."""
-    from auditor.limits import FileLimits, run_limited
+    from auditor.pipeline.limits import FileLimits, run_limited
 
     paths = sorted(Path(folder).glob("*.xlsx"))
     started = time.perf_counter()

@@ -17,11 +17,11 @@ import pytest
 import xlsxwriter
 from test_report_xlsx_support import xlsx_bytes
 
-from auditor.annotate import annotate_copies, copy_targets, lossy_content
 from auditor.errors import UsageError
 from auditor.model import AuditResult, Finding, RegressionResult, WorkbookResult
-from auditor.report.xlsx import XlsxReporter
-from auditor.report.xlsx_style import PALETTE
+from auditor.report.xlsx.style import PALETTE
+from auditor.report.xlsx.workbook import XlsxReporter
+from auditor.review.annotate import annotate_copies, copy_targets, lossy_content
 
 
 def _png() -> bytes:

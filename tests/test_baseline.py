@@ -1,4 +1,4 @@
-"""Baselines (auditor.baseline): record today's findings, then see only new ones.
+"""Baselines (auditor.review.baseline): record today's findings, then see only new ones.
 
 The scenario is a team's folder over time, built from the fixture workbooks whose findings are
 declared in fixtures/manifest.json: one workbook is corrected (replaced by a clean one), one is
@@ -15,8 +15,12 @@ from pathlib import Path
 import openpyxl
 import pytest
 
-from auditor.audit import audit_batch, collect_inputs
-from auditor.baseline import (
+from auditor.errors import UsageError
+from auditor.model import AuditResult
+from auditor.pipeline.audit import collect_inputs
+from auditor.pipeline.batch import audit_batch
+from auditor.policy import load_policy
+from auditor.review.baseline import (
     BASELINE_FORMAT,
     apply_baseline,
     create_baseline,
@@ -25,9 +29,6 @@ from auditor.baseline import (
     parse_baseline,
     save_baseline,
 )
-from auditor.errors import UsageError
-from auditor.model import AuditResult
-from auditor.policy import load_policy
 
 FIXTURES = Path(__file__).resolve().parents[1] / "fixtures" / "workbooks"
 STABILITY = "lab_stability_review_with_errors.xlsx"

@@ -15,9 +15,9 @@ from typing import Any
 
 import pytest
 
-from auditor.audit import audit_workbook
 from auditor.checks import REGISTRY
 from auditor.model import Finding, WorkbookResult
+from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -1,4 +1,5 @@
-"""Batches on Dask (auditor.cluster): a real LocalCluster of 2 worker processes must give the
+"""Batches on Dask (auditor.pipeline.cluster): a real LocalCluster of 2 worker processes must give
+the
 same per-file results as the local run, whether workers read the files or get their bytes.
 
 The corpus is the fixture folder plus one unreadable file, so error texts (which name the file)
@@ -16,10 +17,11 @@ from typing import Any
 
 import pytest
 
-from auditor.audit import audit_batch, collect_inputs
-from auditor.cluster import INSTALL_HINT, ClusterTarget, audit_on_cluster, parse_cluster
 from auditor.errors import UsageError
 from auditor.model import AuditResult, WorkbookResult
+from auditor.pipeline.audit import collect_inputs
+from auditor.pipeline.batch import audit_batch
+from auditor.pipeline.cluster import INSTALL_HINT, ClusterTarget, audit_on_cluster, parse_cluster
 from auditor.policy import load_policy
 
 FIXTURES = Path(__file__).resolve().parents[1] / "fixtures" / "workbooks"

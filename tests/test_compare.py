@@ -1,4 +1,4 @@
-"""Precision-aware agreement (auditor.compare).
+"""Precision-aware agreement (auditor.compare.precision).
 
 These are rules of the design (design.md, "Precision-aware agreement"), so every expected value
 below is hand-derived from the rule stated beside it, not taken from running the code. Number
@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import pytest
 
-from auditor.compare import (
+from auditor.compare.precision import (
     agree_stored,
     agree_text,
     agree_typed,

@@ -1,4 +1,4 @@
-"""Reading the claim beside a result (auditor.claims).
+"""Reading the claim beside a result (auditor.design.claims).
 
 The phrases are invented examples of how conclusions are written in workbooks (common practice);
 the p-value reading follows the policy's alpha.
@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import pytest
 
-from auditor.claims import claim_from_p, claim_from_texts, claim_in_text, read_claim
+from auditor.design.claims import claim_from_p, claim_from_texts, claim_in_text, read_claim
 from auditor.model import ReportedValue
 
 

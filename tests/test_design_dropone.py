@@ -1,4 +1,5 @@
-"""Leave-one-out slope and p-value in closed form (auditor.dropone) against statsmodels refits.
+"""Leave-one-out slope and p-value in closed form (auditor.design.dropone) against statsmodels
+refits.
 
 Source: statsmodels OLS refitted without each observation in turn (brute force), and the
 Anscombe (1973) set 4, whose x = 19 point has leverage 1 (hand-derived: Sxx = 110, h = 1/11 +
@@ -14,8 +15,8 @@ import numpy as np
 import pytest
 import statsmodels.api as sm
 
-from auditor.dropone import drop_one, leave_one_out
-from auditor.fit import fit_ols
+from auditor.design.dropone import drop_one, leave_one_out
+from auditor.fit.ols import fit_ols
 
 REFERENCE = Path(__file__).parent / "reference"
 

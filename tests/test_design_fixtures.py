@@ -17,17 +17,17 @@ from typing import Any
 
 import pytest
 
-from auditor.audit import audit_workbook
 from auditor.checks import REGISTRY, RegressionContext
-from auditor.design_inputs import DesignInputReader
-from auditor.evaluate import Evaluator
+from auditor.compare.reported import build_reported
+from auditor.design.inputs import DesignInputReader
+from auditor.evaluation.evaluator import Evaluator
 from auditor.extract import extract
-from auditor.fit import fit_ols
-from auditor.locate import Locator, locate
+from auditor.fit.ols import fit_ols
+from auditor.locate.locator import Locator, locate
 from auditor.model import Finding
+from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
-from auditor.reported import build_reported
-from auditor.workbook import read_workbook
+from auditor.read.open import read_workbook
 
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURES = ROOT / "fixtures"

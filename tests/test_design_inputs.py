@@ -1,4 +1,4 @@
-"""What the workbook says around a regression (auditor.design_inputs), on the design fixtures.
+"""What the workbook says around a regression (auditor.design.inputs), on the design fixtures.
 
 Source: LibreOffice's recalculation — the fixture workbooks were recalculated and saved by
 LibreOffice (fixtures/make_design_fixtures.py), so the x of every inverse prediction must equal
@@ -13,10 +13,10 @@ from pathlib import Path
 import openpyxl
 import pytest
 
-from auditor.design_inputs import DesignInputReader, DesignInputs
-from auditor.evaluate import Evaluator
-from auditor.locate import Locator, locate
-from auditor.workbook import read_workbook
+from auditor.design.inputs import DesignInputReader, DesignInputs
+from auditor.evaluation.evaluator import Evaluator
+from auditor.locate.locator import Locator, locate
+from auditor.read.open import read_workbook
 
 WORKBOOKS = Path(__file__).resolve().parents[1] / "fixtures" / "workbooks"
 

@@ -1,4 +1,4 @@
-"""Lack-of-fit F test (auditor.lackfit) against statsmodels' ANOVA of nested models.
+"""Lack-of-fit F test (auditor.design.lackfit) against statsmodels' ANOVA of nested models.
 
 Source: statsmodels ``anova_lm(line, level_means)``, the F test of the straight line against the
 one-way model with one mean per x level (the full model), which is the lack-of-fit test.
@@ -12,8 +12,8 @@ import pytest
 import statsmodels.formula.api as smf
 from statsmodels.stats.anova import anova_lm
 
-from auditor.fit import fit_ols
-from auditor.lackfit import lack_of_fit
+from auditor.design.lackfit import lack_of_fit
+from auditor.fit.ols import fit_ols
 
 
 def statsmodels_lack_of_fit(x: np.ndarray, y: np.ndarray) -> tuple[float, float, int, int]:

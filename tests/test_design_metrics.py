@@ -1,4 +1,4 @@
-"""Design metrics (auditor.design) and the checks on hand-built regressions.
+"""Design metrics (auditor.design.metrics) and the checks on hand-built regressions.
 
 Sources: Anscombe (1973), "Graphs in Statistical Analysis", set 4 (tests/reference/): ten x
 values at 8 and one at 19, so Sxx = 110 and the x = 19 point has leverage 1/11 + 100/110 = 1 and
@@ -18,7 +18,7 @@ import statsmodels.api as sm
 from test_design_support import FIRST_ROW, context
 
 from auditor.checks import REGISTRY
-from auditor.design import compute_design, design_metrics, relative_slope_that_matters
+from auditor.design.metrics import compute_design, design_metrics, relative_slope_that_matters
 from auditor.policy import load_policy
 
 REFERENCE = Path(__file__).parent / "reference"

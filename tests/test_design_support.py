@@ -6,9 +6,9 @@ import numpy as np
 
 from auditor.checks import RegressionContext
 from auditor.extract import Extracted
-from auditor.fit import fit_ols
-from auditor.formula import Ref
-from auditor.locate import RegressionSpec
+from auditor.fit.ols import fit_ols
+from auditor.formula.syntax import Ref
+from auditor.locate.locator import RegressionSpec
 from auditor.model import DataPoint, ReportedValue
 from auditor.policy import Policy, load_policy
 

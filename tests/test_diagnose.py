@@ -21,14 +21,14 @@ from hypothesis import strategies as st
 from scipy import stats as distributions
 
 from auditor.checks.base import RegressionContext
-from auditor.diagnose import Explanation, _row_table, explain, moment_stat, rows_at_ends
+from auditor.diagnose.engine import Explanation, _row_table, explain, moment_stat, rows_at_ends
 from auditor.extract import Extracted
-from auditor.fit import fit_ols
-from auditor.formula import Ref
-from auditor.locate import RegressionSpec, StatCell
+from auditor.fit.ols import fit_ols
+from auditor.formula.syntax import Ref
+from auditor.locate.locator import RegressionSpec, StatCell
 from auditor.model import DataPoint, ReportedValue, stat_base
 from auditor.policy import load_policy
-from auditor.workbook import Cell
+from auditor.read.workbook import Cell
 
 POLICY = load_policy("general")
 FIRST_ROW = 4
@@ -413,7 +413,7 @@ def test_running_sums_match_statsmodels_for_every_end_drop() -> None:
 
 
 def test_subset_search_refits_only_the_near_candidates(monkeypatch: pytest.MonkeyPatch) -> None:
-    import auditor.diagnose as diagnose
+    import auditor.diagnose.engine as diagnose
 
     calls: list[int] = []
     real = diagnose.fit_ols
@@ -505,7 +505,7 @@ AUDITED: dict[str, list[RegressionContext]] = {}
 
 def contexts_of(file: str) -> list[RegressionContext]:
     """Every regression context the audit builds for one fixture workbook (run once per file)."""
-    import auditor.audit as audit
+    import auditor.pipeline.audit as audit
 
     if file not in AUDITED:
         seen: list[RegressionContext] = []

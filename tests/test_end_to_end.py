@@ -16,7 +16,7 @@ from typing import Any
 import jsonschema
 import pytest
 
-from auditor.cli import main
+from auditor.cli.main import main
 
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURES = ROOT / "fixtures"

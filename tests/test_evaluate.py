@@ -17,9 +17,9 @@ import pytest
 import statsmodels.api as sm
 from scipy import stats
 
-from auditor.evaluate import Evaluator, Unsupported, Unverifiable
-from auditor.formula import Ref
-from auditor.workbook import Cell, DefinedName, ErrorValue, Sheet, Workbook, parse_cell
+from auditor.evaluation.evaluator import Evaluator, Unsupported, Unverifiable
+from auditor.formula.syntax import Ref
+from auditor.read.workbook import Cell, DefinedName, ErrorValue, Sheet, Workbook, parse_cell
 
 X = [1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0]
 Y = [2.3, 4.1, 6.2, 7.8, 10.1, 12.2, 13.8, 16.3]
@@ -504,8 +504,8 @@ def test_a_200000_row_slope_is_quick() -> None:
 def test_a_range_of_the_whole_sheet_is_refused_not_allocated() -> None:
     # A1:XFD1048576 holds 17,179,869,184 cells (16,384 columns × 1,048,576 rows, the xlsx
     # limits: common practice); allocating it would need over 100 GiB.
-    from auditor.evaluate import Evaluator, Unsupported
-    from auditor.workbook import Cell, Sheet, Workbook
+    from auditor.evaluation.evaluator import Evaluator, Unsupported
+    from auditor.read.workbook import Cell, Sheet, Workbook
 
     sheet = Sheet("S", {(1, 1): Cell("S", 1, 1, 1.0)}, max_row=1, max_col=1)
     evaluator = Evaluator(Workbook("mem.xlsx", "", {"S": sheet}, [], True))

@@ -24,9 +24,10 @@ import numpy as np
 import pytest
 import xlsxwriter
 
-from auditor.evaluate import SUPPORTED_FUNCTIONS, Evaluator, Unverifiable
-from auditor.formula import calls, parse
-from auditor.workbook import ErrorValue, Workbook, parse_cell, read_workbook
+from auditor.evaluation.evaluator import SUPPORTED_FUNCTIONS, Evaluator, Unverifiable
+from auditor.formula.syntax import calls, parse
+from auditor.read.open import read_workbook
+from auditor.read.workbook import ErrorValue, Workbook, parse_cell
 
 FIXTURES = Path(__file__).resolve().parent.parent / "fixtures" / "workbooks"
 RELATIVE_TOLERANCE = 1e-9

@@ -10,11 +10,11 @@ import random
 
 import numpy as np
 
-from auditor.evaluate import Evaluator
+from auditor.evaluation.evaluator import Evaluator
 from auditor.extract import Extracted, extract
-from auditor.formula import Ref
-from auditor.locate import RegressionSpec
-from auditor.workbook import Cell, CellValue, ErrorValue, Sheet, Workbook
+from auditor.formula.syntax import Ref
+from auditor.locate.locator import RegressionSpec
+from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet, Workbook
 
 LAST_DATA_ROW = 401  # rows 2..401 hold data; row 402 is a labelled mean row
 SUBTOTAL_ROW = 200  # labelled "Total" though its y is not the sum above: left out by its label

@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from auditor.fit import FitResult, fit_ols
+from auditor.fit.ols import FitResult, fit_ols
 
 REFERENCE = Path(__file__).parent / "reference"
 CERTIFIED_DIGITS = 15.0  # NIST certifies 15 significant digits: no LRE above that means anything

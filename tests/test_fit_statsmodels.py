@@ -17,7 +17,7 @@ import statsmodels.api as sm
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from auditor.fit import FitResult, fit_ols
+from auditor.fit.ols import FitResult, fit_ols
 
 # 1e-10 relative: both fits are backward stable on these well-conditioned designs, so they agree
 # to ~1e-13; the margin allows for the amplification of rounding in SE and p.

@@ -13,7 +13,7 @@ from __future__ import annotations
 import pytest
 
 from auditor.errors import FormulaError
-from auditor.formula import (
+from auditor.formula.syntax import (
     ArrayNode,
     Binary,
     Bool,
@@ -32,7 +32,7 @@ from auditor.formula import (
     references,
     walk,
 )
-from auditor.workbook import Cell, DefinedName, Sheet, Workbook
+from auditor.read.workbook import Cell, DefinedName, Sheet, Workbook
 
 
 def book(max_row: int = 21) -> Workbook:

@@ -18,17 +18,18 @@ import numpy as np
 import pytest
 import statsmodels.api as sm
 
-from auditor.audit import audit_workbook
 from auditor.checks.formula_audit import typed_counts
 from auditor.checks.formula_blocks import blocks_of, frame_form, sibling_groups, translate
 from auditor.checks.formula_support import replace_argument
 from auditor.checks.workbook_level import WorkbookContext
-from auditor.evaluate import Evaluator
-from auditor.formula import parse
-from auditor.locate import Locator, locate
+from auditor.evaluation.evaluator import Evaluator
+from auditor.formula.syntax import parse
+from auditor.locate.locator import Locator, locate
 from auditor.model import RegressionResult, WorkbookResult, stat_base
+from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
-from auditor.workbook import Workbook, read_workbook
+from auditor.read.open import read_workbook
+from auditor.read.workbook import Workbook
 
 ROOT = Path(__file__).resolve().parents[1]
 WORKBOOKS = ROOT / "fixtures" / "workbooks"

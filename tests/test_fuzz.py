@@ -4,7 +4,8 @@ unreadable with a reason in words; never a crash, never a changed input.
 Half the cases damage the file's bytes (flips, cuts, insertions: mostly the zip layer), half
 rewrite one XML part and re-zip it with valid checksums, so that the XML parser and the reader's
 own logic meet broken markup, wrong types, absurd references and missing parts. The cases run in
-two worker processes under regaudit's own per-file limits (auditor.limits). A failing case names
+two worker processes under regaudit's own per-file limits (auditor.pipeline.limits). A failing case
+names
 its seed; ``fuzz_case(seed)`` rebuilds and audits exactly that file again.
 
 REGAUDIT_FUZZ_CASES raises the number of cases (default 2,000).
@@ -24,9 +25,9 @@ from pathlib import Path
 import pytest
 from package_builders import read_parts
 
-from auditor.audit import audit_workbook
 from auditor.errors import RegauditError
-from auditor.limits import Failure, FileLimits, run_limited
+from auditor.pipeline.audit import audit_workbook
+from auditor.pipeline.limits import Failure, FileLimits, run_limited
 from auditor.policy import Policy, load_policy
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -27,10 +27,11 @@ from package_builders import (
     zip_bomb,
 )
 
-from auditor.audit import audit_batch, audit_workbook
 from auditor.errors import UnreadableWorkbook
+from auditor.pipeline.audit import audit_workbook
+from auditor.pipeline.batch import audit_batch
 from auditor.policy import load_policy
-from auditor.workbook import read_workbook
+from auditor.read.open import read_workbook
 
 ROOT = Path(__file__).resolve().parents[1]
 GOOD = ROOT / "fixtures" / "workbooks" / "lab_nitrate_calibration_beside.xlsx"
@@ -208,7 +209,7 @@ def test_no_secret_leaks_into_the_reason(hostile: dict[str, tuple[Path, str]]) -
 _MEASURE = """
 import json, re, sys
 from auditor.errors import UnreadableWorkbook
-from auditor.workbook import read_workbook
+from auditor.read.open import read_workbook
 outcomes = []
 for engine in ("stream", "openpyxl"):
     for path in sys.argv[1:]:

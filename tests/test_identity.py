@@ -1,4 +1,4 @@
-"""The stable identity of a finding (auditor.identity).
+"""The stable identity of a finding (auditor.review.identity).
 
 Outside truth for the R1C1 form: the spreadsheet's own R1C1 reference style as its vendor
 documents it — ``R[-2]C`` is the cell two rows up in the same column, ``R2C2`` the absolute cell
@@ -16,8 +16,11 @@ from pathlib import Path
 import openpyxl
 import pytest
 
-from auditor.audit import audit_batch, collect_inputs
-from auditor.identity import (
+from auditor.model import AuditResult, Finding, RegressionResult, ReportedValue, WorkbookResult
+from auditor.pipeline.audit import collect_inputs
+from auditor.pipeline.batch import audit_batch
+from auditor.policy import load_policy
+from auditor.review.identity import (
     assign_identities,
     audit_root,
     formula_r1c1,
@@ -25,8 +28,6 @@ from auditor.identity import (
     readable,
     relative_workbook_path,
 )
-from auditor.model import AuditResult, Finding, RegressionResult, ReportedValue, WorkbookResult
-from auditor.policy import load_policy
 
 FIXTURES = Path(__file__).resolve().parents[1] / "fixtures" / "workbooks"
 LINES = "ops_line_review_with_errors.xlsx"  # six blocks of hand-built statistics, all relative

@@ -21,16 +21,16 @@ import numpy as np
 import pytest
 from package_builders import package_parts, sheet_xml, write_package
 
-from auditor.audit import audit_workbook
-from auditor.ledger import (
+from auditor.model import WorkbookResult
+from auditor.pipeline.audit import audit_workbook
+from auditor.pipeline.ledger import (
     AuditKey,
     Ledger,
     LedgerError,
     audit_with_ledger,
     settings_digest,
 )
-from auditor.limits import Failure, FileLimits, run_limited
-from auditor.model import WorkbookResult
+from auditor.pipeline.limits import Failure, FileLimits, run_limited
 from auditor.policy import load_policy
 
 POLICY = load_policy("general")
@@ -132,7 +132,7 @@ import sys, time
 from pathlib import Path
 sys.path.insert(0, {tests!r})
 import test_ledger as t
-from auditor.ledger import Ledger, audit_with_ledger
+from auditor.pipeline.ledger import Ledger, audit_with_ledger
 
 def slow(paths):
     for index, path in enumerate(paths):

@@ -8,8 +8,8 @@ from pathlib import Path
 
 import pytest
 
-from auditor.audit import audit_workbook
-from auditor.limits import Failure, FileLimits, default_jobs, run_limited
+from auditor.pipeline.audit import audit_workbook
+from auditor.pipeline.limits import Failure, FileLimits, default_jobs, run_limited
 from auditor.policy import load_policy
 
 pytestmark = pytest.mark.skipif(not hasattr(os, "fork"), reason="the pool tests fork workers")

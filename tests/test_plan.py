@@ -1,4 +1,4 @@
-"""The design planner (auditor.planner) and ``regaudit plan`` (auditor.plan).
+"""The design planner (auditor.design.planner) and ``regaudit plan`` (auditor.cli.plan).
 
 Sources: hand arithmetic of Sxx for each layout (common practice: Sxx = Σ(x − x̄)²), the textbook
 closed form n(n² − 1)h²/12 for even spacing, statsmodels' TTestPower for power, and
@@ -16,9 +16,9 @@ from pathlib import Path
 import pytest
 from statsmodels.stats.power import TTestPower
 
+from auditor.cli.plan import add_plan_parser, parse_n, run_plan
+from auditor.design.planner import PlanRequest, best, candidates, layouts
 from auditor.errors import UsageError
-from auditor.plan import add_plan_parser, parse_n, run_plan
-from auditor.planner import PlanRequest, best, candidates, layouts
 from auditor.policy import load_policy
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -1,4 +1,4 @@
-"""A1 <-> relative R1C1 (auditor.r1c1).
+"""A1 <-> relative R1C1 (auditor.formula.r1c1).
 
 Outside truth: openpyxl's ``formula.translate.Translator``, an independent implementation of what
 a spreadsheet does when a formula is copied from one cell to another. A formula and its copy must
@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 from openpyxl.formula.translate import Translator
 
 from auditor.errors import FormulaError
-from auditor.r1c1 import (
+from auditor.formula.r1c1 import (
     Corner,
     Reference,
     canonical,
@@ -25,7 +25,7 @@ from auditor.r1c1 import (
     to_a1,
     to_r1c1,
 )
-from auditor.workbook import column_letter
+from auditor.read.workbook import column_letter
 
 
 @pytest.mark.parametrize(

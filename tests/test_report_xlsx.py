@@ -14,8 +14,8 @@ from test_report_sample import AUDITED_PATH, UNREADABLE_ERROR, UNREADABLE_PATH, 
 from test_report_xlsx_support import chart_formulas
 
 from auditor.model import AuditResult
-from auditor.report.xlsx import XlsxReporter, created_date
-from auditor.report.xlsx_style import MISMATCH_FILL, PALETTE, VERDICT_PALETTE
+from auditor.report.xlsx.style import MISMATCH_FILL, PALETTE, VERDICT_PALETTE
+from auditor.report.xlsx.workbook import XlsxReporter, created_date
 
 
 def _bytes(result: AuditResult) -> bytes:

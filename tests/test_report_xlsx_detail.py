@@ -29,7 +29,7 @@ from test_report_xlsx_support import chart_formulas, fixture_audit, split_range,
 from auditor.model import RegressionResult
 from auditor.report.common import design_label, short_paths, stat_label
 from auditor.report.json import audit_document
-from auditor.report.xlsx_links import detail_refs
+from auditor.report.xlsx.links import detail_refs
 
 RELATIVE = 1e-9
 HYPERLINK = re.compile(r'^=HYPERLINK\("(?P<target>[^"]+)","(?P<text>[^"]*)"\)$')

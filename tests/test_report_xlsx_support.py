@@ -15,10 +15,11 @@ import xml.etree.ElementTree as ET
 import zipfile
 from pathlib import Path
 
-from auditor.audit import audit_batch, collect_inputs
 from auditor.model import AuditResult
+from auditor.pipeline.audit import collect_inputs
+from auditor.pipeline.batch import audit_batch
 from auditor.policy import load_policy
-from auditor.report.xlsx import XlsxReporter
+from auditor.report.xlsx.workbook import XlsxReporter
 
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURE_WORKBOOKS = ROOT / "fixtures" / "workbooks"

@@ -9,7 +9,7 @@ hand from the rule, not from the code.
 
 from __future__ import annotations
 
-from auditor.reported import relative_tolerance
+from auditor.compare.reported import relative_tolerance
 
 BASE = 1e-9
 

@@ -20,13 +20,14 @@ from typing import Any
 import jsonschema
 import pytest
 
-from auditor.audit import audit_batch, collect_inputs
-from auditor.checks import REGISTRY
-from auditor.identity import assign_identities
+from auditor.checks import REGISTRY, catalogue
 from auditor.model import AuditResult, Finding, WorkbookResult
+from auditor.pipeline.audit import collect_inputs
+from auditor.pipeline.batch import audit_batch
 from auditor.policy import load_policy
 from auditor.report import write_reports
 from auditor.report.sarif import render_sarif
+from auditor.review.identity import assign_identities
 
 ROOT = Path(__file__).resolve().parents[1]
 SCHEMA = ROOT / "tests" / "schema" / "sarif-2.1.0.json"
@@ -47,7 +48,9 @@ def audited(tmp_path_factory: pytest.TempPathFactory) -> Iterator[tuple[AuditRes
     with pytest.MonkeyPatch.context() as patch:
         patch.chdir(base)  # relative inputs, as in a CI job run at the repository root
         workbooks = audit_batch(collect_inputs(["books"]), load_policy("general"))
-        result = AuditResult("0.1.0", "general", workbooks, "2024-05-03", inputs=["books"])
+        result = AuditResult(
+            "0.1.0", "general", workbooks, "2024-05-03", inputs=["books"], checks=catalogue()
+        )
         assign_identities(result)
         waived = _finding(result, "Line 2!E4", "ranges-disagree")
         waived.waived = "Known swap, corrected in the signed copy (accepted by A. Reviewer)"

@@ -12,8 +12,8 @@ from pathlib import Path
 
 import pytest
 
-from auditor.evaluate import Evaluator
-from auditor.workbook import Sheet, Workbook
+from auditor.evaluation.evaluator import Evaluator
+from auditor.read.workbook import Sheet, Workbook
 
 TABLE = Path(__file__).parent / "reference" / "t_critical_values.csv"
 HALF_UNIT = 0.0005  # the table shows three decimals

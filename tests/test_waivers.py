@@ -1,4 +1,4 @@
-"""Waivers (auditor.waivers): the TOML file, marking findings, and the --fail-on gate.
+"""Waivers (auditor.review.waivers): the TOML file, marking findings, and the --fail-on gate.
 
 Outside truth: the waiver file must be TOML that Python's own parser (tomllib, TOML 1.0) reads
 back to the same text, and audit.json with waivers must still meet tests/schema/audit.schema.json.
@@ -14,13 +14,14 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from auditor.audit import audit_batch, collect_inputs
 from auditor.errors import UsageError
-from auditor.identity import assign_identities
 from auditor.model import SEVERITY_RANK, AuditResult
+from auditor.pipeline.audit import collect_inputs
+from auditor.pipeline.batch import audit_batch
 from auditor.policy import load_policy
 from auditor.report.json import render_json
-from auditor.waivers import (
+from auditor.review.identity import assign_identities
+from auditor.review.waivers import (
     WAIVER_FILENAME,
     Waiver,
     add_waiver,

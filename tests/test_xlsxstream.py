@@ -15,7 +15,8 @@ from pathlib import Path
 import pytest
 from package_builders import package_parts, sheet_xml, write_package
 
-from auditor.workbook import ErrorValue, Workbook, read_workbook
+from auditor.read.open import read_workbook
+from auditor.read.workbook import ErrorValue, Workbook
 
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURES = sorted((ROOT / "fixtures" / "workbooks").glob("*.xlsx")) + sorted(

@@ -13,6 +13,12 @@ from auditor.checks import (  # noqa: F401
     formulas,
     workbook_level,
 )
-from auditor.checks.base import REGISTRY, Check, RegressionContext, run_regression_checks
+from auditor.checks.base import (
+    REGISTRY,
+    Check,
+    RegressionContext,
+    catalogue,
+    run_regression_checks,
+)
 
-__all__ = ["REGISTRY", "Check", "RegressionContext", "run_regression_checks"]
+__all__ = ["REGISTRY", "Check", "RegressionContext", "catalogue", "run_regression_checks"]

@@ -5,10 +5,10 @@ from __future__ import annotations
 from scipy import stats as distributions
 
 from auditor.checks.base import RegressionContext, check
-from auditor.compare import agree_stored, parse_text_number
-from auditor.diagnose import explain
+from auditor.compare.precision import agree_stored, parse_text_number
+from auditor.compare.reported import relative_tolerance
+from auditor.diagnose.engine import explain
 from auditor.model import STAT_KEYS, Finding, ReportedValue, Severity, stat_base
-from auditor.reported import relative_tolerance
 
 NAMES = {
     "slope": "slope",

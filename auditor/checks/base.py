@@ -7,11 +7,11 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
-from auditor.design_inputs import DesignInputs
+from auditor.design.inputs import DesignInputs
 from auditor.extract import Extracted
-from auditor.fit import FitResult
-from auditor.locate import RegressionSpec
-from auditor.model import Finding, ReportedValue
+from auditor.fit.ols import FitResult
+from auditor.locate.locator import RegressionSpec
+from auditor.model import CheckInfo, Finding, ReportedValue
 from auditor.policy import Policy
 
 
@@ -46,6 +46,14 @@ class Check:
 
 
 REGISTRY: dict[str, Check] = {}
+
+
+def catalogue() -> list[CheckInfo]:
+    """Every registered check as the result model describes it (for reporters)."""
+    return [
+        CheckInfo(item.id, item.summary, item.doc, item.family, item.scope)
+        for item in REGISTRY.values()
+    ]
 
 
 def check(

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from auditor.checks.base import RegressionContext, check
 from auditor.model import Finding, Severity
-from auditor.workbook import column_letter
+from auditor.read.workbook import column_letter
 
 
 def _severity(context: RegressionContext) -> Severity:

@@ -1,21 +1,26 @@
 """Design checks: is the x design good enough for what the regression is said to show?
 
-Each judges the design metrics (auditor.design) against the claim (auditor.claims) under the
-policy; the findings are worded in auditor.design_findings and auditor.point_findings. Simple
+Each judges the design metrics (auditor.design.metrics) against the claim (auditor.design.claims)
+under the
+policy; the findings are worded in auditor.design.findings and auditor.design.point_findings. Simple
 regressions (one x column) only. The workbook's own words, stated bounds and predictions arrive as
-``context.design_inputs`` (auditor.design_inputs) when the pipeline reads them; without them the
+``context.design_inputs`` (auditor.design.inputs) when the pipeline reads them; without them the
 claim comes from the reported p and no prediction is judged.
 """
 
 from __future__ import annotations
 
 from auditor.checks.base import RegressionContext, check
-from auditor.claims import Claim, read_claim
-from auditor.design import DesignMetrics, cached_design
-from auditor.design_findings import lack_of_fit_findings, levels_findings, spread_findings
-from auditor.design_inputs import DesignInputs
+from auditor.design.claims import Claim, read_claim
+from auditor.design.findings import lack_of_fit_findings, levels_findings, spread_findings
+from auditor.design.inputs import DesignInputs
+from auditor.design.metrics import DesignMetrics, cached_design
+from auditor.design.point_findings import (
+    extrapolation_findings,
+    fragile_findings,
+    leverage_findings,
+)
 from auditor.model import Finding
-from auditor.point_findings import extrapolation_findings, fragile_findings, leverage_findings
 
 
 def _inputs(context: RegressionContext) -> DesignInputs | None:

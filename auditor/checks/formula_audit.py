@@ -20,9 +20,9 @@ from auditor.checks.formula_support import (
     replace_argument,
     severity_in_regression,
 )
-from auditor.formula import Binary, Call, Node, Number, Ref, Unary
+from auditor.formula.syntax import Binary, Call, Node, Number, Ref, Unary
 from auditor.model import Finding, stat_base
-from auditor.workbook import column_letter
+from auditor.read.workbook import column_letter
 
 # Which argument of each distribution function is the residual degrees of freedom (0-based).
 DF_ARGUMENT = {

@@ -20,11 +20,11 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
-from auditor.formula import Ref
-from auditor.locate import RegressionSpec, StatCell
+from auditor.formula.r1c1 import Corner, Reference, canonical, rewrite_references
+from auditor.formula.syntax import Ref
+from auditor.locate.locator import RegressionSpec, StatCell
 from auditor.model import RegressionResult, stat_base
-from auditor.r1c1 import Corner, Reference, canonical, rewrite_references
-from auditor.workbook import column_letter
+from auditor.read.workbook import column_letter
 
 Position = tuple[str, int, int]  # (statistic, rows below the block's top, columns right of it)
 MIN_SHARED = 3  # statistics two blocks must share at the same offsets to be siblings

@@ -10,10 +10,10 @@ from __future__ import annotations
 
 from auditor.checks.base import check
 from auditor.checks.workbook_level import WorkbookContext
-from auditor.formula import NameNode, Node, RefNode, calls, walk
-from auditor.locate import PAIR_FUNCS
+from auditor.formula.syntax import NameNode, Node, RefNode, calls, walk
+from auditor.locate.locator import PAIR_FUNCS
 from auditor.model import Finding, Severity
-from auditor.workbook import column_letter
+from auditor.read.workbook import column_letter
 
 MAX_CELLS_LISTED = 12
 

@@ -17,7 +17,7 @@ from auditor.checks.formula_blocks import Block, blocks_of, sibling_groups, tran
 from auditor.checks.formula_support import fmt, local_text, reached_cells, severity_in_result
 from auditor.checks.workbook_level import WorkbookContext
 from auditor.model import Finding, ReportedValue, Severity, stat_base
-from auditor.workbook import Cell
+from auditor.read.workbook import Cell
 
 MIN_FORMULAS_BESIDE = 2  # formulas in the same block that show it is a computed block
 

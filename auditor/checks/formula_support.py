@@ -15,10 +15,10 @@ from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 from auditor.checks.agreement import significance_changes
 from auditor.checks.base import RegressionContext
 from auditor.errors import FormulaError
-from auditor.formula import Node, parse, references
-from auditor.locate import RegressionSpec
+from auditor.formula.syntax import Node, parse, references
+from auditor.locate.locator import RegressionSpec
 from auditor.model import RegressionResult, Severity
-from auditor.workbook import column_letter
+from auditor.read.workbook import column_letter
 
 
 def parse_quietly(formula: str | None, sheet: str) -> Node | None:

@@ -10,10 +10,10 @@ from auditor.checks.formula_support import (
     reached_cells,
     severity_in_regression,
 )
-from auditor.formula import Node, Ref, RefNode, calls
-from auditor.locate import PairUse
+from auditor.formula.syntax import Node, Ref, RefNode, calls
+from auditor.locate.locator import PairUse
+from auditor.locate.spec import overlaps
 from auditor.model import Finding, Severity
-from auditor.spec import overlaps
 
 
 def shift(used: Ref, meant: Ref) -> tuple[int, int] | None:

@@ -18,8 +18,10 @@ class WorkbookContext:
     formula_count: int
     unparsed: list[tuple[str, str]] = field(default_factory=list)  # (cell, why)
     regressions: int = 0
-    workbook: Any = None  # auditor.workbook.Workbook
-    specs: list[Any] = field(default_factory=list)  # auditor.locate.RegressionSpec, in order
+    workbook: Any = None  # auditor.read.workbook.Workbook
+    specs: list[Any] = field(
+        default_factory=list
+    )  # auditor.locate.locator.RegressionSpec, in order
     results: list[Any] = field(default_factory=list)  # auditor.model.RegressionResult, same order
     parsed: dict[tuple[str, int, int], Any] = field(default_factory=dict)  # formula ASTs by cell
     policy: Any = None  # auditor.policy.Policy

@@ -1,4 +1,4 @@
-"""The formula evaluator's parts; :mod:`auditor.evaluate` is the interface to import.
+"""The formula evaluator's parts; :mod:`auditor.evaluation.evaluator` is the interface to import.
 
 Layers, lowest first (a module imports only from those above it)::
 

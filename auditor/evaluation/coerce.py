@@ -9,7 +9,7 @@ from typing import Any
 import numpy as np
 
 from auditor.evaluation.values import _NUM, _VALUE, MISSING, Fault, RangeValue, _Numeric
-from auditor.workbook import ErrorValue
+from auditor.read.workbook import ErrorValue
 
 # A number typed as text: "12.5", " 3 ", "1e3", "50%", "1,000" (groups of three).
 _NUMERIC_TEXT = re.compile(

@@ -28,8 +28,8 @@ from auditor.evaluation.values import (
     Value,
     _Ctx,
 )
-from auditor.formula import Node, Ref, parse, references
-from auditor.workbook import Cell, ErrorValue, Workbook, column_letter
+from auditor.formula.syntax import Node, Ref, parse, references
+from auditor.read.workbook import Cell, ErrorValue, Workbook, column_letter
 
 MAX_BLOCK_CELLS = 20_000_000  # about 160 MB of object pointers; larger ranges are refused
 

@@ -24,7 +24,7 @@ from auditor.evaluation.values import (
     Unverifiable,
     _Ctx,
 )
-from auditor.formula import (
+from auditor.formula.syntax import (
     ArrayNode,
     Binary,
     Bool,
@@ -40,7 +40,7 @@ from auditor.formula import (
     Text,
     Unary,
 )
-from auditor.workbook import ErrorValue
+from auditor.read.workbook import ErrorValue
 
 
 class ExpressionEvaluator:

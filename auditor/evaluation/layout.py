@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from auditor.workbook import Cell, Workbook, parse_cell
+from auditor.read.workbook import Cell, Workbook, parse_cell
 
 _Key = tuple[str, int, int]  # (sheet, row, col)
 _Bounds = tuple[int, int, int, int]  # (r1, c1, r2, c2)

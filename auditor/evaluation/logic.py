@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 
@@ -16,19 +16,17 @@ from auditor.evaluation.values import (
     MISSING,
     Fault,
     LazyFn,
+    NodeEvaluator,
     RangedFn,
     RangeValue,
     Unsupported,
     _Ctx,
 )
-from auditor.formula import SHEET_COLS, SHEET_ROWS, Bool, Missing, Node, Ref
-from auditor.workbook import ErrorValue
-
-if TYPE_CHECKING:
-    from auditor.evaluation.expressions import ExpressionEvaluator
+from auditor.formula.syntax import SHEET_COLS, SHEET_ROWS, Bool, Missing, Node, Ref
+from auditor.read.workbook import ErrorValue
 
 
-def _extent(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx, axis: int) -> float:
+def _extent(ev: NodeEvaluator, args: list[Any], ctx: _Ctx, axis: int) -> float:
     arg = args[0]
     if isinstance(arg, RangeValue):
         whole = arg.ref.whole_column if axis == 0 else arg.ref.whole_row
@@ -38,7 +36,7 @@ def _extent(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx, axis: int) -> f
     return float(_as_2d(arg).shape[axis])
 
 
-def _index(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> Any:
+def _index(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> Any:
     if len(args) == 4 and args[3] is not MISSING and _int(ev._single(args[3], ctx)) != 1:
         raise Unsupported("INDEX over several areas is not evaluated")
     source = args[0]
@@ -62,7 +60,7 @@ def _index(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> Any:
     return chosen[0, 0] if chosen.size == 1 else chosen
 
 
-def _offset(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> Any:
+def _offset(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> Any:
     source = args[0]
     if not isinstance(source, RangeValue):
         raise Fault(_VALUE)
@@ -78,7 +76,7 @@ def _offset(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> Any:
     return ev._range_arg(Ref(ref.sheet, r1, c1, r1 + height - 1, c1 + width - 1))
 
 
-def _if(ev: ExpressionEvaluator, nodes: tuple[Node, ...], ctx: _Ctx) -> Any:
+def _if(ev: NodeEvaluator, nodes: tuple[Node, ...], ctx: _Ctx) -> Any:
     condition = ev._operand(ev._eval(nodes[0], ctx), ctx)
     branches = [nodes[1] if len(nodes) > 1 else Bool(False), nodes[2] if len(nodes) > 2 else None]
     if isinstance(condition, np.ndarray):
@@ -102,7 +100,7 @@ def _if(ev: ExpressionEvaluator, nodes: tuple[Node, ...], ctx: _Ctx) -> Any:
     return ev._eval(chosen, ctx)
 
 
-def _iferror(ev: ExpressionEvaluator, nodes: tuple[Node, ...], ctx: _Ctx) -> Any:
+def _iferror(ev: NodeEvaluator, nodes: tuple[Node, ...], ctx: _Ctx) -> Any:
     value = ev._operand(ev._eval(nodes[0], ctx), ctx)
     if isinstance(value, np.ndarray):
         fallback = ev._operand(ev._eval(nodes[1], ctx), ctx)

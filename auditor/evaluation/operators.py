@@ -12,7 +12,7 @@ import numpy as np
 
 from auditor.evaluation.coerce import _num, _result, _text
 from auditor.evaluation.values import _DIV0, _NA, _NUM, MISSING, Fault
-from auditor.workbook import ErrorValue
+from auditor.read.workbook import ErrorValue
 
 
 def _expand(block: np.ndarray, rows: int, cols: int) -> np.ndarray:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 from scipy import linalg
@@ -20,14 +20,12 @@ from auditor.evaluation.values import (
     _VALUE,
     MISSING,
     Fault,
+    NodeEvaluator,
     RangedFn,
     RangeValue,
     _Ctx,
 )
-from auditor.workbook import ErrorValue
-
-if TYPE_CHECKING:
-    from auditor.evaluation.expressions import ExpressionEvaluator
+from auditor.read.workbook import ErrorValue
 
 
 def _pairs(known_y: Any, known_x: Any) -> tuple[np.ndarray, np.ndarray]:
@@ -184,47 +182,47 @@ def _flag(args: Sequence[Any], index: int, default: bool) -> bool:
     return _truthy(value)
 
 
-def _steyx(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> float:
+def _steyx(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> float:
     moments = _Moments.of(args[0], args[1])
     if moments.n < 3:
         raise Fault(_DIV0)  # Excel; LibreOffice writes #VALUE!
     return math.sqrt(moments.ssresid / (moments.n - 2))
 
 
-def _rsq(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> float:
+def _rsq(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> float:
     m = _Moments.of(args[0], args[1])
     if m.sxx == 0 or m.syy == 0:
         raise Fault(_DIV0)
     return m.sxy * m.sxy / (m.sxx * m.syy)
 
 
-def _correl(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> float:
+def _correl(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> float:
     m = _Moments.of(args[0], args[1])
     if m.sxx == 0 or m.syy == 0:
         raise Fault(_DIV0)
     return m.sxy / math.sqrt(m.sxx * m.syy)
 
 
-def _intercept(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> float:
+def _intercept(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> float:
     m = _Moments.of(args[0], args[1])
     return m.y_mean - m.slope * m.x_mean
 
 
-def _forecast(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> Any:
+def _forecast(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> Any:
     target = ev._operand(args[0], ctx)
     m = _Moments.of(args[1], args[2])
     slope = m.slope
     return _lift(lambda x: m.y_mean + slope * (_num(x) - m.x_mean), [target])
 
 
-def _linest(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> np.ndarray:
+def _linest(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> np.ndarray:
     known_x = args[1] if len(args) > 1 else MISSING
     const, with_stats = _flag(args, 2, True), _flag(args, 3, False)
     y, x = _design(args[0], known_x)
     return _linest_table(_least_squares(y, x, const), with_stats)
 
 
-def _trend(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> Any:
+def _trend(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> Any:
     known_x = args[1] if len(args) > 1 else MISSING
     y, x = _design(args[0], known_x)
     fit = _least_squares(y, x, _flag(args, 3, True))

@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import replace
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 
@@ -17,16 +17,14 @@ from auditor.evaluation.values import (
     MISSING,
     Fault,
     LazyFn,
+    NodeEvaluator,
     RangedFn,
     RangeValue,
     _Ctx,
     _Numeric,
 )
-from auditor.formula import Node
-from auditor.workbook import ErrorValue
-
-if TYPE_CHECKING:
-    from auditor.evaluation.expressions import ExpressionEvaluator
+from auditor.formula.syntax import Node
+from auditor.read.workbook import ErrorValue
 
 
 def _collect(args: Sequence[Any]) -> np.ndarray:
@@ -94,7 +92,7 @@ def _devsq_checked(numbers: np.ndarray) -> float:
     return _devsq(numbers)
 
 
-def _sumproduct(ev: ExpressionEvaluator, nodes: tuple[Node, ...], ctx: _Ctx) -> Any:
+def _sumproduct(ev: NodeEvaluator, nodes: tuple[Node, ...], ctx: _Ctx) -> Any:
     element_wise = replace(ctx, array=True)  # SUMPRODUCT evaluates its arguments as arrays
     blocks = [_as_2d(ev._operand(ev._eval(n, element_wise), element_wise)) for n in nodes]
     if any(b.shape != blocks[0].shape for b in blocks):

@@ -4,15 +4,12 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import Any, Protocol
 
 import numpy as np
 
-from auditor.formula import Node, Ref
-from auditor.workbook import ErrorValue
-
-if TYPE_CHECKING:
-    from auditor.evaluation.expressions import ExpressionEvaluator
+from auditor.formula.syntax import Node, Ref
+from auditor.read.workbook import ErrorValue
 
 Value = float | str | bool | ErrorValue | None | np.ndarray
 
@@ -93,5 +90,18 @@ class _Ctx:
 # kind receives. Declared here so that every family module can name them without a cycle.
 
 ScalarFn = Callable[..., Any]
-RangedFn = Callable[["ExpressionEvaluator", list[Any], _Ctx], Any]
-LazyFn = Callable[["ExpressionEvaluator", tuple[Node, ...], _Ctx], Any]
+RangedFn = Callable[["NodeEvaluator", list[Any], _Ctx], Any]
+LazyFn = Callable[["NodeEvaluator", tuple[Node, ...], _Ctx], Any]
+
+
+class NodeEvaluator(Protocol):
+    """What a ranged or lazy function may ask of the expression evaluator that calls it
+    (a protocol here, so the function families never import the evaluator itself)."""
+
+    def _range_arg(self, ref: Ref) -> RangeValue | ErrorValue: ...
+
+    def _operand(self, value: Any, ctx: _Ctx) -> Any: ...
+
+    def _single(self, value: Any, ctx: _Ctx) -> Any: ...
+
+    def _eval(self, node: Node, ctx: _Ctx) -> Any: ...

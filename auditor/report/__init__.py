@@ -24,7 +24,7 @@ from auditor.report.json import JsonReporter
 from auditor.report.output import atomic_output, refuse_inputs
 from auditor.report.sarif import SarifReporter
 from auditor.report.text import TextReporter
-from auditor.report.xlsx import XlsxReporter
+from auditor.report.xlsx.workbook import XlsxReporter
 
 
 class Reporter(Protocol):

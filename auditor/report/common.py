@@ -226,7 +226,8 @@ def design_label(key: str) -> str:
 
 @dataclass(frozen=True)
 class AnnotatedCopy:
-    """One annotated copy of an audited workbook (made by auditor.annotate, shown by reports)."""
+    """One annotated copy of an audited workbook (made by auditor.review.annotate, shown by
+    reports)."""
 
     source: str  # the audited workbook, never changed
     copy: str  # NAME.audited.xlsx in the output folder

@@ -25,13 +25,11 @@ from __future__ import annotations
 
 import json
 import re
-from collections.abc import Callable, Mapping
 from pathlib import Path, PurePosixPath, PureWindowsPath
 from typing import Any, BinaryIO
 from urllib.parse import quote
 
-from auditor.identity import digest, identity_keys, split_cell
-from auditor.model import AuditResult, Finding
+from auditor.model import AuditResult, CheckInfo, Finding
 from auditor.report.common import plain
 
 SARIF_VERSION = "2.1.0"
@@ -45,12 +43,10 @@ LEVELS: dict[str, str] = {"critical": "error", "major": "error", "minor": "warni
 _A1 = re.compile(r"^\$?([A-Za-z]{1,3})\$?([0-9]+)$")
 
 
-def _catalogue() -> Mapping[str, Any]:
-    # Imported here, not at the top: the registry is only read as data (id, summary, docstring),
-    # and importing it on first use keeps loading the reporters cheap.
-    from auditor.checks import REGISTRY
-
-    return REGISTRY
+def split_cell(reference: str) -> tuple[str, str]:
+    """'My Sheet!B4:B9' -> ('My Sheet', 'B4:B9'); a sheet name may itself hold '!'."""
+    sheet, bang, address = reference.rpartition("!")
+    return (sheet, address) if bang else ("", reference)
 
 
 _LABEL = re.compile(r"^(Failing|Passing|Severity):")
@@ -74,7 +70,7 @@ def _example(sections: list[str], label: str) -> str | None:
     return None
 
 
-def rule_descriptor(check: Any) -> dict[str, Any]:
+def rule_descriptor(check: CheckInfo) -> dict[str, Any]:
     """One reportingDescriptor from a registered check."""
     sections = doc_sections(check.doc)
     markdown = "\n\n".join(_LABEL.sub(r"**\1:**", section) for section in sections)
@@ -146,7 +142,7 @@ def _result(
         "level": LEVELS[finding.severity],
         "message": {"text": text},
         "locations": [_location(artifact, first, index)],
-        "partialFingerprints": {FINGERPRINT: fingerprint},
+        **({"partialFingerprints": {FINGERPRINT: fingerprint}} if fingerprint else {}),
         "properties": {
             "severity": finding.severity,
             "kind": finding.kind,
@@ -169,14 +165,11 @@ def _result(
     return entry
 
 
-def sarif_document(
-    result: AuditResult, catalogue: Callable[[], Mapping[str, Any]] = _catalogue
-) -> dict[str, Any]:
-    checks = catalogue()
-    rules = [rule_descriptor(check) for check in checks.values()]
-    rule_index = {check_id: n for n, check_id in enumerate(checks)}
-    # The identity the CLI assigned, or the same one computed here when it did not.
-    fingerprints = {id(f): f.identity or digest(key) for f, key in identity_keys(result)}
+def sarif_document(result: AuditResult) -> dict[str, Any]:
+    """The SARIF log of one result; rules from ``result.checks``, fingerprints from the
+    identities the review step assigned (a finding without one gets no fingerprint)."""
+    rules = [rule_descriptor(check) for check in result.checks]
+    rule_index = {check.id: n for n, check in enumerate(result.checks)}
     artifacts: list[dict[str, Any]] = []
     results: list[dict[str, Any]] = []
     notifications: list[dict[str, Any]] = []
@@ -196,7 +189,7 @@ def sarif_document(
             )
         for finding in workbook.all_findings():
             number = rule_index.get(finding.check, -1)
-            results.append(_result(finding, number, location, index, fingerprints[id(finding)]))
+            results.append(_result(finding, number, location, index, finding.identity))
     run: dict[str, Any] = {
         "tool": {
             "driver": {

@@ -1,0 +1,304 @@
+"""Command line: ``regaudit audit|rules|demo`` (``python -m auditor`` does the same).
+
+Exit codes: 0 no finding at or above ``--fail-on``; 1 such findings; 2 a usage error, or no
+input could be read.
+"""
+
+from __future__ import annotations
+
+import argparse
+import shutil
+import sys
+import time
+from importlib import resources
+from pathlib import Path
+
+from tabulate import tabulate
+
+from auditor import __version__
+from auditor.cli.plan import add_plan_parser
+from auditor.cli.review import add_review_parsers, cluster_options
+from auditor.cli.runner import FORMATS, run_audit
+from auditor.errors import PolicyError, RegauditError, UsageError
+from auditor.model import SEVERITIES, SEVERITY_RANK, AuditResult
+from auditor.pipeline.limits import default_jobs
+
+FAIL_CHOICES = ("critical", "major", "minor", "info", "never")
+FORMAT_CHOICES = (*FORMATS, "sarif")  # audit.sarif only when asked for
+
+EPILOG = """exit codes:
+  0  no finding at or above --fail-on (default: critical)
+  1  at least one finding at or above --fail-on
+  2  a usage error, or none of the inputs could be read
+waived findings (regaudit-waivers.toml) and findings in --baseline never give exit 1
+"""
+
+
+def _print_outcome(result: AuditResult, out_dir: Path, formats: tuple[str, ...]) -> None:
+    totals = result.totals()
+    for workbook in result.workbooks:
+        if workbook.status == "unreadable":
+            print(f"error: {workbook.path}: {workbook.error}", file=sys.stderr)
+    severities = ", ".join(f"{totals['findings_by_severity'][s]} {s}" for s in SEVERITIES)
+    print(
+        f"audited {totals['workbooks']} workbook(s): {totals['regressions']} regression(s); "
+        f"findings: {severities}"
+    )
+    names = {
+        "json": "audit.json",
+        "text": "summary.txt",
+        "xlsx": "audit.xlsx",
+        "sarif": "audit.sarif",
+    }
+    for fmt in formats:
+        print(f"  wrote {out_dir / names[fmt]}")
+
+
+def exit_code(result: AuditResult, fail_on: str) -> int:
+    from auditor.review.waivers import counts_for_gate
+
+    if not any(w.status != "unreadable" for w in result.workbooks):
+        return 2
+    if fail_on == "never":
+        return 0
+    limit = SEVERITY_RANK[fail_on]
+    failing = [
+        f
+        for f in result.all_findings()
+        if SEVERITY_RANK[f.severity] <= limit and counts_for_gate(f)
+    ]
+    return 1 if failing else 0
+
+
+def cmd_audit(args: argparse.Namespace) -> int:
+    formats = tuple(args.format.split(",")) if args.format else FORMATS
+    bad = [f for f in formats if f not in FORMAT_CHOICES]
+    if bad:
+        raise UsageError(f"unknown format {bad[0]!r}; choose from {', '.join(FORMAT_CHOICES)}")
+    started = time.perf_counter()
+    result = run_audit(
+        args.paths,
+        Path(args.out),
+        args.policy,
+        jobs=args.jobs,
+        formats=formats,
+        bindings_file=args.bindings,
+        timestamp=args.timestamp,
+        cluster=args.cluster,
+        ship_bytes=args.ship_bytes,
+        waivers_file=args.waivers,
+        baseline_file=args.baseline,
+        annotate=args.annotate,
+        changed=args.changed,
+        ledger_file=args.ledger,
+        use_ledger=not args.no_ledger,
+        time_limit=args.time_limit,
+        memory_limit_gb=args.memory_limit,
+    )
+    _print_outcome(result, Path(args.out), formats)
+    print(f"  in {time.perf_counter() - started:.1f} s")
+    return exit_code(result, args.fail_on)
+
+
+def cmd_rules(args: argparse.Namespace) -> int:
+    from auditor.checks import REGISTRY
+    from auditor.policy import load_policy
+
+    rows = [(c.id, c.family, c.summary) for c in REGISTRY.values()]
+    print(tabulate(rows, headers=["check", "family", "what it finds"], tablefmt="simple"))
+    policy = load_policy(args.policy)
+    print(f"\npolicy {policy.name!r}: {policy.description}")
+    rows2 = [(k, f"{t.value:g}", t.source) for k, t in policy.thresholds.items()]
+    print(tabulate(rows2, headers=["threshold", "value", "source"], tablefmt="simple"))
+    return 0
+
+
+def cmd_history(args: argparse.Namespace) -> int:
+    from auditor.pipeline.ledger import Ledger, default_ledger_path
+
+    path = Path(args.ledger) if args.ledger else default_ledger_path()
+    if not path.exists():
+        raise UsageError(f"no ledger at {str(path)!r}: run an audit first, or give --ledger")
+    with Ledger(path) as ledger:
+        entries = ledger.history(args.file)
+    if not entries:
+        print(f"{args.file}: no audits recorded in {path}")
+        return 0
+    rows = [
+        (
+            e.audited_at,
+            e.sha256[:12],
+            f"{e.size:,}",
+            e.policy,
+            e.version,
+            e.status,
+            e.regressions,
+            ", ".join(f"{n} {s}" for s, n in e.findings.items()) or "none",
+            f"{e.seconds:.2f} s",
+        )
+        for e in entries
+    ]
+    headers = [
+        "audited (UTC)",
+        "sha256",
+        "bytes",
+        "policy",
+        "version",
+        "status",
+        "regressions",
+        "findings",
+        "time",
+    ]
+    print(tabulate(rows, headers=headers))
+    return 0
+
+
+def demo_workbooks() -> list[Path]:
+    folder = resources.files("auditor.fixtures").joinpath("workbooks")
+    return sorted(Path(str(p)) for p in folder.iterdir() if str(p).endswith(".xlsx"))
+
+
+def cmd_demo(args: argparse.Namespace) -> int:
+    target = Path(args.dir)
+    inputs = target / "workbooks"
+    inputs.mkdir(parents=True, exist_ok=True)
+    for source in demo_workbooks():
+        shutil.copyfile(source, inputs / source.name)
+    print(f"wrote {len(demo_workbooks())} demo workbooks to {inputs}")
+    out_dir = target / "audit"
+    result = run_audit(
+        [str(inputs)],
+        out_dir,
+        args.policy,
+        jobs=args.jobs,
+        timestamp=args.timestamp,
+        annotate=True,
+    )
+    _print_outcome(result, out_dir, FORMATS)
+    print(f"open {out_dir / 'audit.xlsx'} or read {out_dir / 'summary.txt'}")
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="regaudit",
+        description="Audit the regressions in spreadsheet workbooks: recompute every reported "
+        "statistic from the workbook's own data and explain each disagreement.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("--version", action="version", version=f"regaudit {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True)
+    cores = default_jobs()
+
+    audit = sub.add_parser(
+        "audit",
+        help="audit workbooks and folders of workbooks",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    audit.add_argument("paths", nargs="+", metavar="PATH", help=".xlsx/.xlsm files or folders")
+    audit.add_argument("--policy", default="general", help="policy name or TOML file")
+    audit.add_argument("--out", default="regaudit-out", metavar="DIR", help="output folder")
+    audit.add_argument("--jobs", type=int, default=cores, metavar="N", help="parallel workers")
+    audit.add_argument(
+        "--fail-on",
+        default="critical",
+        choices=FAIL_CHOICES,
+        help="exit 1 when a finding is at least this severe (default: critical)",
+    )
+    audit.add_argument(
+        "--format",
+        default=None,
+        metavar="LIST",
+        help="comma-separated outputs among json,text,xlsx,sarif (default: json,text,xlsx)",
+    )
+    audit.add_argument(
+        "--bindings",
+        default=None,
+        metavar="FILE",
+        help="TOML file mapping the cells of a workbook template",
+    )
+    audit.add_argument("--timestamp", default=None, help="date shown in reports (reproducible)")
+    audit.add_argument(
+        "--baseline",
+        default=None,
+        metavar="FILE",
+        help="report only findings not recorded in FILE (from 'regaudit baseline create'), "
+        "and list recorded ones that no longer occur",
+    )
+    audit.add_argument(
+        "--waivers",
+        default=None,
+        metavar="FILE",
+        help="accepted findings (default: regaudit-waivers.toml in the audited folder, if any)",
+    )
+    audit.add_argument(
+        "--annotate",
+        action="store_true",
+        help="also write NAME.audited.xlsx into --out for each workbook with findings: a note "
+        "(message and fix) and a light fill on every flagged cell; the originals are never changed",
+    )
+    audit.add_argument(
+        "--changed",
+        action="store_true",
+        help="re-audit only files whose content changed since the last run with the same policy "
+        "and version; reuse the ledger's results for the rest (reports still cover every file)",
+    )
+    audit.add_argument(
+        "--ledger",
+        default=None,
+        metavar="FILE",
+        help="SQLite ledger of past audits (default: $REGAUDIT_LEDGER, else "
+        "~/.local/state/regaudit/ledger.sqlite)",
+    )
+    audit.add_argument("--no-ledger", action="store_true", help="record nothing in the ledger")
+    audit.add_argument(
+        "--time-limit",
+        type=float,
+        default=600.0,
+        metavar="SECONDS",
+        help="stop a file that takes longer and report it (default: 600; 0: no limit)",
+    )
+    audit.add_argument(
+        "--memory-limit",
+        type=float,
+        default=4.0,
+        metavar="GB",
+        help="stop a file whose worker needs more memory and report it (default: 4; 0: no limit)",
+    )
+    cluster_options(audit)
+    audit.set_defaults(handler=cmd_audit)
+
+    add_review_parsers(sub, cores)
+    add_plan_parser(sub)
+
+    history = sub.add_parser("history", help="show the past audits of a file from the ledger")
+    history.add_argument("file", metavar="FILE", help="a workbook audited before")
+    history.add_argument("--ledger", default=None, metavar="FILE", help="the ledger to read")
+    history.set_defaults(handler=cmd_history)
+
+    rules = sub.add_parser("rules", help="list the checks and the policy's thresholds")
+    rules.add_argument("--policy", default="general")
+    rules.set_defaults(handler=cmd_rules)
+
+    demo = sub.add_parser("demo", help="write the demo workbooks and audit them")
+    demo.add_argument("dir", nargs="?", default="regaudit-demo", metavar="DIR")
+    demo.add_argument("--policy", default="general")
+    demo.add_argument("--jobs", type=int, default=cores, metavar="N")
+    demo.add_argument("--timestamp", default=None)
+    demo.set_defaults(handler=cmd_demo)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.handler(args))
+    except (UsageError, PolicyError) as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    except RegauditError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2

@@ -1,0 +1,189 @@
+"""One audit run: inputs collected, policy and bindings loaded, workbooks audited (locally or
+on a cluster), identities, waivers and a baseline applied, reports written."""
+
+from __future__ import annotations
+
+import os
+import sys
+import tomllib
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+from auditor import __version__
+from auditor.errors import UsageError
+from auditor.model import AuditResult
+
+FORMATS = ("json", "text", "xlsx")  # written by default
+
+
+def timestamp_text(option: str | None) -> str:
+    if option:
+        return option
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch:
+        try:
+            return datetime.fromtimestamp(int(epoch), tz=UTC).isoformat(timespec="seconds")
+        except ValueError as exc:
+            raise UsageError(
+                f"SOURCE_DATE_EPOCH={epoch!r} is not a whole number of seconds"
+            ) from exc
+    return datetime.now(tz=UTC).isoformat(timespec="seconds")
+
+
+def load_bindings(path: str | None) -> list[dict[str, Any]] | None:
+    if path is None:
+        return None
+    try:
+        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
+    except FileNotFoundError as exc:
+        raise UsageError(f"bindings file {path!r} does not exist") from exc
+    except tomllib.TOMLDecodeError as exc:
+        raise UsageError(f"bindings file {path!r} is not valid TOML: {exc}") from exc
+    entries = data.get("regression", [])
+    if not isinstance(entries, list) or not entries:
+        raise UsageError(f"bindings file {path!r} needs one or more [[regression]] tables")
+    for index, entry in enumerate(entries, start=1):
+        missing = [key for key in ("x", "y") if key not in entry]
+        if missing:
+            raise UsageError(
+                f"bindings file {path!r}: [[regression]] number {index} lacks {', '.join(missing)}"
+                ' (give ranges such as x = "Data!A2:A21")'
+            )
+    return list(entries)
+
+
+def _audit_locally(
+    paths: list[Path],
+    policy: Any,
+    bindings: list[dict[str, Any]] | None,
+    jobs: int,
+    changed: bool,
+    ledger_file: str | None,
+    use_ledger: bool,
+    time_limit: float | None,
+    memory_limit_gb: float | None,
+) -> list[Any]:
+    from auditor.pipeline.batch import audit_batch
+    from auditor.pipeline.ledger import Ledger, default_ledger_path
+    from auditor.pipeline.limits import FileLimits
+
+    if changed and not use_ledger:
+        raise UsageError("--changed needs the ledger: drop --no-ledger")
+    memory = int(memory_limit_gb * 1024**3) if memory_limit_gb else None
+    limits = FileLimits(seconds=time_limit or None, memory_bytes=memory)
+    ledger = None
+    if use_ledger:
+        ledger = Ledger(Path(ledger_file) if ledger_file else default_ledger_path())
+    try:
+        return audit_batch(
+            paths,
+            policy,
+            bindings,
+            jobs=jobs,
+            ledger=ledger,
+            changed=changed,
+            limits=limits,
+            progress=True,
+        )
+    finally:
+        if ledger is not None:
+            ledger.close()
+
+
+def run_audit(
+    inputs: list[str],
+    out_dir: Path,
+    policy_name: str = "general",
+    jobs: int = 1,
+    formats: tuple[str, ...] = FORMATS,
+    bindings_file: str | None = None,
+    timestamp: str | None = None,
+    cluster: str | None = None,
+    ship_bytes: bool = False,
+    waivers_file: str | None = None,
+    baseline_file: str | None = None,
+    write: bool = True,
+    annotate: bool = False,
+    changed: bool = False,
+    ledger_file: str | None = None,
+    use_ledger: bool = True,
+    time_limit: float | None = 600.0,
+    memory_limit_gb: float | None = 4.0,
+) -> AuditResult:
+    from auditor.checks import catalogue
+    from auditor.pipeline.audit import collect_inputs
+    from auditor.policy import load_policy
+    from auditor.read.open import assert_safe_xml
+    from auditor.report import write_reports
+    from auditor.review.annotate import annotate_copies
+    from auditor.review.baseline import apply_baseline, describe_outcome, load_baseline
+    from auditor.review.identity import assign_identities, audit_root
+    from auditor.review.waivers import apply_waivers, default_waiver_file, load_waivers
+
+    assert_safe_xml()
+    policy = load_policy(policy_name)
+    bindings = load_bindings(bindings_file)
+    missing = [p for p in inputs if not Path(p).exists()]
+    if missing:
+        raise UsageError(f"no such file or folder: {', '.join(repr(m) for m in missing)}")
+    paths = collect_inputs(inputs)
+    if not paths:
+        raise UsageError(
+            f"no .xlsx or .xlsm workbooks found in {', '.join(repr(p) for p in inputs)}"
+        )
+    # Read the baseline and waivers first: a typo in them should not cost a whole audit.
+    root = audit_root(inputs)
+    waiver_path = Path(waivers_file) if waivers_file else default_waiver_file(root)
+    waivers = load_waivers(waiver_path, required=waivers_file is not None)
+    baseline = load_baseline(Path(baseline_file)) if baseline_file else None
+    if cluster:
+        from auditor.pipeline.cluster import audit_on_cluster
+
+        workbooks = audit_on_cluster(
+            paths, policy, bindings, cluster=cluster, ship_bytes=ship_bytes
+        )
+    else:
+        workbooks = _audit_locally(
+            paths,
+            policy,
+            bindings,
+            jobs,
+            changed,
+            ledger_file,
+            use_ledger,
+            time_limit,
+            memory_limit_gb,
+        )
+    result = AuditResult(
+        version=__version__,
+        policy=policy.name,
+        workbooks=workbooks,
+        generated=timestamp_text(timestamp),
+        inputs=[str(p) for p in inputs],
+        checks=catalogue(),
+    )
+    assign_identities(result, root)
+    for unused in apply_waivers(result, waivers):
+        print(
+            f"warning: {waiver_path}: the waiver of {unused.identity} ({unused.workbook} "
+            f"{unused.cell} {unused.check}) matches no finding of this run; remove it if fixed",
+            file=sys.stderr,
+        )
+    if baseline is not None:
+        outcome = apply_baseline(result, baseline, root)
+        result = outcome.result
+        for line in describe_outcome(outcome):
+            print(line)
+    if write:
+        # Copies first: the Overview lists them, and a refusal stops the run before any write.
+        copies = annotate_copies(result, out_dir, paths) if annotate else []
+        write_reports(
+            result, out_dir, list(formats), input_paths=[Path(p) for p in paths], copies=copies
+        )
+        for copy in copies:
+            if copy.error:
+                print(f"error: {copy.source}: {copy.error}", file=sys.stderr)
+            else:
+                print(f"  wrote {copy.copy}")
+    return result

@@ -1,0 +1,1 @@
+"""Agreement: the three values per statistic and the precision each is judged at."""

@@ -1,0 +1,117 @@
+"""The slope and its p-value with each observation left out, in closed form.
+
+Refitting n times costs O(n²); the leave-one-out identities of least squares give every refit
+from the full fit in O(n) (common practice; Cook & Weisberg, "Residuals and Influence in
+Regression", from memory). With c_i = x_i − x̄ (x_i through the origin), residual e_i and
+leverage h_i:
+
+    b1(−i)  = b1 − c_i·e_i / (Sxx·(1 − h_i))
+    SSE(−i) = SSE − e_i² / (1 − h_i)
+    Sxx(−i) = Sxx − c_i²·n/(n − 1)      (Sxx − c_i² through the origin)
+
+and SE, t, p follow with df − 1. A point of leverage 1 cannot be left out: without it the other
+x values are all equal and no slope exists. tests/test_design_dropone.py checks these against
+statsmodels' leave-one-out refits.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import stats as sps
+
+from auditor.fit.ols import FitResult
+
+# Leverage within this of 1: the point is the only one away from the others' common x.
+LEVERAGE_ONE = 1e-9
+
+
+@dataclass(frozen=True)
+class DropOne:
+    slope_min: float | None
+    slope_max: float | None
+    p_min: float | None
+    p_max: float | None
+    p_min_row: int | None  # the row whose removal gives the smallest p
+    p_max_row: int | None
+    crossing_rows: int  # rows whose removal moves p across alpha
+    crossing_row: int | None  # of those, the one that moves p furthest
+    crossing_p: float | None  # p without that row
+    undefined_row: int | None  # a row without which the slope is undefined (leverage 1)
+    sign_flip_row: int | None  # a row without which the slope changes sign
+
+
+def leave_one_out(
+    x: np.ndarray, fit: FitResult
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Per observation: slope, SE, t and two-sided p with it left out (NaN where undefined)."""
+    n = x.size
+    e, h = fit.residuals, fit.leverage
+    centred = x - fit.x_mean if fit.intercept else x
+    slope = np.full(n, np.nan)
+    se = np.full(n, np.nan)
+    t = np.full(n, np.nan)
+    p = np.full(n, np.nan)
+    df = fit.df - 1
+    keep = h < 1.0 - LEVERAGE_ONE
+    if df < 1 or not np.any(keep):
+        return slope, se, t, p
+    one_minus_h = 1.0 - h[keep]
+    b1 = float(fit.slopes[0])
+    slope[keep] = b1 - centred[keep] * e[keep] / (fit.sxx * one_minus_h)
+    sse = np.maximum(fit.ss_residual - e[keep] ** 2 / one_minus_h, 0.0)
+    factor = n / (n - 1) if fit.intercept else 1.0
+    sxx = fit.sxx - centred[keep] ** 2 * factor
+    positive = sxx > 1e-12 * fit.sxx
+    se_keep = np.full(sse.shape, np.nan)
+    se_keep[positive] = np.sqrt(sse[positive] / df / sxx[positive])
+    se[keep] = se_keep
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t_keep = np.where(se_keep > 0.0, slope[keep] / se_keep, np.nan)
+    t[keep] = t_keep
+    p_keep = np.where(np.isfinite(t_keep), 2.0 * sps.t.sf(np.abs(t_keep), df), np.nan)
+    # An exact fit without the point: SE 0 and a non-zero slope leave no doubt (p = 0).
+    exact = (se_keep == 0.0) & (slope[keep] != 0.0)
+    p_keep[exact] = 0.0
+    p[keep] = p_keep
+    return slope, se, t, p
+
+
+def drop_one(
+    x: np.ndarray, y: np.ndarray, fit: FitResult, rows: list[int], alpha: float
+) -> DropOne | None:
+    """How far the slope and p move when any one observation is left out."""
+    del y  # the residuals of the fit carry what is needed
+    if fit.df < 2 or len(fit.residuals) != x.size:
+        return None
+    slope, _, _, p = leave_one_out(x, fit)
+    h = fit.leverage
+    undefined = [rows[i] for i in range(x.size) if h[i] >= 1.0 - LEVERAGE_ONE]
+    finite_p = np.isfinite(p)
+    finite_b = np.isfinite(slope)
+    full_p = float(fit.p_slopes[0])
+    b1 = float(fit.slopes[0])
+    significant = full_p < alpha
+    crossing = [i for i in range(x.size) if finite_p[i] and (p[i] < alpha) != significant]
+    crossing_row: int | None = None
+    crossing_p: float | None = None
+    if crossing:
+        pick = max(crossing, key=lambda i: abs(math.log10(max(float(p[i]), 1e-300) / alpha)))
+        crossing_row, crossing_p = rows[pick], float(p[pick])
+    flips = [i for i in range(x.size) if finite_b[i] and slope[i] * b1 < 0.0]
+    flip_row = rows[max(flips, key=lambda i: abs(slope[i]))] if flips else None
+    return DropOne(
+        slope_min=float(np.min(slope[finite_b])) if finite_b.any() else None,
+        slope_max=float(np.max(slope[finite_b])) if finite_b.any() else None,
+        p_min=float(np.min(p[finite_p])) if finite_p.any() else None,
+        p_max=float(np.max(p[finite_p])) if finite_p.any() else None,
+        p_min_row=rows[int(np.nanargmin(p))] if finite_p.any() else None,
+        p_max_row=rows[int(np.nanargmax(p))] if finite_p.any() else None,
+        crossing_rows=len(crossing),
+        crossing_row=crossing_row,
+        crossing_p=crossing_p,
+        undefined_row=undefined[0] if undefined else None,
+        sign_flip_row=flip_row,
+    )

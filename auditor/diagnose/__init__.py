@@ -1,0 +1,1 @@
+"""Diagnosis: which named mistake reproduces a reported number."""

@@ -1,0 +1,142 @@
+"""Row-subset and stale-value mistakes in the reviewer's words.
+
+:mod:`auditor.diagnose.rowsearch` finds the rows that reproduce a reported number; this module says
+which mistake those rows are (a total row taken in, a number stored as text skipped, ranges that
+stop short, a value pasted before rows changed) and how to fix it. A typed or stale stored value
+that nothing reproduces is explained by :func:`stale_fallback`.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from auditor.diagnose.basis import Basis, Candidate, Evidence, g, pair, stat_name
+from auditor.diagnose.rowsearch import BoolArray, RowTable, rows_text
+from auditor.model import ReportedValue
+
+if TYPE_CHECKING:  # only annotations: the checks package imports auditor.diagnose.engine (no cycle)
+    from auditor.checks.base import RegressionContext
+
+# A formula over the whole table for each statistic a stale value should be replaced by.
+FORMULAS = {
+    "slope": "=SLOPE({y}, {x})",
+    "intercept": "=INTERCEPT({y}, {x})",
+    "residual_sd": "=STEYX({y}, {x})",
+    "r_squared": "=RSQ({y}, {x})",
+    "n": "=COUNT({x})",
+    "se_slope": "=STEYX({y}, {x})/SQRT(DEVSQ({x}))",
+    "df": "=COUNT({x})-2",
+}
+
+
+def stale_fallback(
+    value: ReportedValue, context: RegressionContext, basis: Basis, reported: float
+) -> Candidate:
+    name = stat_name(basis.stat, basis.j, context.fit.k)
+    intended = g(value.intended) if value.intended is not None else "no value"
+    if value.source in ("typed", "text"):
+        formula = FORMULAS.get(basis.stat, "a formula over {y} and {x}")
+        message = (
+            f"the typed {name} {g(reported)} matches no computation from the current data "
+            f"(the {context.data.n} rows give {intended}; no slip in a formula and no rows left "
+            "out give it): it was typed or pasted before the data changed"
+        )
+        fix = (
+            f"replace the typed value by {formula.format(y=basis.y_range, x=basis.x_range)}, "
+            "so that it follows the data"
+        )
+    else:
+        message = (
+            f"the stored {name} {g(reported)} is out of date: its formula {value.formula} now "
+            f"gives {g(value.as_written or math.nan)} (the intended value is {intended})"
+        )
+        fix = "recalculate the workbook (or re-enter the formula) and re-check the figures"
+    return Candidate("stale-value", reported, message, fix, {"matched": "no current computation"})
+
+
+def subset_candidate(
+    mask: BoolArray,
+    table: RowTable,
+    value: ReportedValue,
+    context: RegressionContext,
+    basis: Basis,
+    exact: float,
+    stale: bool,
+) -> Candidate:
+    rows = np.array(table.rows)
+    left_out = [int(r) for r in rows[table.used & ~mask]]
+    added = [int(r) for r in rows[~table.used & mask]]
+    totals = [int(r) for r in rows[~table.used & mask & table.total]]
+    texts = [int(r) for r in rows[table.used & ~mask & table.text]]
+    name = stat_name(basis.stat, basis.j, context.fit.k)
+    shown, intended = pair(exact, value.intended if value.intended is not None else math.nan)
+    n = context.data.n
+    ranges = f"{basis.y_range} and {basis.x_range}"
+    evidence: Evidence = {
+        "rows_left_out": rows_text(left_out) if left_out else "",
+        "rows_added": rows_text(added) if added else "",
+        "n_used": int(mask.sum()),
+    }
+    if totals:
+        message = (
+            f"the ranges take in the total {rows_text(totals)}: with it the {name} is "
+            f"{shown}; the {n} data rows give {intended}"
+        )
+        return Candidate(
+            "total-row", exact, message, f"end the ranges above the total row: {ranges}", evidence
+        )
+    if texts:
+        cells = [cell for cell, _ in context.data.parsed if _row_of(cell) in texts]
+        where = ", ".join(cells) or rows_text(texts)
+        message = (
+            f"{where} holds a number stored as text, which SLOPE, INTERCEPT, STEYX and RSQ "
+            f"skip: without {rows_text(texts)} the {name} is {shown}; with it read as "
+            f"a number, {intended}"
+        )
+        fix = f"convert {where} to a number (re-type it), so that every formula sees it"
+        return Candidate("text-number", exact, message, fix, evidence)
+    if left_out and not added and stale:
+        word = "stored" if value.source == "stored" else "typed"
+        message = (
+            f"the {word} {name} {shown} matches the data without {rows_text(left_out)} "
+            f"(added or changed later?); all {n} rows give {intended}"
+        )
+        formula = FORMULAS.get(basis.stat, "a formula over {y} and {x}")
+        fix = (
+            f"replace the value by {formula.format(y=basis.y_range, x=basis.x_range)}, so "
+            "that it follows the data"
+        )
+        return Candidate("stale-value", exact, message, fix, evidence)
+    if left_out and not added:
+        kept = [int(r) for r in rows[mask]]
+        if all(r > kept[-1] for r in left_out):
+            where = f"the ranges stop at row {kept[-1]}"
+        elif all(r < kept[0] for r in left_out):
+            where = f"the ranges start at row {kept[0]}"
+        else:
+            where = f"the ranges cover rows {kept[0]}–{kept[-1]} only"
+        message = (
+            f"{where}, leaving out {rows_text(left_out)}: over the {len(kept)} rows left "
+            f"the {name} is {shown}; the whole table ({n} rows) gives {intended}"
+        )
+        return Candidate(
+            "range-short",
+            exact,
+            message,
+            f"extend the ranges to the whole table: {ranges}",
+            evidence,
+        )
+    message = (
+        f"the {name} {shown} is the fit over {rows_text([int(r) for r in rows[mask]])}"
+        f", not over the table's {n} rows ({intended})"
+    )
+    return Candidate("range-mismatch", exact, message, f"make every formula use {ranges}", evidence)
+
+
+def _row_of(cell: str) -> int:
+    digits = re.search(r"(\d+)$", cell)
+    return int(digits.group(1)) if digits else -1

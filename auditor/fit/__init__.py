@@ -1,0 +1,1 @@
+"""Independent least squares: solving, inference, influence."""

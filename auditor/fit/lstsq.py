@@ -1,0 +1,206 @@
+"""Least-squares solving: coefficients, residuals and leverage, computed without cancellation.
+
+One x column uses two-pass centred sums with ``math.fsum``; several use a QR factorisation of the
+centred design (never the normal equations). Degenerate designs give a :class:`Solution` whose
+``status`` says why the coefficients are undefined; :mod:`auditor.fit.ols` builds the statistics.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import NDArray
+
+FloatArray = NDArray[np.float64]
+
+
+@dataclass
+class Solution:
+    """The coefficients of a fit and what the statistics are built from."""
+
+    status: str  # "ok", or why the coefficients are undefined
+    message: str
+    slopes: FloatArray
+    intercept_value: float
+    g_diag: FloatArray  # diagonal of (Xc'Xc)^-1: SE(b_j) = s * sqrt(g_diag[j])
+    intercept_factor: float  # SE(b0) = s * sqrt(intercept_factor)
+    fitted: FloatArray
+    residuals: FloatArray
+    leverage: FloatArray
+    ss_regression: float
+    ss_total: float  # centred with an intercept, uncentred without
+    sxx: float
+    x_mean: float
+    y_mean: float
+
+
+# |R_jj| at or below this share of the column's own norm: column j lies in the span of the earlier
+# columns (and the constant) to within rounding, so its slope cannot be separated from theirs.
+COLLINEAR_RATIO = 1e-10
+
+
+def _mean(values: FloatArray) -> float:
+    """Mean by fsum, refined by a second pass over the deviations (two-pass algorithm)."""
+    if values.size == 0:
+        return math.nan
+    first = math.fsum(values) / values.size
+    return first + math.fsum(values - first) / values.size
+
+
+def solve_centred(x: FloatArray, y: FloatArray, intercept: bool) -> Solution:
+    n, k = x.shape
+    y_mean = _mean(y)
+    x_mean = _mean(x[:, 0]) if k == 1 else math.nan
+    need = k + (1 if intercept else 0)
+    if n < need:
+        what = "a line" if k == 1 else f"{k} slopes"
+        const = " with an intercept" if intercept else " through the origin"
+        return _undefined(
+            "too-few-points",
+            f"{n} point{'' if n == 1 else 's'} cannot determine {what}{const}: at least {need} "
+            f"are needed for the coefficients and {need + 1} for their standard errors",
+            k,
+            intercept,
+            x_mean,
+            y_mean,
+        )
+    constant = _constant_column_message(x, intercept)
+    if constant:
+        undefined = _undefined("constant-x", constant, k, intercept, x_mean, y_mean)
+        if k == 1:
+            undefined.sxx = 0.0  # a true fact, and what design checks need to say "no spread"
+        return undefined
+    y_c = y - y_mean if intercept else y
+    ss_total = math.fsum(y_c * y_c)
+    if k == 1:
+        return _solve_simple(x[:, 0], y, y_c, intercept, x_mean, y_mean, ss_total)
+    return _solve_qr(x, y, y_c, intercept, y_mean, ss_total)
+
+
+def _undefined(
+    status: str, message: str, k: int, intercept: bool, x_mean: float, y_mean: float
+) -> Solution:
+    nothing = np.zeros(0)
+    return Solution(
+        status=status,
+        message=message,
+        slopes=np.full(k, np.nan),
+        intercept_value=math.nan if intercept else 0.0,
+        g_diag=np.full(k, np.nan),
+        intercept_factor=math.nan,
+        fitted=nothing,
+        residuals=nothing,
+        leverage=nothing,
+        ss_regression=math.nan,
+        ss_total=math.nan,
+        sxx=math.nan,
+        x_mean=x_mean,
+        y_mean=y_mean,
+    )
+
+
+def _constant_column_message(x: FloatArray, intercept: bool) -> str:
+    n, k = x.shape
+    for j in range(k):
+        column = x[:, j]
+        label = "x" if k == 1 else f"x column {j + 1}"
+        if intercept and np.all(column == column[0]):
+            return (
+                f"all {n} {label} values are equal ({float(column[0])!r}): the slope is undefined"
+            )
+        if not intercept and not np.any(column):
+            return f"all {n} {label} values are 0: a line through the origin has no slope to fit"
+    return ""
+
+
+def _solve_simple(
+    x: FloatArray,
+    y: FloatArray,
+    y_c: FloatArray,
+    intercept: bool,
+    x_mean: float,
+    y_mean: float,
+    ss_total: float,
+) -> Solution:
+    x_c = x - x_mean if intercept else x
+    sxx = math.fsum(x_c * x_c)
+    sxy = math.fsum(x_c * y_c)
+    slope = sxy / sxx
+    intercept_value = y_mean - slope * x_mean if intercept else 0.0
+    # Residuals from the centred quantities: no cancellation against a large offset in x or y.
+    residuals = y_c - slope * x_c
+    leverage = x_c * x_c / sxx + (1.0 / x.size if intercept else 0.0)
+    return Solution(
+        status="ok",
+        message="",
+        slopes=np.array([slope]),
+        intercept_value=intercept_value,
+        g_diag=np.array([1.0 / sxx]),
+        intercept_factor=(1.0 / x.size + x_mean * x_mean / sxx) if intercept else math.nan,
+        fitted=y - residuals,
+        residuals=residuals,
+        leverage=leverage,
+        ss_regression=sxy * sxy / sxx,
+        ss_total=ss_total,
+        sxx=sxx,
+        x_mean=x_mean,
+        y_mean=y_mean,
+    )
+
+
+def _solve_qr(
+    x: FloatArray,
+    y: FloatArray,
+    y_c: FloatArray,
+    intercept: bool,
+    y_mean: float,
+    ss_total: float,
+) -> Solution:
+    n, k = x.shape
+    means = np.array([_mean(x[:, j]) for j in range(k)]) if intercept else np.zeros(k)
+    x_c = x - means
+    q, r = np.linalg.qr(x_c)  # reduced: q (n, k), r (k, k) upper triangular
+    norms = np.sqrt(np.einsum("ij,ij->j", x_c, x_c))
+    for j in range(1, k):
+        if abs(r[j, j]) <= COLLINEAR_RATIO * norms[j]:
+            others = "x column 1" if j == 1 else f"x columns 1-{j}"
+            const = " and the constant" if intercept else ""
+            return _undefined(
+                "collinear",
+                f"x column {j + 1} is a linear combination of {others}{const}: "
+                "their slopes cannot be told apart",
+                k,
+                intercept,
+                math.nan,
+                y_mean,
+            )
+    qty = q.T @ y_c
+    slopes = np.linalg.solve(r, qty) if k > 0 else np.zeros(0)
+    r_inv = np.linalg.solve(r, np.eye(k))  # R^-1, so (Xc'Xc)^-1 = R^-1 R^-T
+    g_diag = np.einsum("ij,ij->i", r_inv, r_inv)
+    intercept_factor = math.nan
+    intercept_value = 0.0
+    if intercept:
+        projected = r_inv.T @ means  # x̄' (Xc'Xc)^-1 x̄ = |R^-T x̄|²
+        intercept_factor = 1.0 / n + float(projected @ projected)
+        intercept_value = y_mean - math.fsum(slopes * means)
+    residuals = y_c - x_c @ slopes
+    leverage = np.einsum("ij,ij->i", q, q) + (1.0 / n if intercept else 0.0)
+    return Solution(
+        status="ok",
+        message="",
+        slopes=slopes,
+        intercept_value=intercept_value,
+        g_diag=g_diag,
+        intercept_factor=intercept_factor,
+        fitted=y - residuals,
+        residuals=residuals,
+        leverage=leverage,
+        ss_regression=math.fsum(qty * qty),
+        ss_total=ss_total,
+        sxx=math.nan,
+        x_mean=math.nan,
+        y_mean=y_mean,
+    )

@@ -1,0 +1,1 @@
+"""Formula text: tokens, the syntax tree, the one A1 <-> R1C1 converter."""

@@ -1,0 +1,147 @@
+"""The syntax tree of a formula: references, literals, calls and operators, and walks over it."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass
+
+from auditor.read.workbook import column_letter
+
+SHEET_ROWS = 1_048_576  # the xlsx grid; used for whole columns when no workbook is known
+SHEET_COLS = 16_384
+
+
+@dataclass(frozen=True)
+class Ref:
+    """A rectangular block of cells on one sheet (rows and columns 1-based, inclusive)."""
+
+    sheet: str
+    r1: int
+    c1: int
+    r2: int
+    c2: int
+    whole_column: bool = False
+    external: str | None = None  # "[1]" or "[other.xlsx]": a block in another workbook
+    whole_row: bool = False
+
+    @property
+    def is_cell(self) -> bool:
+        return self.r1 == self.r2 and self.c1 == self.c2
+
+    @property
+    def rows(self) -> int:
+        return self.r2 - self.r1 + 1
+
+    @property
+    def cols(self) -> int:
+        return self.c2 - self.c1 + 1
+
+    @property
+    def address(self) -> str:
+        start = f"{column_letter(self.c1)}{self.r1}"
+        end = f"{column_letter(self.c2)}{self.r2}"
+        span = start if self.is_cell else f"{start}:{end}"
+        return f"{self.external or ''}{self.sheet}!{span}"
+
+
+@dataclass(frozen=True)
+class Number:
+    value: float
+
+
+@dataclass(frozen=True)
+class Text:
+    value: str
+
+
+@dataclass(frozen=True)
+class Bool:
+    value: bool
+
+
+@dataclass(frozen=True)
+class ErrorLit:
+    code: str
+
+
+@dataclass(frozen=True)
+class Missing:
+    """An argument left empty, as in ``LINEST(y, x, , TRUE)``."""
+
+
+@dataclass(frozen=True)
+class RefNode:
+    ref: Ref
+
+
+@dataclass(frozen=True)
+class NameNode:
+    """A name that could not be resolved: undefined, a structured table reference, or external."""
+
+    name: str
+    external: str | None = None
+
+
+@dataclass(frozen=True)
+class Call:
+    name: str  # upper case, without the _xlfn. / _xlws. storage prefixes
+    args: tuple[Node, ...]
+
+
+@dataclass(frozen=True)
+class Unary:
+    op: str  # "-" or "+"
+    operand: Node
+
+
+@dataclass(frozen=True)
+class Binary:
+    op: str  # + - * / ^ & = <> < <= > >= and ":" (range), " " (intersection), "," (union)
+    left: Node
+    right: Node
+
+
+@dataclass(frozen=True)
+class Percent:
+    operand: Node
+
+
+@dataclass(frozen=True)
+class ArrayNode:
+    """An array constant such as ``{1,2;3,4}``: rows of element nodes."""
+
+    rows: tuple[tuple[Node, ...], ...]
+
+
+Node = (
+    Number | Text | Bool | ErrorLit | Missing | RefNode | NameNode | Call | Unary | Binary | Percent
+) | ArrayNode
+
+
+def children(node: Node) -> tuple[Node, ...]:
+    if isinstance(node, Call):
+        return node.args
+    if isinstance(node, Unary | Percent):
+        return (node.operand,)
+    if isinstance(node, Binary):
+        return (node.left, node.right)
+    if isinstance(node, ArrayNode):
+        return tuple(item for row in node.rows for item in row)
+    return ()
+
+
+def walk(node: Node) -> Iterator[Node]:
+    """Every node, depth-first, a parent before its children (iterative: trees can be deep)."""
+    stack = [node]
+    while stack:
+        current = stack.pop()
+        yield current
+        stack.extend(reversed(children(current)))
+
+
+def references(node: Node) -> list[Ref]:
+    return [n.ref for n in walk(node) if isinstance(n, RefNode)]
+
+
+def calls(node: Node) -> list[Call]:
+    return [n for n in walk(node) if isinstance(n, Call)]

@@ -1,0 +1,108 @@
+"""Formula text -> a small syntax tree of calls, references and operators.
+
+Built on openpyxl's :class:`~openpyxl.formula.tokenizer.Tokenizer`, which splits the text but
+leaves references whole (``'My Data'!$B$2:$B$9``) and knows nothing of precedence. This module
+splits what the tokenizer glues together, resolves defined names against the workbook and builds
+the tree with the spreadsheet's operator precedence (binding tightest first)::
+
+    :  (range)   ' ' (intersection)   - + (prefix)   %   ^   * /   + -   &   = <> < <= > >=
+
+Unary minus binds tighter than ``^`` (``=-2^2`` is 4) and ``^`` is left-associative, as in the
+spreadsheet applications. Whole columns (``A:A``) become explicit row spans ending at the sheet's
+last used row, so that no reader of the tree sees a million-row reference.
+
+The tree is defined in :mod:`auditor.formula.nodes`, the tokens in
+:mod:`auditor.formula.tokens` and the parser in :mod:`auditor.formula.parser`; this module
+is the interface to import from, and keeps the parse caches.
+"""
+
+from __future__ import annotations
+
+import weakref
+from functools import lru_cache
+from typing import TYPE_CHECKING
+
+from auditor.formula.nodes import (
+    SHEET_COLS,
+    SHEET_ROWS,
+    ArrayNode,
+    Binary,
+    Bool,
+    Call,
+    ErrorLit,
+    Missing,
+    NameNode,
+    Node,
+    Number,
+    Percent,
+    Ref,
+    RefNode,
+    Text,
+    Unary,
+    calls,
+    children,
+    references,
+    walk,
+)
+from auditor.formula.parser import _Context, _parse_now
+
+if TYPE_CHECKING:
+    from auditor.read.workbook import Workbook
+
+__all__ = [
+    "SHEET_COLS",
+    "SHEET_ROWS",
+    "ArrayNode",
+    "Binary",
+    "Bool",
+    "Call",
+    "ErrorLit",
+    "Missing",
+    "NameNode",
+    "Node",
+    "Number",
+    "Percent",
+    "Ref",
+    "RefNode",
+    "Text",
+    "Unary",
+    "calls",
+    "children",
+    "parse",
+    "references",
+    "walk",
+]
+
+
+@lru_cache(maxsize=4096)
+def _parse_free(text: str, sheet: str) -> Node:
+    return _parse_now(_Context(text, sheet, None))
+
+
+# Per-workbook caches, keyed by id() because Workbook (a mutable dataclass) is unhashable;
+# a finaliser drops a cache when its workbook is collected.
+_BOOK_CACHES: dict[int, dict[tuple[str, str], Node]] = {}
+
+
+def _book_cache(workbook: Workbook) -> dict[tuple[str, str], Node]:
+    key = id(workbook)
+    cache = _BOOK_CACHES.get(key)
+    if cache is None:
+        cache = _BOOK_CACHES[key] = {}
+        weakref.finalize(workbook, _BOOK_CACHES.pop, key, None)
+    return cache
+
+
+def parse(text: str, sheet: str, workbook: Workbook | None = None) -> Node:
+    """Parse formula ``text`` (with or without '=') written on ``sheet``.
+
+    With a workbook, defined names become the nodes they refer to (sheet scope first) and whole
+    columns end at the sheet's last used row. Raises FormulaError on text that cannot be parsed.
+    """
+    if workbook is None:
+        return _parse_free(text, sheet)
+    cache = _book_cache(workbook)
+    node = cache.get((text, sheet))
+    if node is None:
+        node = cache[(text, sheet)] = _parse_now(_Context(text, sheet, workbook))
+    return node

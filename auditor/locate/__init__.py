@@ -1,0 +1,1 @@
+"""Locating regressions: one recogniser per form, grouping, the roles of statistic cells."""

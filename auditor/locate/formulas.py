@@ -1,0 +1,283 @@
+"""Regressions found by their formulas: the calls, then the cells built on them."""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+from auditor.errors import FormulaError
+from auditor.formula.syntax import Binary, Call, Node, RefNode, parse, references, walk
+from auditor.locate.grouping import PairGroups, adopt_strays, primary_pair
+from auditor.locate.roles import (
+    linest_block_role,
+    linest_index_role,
+    role_from_label,
+    role_from_shape,
+)
+from auditor.locate.spec import (
+    MAX_FOLLOW_ROUNDS,
+    PairUse,
+    RegressionSpec,
+    StatCell,
+    label_for,
+    literal_int,
+    overlaps,
+    pair_uses,
+)
+from auditor.model import STAT_KEYS, stat_base
+from auditor.read.workbook import Cell, Workbook
+
+
+class FormulaLocator:
+    """Parses every formula once and finds regressions from the calls that name their data."""
+
+    def __init__(self, workbook: Workbook, bindings: list[dict[str, Any]] | None = None):
+        self.workbook = workbook
+        self.bindings = bindings or []
+        self.parsed: dict[tuple[str, int, int], Node] = {}
+        self.parse_errors: list[tuple[Cell, str]] = []
+        for cell in workbook.formula_cells():
+            try:
+                self.parsed[(cell.sheet, cell.row, cell.col)] = parse(
+                    cell.formula or "", cell.sheet, workbook
+                )
+            except FormulaError as exc:
+                self.parse_errors.append((cell, str(exc)))
+
+    def node(self, cell: Cell) -> Node | None:
+        return self.parsed.get((cell.sheet, cell.row, cell.col))
+
+    # -- formulas ---------------------------------------------------------------------------
+    def from_formulas(self) -> list[RegressionSpec]:
+        uses: list[PairUse] = []
+        for key, node in self.parsed.items():
+            cell = self.workbook.cell(*key)
+            if cell is not None:
+                uses.extend(pair_uses(cell, node))
+        groups = adopt_strays(PairGroups(uses).groups())
+        self.anchor_cells = {(u.cell.sheet, u.cell.row, u.cell.col) for u in uses}
+        specs = []
+        for group in groups:
+            x, y = primary_pair(group)
+            intercept = (
+                all(u.intercept for u in group if u.function == "LINEST")
+                if any(u.function == "LINEST" for u in group)
+                else True
+            )
+            first = min(group, key=lambda u: (u.cell.sheet, u.cell.row, u.cell.col)).cell
+            spec = RegressionSpec(
+                id=f"{first.sheet}/{first.coord}",
+                sheet=first.sheet,
+                x=x,
+                y=y,
+                intercept=intercept,
+                found_by="formulas",
+                uses=group,
+            )
+            self._assign_anchor_roles(spec)
+            self._follow_dependents(spec)
+            specs.append(spec)
+        return specs
+
+    def _put(self, spec: RegressionSpec, key: str | None, stat: StatCell) -> None:
+        """Attach a statistic cell; a second cell holding the same statistic gets ``key@A1``."""
+        if key is None or not (key in STAT_KEYS or re.match(r"^[a-z_]+\[\d+\]$", key)):
+            return
+        if any(s.cell.address == stat.cell.address for s in spec.stats.values()):
+            return
+        if key in spec.stats:
+            key = f"{key}@{stat.cell.coord}"
+        stat.key = key
+        stat.label = stat.label or label_for(self.workbook, stat.cell) or ""
+        spec.stats[key] = stat
+
+    def _assign_anchor_roles(self, spec: RegressionSpec) -> None:
+        k = spec.x_columns
+        for use in sorted(spec.uses, key=lambda u: (u.cell.row, u.cell.col)):
+            cell, node = use.cell, self.node(use.cell)
+            if node is None:
+                continue
+            if use.function == "LINEST" and cell.array_ref:
+                self._assign_block(spec, cell, k, use.intercept)
+                continue
+            role = linest_index_role(node, k, use.intercept) or role_from_shape(node)
+            if role in (None, "p", "t_critical_or_ci"):
+                role = self._role_of_dependent(spec, cell, node)
+            self._put(spec, role, StatCell(role or "", cell, "formula"))
+
+    def _assign_block(self, spec: RegressionSpec, anchor: Cell, k: int, intercept: bool) -> None:
+        bounds = self.workbook.array_anchors.get((anchor.sheet, anchor.row, anchor.col))
+        if bounds is None:
+            return
+        r1, c1, r2, c2 = bounds
+        for r in range(r1, r2 + 1):
+            for c in range(c1, c2 + 1):
+                role = linest_block_role(r - r1 + 1, c - c1 + 1, k, intercept)
+                cell = self.workbook.cell(anchor.sheet, r, c) or Cell(anchor.sheet, r, c, None)
+                cell_with_formula = Cell(
+                    cell.sheet,
+                    r,
+                    c,
+                    cell.value,
+                    anchor.formula,
+                    cell.number_format,
+                    anchor.array_ref,
+                )
+                self._put(
+                    spec,
+                    role,
+                    StatCell(
+                        role or "",
+                        cell_with_formula,
+                        "linest-block",
+                        (r - r1, c - c1),
+                        column_header=self._text_above(anchor.sheet, r1, c),
+                    ),
+                )
+
+    def _text_above(self, sheet_name: str, row: int, col: int) -> str:
+        """The nearest text within three rows above a cell (a column header of a block)."""
+        sheet = self.workbook.sheet(sheet_name)
+        for r in range(row - 1, max(0, row - 4), -1):
+            value = sheet.value(r, col) if sheet is not None else None
+            if isinstance(value, str) and value.strip():
+                return value
+        return ""
+
+    def x_headers(self, spec: RegressionSpec) -> list[str]:
+        return [
+            self._text_above(spec.x.sheet, spec.x.r1, c) for c in range(spec.x.c1, spec.x.c2 + 1)
+        ]
+
+    def _stat_addresses(self, spec: RegressionSpec) -> dict[tuple[str, int, int], str]:
+        out = {}
+        for key, stat in spec.stats.items():
+            out[(stat.cell.sheet.lower(), stat.cell.row, stat.cell.col)] = key
+        for use in spec.uses:
+            out.setdefault((use.cell.sheet.lower(), use.cell.row, use.cell.col), "")
+        return out
+
+    def _refs_roles(self, spec: RegressionSpec, node: Node) -> set[str]:
+        known = self._stat_addresses(spec)
+        found = set()
+        for ref in references(node):
+            for r in range(ref.r1, min(ref.r2, ref.r1 + 10) + 1):
+                for c in range(ref.c1, ref.c2 + 1):
+                    key = known.get((ref.sheet.lower(), r, c))
+                    if key is not None:
+                        found.add(key)
+        return found
+
+    def _picked(self, spec: RegressionSpec, node: Node) -> str | None:
+        """The statistic a sub-expression stands for: a stat cell, or INDEX over a LINEST block."""
+        keys = self._stat_addresses(spec)
+        if isinstance(node, RefNode) and node.ref.is_cell:
+            return keys.get((node.ref.sheet.lower(), node.ref.r1, node.ref.c1)) or None
+        if isinstance(node, Call) and node.name == "INDEX" and len(node.args) >= 2:
+            target = node.args[0]
+            if isinstance(target, Call) and target.name == "LINEST":
+                return linest_index_role(node, spec.x_columns, spec.intercept)
+            if isinstance(target, RefNode):
+                row = literal_int(node.args[1])
+                col = literal_int(node.args[2]) if len(node.args) > 2 else 1
+                if row is None or col is None:
+                    return None
+                r, c = target.ref.r1 + row - 1, target.ref.c1 + col - 1
+                return keys.get((target.ref.sheet.lower(), r, c)) or None
+        return None
+
+    def _t_keys_in(self, spec: RegressionSpec, node: Node) -> list[str]:
+        found = []
+        for sub in walk(node):
+            key = self._picked(spec, sub)
+            if key and stat_base(key).startswith("t_"):
+                found.append(stat_base(key))
+        return found
+
+    def _role_of_dependent(self, spec: RegressionSpec, cell: Cell, node: Node) -> str | None:
+        label = label_for(self.workbook, cell)
+        label_role = role_from_label(label) if label else None
+        shape = role_from_shape(node)
+        used = {stat_base(k) for k in self._refs_roles(spec, node)}
+        if shape == "p":
+            t_keys = self._t_keys_in(spec, node)
+            if t_keys:
+                return "p_" + t_keys[0][2:]
+            if label_role == "p_intercept" or ("t_intercept" in used and "t_slope" not in used):
+                return "p_intercept"
+            return "p_slope"
+        if shape == "t_critical_or_ci":
+            if "slope" in used:
+                if label_role in ("ci_slope_low", "ci_slope_high"):
+                    return label_role
+                top = node if isinstance(node, Binary) else None
+                return "ci_slope_low" if top is not None and top.op == "-" else "ci_slope_high"
+            return None
+        if shape is not None:
+            return shape
+        if label_role in ("t_critical",):
+            return None
+        picked = self._picked(spec, node) if isinstance(node, Call) else None
+        if picked is not None:
+            return stat_base(picked)  # INDEX(block, r, c) repeats a statistic of the block
+        if isinstance(node, Binary) and node.op == "/":
+            numerator = self._picked(spec, node.left)
+            denominator = self._picked(spec, node.right) or role_from_shape(node.right) or ""
+            right_used = {stat_base(k) for k in self._refs_roles(spec, node.right)}
+            se_like = stat_base(denominator).startswith("se_") or any(
+                k.startswith("se_") for k in right_used
+            )
+            if numerator is not None and se_like:
+                base = stat_base(numerator)
+                if base.startswith("slope") or base.startswith("intercept"):
+                    return "t_" + base
+        return label_role
+
+    def _follow_dependents(self, spec: RegressionSpec) -> None:
+        data = [spec.x, spec.y]  # not the stray calls' ranges: those belong to a neighbour
+        taken = {(s.cell.sheet, s.cell.row, s.cell.col) for s in spec.stats.values()}
+        taken |= {(u.cell.sheet, u.cell.row, u.cell.col) for u in spec.uses}
+        for _ in range(MAX_FOLLOW_ROUNDS):
+            added = False
+            for key, node in self.parsed.items():
+                if key in taken or key in self.anchor_cells:
+                    continue  # another regression's own call is never a dependent of this one
+                cell = self.workbook.cell(*key)
+                if cell is None:
+                    continue
+                touches_stats = bool(self._refs_roles(spec, node))
+                touches_data = any(
+                    overlaps(ref, d) for ref in references(node) for d in data
+                ) and key[0].lower() in {spec.sheet.lower(), spec.x.sheet.lower()}
+                if not (touches_stats or touches_data):
+                    continue
+                if touches_data and not touches_stats and not self._near(spec, cell):
+                    continue
+                role = self._role_of_dependent(spec, cell, node)
+                taken.add(key)
+                label = label_for(self.workbook, cell)
+                if (
+                    role
+                    and role in spec.stats
+                    and role_from_label(label or "") != role
+                    and not role.startswith(("se_", "t_"))
+                    and not (isinstance(node, Call) and node.name == "INDEX")
+                ):
+                    continue  # a second p or count counts only when labelled so; SE and t
+                    # built by hand are unambiguous shapes
+                if role:
+                    self._put(spec, role, StatCell(role, cell, "formula"))
+                    added = True
+            if not added:
+                break
+
+    def _near(self, spec: RegressionSpec, cell: Cell) -> bool:
+        """A data-only formula (COUNT(x)-2) belongs to the block it sits in."""
+        for stat in spec.stats.values():
+            if (
+                stat.cell.sheet == cell.sheet
+                and abs(stat.cell.row - cell.row) <= 8
+                and abs(stat.cell.col - cell.col) <= 4
+            ):
+                return True
+        return False

@@ -1,0 +1,159 @@
+"""The audit of one workbook and of a batch: read → locate → extract → fit → checks.
+
+Each step is a plain function over plain data; only :mod:`auditor.read.workbook` touches files and
+nothing here writes any. A broken file becomes an ``unreadable`` result with its reason, and the
+batch goes on.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Any
+
+from auditor.checks import RegressionContext, run_regression_checks
+from auditor.checks.workbook_level import WorkbookContext, run_workbook_checks
+from auditor.compare.reported import build_reported
+from auditor.design.inputs import DesignInputReader
+from auditor.design.metrics import design_metrics
+from auditor.errors import UnreadableWorkbook
+from auditor.evaluation.evaluator import Evaluator
+from auditor.extract import extract
+from auditor.fit.ols import FitResult, fit_ols
+from auditor.locate.locator import Locator, RegressionSpec, locate
+from auditor.model import DataPoint, Finding, RegressionResult, WorkbookResult
+from auditor.policy import Policy
+from auditor.read.open import read_workbook, sha256_of
+from auditor.read.workbook import Workbook
+
+WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
+
+
+def collect_inputs(paths: Iterable[str | Path]) -> list[Path]:
+    """Files as given, and folders searched recursively for .xlsx/.xlsm (sorted, no duplicates)."""
+    found: list[Path] = []
+    for raw in paths:
+        path = Path(raw)
+        if path.is_dir():
+            found.extend(
+                sorted(
+                    p
+                    for p in path.rglob("*")
+                    if p.is_file()
+                    and p.suffix.lower() in WORKBOOK_SUFFIXES
+                    and not p.name.startswith("~$")  # a lock file of an open workbook
+                    and ".audited." not in p.name  # regaudit's own annotated copies
+                )
+            )
+        else:
+            found.append(path)
+    unique: dict[str, Path] = {}
+    for path in found:
+        unique.setdefault(str(path.resolve()), path)
+    return list(unique.values())
+
+
+def audit_regression(
+    workbook: Workbook,
+    evaluator: Evaluator,
+    spec: RegressionSpec,
+    policy: Policy,
+    inputs_reader: DesignInputReader | None = None,
+) -> RegressionResult:
+    data = extract(workbook, evaluator, spec)
+    fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
+    intended = fit.stats()
+    reported = build_reported(
+        spec, evaluator, intended, workbook.stored_values, policy.get("stored_relative_tolerance")
+    )
+    inputs = (inputs_reader or DesignInputReader(workbook, evaluator)).read(spec)
+    context = RegressionContext(
+        spec, data, fit, reported, policy, workbook.stored_values, design_inputs=inputs
+    )
+    findings = run_regression_checks(context)
+    points = list(data.points)
+    _annotate_points(points, fit)
+    return RegressionResult(
+        id=spec.id,
+        sheet=spec.sheet,
+        x_range=spec.x.address,
+        y_range=spec.y.address,
+        found_by=spec.found_by,
+        n=data.n,
+        intercept=spec.intercept,
+        x_columns=spec.x_columns,
+        intended=intended,
+        reported=reported,
+        design=design_metrics(data, fit, policy, inputs),
+        findings=findings,
+        data=points,
+        intended_x_range=data.intended_x_range,
+        intended_y_range=data.intended_y_range,
+        label=spec.label,
+    )
+
+
+def _annotate_points(points: list[DataPoint], fit: FitResult) -> None:
+    """Give each used point its fitted value, residual, leverage and Cook's distance."""
+    used = [p for p in points if p.used]
+    if len(fit.fitted) != len(used):
+        return  # the fit is undefined (too few points, constant x): nothing to attach
+    # tolist() gives the same Python floats as float() of each element, in one C call.
+    fitted, residuals = fit.fitted.tolist(), fit.residuals.tolist()
+    leverage = fit.leverage.tolist() if len(fit.leverage) else None
+    cooks = fit.cooks_distance.tolist() if len(fit.cooks_distance) else None
+    for index, point in enumerate(used):
+        point.fitted = fitted[index]
+        point.residual = residuals[index]
+        point.leverage = leverage[index] if leverage is not None else None
+        if cooks is not None:
+            point.cooks_distance = cooks[index]
+
+
+def audit_workbook(
+    path: str | Path, policy: Policy, bindings: list[dict[str, Any]] | None = None
+) -> WorkbookResult:
+    path = Path(path)
+    try:
+        workbook = read_workbook(path)
+    except UnreadableWorkbook as exc:
+        digest = sha256_of(path) if path.is_file() else ""
+        return WorkbookResult(str(path), digest, "unreadable", error=str(exc))
+    evaluator = Evaluator(workbook)
+    locator = Locator(workbook, bindings)
+    specs = locate(workbook, bindings, locator)
+    reader = DesignInputReader(workbook, evaluator, locator.parsed)
+    regressions = [audit_regression(workbook, evaluator, spec, policy, reader) for spec in specs]
+    context = WorkbookContext(
+        stored_values=workbook.stored_values,
+        formula_count=len(workbook.formula_cells()),
+        unparsed=[(cell.address, why) for cell, why in locator.parse_errors],
+        regressions=len(regressions),
+        workbook=workbook,
+        specs=specs,
+        results=regressions,
+        parsed=locator.parsed,
+        policy=policy,
+    )
+    return WorkbookResult(
+        path=str(path),
+        sha256=workbook.sha256,
+        status="audited" if regressions else "no-regressions",
+        stored_values=workbook.stored_values,
+        regressions=regressions,
+        findings=_route(run_workbook_checks(context), regressions),
+    )
+
+
+def _route(findings: list[Finding], regressions: list[RegressionResult]) -> list[Finding]:
+    """A workbook-level finding that starts at a regression's reported cell is shown with that
+    regression (sibling blocks, pasted values, links); the rest stay with the workbook."""
+    owners = {value.cell: r for r in regressions for value in r.reported.values()}
+    kept: list[Finding] = []
+    for finding in findings:
+        owner = owners.get(finding.cells[0]) if finding.cells else None
+        (owner.findings if owner is not None else kept).append(finding)
+    return kept
+
+
+__all__ = ["audit_regression", "audit_workbook", "collect_inputs"]

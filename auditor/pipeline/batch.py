@@ -1,0 +1,118 @@
+"""A batch of workbooks: each audited in a worker under per-file time and memory limits, results
+reused from the ledger for unchanged files (``--changed``), a progress bar on a terminal.
+
+A broken file becomes an ``unreadable`` result with its reason and the batch goes on; a file that
+exceeds a limit is stopped, reported in words, and tried again on the next run.
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+import traceback
+from collections.abc import Iterator, Sequence
+from pathlib import Path
+from typing import Any
+
+from auditor import __version__
+from auditor.errors import RegauditError
+from auditor.model import WorkbookResult
+from auditor.pipeline.ledger import AuditKey, Ledger, audit_with_ledger, settings_digest
+from auditor.pipeline.limits import Failure, FileLimits, default_jobs, run_limited
+from auditor.policy import Policy
+from auditor.read.open import sha256_of
+
+Task = tuple[str, Policy, list[dict[str, Any]] | None]
+DEFAULT_LIMITS = FileLimits()  # 600 s and 4 GiB per file
+
+
+def _audit_one(args: Task) -> WorkbookResult:
+    from auditor.pipeline.audit import audit_workbook
+
+    path, policy, bindings = args
+    try:
+        return audit_workbook(path, policy, bindings)
+    except MemoryError:
+        raise  # the pool reports it as the per-file memory limit, in words
+    except RegauditError as exc:
+        return WorkbookResult(path, "", "unreadable", error=str(exc))
+    except Exception as exc:  # a bug: keep the traceback, keep the batch going
+        traceback.print_exc(file=sys.stderr)
+        return WorkbookResult(
+            path,
+            "",
+            "unreadable",
+            error=f"internal error while auditing ({type(exc).__name__}: {exc}); please report it",
+        )
+
+
+def _audit_timed(args: Task) -> tuple[WorkbookResult, float]:
+    started = time.perf_counter()
+    result = _audit_one(args)
+    return result, time.perf_counter() - started
+
+
+def _stopped(args: Task, failure: Failure) -> tuple[WorkbookResult, float]:
+    path = Path(args[0])
+    digest = sha256_of(path) if path.is_file() else ""
+    return WorkbookResult(str(path), digest, "unreadable", error=failure.reason), -1.0
+
+
+def iter_audits(
+    paths: Sequence[Path],
+    policy: Policy,
+    bindings: list[dict[str, Any]] | None = None,
+    jobs: int | None = None,
+    limits: FileLimits = DEFAULT_LIMITS,
+) -> Iterator[tuple[int, WorkbookResult, float, bool]]:
+    """(index, result, seconds, reusable) as files finish; jobs=0 runs in-process, no limits."""
+    tasks: list[Task] = [(str(p), policy, bindings) for p in paths]
+    if jobs == 0:
+        for index, task in enumerate(tasks):
+            result, seconds = _audit_timed(task)
+            yield index, result, seconds, True
+        return
+    workers = default_jobs() if jobs is None else jobs
+    for index, (result, seconds) in run_limited(_audit_timed, tasks, workers, limits, _stopped):
+        stopped = seconds < 0  # stopped by a limit: not reused, tried again next run
+        yield index, result, (limits.seconds or 0.0) if stopped else seconds, not stopped
+
+
+def audit_batch(
+    paths: Sequence[Path],
+    policy: Policy,
+    bindings: list[dict[str, Any]] | None = None,
+    jobs: int | None = None,
+    *,
+    ledger: Ledger | None = None,
+    changed: bool = False,
+    limits: FileLimits = DEFAULT_LIMITS,
+    progress: bool = False,
+) -> list[WorkbookResult]:
+    """Results in the order of ``paths``."""
+
+    def audit_many(subset: Sequence[Path]) -> Iterator[tuple[int, WorkbookResult, float, bool]]:
+        return iter_audits(subset, policy, bindings, jobs, limits)
+
+    if ledger is None:
+        stream: Iterator[tuple[int, WorkbookResult]] = ((i, r) for i, r, _, _ in audit_many(paths))
+    else:
+        key = AuditKey(policy.name, settings_digest(policy, bindings), __version__)
+        stream = audit_with_ledger(list(paths), audit_many, ledger, key, changed)
+    bar = _progress_bar(len(paths)) if progress else None
+    results: list[WorkbookResult | None] = [None] * len(paths)
+    for index, result in stream:
+        results[index] = result
+        if bar is not None:
+            bar.update()
+    if bar is not None:
+        bar.close()
+    return [r for r in results if r is not None]
+
+
+def _progress_bar(total: int) -> Any:
+    if total < 2 or not sys.stderr.isatty():
+        return None  # quiet when stderr is a file or CI
+    from tqdm import tqdm
+
+    return tqdm(total=total, unit="file", desc="auditing", file=sys.stderr, leave=False)

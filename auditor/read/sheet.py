@@ -1,0 +1,304 @@
+"""Streaming one worksheet part: the hot loop of the one-pass reader (:mod:`auditor.read.stream`).
+
+Each ``<row>`` is parsed by lxml, its ``<c>`` children are turned into :class:`Cell` objects, and
+the row is dropped from the tree, so that memory holds the cells and not the XML. The loop is
+written out flat on purpose: at a million rows every function call and attribute look-up in it
+costs a visible share of the reading time.
+"""
+
+from __future__ import annotations
+
+import zipfile
+from dataclasses import dataclass, field
+from typing import Any
+
+from openpyxl.formula.translate import Translator
+from openpyxl.utils.datetime import from_ISO8601, to_excel
+
+from auditor.errors import UnreadableWorkbook
+from auditor.read.parts import plain_text
+from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet, column_index, column_letter
+from auditor.read.xmlsafe import iter_part, prune
+
+NOT_A_NUMBER = ErrorValue("#NUM!")
+MAX_CELLS = 10_000_000  # per workbook; about 2 GB as cell objects, beyond any real review file
+MAX_ARRAY_CELLS = 1_000_000  # cells covered by array-formula blocks, per workbook
+PRUNE_EVERY = 512  # rows between drops of parsed rows from the tree (memory stays flat)
+MAX_COLUMN = 16_384
+
+_COLUMNS: dict[str, int] = {}
+_new_cell = object.__new__
+# Cell is a frozen dataclass with slots; filling the slots directly skips the frozen
+# __setattr__ path, about half the cost of building a cell, which matters at millions of cells.
+_SET_SHEET, _SET_ROW, _SET_COL, _SET_VALUE, _SET_FORMULA, _SET_FORMAT, _SET_ARRAY = (
+    Cell.__dict__[name].__set__
+    for name in ("sheet", "row", "col", "value", "formula", "number_format", "array_ref")
+)
+
+
+def _column(letters: str) -> int:
+    index = _COLUMNS.get(letters)
+    if index is None:
+        if not letters.isalpha() or not letters.isascii() or not letters.isupper():
+            raise ValueError(f"bad column letters {letters!r}")
+        index = column_index(letters)
+        if not 1 <= index <= MAX_COLUMN:
+            raise ValueError(f"column {letters!r} is beyond the last column XFD")
+        _COLUMNS[letters] = index
+    return index
+
+
+def _row_number(text: str) -> int:
+    """A row's ``r`` attribute; "7.0" is accepted as 7, as openpyxl does."""
+    try:
+        return int(text)
+    except ValueError:
+        number = float(text)
+        if not number.is_integer():
+            raise ValueError(f"{text!r} is not a row number") from None
+        return int(number)
+
+
+def _bounds(ref: str) -> tuple[int, int, int, int]:
+    first, _, last = ref.partition(":")
+    letters = first.rstrip("0123456789")
+    r1, c1 = int(first[len(letters) :]), _column(letters)
+    last = last or first
+    letters = last.rstrip("0123456789")
+    r2, c2 = int(last[len(letters) :]), _column(letters)
+    return min(r1, r2), min(c1, c2), max(r1, r2), max(c1, c2)
+
+
+class SheetReader:
+    """Reads one worksheet part; keeps the counters the workbook needs afterwards."""
+
+    def __init__(self, book: BookState, name: str) -> None:
+        self.book = book
+        self.sheet = Sheet(name=name)
+        self.translators: dict[str, Translator] = {}
+        self.merges: list[str] = []
+
+    def read(self, part: str) -> Sheet:
+        book, name = self.book, self.sheet.name
+        ns = book.ns
+        row_tag, merge_tag = ns + "row", ns + "mergeCell"
+        c_tag, v_tag, f_tag, is_tag = ns + "c", ns + "v", ns + "f", ns + "is"
+        cells = self.sheet.cells
+        strings, dates, styles = book.strings, book.dates, book.styles
+        style_of = book.style_of
+        columns = _COLUMNS
+        row_number = max_row = max_col = seen = 0
+        ref: str | None = None
+        where = f"{book.label}: sheet {name!r}"
+        try:
+            for element in iter_part(book.archive, part, where, (row_tag, merge_tag)):
+                if element.tag == merge_tag:
+                    self.merges.append(element.get("ref") or "")
+                    continue
+                r_attr = element.get("r")
+                row_number = _row_number(r_attr) if r_attr is not None else row_number + 1
+                row_text = str(row_number)
+                col_number = 0
+                for c in element:
+                    if c.tag != c_tag:
+                        continue
+                    ref = c.get("r")
+                    if ref is None:
+                        col_number += 1
+                        row, col = row_number, col_number
+                    else:
+                        # Nearly always the cell's row is the row element's: then only the
+                        # column letters need looking up.
+                        known = (
+                            columns.get(ref[: -len(row_text)]) if ref.endswith(row_text) else None
+                        )
+                        if known is not None:
+                            row, col = row_number, known
+                        else:
+                            letters = ref.rstrip("0123456789")
+                            row, col = int(ref[len(letters) :]), _column(letters)
+                        col_number = col
+                    t = c.get("t")
+                    s = c.get("s")
+                    text = formula_el = inline = None
+                    if len(c) == 1:  # the common case: only <v>
+                        child = c[0]
+                        if child.tag == v_tag:
+                            text = child.text
+                        elif child.tag == f_tag:
+                            formula_el = child
+                        elif child.tag == is_tag:
+                            inline = child
+                    else:
+                        for child in c:
+                            tag = child.tag
+                            if tag == v_tag:
+                                text = child.text
+                            elif tag == f_tag:
+                                formula_el = child
+                            elif tag == is_tag:
+                                inline = child
+                    # The stored value, read by type as a spreadsheet wrote it.
+                    value: CellValue
+                    if not text:
+                        value = (
+                            book.inline_text(inline)
+                            if t == "inlineStr" and inline is not None
+                            else None
+                        )
+                    elif t is None or t == "n":
+                        if "." in text or "E" in text or "e" in text or (s in dates):
+                            value = float(text)
+                            if value - value != 0.0:  # 1E400: no spreadsheet holds infinity
+                                value = NOT_A_NUMBER
+                        else:
+                            value = int(text)
+                    elif t == "s":
+                        value = strings[int(text)]
+                    elif t == "str":
+                        value = text
+                    elif t == "b":
+                        value = bool(int(text))
+                    elif t == "e":
+                        value = ErrorValue(text)
+                    elif t == "inlineStr":
+                        value = book.inline_text(inline) if inline is not None else None
+                    elif t == "d":
+                        value = float(to_excel(from_ISO8601(text)))
+                    else:
+                        value = text
+                    formula: str | None = None
+                    array_ref: str | None = None
+                    if formula_el is not None:
+                        formula, array_ref = self._formula(formula_el, row, col, value)
+                    if value is None and formula is None:
+                        continue
+                    cell = _new_cell(Cell)
+                    _SET_SHEET(cell, name)
+                    _SET_ROW(cell, row)
+                    _SET_COL(cell, col)
+                    _SET_VALUE(cell, value)
+                    _SET_FORMULA(cell, formula)
+                    _SET_FORMAT(cell, styles.get(s) or style_of(s))
+                    _SET_ARRAY(cell, array_ref)
+                    cells[(row, col)] = cell
+                    if col > max_col:
+                        max_col = col
+                    if row > max_row:
+                        max_row = row
+                seen += 1
+                element.clear()
+                if seen % PRUNE_EVERY == 0:
+                    prune(element)
+                if len(cells) + book.cell_count > MAX_CELLS:
+                    raise UnreadableWorkbook(
+                        f"{where} holds more than {MAX_CELLS:,} cells; refused as too large to "
+                        "audit (split the workbook, or audit an extract of the data)"
+                    )
+        except (ValueError, IndexError, OverflowError, TypeError) as exc:
+            at = f" at cell {ref!r}" if ref else ""
+            raise UnreadableWorkbook(
+                f"{where}{at} holds a value that is not what its type says ({exc}); the file is "
+                "damaged: open and re-save it in a spreadsheet application"
+            ) from exc
+        self.sheet.max_row, self.sheet.max_col = max_row, max_col
+        if self.merges:
+            self._unmerge()
+        book.cell_count += len(cells)
+        return self.sheet
+
+    def _formula(
+        self, element: Any, row: int, col: int, value: CellValue
+    ) -> tuple[str | None, str | None]:
+        book = self.book
+        kind = element.get("t")
+        text = "=" + (element.text or "")
+        array_ref: str | None = None
+        if kind == "array":
+            array_ref = element.get("ref") or f"{column_letter(col)}{row}"
+            book.add_array(self.sheet.name, array_ref)
+        elif kind == "shared":
+            index = element.get("si") or ""
+            translator = self.translators.get(index)
+            coord = f"{column_letter(col)}{row}"
+            if translator is not None:
+                try:
+                    text = translator.translate_formula(coord)
+                except Exception as exc:  # openpyxl's translator raises several types
+                    raise UnreadableWorkbook(
+                        f"{book.label}: sheet {self.sheet.name!r}: the shared formula at {coord} "
+                        f"cannot be expanded ({type(exc).__name__}: {exc}); the file is damaged"
+                    ) from exc
+            elif text != "=":
+                self.translators[index] = Translator(text, coord)
+        elif kind == "dataTable":
+            return None, None  # a what-if table: its cells keep their stored values
+        book.formula_count += 1
+        if value not in (None, 0, "") and not (isinstance(value, float) and value == 0.0):
+            book.valued_formulas += 1
+        return text, array_ref
+
+    def _unmerge(self) -> None:
+        """Only the top-left cell of a merged range holds anything (as in the spreadsheet and in
+        openpyxl); the others are dropped."""
+        cells = self.sheet.cells
+        for ref in self.merges:
+            try:
+                r1, c1, r2, c2 = _bounds(ref)
+            except ValueError:
+                continue
+            area = (r2 - r1 + 1) * (c2 - c1 + 1)
+            if area <= 4 * len(cells):
+                doomed = [(r, c) for r in range(r1, r2 + 1) for c in range(c1, c2 + 1)]
+            else:
+                doomed = [(r, c) for r, c in cells if r1 <= r <= r2 and c1 <= c <= c2]
+            for key in doomed:
+                if key != (r1, c1):
+                    cells.pop(key, None)
+        self.sheet.max_row = max((r for r, _ in cells), default=0)
+        self.sheet.max_col = max((c for _, c in cells), default=0)
+
+
+@dataclass
+class BookState:
+    """What the sheets of one workbook share while they are read, and the counts they leave."""
+
+    archive: zipfile.ZipFile
+    label: str  # the file's name, for messages
+    ns: str  # "{namespace}" of SpreadsheetML in this package
+    strings: list[str]
+    formats: list[str]  # number format per cell style
+    dates: frozenset[str]  # cell styles (as their "s" text) that format dates or durations
+    styles: dict[str | None, str] = field(default_factory=dict)  # "s" text -> number format
+    arrays: dict[tuple[str, int, int], tuple[int, int, int, int]] = field(default_factory=dict)
+    cell_count: int = 0
+    formula_count: int = 0
+    valued_formulas: int = 0
+
+    def __post_init__(self) -> None:
+        self.styles.setdefault(None, self.formats[0])
+
+    def style_of(self, s: str | None) -> str:
+        """The number format of style ``s`` (memoised in ``styles``)."""
+        try:
+            index = int(s or 0)
+            found = self.formats[index] if 0 <= index < len(self.formats) else "General"
+        except ValueError:
+            found = "General"
+        self.styles[s] = found
+        return found
+
+    def inline_text(self, element: Any) -> str:
+        return plain_text(element, self.ns)
+
+    def add_array(self, sheet: str, ref: str) -> None:
+        bounds = _bounds(ref)
+        r1, c1, r2, c2 = bounds
+        if len(self.arrays) + (r2 - r1 + 1) * (c2 - c1 + 1) > MAX_ARRAY_CELLS:
+            raise UnreadableWorkbook(
+                f"{self.label}: sheet {sheet!r}: array formulas cover more than "
+                f"{MAX_ARRAY_CELLS:,} cells (block {ref!r}); refused as too large"
+            )
+        for row in range(r1, r2 + 1):
+            for col in range(c1, c2 + 1):
+                self.arrays[(sheet, row, col)] = bounds

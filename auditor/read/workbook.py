@@ -1,0 +1,159 @@
+"""Reading workbooks: every cell's formula text, stored value and number format; defined names.
+
+The reading layer is the only one that opens input files:
+
+    workbook.py           the data classes and read_workbook(path, engine)
+    container.py          what a file is, from its first bytes and zip central directory
+    xlsxstream.py         the one-pass reader regaudit uses (one sheet: xlsxsheet.py)
+    xlsxparts.py          relationships, sheets and names, shared strings, number formats
+    xmlsafe.py            XML parsing that entity tricks cannot get through
+    workbook_openpyxl.py  the two-load openpyxl reader, the reference the tests compare with
+
+Files are opened read-only; the zip central directory is checked before anything is inflated;
+every library error becomes :class:`auditor.errors.UnreadableWorkbook` with a message that says
+what the file is and what to do. Macros in .xlsm files are never run: only worksheet XML is read.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+ERROR_CODES = (
+    "#NULL!",
+    "#DIV/0!",
+    "#VALUE!",
+    "#REF!",
+    "#NAME?",
+    "#NUM!",
+    "#N/A",
+    "#GETTING_DATA",
+    "#SPILL!",
+    "#CALC!",
+)
+
+
+@dataclass(frozen=True)
+class ErrorValue:
+    """A spreadsheet error value such as ``#DIV/0!``; it propagates through formulas."""
+
+    code: str
+
+    def __str__(self) -> str:
+        return self.code
+
+
+CellValue = float | int | str | bool | ErrorValue | None
+
+
+@dataclass(frozen=True, slots=True)
+class Cell:
+    """One cell as the file holds it."""
+
+    sheet: str
+    row: int  # 1-based
+    col: int  # 1-based
+    value: CellValue  # the stored (cached) value, or the typed constant
+    formula: str | None = None  # formula text with a leading '=', or None for a constant
+    number_format: str = "General"
+    array_ref: str | None = None  # the block an array formula fills, e.g. "E2:F6" (anchor only)
+
+    @property
+    def coord(self) -> str:
+        return f"{column_letter(self.col)}{self.row}"
+
+    @property
+    def address(self) -> str:
+        return f"{self.sheet}!{self.coord}"
+
+
+@dataclass
+class Sheet:
+    name: str
+    cells: dict[tuple[int, int], Cell] = field(default_factory=dict)
+    max_row: int = 0
+    max_col: int = 0
+
+    def get(self, row: int, col: int) -> Cell | None:
+        return self.cells.get((row, col))
+
+    def value(self, row: int, col: int) -> CellValue:
+        cell = self.cells.get((row, col))
+        return None if cell is None else cell.value
+
+
+@dataclass(frozen=True)
+class DefinedName:
+    name: str
+    refers_to: str  # formula text without '=', e.g. "Data!$A$2:$A$21"
+    scope: str | None = None  # sheet name for a sheet-scoped name, None for workbook scope
+
+
+@dataclass
+class Workbook:
+    path: str
+    sha256: str
+    sheets: dict[str, Sheet]
+    names: list[DefinedName]
+    stored_values: bool  # False when formulas carry no cached values (written by a script)
+    array_anchors: dict[tuple[str, int, int], tuple[int, int, int, int]] = field(
+        default_factory=dict
+    )  # (sheet, row, col) of every cell in an array block -> (r1, c1, r2, c2) of the block
+
+    def sheet(self, name: str) -> Sheet | None:
+        if name in self.sheets:
+            return self.sheets[name]
+        lowered = name.lower()
+        for sheet_name, sheet in self.sheets.items():
+            if sheet_name.lower() == lowered:
+                return sheet
+        return None
+
+    def cell(self, sheet: str, row: int, col: int) -> Cell | None:
+        found = self.sheet(sheet)
+        return None if found is None else found.get(row, col)
+
+    def resolve_name(self, name: str, sheet: str | None = None) -> str | None:
+        """The text a defined name refers to; a sheet-scoped name wins on its own sheet."""
+        lowered = name.lower()
+        if sheet is not None:
+            for defined in self.names:
+                if (
+                    defined.scope is not None
+                    and defined.scope.lower() == sheet.lower()
+                    and defined.name.lower() == lowered
+                ):
+                    return defined.refers_to
+        for defined in self.names:
+            if defined.scope is None and defined.name.lower() == lowered:
+                return defined.refers_to
+        return None
+
+    def formula_cells(self) -> list[Cell]:
+        return [c for s in self.sheets.values() for c in s.cells.values() if c.formula]
+
+
+def column_letter(col: int) -> str:
+    letters = ""
+    while col > 0:
+        col, rem = divmod(col - 1, 26)
+        letters = chr(65 + rem) + letters
+    return letters
+
+
+def column_index(letters: str) -> int:
+    index = 0
+    for char in letters.upper():
+        index = index * 26 + (ord(char) - 64)
+    return index
+
+
+_CELL_RE = re.compile(r"^\$?([A-Za-z]{1,3})\$?(\d+)$")
+
+
+def parse_cell(coord: str) -> tuple[int, int]:
+    """'$B$7' -> (7, 2)."""
+    match = _CELL_RE.match(coord.strip())
+    if not match:
+        raise ValueError(f"not a cell reference: {coord!r}")
+    return int(match.group(2)), column_index(match.group(1))

@@ -1,0 +1,1 @@
+"""The audit workbook reporter, one module per sheet family."""

@@ -1,0 +1,168 @@
+"""The "Regressions" and "Findings" sheets of audit.xlsx: one Excel table each, filterable.
+
+Regressions links every row to its detail sheet (inside audit.xlsx) and to the source cell (in the
+audited workbook); Findings is sorted most severe first and links back the same way.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+from xlsxwriter import Workbook
+
+from auditor.model import SEVERITY_RANK, AuditResult, Finding, RegressionResult
+from auditor.report.common import (
+    TABLE_STATS,
+    format_value,
+    plain,
+    reported_and_intended,
+    short_paths,
+)
+from auditor.report.xlsx.layout import SheetWriter, add_table, print_setup
+from auditor.report.xlsx.links import DetailRef, anchor_cell, internal_link
+from auditor.report.xlsx.style import Styles
+
+FINDING_HEADERS: tuple[str, ...] = (
+    "severity",
+    "check",
+    "kind",
+    "workbook",
+    "regression",
+    "cells",
+    "message",
+    "evidence",
+    "fix",
+    "waived",
+)
+WRAPPED_FINDING_WIDTHS: dict[str, float] = {"message": 60, "evidence": 40, "fix": 50}
+
+
+def evidence_text(evidence: dict[str, Any]) -> str:
+    """Evidence as a reviewer reads it: "reported: 0.0213; two tailed: 0.0426" (audit.json keeps
+    every digit; nested values stay compact JSON)."""
+    parts = []
+    for key, value in plain(evidence).items():
+        if isinstance(value, (dict, list)):
+            text = json.dumps(value, ensure_ascii=False, separators=(", ", ": "))
+        else:
+            text = format_value(key, value)
+        parts.append(f"{key.replace('_', ' ')}: {text}")
+    return "; ".join(parts)
+
+
+def ordered_findings(result: AuditResult) -> list[tuple[Finding, str, str]]:
+    """Every finding with its workbook path and regression id, most severe first.
+
+    Within one severity, findings keep the order of the workbooks, then check id and cells.
+    """
+    rows: list[tuple[tuple[Any, ...], Finding, str, str]] = []
+    for index, workbook in enumerate(result.workbooks):
+        owned = [(finding, "") for finding in workbook.findings]
+        owned += [
+            (f, regression.id) for regression in workbook.regressions for f in regression.findings
+        ]
+        for finding, regression_id in owned:
+            key = (SEVERITY_RANK[finding.severity], index, finding.check, finding.cells)
+            rows.append((key, finding, workbook.path, regression_id))
+    rows.sort(key=lambda item: item[0])
+    return [(finding, path, regression_id) for _, finding, path, regression_id in rows]
+
+
+def findings_sheet(
+    book: Workbook, result: AuditResult, styles: Styles, refs: list[DetailRef]
+) -> None:
+    sheet = book.add_worksheet("Findings")
+    out = SheetWriter(sheet, styles)
+    headers = list(FINDING_HEADERS)
+    for col, name in enumerate(headers):
+        out.header(0, col, name, filtered=True)
+    detail = {(ref.workbook.path, ref.regression.id): ref.sheet for ref in refs}
+    shown = short_paths(result)
+    findings = ordered_findings(result)
+    for row, (finding, path, regression_id) in enumerate(findings, start=1):
+        out.put(row, 0, finding.severity, styles.severity[finding.severity])
+        out.put(row, 1, finding.check, styles.top)
+        out.put(row, 2, finding.kind, styles.top)
+        out.put(row, 3, shown.get(path, path), styles.top)
+        target = detail.get((path, regression_id))
+        if target:
+            out.link(row, 4, internal_link(target), regression_id)
+        else:
+            out.put(row, 4, regression_id, styles.top)
+        if finding.cells:
+            out.source(row, 5, path, finding.cells[0], ", ".join(finding.cells))
+        else:
+            out.put(row, 5, "", styles.top)
+        out.put(row, 6, finding.message, styles.wrapped, wrap=True)
+        out.put(row, 7, evidence_text(finding.evidence), styles.wrapped, wrap=True)
+        out.put(row, 8, finding.fix, styles.wrapped, wrap=True)
+        out.put(row, 9, finding.waived, styles.wrapped)
+    fixed = {headers.index(name): width for name, width in WRAPPED_FINDING_WIDTHS.items()}
+    out.apply_widths(maximum=40, fixed=fixed)
+    add_table(sheet, "FindingsTable", headers, len(findings), styles)
+    print_setup(sheet, "Findings")
+    sheet.repeat_rows(0)
+
+
+def regression_headers() -> list[str]:
+    headers = ["workbook", "sheet", "regression", "detail sheet", "source cell"]
+    headers += ["x range", "y range", "found by", "n", "x columns"]
+    for label, _ in TABLE_STATS:
+        headers += [f"{label} reported", f"{label} intended"]
+    return headers + ["verdict", "worst severity", "findings"]
+
+
+def _first_column_key(regression: RegressionResult, key: str) -> str:
+    # Several x columns have no plain "slope": the table shows x1's, the detail sheet all.
+    if regression.x_columns > 1 and key not in regression.reported:
+        return f"{key}[1]"
+    return key
+
+
+def regressions_sheet(
+    book: Workbook, result: AuditResult, styles: Styles, refs: list[DetailRef]
+) -> None:
+    sheet = book.add_worksheet("Regressions")
+    out = SheetWriter(sheet, styles)
+    headers = regression_headers()
+    numeric = frozenset(
+        h
+        for h in headers
+        if h in ("n", "x columns", "findings")
+        or " " in h
+        and h.split()[-1] in ("reported", "intended")
+    )
+    for col, name in enumerate(headers):
+        out.header(0, col, name, filtered=True, numeric=name in numeric)
+    shown = short_paths(result)
+    for row, ref in enumerate(refs, start=1):
+        regression = ref.regression
+        out.put(row, 0, shown.get(ref.workbook.path, ref.workbook.path), styles.top)
+        out.put(row, 1, regression.sheet, styles.top)
+        out.put(row, 2, regression.id, styles.top)
+        out.link(row, 3, internal_link(ref.sheet), ref.sheet)
+        out.source(row, 4, ref.workbook.path, anchor_cell(regression))
+        for col, value in enumerate(
+            (regression.x_range, regression.y_range, regression.found_by), start=5
+        ):
+            out.put(row, col, value, styles.top)
+        out.put(row, 8, regression.n, styles.number)
+        out.put(row, 9, regression.x_columns, styles.number)
+        col = 10
+        for _, key in TABLE_STATS:
+            reported, intended, verdict = reported_and_intended(
+                regression, _first_column_key(regression, key)
+            )
+            out.num(row, col, reported, "mismatch" if verdict == "mismatch" else "plain")
+            out.num(row, col + 1, intended)
+            col += 2
+        worst = regression.worst_severity
+        out.put(row, col, regression.verdict, styles.for_verdict(regression.verdict))
+        out.put(row, col + 1, worst or "none", styles.for_severity(worst))
+        out.put(row, col + 2, len(regression.findings), styles.number)
+    out.apply_widths(maximum=45)
+    add_table(sheet, "RegressionsTable", headers, len(refs), styles, numeric)
+    sheet.freeze_panes(1, 3)  # the workbook, sheet and id stay in view while scrolling right
+    print_setup(sheet, "Regressions")
+    sheet.repeat_rows(0)

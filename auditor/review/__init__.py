@@ -1,0 +1,1 @@
+"""The review around an audit: finding identities, waivers, baselines, annotated copies."""
