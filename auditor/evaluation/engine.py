@@ -14,7 +14,7 @@ from typing import Any
 
 import numpy as np
 
-from auditor.errors import FormulaError
+from auditor.errors import FormulaError, Unsupported, Unverifiable
 from auditor.evaluation.coerce import _constant, _result
 from auditor.evaluation.expressions import ExpressionEvaluator
 from auditor.evaluation.layout import FormulaLayout, _Key
@@ -23,8 +23,6 @@ from auditor.evaluation.values import (
     CYCLE,
     MISSING,
     RangeValue,
-    Unsupported,
-    Unverifiable,
     Value,
     _Ctx,
 )

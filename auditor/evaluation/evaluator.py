@@ -28,6 +28,7 @@ the layers), so that callers import from one place however the parts are arrange
 
 from __future__ import annotations
 
+from auditor.errors import Unsupported, Unverifiable
 from auditor.evaluation.engine import Evaluator
 from auditor.evaluation.functions import SUPPORTED_FUNCTIONS
 from auditor.evaluation.values import (
@@ -35,8 +36,6 @@ from auditor.evaluation.values import (
     MISSING,
     Fault,
     RangeValue,
-    Unsupported,
-    Unverifiable,
     Value,
 )
 

@@ -11,6 +11,7 @@ from typing import Any
 
 import numpy as np
 
+from auditor.errors import Unsupported, Unverifiable
 from auditor.evaluation.coerce import _as_2d, _num, _result
 from auditor.evaluation.functions import _LAZY, _RANGED, _SCALAR
 from auditor.evaluation.layout import _Bounds
@@ -20,8 +21,6 @@ from auditor.evaluation.values import (
     MISSING,
     Fault,
     RangeValue,
-    Unsupported,
-    Unverifiable,
     _Ctx,
 )
 from auditor.formula.syntax import (

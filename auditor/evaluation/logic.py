@@ -7,6 +7,7 @@ from typing import Any
 
 import numpy as np
 
+from auditor.errors import Unsupported
 from auditor.evaluation.coerce import _as_2d, _int, _truthy
 from auditor.evaluation.operators import _lift
 from auditor.evaluation.values import (
@@ -19,7 +20,6 @@ from auditor.evaluation.values import (
     NodeEvaluator,
     RangedFn,
     RangeValue,
-    Unsupported,
     _Ctx,
 )
 from auditor.formula.syntax import SHEET_COLS, SHEET_ROWS, Bool, Missing, Node, Ref

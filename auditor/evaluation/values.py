@@ -17,14 +17,6 @@ CYCLE = ErrorValue("#CYCLE!")  # no spreadsheet error code exists for it; Excel 
 _NA, _VALUE, _NUM, _DIV0, _REF = "#N/A", "#VALUE!", "#NUM!", "#DIV/0!", "#REF!"
 
 
-class Unsupported(Exception):
-    """A function or construct the evaluator does not evaluate; the message names it."""
-
-
-class Unverifiable(Unsupported):
-    """The formula reads another workbook, which is not at hand."""
-
-
 class Fault(Exception):
     """A spreadsheet error raised inside a function; it becomes an ErrorValue."""
 

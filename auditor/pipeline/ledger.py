@@ -27,7 +27,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from auditor.errors import RegauditError
+from auditor.errors import LedgerError
 from auditor.model import WorkbookResult
 from auditor.pipeline import resultjson
 from auditor.read.open import sha256_of
@@ -47,10 +47,6 @@ CREATE TABLE IF NOT EXISTS audits (
 CREATE INDEX IF NOT EXISTS audits_by_content ON audits (sha256, settings, version);
 CREATE INDEX IF NOT EXISTS audits_by_path ON audits (path);
 """
-
-
-class LedgerError(RegauditError):
-    """The ledger file cannot be opened or is not a regaudit ledger."""
 
 
 @dataclass(frozen=True)
