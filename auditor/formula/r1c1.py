@@ -187,10 +187,11 @@ def parse_r1c1(operand: str, row: int, col: int) -> Reference | None:
     return None
 
 
-def _tokens(formula: str) -> list[Token]:
+def _tokens(formula: str, keep_space: bool = True) -> list[Token]:
     text = formula if formula.startswith("=") else "=" + formula
     try:
-        return list(Tokenizer(text).items)
+        items = Tokenizer(text).items
+        return [t for t in items if keep_space or t.type != Token.WSPACE]
     except (TokenizerError, IndexError, AssertionError, KeyError, ValueError) as exc:
         raise FormulaError(f"cannot tokenize formula {formula!r}: {exc}") from exc
 
@@ -200,6 +201,7 @@ def rewrite_references(
     rewrite: Rewrite,
     parse: Callable[[str], Reference | None] = parse_a1,
     expand: Callable[[str], str | None] | None = None,
+    keep_space: bool = True,
 ) -> str:
     """The formula with every reference operand replaced by ``rewrite``'s text for it.
 
@@ -218,7 +220,7 @@ def rewrite_references(
         return operand if new is None else new
 
     out = []
-    for token in _tokens(formula):
+    for token in _tokens(formula, keep_space):
         value = token.value
         if token.type == Token.OPERAND and token.subtype == Token.RANGE:
             value = convert(value)
@@ -256,15 +258,30 @@ def _r1c1_corner(corner: Corner, row: int, col: int) -> str:
     return text
 
 
-def r1c1_text(ref: Reference, row: int, col: int) -> str:
-    """One reference in R1C1, relative to the cell (row, col) that holds it."""
-    text = ref.prefix + _r1c1_corner(ref.start, row, col)
-    return text if ref.end is None else text + ":" + _r1c1_corner(ref.end, row, col)
+def r1c1_text(ref: Reference, row: int, col: int, compact: bool = False) -> str:
+    """One reference in R1C1, relative to the cell (row, col) that holds it.
+
+    ``compact`` writes one whole column or row once (``C[-2]``, not ``C[-2]:C[-2]``), as the
+    spreadsheet's own R1C1 view does."""
+    start = _r1c1_corner(ref.start, row, col)
+    if ref.end is None:
+        return ref.prefix + start
+    end = _r1c1_corner(ref.end, row, col)
+    whole = ref.start.row is None or ref.start.col is None
+    if compact and whole and start == end:
+        return ref.prefix + start
+    return ref.prefix + start + ":" + end
 
 
-def to_r1c1(formula: str, row: int, col: int) -> str:
-    """``=SLOPE(B4:B13,$A$4:$A$13)`` in E4 -> ``=SLOPE(RC[-3]:R[9]C[-3],R4C1:R13C1)``."""
-    return rewrite_references(formula, lambda ref: r1c1_text(ref, row, col))
+def to_r1c1(formula: str, row: int, col: int, compact: bool = False) -> str:
+    """``=SLOPE(B4:B13,$A$4:$A$13)`` in E4 -> ``=SLOPE(RC[-3]:R[9]C[-3],R4C1:R13C1)``.
+
+    ``compact`` is the form finding identities use: whitespace outside text dropped (re-spacing
+    a formula changes nothing) and one whole column or row written once. Raises FormulaError
+    when the tokenizer cannot read the formula."""
+    return rewrite_references(
+        formula, lambda ref: r1c1_text(ref, row, col, compact), keep_space=not compact
+    )
 
 
 def _a1_corner_text(corner: Corner) -> str | None:

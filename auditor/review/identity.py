@@ -32,9 +32,10 @@ import re
 from collections.abc import Iterable, Sequence
 from pathlib import Path
 
-from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 from openpyxl.utils.cell import column_index_from_string
 
+from auditor.errors import FormulaError
+from auditor.formula.r1c1 import parse_a1, r1c1_text, to_r1c1
 from auditor.model import (
     AuditResult,
     Finding,
@@ -110,44 +111,13 @@ def _column(letters: str) -> int:
     return int(column_index_from_string(letters.upper()))
 
 
-def _part(letter: str, absolute: bool, value: int, origin: int) -> str:
-    if absolute:
-        return f"{letter}{value}"
-    offset = value - origin
-    return letter if offset == 0 else f"{letter}[{offset}]"
-
-
-def _cell_r1c1(address: str, origin: tuple[int, int]) -> str | None:
-    match = _CELL.match(address)
-    position = _position(address)
-    if match is None or position is None:
-        return None
-    row_part = _part("R", bool(match.group(3)), position[0], origin[0])
-    return row_part + _part("C", bool(match.group(1)), position[1], origin[1])
-
-
 def reference_r1c1(reference: str, origin: tuple[int, int]) -> str | None:
     """One A1 reference (cell, range, whole columns or rows) in R1C1 relative to ``origin``.
 
     None when ``reference`` is not an A1 reference (a defined name, a table reference).
     """
-    corners = reference.split(":")
-    whole: list[str] | None = None
-    if len(corners) == 2 and (columns := _COLUMNS.match(reference)):
-        # Whole columns carry no row: they are relative to the origin's column only.
-        whole = [
-            _part("C", bool(columns.group(i)), _column(columns.group(i + 1)), origin[1])
-            for i in (1, 3)
-        ]
-    elif len(corners) == 2 and (rows := _ROWS.match(reference)):
-        whole = [_part("R", bool(rows.group(i)), int(rows.group(i + 1)), origin[0]) for i in (1, 3)]
-    if whole is not None:
-        # One whole column or row is written once, as the spreadsheet's R1C1 view does (C[-2]).
-        return whole[0] if whole[0] == whole[1] else ":".join(whole)
-    converted = [_cell_r1c1(corner, origin) for corner in corners]
-    if len(converted) > 2 or any(part is None for part in converted):
-        return None
-    return ":".join(part for part in converted if part is not None)
+    parsed = parse_a1(reference)
+    return None if parsed is None else r1c1_text(parsed, *origin, compact=True)
 
 
 def formula_r1c1(formula: str, cell: str) -> str:
@@ -162,20 +132,9 @@ def formula_r1c1(formula: str, cell: str) -> str:
     if origin is None:
         return text
     try:
-        tokens = Tokenizer(text).items
-    except TokenizerError:
+        return to_r1c1(text, *origin, compact=True)
+    except FormulaError:
         return text
-    pieces: list[str] = []
-    for token in tokens:
-        if token.type == Token.WSPACE:
-            continue
-        if token.type == Token.OPERAND and token.subtype == Token.RANGE:
-            prefix, bang, reference = token.value.rpartition("!")
-            converted = reference_r1c1(reference, origin)
-            pieces.append(token.value if converted is None else prefix + bang + converted)
-        else:
-            pieces.append(token.value)
-    return "=" + "".join(pieces)
 
 
 def _offset(cell: str, anchor: str) -> str:
