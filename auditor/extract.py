@@ -17,9 +17,10 @@ import numpy as np
 from auditor.compare.precision import parse_text_number
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Ref
+from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec
 from auditor.model import DataPoint
-from auditor.read.workbook import ErrorValue, Workbook, column_letter
+from auditor.read.workbook import ErrorValue, Workbook
 
 TOTAL_LABEL = re.compile(r"^\s*(grand\s+)?(total|sum|mean|average|avg|σ|Σ)\b", re.I)
 MAX_GAP_SCAN = 1_048_576

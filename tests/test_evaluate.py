@@ -18,7 +18,8 @@ from scipy import stats
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported, Unverifiable
 from auditor.formula.syntax import Ref
-from auditor.read.workbook import Cell, DefinedName, ErrorValue, Sheet, Workbook, parse_cell
+from auditor.grid import parse_cell
+from auditor.read.workbook import Cell, DefinedName, ErrorValue, Sheet, Workbook
 
 X = [1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0]
 Y = [2.3, 4.1, 6.2, 7.8, 10.1, 12.2, 13.8, 16.3]

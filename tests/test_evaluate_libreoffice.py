@@ -26,8 +26,9 @@ import xlsxwriter
 
 from auditor.evaluation.evaluator import SUPPORTED_FUNCTIONS, Evaluator, Unverifiable
 from auditor.formula.syntax import calls, parse
+from auditor.grid import parse_cell
 from auditor.read.open import read_workbook
-from auditor.read.workbook import ErrorValue, Workbook, parse_cell
+from auditor.read.workbook import ErrorValue, Workbook
 
 FIXTURES = Path(__file__).resolve().parent.parent / "fixtures" / "workbooks"
 RELATIVE_TOLERANCE = 1e-9

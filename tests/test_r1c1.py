@@ -25,7 +25,7 @@ from auditor.formula.r1c1 import (
     to_a1,
     to_r1c1,
 )
-from auditor.read.workbook import column_letter
+from auditor.grid import column_letter
 
 
 @pytest.mark.parametrize(

@@ -9,6 +9,7 @@ from auditor.compare.precision import agree_stored, parse_text_number
 from auditor.compare.reported import relative_tolerance
 from auditor.diagnose.engine import explain
 from auditor.model import STAT_KEYS, Finding, ReportedValue, Severity, stat_base
+from auditor.wording import fmt
 
 NAMES = {
     "slope": "slope",
@@ -36,12 +37,6 @@ def describe(key: str) -> str:
     base, _, rest = stat_base(key).partition("[")
     name = NAMES.get(base, base)
     return f"{name} (x column {rest.rstrip(']')})" if rest else name
-
-
-def fmt(value: object) -> str:
-    if isinstance(value, float):
-        return f"{value:.6g}"
-    return str(value)
 
 
 def _number(value: float | str | None) -> float | None:

@@ -5,9 +5,10 @@ from __future__ import annotations
 
 import re
 
-from auditor.checks.agreement import describe, fmt
+from auditor.checks.agreement import describe
 from auditor.checks.base import RegressionContext, check
 from auditor.model import Finding, Severity, stat_base
+from auditor.wording import fmt
 
 _PER_COLUMN = re.compile(r"^(?P<stat>[a-z_]+)\[(?P<j>\d+)\]$")
 

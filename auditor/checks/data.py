@@ -3,8 +3,9 @@
 from __future__ import annotations
 
 from auditor.checks.base import RegressionContext, check
+from auditor.grid import column_letter
 from auditor.model import Finding, Severity
-from auditor.read.workbook import column_letter
+from auditor.wording import rows_text
 
 
 def _severity(context: RegressionContext) -> Severity:
@@ -120,12 +121,3 @@ def fit_degenerate(context: RegressionContext) -> list[Finding]:
             fix="Collect more points over a wider spread of x." if severity == "major" else "",
         )
     ]
-
-
-def rows_text(rows: list[int]) -> str:
-    """[16, 17] -> "rows 16–17"; shared by the data and formula-audit checks."""
-    if len(rows) == 1:
-        return f"row {rows[0]}"
-    if rows == list(range(rows[0], rows[-1] + 1)):
-        return f"rows {rows[0]}–{rows[-1]}"
-    return "rows " + ", ".join(str(r) for r in rows)

@@ -11,9 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from auditor.checks.base import RegressionContext, check
-from auditor.checks.data import rows_text
 from auditor.checks.formula_support import (
-    fmt,
     local_text,
     parse_quietly,
     reached_cells,
@@ -21,8 +19,9 @@ from auditor.checks.formula_support import (
     severity_in_regression,
 )
 from auditor.formula.syntax import Binary, Call, Node, Number, Ref, Unary
+from auditor.grid import column_letter
 from auditor.model import Finding, stat_base
-from auditor.read.workbook import column_letter
+from auditor.wording import fmt, rows_text
 
 # Which argument of each distribution function is the residual degrees of freedom (0-based).
 DF_ARGUMENT = {

@@ -22,9 +22,9 @@ from dataclasses import dataclass, field
 
 from auditor.formula.r1c1 import Corner, Reference, canonical, rewrite_references
 from auditor.formula.syntax import Ref
+from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec, StatCell
 from auditor.model import RegressionResult, stat_base
-from auditor.read.workbook import column_letter
 
 Position = tuple[str, int, int]  # (statistic, rows below the block's top, columns right of it)
 MIN_SHARED = 3  # statistics two blocks must share at the same offsets to be siblings

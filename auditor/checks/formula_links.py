@@ -11,9 +11,9 @@ from __future__ import annotations
 from auditor.checks.base import check
 from auditor.checks.workbook_level import WorkbookContext
 from auditor.formula.syntax import NameNode, Node, RefNode, calls, walk
+from auditor.grid import column_letter
 from auditor.locate.locator import PAIR_FUNCS
 from auditor.model import Finding, Severity
-from auditor.read.workbook import column_letter
 
 MAX_CELLS_LISTED = 12
 

@@ -14,10 +14,11 @@ from __future__ import annotations
 from auditor.checks.agreement import describe
 from auditor.checks.base import check
 from auditor.checks.formula_blocks import Block, blocks_of, sibling_groups, translate
-from auditor.checks.formula_support import fmt, local_text, reached_cells, severity_in_result
+from auditor.checks.formula_support import local_text, reached_cells, severity_in_result
 from auditor.checks.workbook_level import WorkbookContext
 from auditor.model import Finding, ReportedValue, Severity, stat_base
 from auditor.read.workbook import Cell
+from auditor.wording import fmt
 
 MIN_FORMULAS_BESIDE = 2  # formulas in the same block that show it is a computed block
 

@@ -16,9 +16,9 @@ from auditor.checks.agreement import significance_changes
 from auditor.checks.base import RegressionContext
 from auditor.errors import FormulaError
 from auditor.formula.syntax import Node, parse, references
+from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec
 from auditor.model import RegressionResult, Severity
-from auditor.read.workbook import column_letter
 
 
 def parse_quietly(formula: str | None, sheet: str) -> Node | None:
@@ -84,12 +84,6 @@ def severity_in_result(result: RegressionResult, cells: Iterable[str]) -> Severi
     if any(v.verdict == "mismatch" and v.cell.lower() in wanted for v in result.reported.values()):
         return "major"
     return "minor"
-
-
-def fmt(value: object) -> str:
-    if isinstance(value, float):
-        return f"{value:.6g}"
-    return str(value)
 
 
 def local_text(address: str, on_sheet: str) -> str:

@@ -12,9 +12,9 @@ from typing import TYPE_CHECKING
 from auditor.design.advice import detect_sentence, num, percent, span, trade_off, wider_designs
 from auditor.design.claims import Claim
 from auditor.design.metrics import DesignMetrics
+from auditor.grid import column_letter
 from auditor.model import Finding, Severity
 from auditor.policy import Policy
-from auditor.read.workbook import column_letter
 
 if TYPE_CHECKING:
     from auditor.checks.base import RegressionContext

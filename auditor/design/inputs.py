@@ -26,9 +26,10 @@ from auditor.compare.precision import parse_text_number
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Fault, Unsupported
 from auditor.formula.syntax import Binary, Call, Node, RefNode, parse, walk
+from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec
 from auditor.locate.spec import overlaps
-from auditor.read.workbook import Cell, Workbook, column_letter
+from auditor.read.workbook import Cell, Workbook
 
 WINDOW_ROWS = (6, 14)  # rows above the result block, rows below it
 WINDOW_COLS = (6, 8)

@@ -54,12 +54,12 @@ from auditor.diagnose.rowsearch import (
     rows_as_written,
     rows_at_ends,
     rows_one_out,
-    rows_text,
     rows_with_total,
     rows_without_text,
 )
 from auditor.fit.ols import fit_ols
 from auditor.model import ReportedValue, stat_base
+from auditor.wording import rows_text
 
 if TYPE_CHECKING:  # only annotations: the checks package imports this module (no cycle)
     from auditor.checks.base import RegressionContext

@@ -15,8 +15,9 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from auditor.diagnose.basis import Basis, Candidate, Evidence, g, pair, stat_name
-from auditor.diagnose.rowsearch import BoolArray, RowTable, rows_text
+from auditor.diagnose.rowsearch import BoolArray, RowTable
 from auditor.model import ReportedValue
+from auditor.wording import rows_text
 
 if TYPE_CHECKING:  # only annotations: the checks package imports auditor.diagnose.engine (no cycle)
     from auditor.checks.base import RegressionContext

@@ -194,18 +194,6 @@ def moment_stat(moments: FloatArray, stat: str, j: int, table: RowTable) -> floa
     return {f"se_{fam}": se[fam], f"t_{fam}": t, f"p_{fam}": two_sided(t, df)}.get(stat, math.nan)
 
 
-def rows_text(rows: list[int]) -> str:
-    """[4, 16, 17] -> "rows 4, 16–17"."""
-    runs: list[list[int]] = []
-    for row in sorted(rows):
-        if runs and row == runs[-1][-1] + 1:
-            runs[-1].append(row)
-        else:
-            runs.append([row])
-    parts = [f"{r[0]}" if len(r) == 1 else f"{r[0]}–{r[-1]}" for r in runs]
-    return ("row " if len(rows) == 1 else "rows ") + ", ".join(parts)
-
-
 def near_subsets(
     table: RowTable, stat: str, j: int, reported: float, judge: Judge, stale: bool
 ) -> Iterator[BoolArray]:

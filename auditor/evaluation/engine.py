@@ -27,7 +27,8 @@ from auditor.evaluation.values import (
     _Ctx,
 )
 from auditor.formula.syntax import Node, Ref, parse, references
-from auditor.read.workbook import Cell, ErrorValue, Workbook, column_letter
+from auditor.grid import column_letter
+from auditor.read.workbook import Cell, ErrorValue, Workbook
 
 MAX_BLOCK_CELLS = 20_000_000  # about 160 MB of object pointers; larger ranges are refused
 

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from auditor.read.workbook import Cell, Workbook, parse_cell
+from auditor.grid import parse_cell
+from auditor.read.workbook import Cell, Workbook
 
 _Key = tuple[str, int, int]  # (sheet, row, col)
 _Bounds = tuple[int, int, int, int]  # (r1, c1, r2, c2)

@@ -5,10 +5,10 @@ from __future__ import annotations
 from collections.abc import Iterator
 from dataclasses import dataclass
 
-from auditor.read.workbook import column_letter
+from auditor.grid import MAX_COL, MAX_ROW, column_letter
 
-SHEET_ROWS = 1_048_576  # the xlsx grid; used for whole columns when no workbook is known
-SHEET_COLS = 16_384
+SHEET_ROWS = MAX_ROW  # whole columns reach the grid's end when no workbook is known
+SHEET_COLS = MAX_COL
 
 
 @dataclass(frozen=True)

@@ -7,7 +7,6 @@ is the entry point (it adds the caches).
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -39,14 +38,11 @@ from auditor.formula.tokens import (
     _Tok,
     _tokens,
 )
-from auditor.read.workbook import column_index
+from auditor.grid import A1_CELL, A1_COLUMN, A1_ROW, column_index
 
 if TYPE_CHECKING:
     from auditor.read.workbook import Workbook
 
-_CELL = re.compile(r"^\$?([A-Za-z]{1,3})\$?(\d+)$")
-_COLUMN = re.compile(r"^\$?([A-Za-z]{1,3})$")
-_ROW = re.compile(r"^\$?(\d+)$")
 _NAME_DEPTH_LIMIT = 16
 
 
@@ -99,19 +95,19 @@ def _reference(ctx: _Context, text: str) -> Node:
     sheet_name, max_row, max_col = _sheet_extent(ctx, sheet if sheet is not None else ctx.sheet)
     if external is not None:
         sheet_name = sheet or ""
-    cells = [_CELL.match(b) for b in bodies]
+    cells = [A1_CELL.match(b) for b in bodies]
     if all(cells):
-        rows = [int(m.group(2)) for m in cells if m]
-        cols = [column_index(m.group(1)) for m in cells if m]
+        rows = [int(m.group(4)) for m in cells if m]
+        cols = [column_index(m.group(2)) for m in cells if m]
         return RefNode(Ref(sheet_name, min(rows), min(cols), max(rows), max(cols), False, external))
     if len(parts) == 2:
-        col_a, col_b = _COLUMN.match(bodies[0]), _COLUMN.match(bodies[1])
+        col_a, col_b = A1_COLUMN.match(bodies[0]), A1_COLUMN.match(bodies[1])
         if col_a and col_b:
-            c1, c2 = sorted((column_index(col_a.group(1)), column_index(col_b.group(1))))
+            c1, c2 = sorted((column_index(col_a.group(2)), column_index(col_b.group(2))))
             return RefNode(Ref(sheet_name, 1, c1, max_row, c2, True, external))
-        row_a, row_b = _ROW.match(bodies[0]), _ROW.match(bodies[1])
+        row_a, row_b = A1_ROW.match(bodies[0]), A1_ROW.match(bodies[1])
         if row_a and row_b:
-            r1, r2 = sorted((int(row_a.group(1)), int(row_b.group(1))))
+            r1, r2 = sorted((int(row_a.group(2)), int(row_b.group(2))))
             return RefNode(Ref(sheet_name, r1, 1, r2, max_col, False, external, whole_row=True))
     if len(parts) == 1:
         return _name(ctx, bodies[0], sheet, external)

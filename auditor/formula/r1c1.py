@@ -22,15 +22,10 @@ from dataclasses import dataclass
 from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 
 from auditor.errors import FormulaError
-from auditor.read.workbook import column_index, column_letter
+from auditor.grid import A1_CELL, A1_COLUMN, A1_ROW, MAX_COL, MAX_ROW, column_index, column_letter
 
-MAX_ROW = 1_048_576  # the xlsx grid
-MAX_COL = 16_384
 _STORAGE_PREFIXES = ("_XLFN.", "_XLWS.", "_XLUDF.")
 
-_A1_CELL = re.compile(r"^(\$?)([A-Za-z]{1,3})(\$?)(\d+)$")
-_A1_COL = re.compile(r"^(\$?)([A-Za-z]{1,3})$")
-_A1_ROW = re.compile(r"^(\$?)(\d+)$")
 _OFFSET = r"(\[-?\d+\]|\d+)?"
 _RC_CELL = re.compile(rf"^R{_OFFSET}C{_OFFSET}$", re.I)
 _RC_ROW = re.compile(rf"^R{_OFFSET}$", re.I)
@@ -114,14 +109,14 @@ def _with_prefix(part: str) -> tuple[str, str]:
 
 
 def _a1_corner(text: str, kind: str) -> Corner | None:
-    if kind == "cell" and (m := _A1_CELL.match(text)):
+    if kind == "cell" and (m := A1_CELL.match(text)):
         row, col = int(m.group(4)), column_index(m.group(2))
         if 1 <= row <= MAX_ROW and 1 <= col <= MAX_COL:
             return Corner(row, col, m.group(3) == "$", m.group(1) == "$")
-    if kind == "col" and (m := _A1_COL.match(text)):
+    if kind == "col" and (m := A1_COLUMN.match(text)):
         col = column_index(m.group(2))
         return Corner(None, col, False, m.group(1) == "$") if col <= MAX_COL else None
-    if kind == "row" and (m := _A1_ROW.match(text)):
+    if kind == "row" and (m := A1_ROW.match(text)):
         row = int(m.group(2))
         return Corner(row, None, m.group(1) == "$", False) if 1 <= row <= MAX_ROW else None
     return None

@@ -16,15 +16,8 @@ import zipfile
 from pathlib import Path
 
 from auditor.errors import UnreadableWorkbook
-from auditor.read.workbook import (
-    Cell,
-    CellValue,
-    DefinedName,
-    ErrorValue,
-    Sheet,
-    Workbook,
-    parse_cell,
-)
+from auditor.grid import parse_cell
+from auditor.read.workbook import Cell, CellValue, DefinedName, ErrorValue, Sheet, Workbook
 
 
 def _convert_value(value: object, data_type: str | None) -> CellValue:

@@ -16,17 +16,17 @@ from openpyxl.formula.translate import Translator
 from openpyxl.utils.datetime import from_ISO8601, to_excel
 
 from auditor.errors import UnreadableWorkbook
+from auditor.grid import MAX_COL, column_index, column_letter
 from auditor.read.parts import plain_text
-from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet, column_index, column_letter
+from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet
 from auditor.read.xmlsafe import iter_part, prune
 
 NOT_A_NUMBER = ErrorValue("#NUM!")
 MAX_CELLS = 10_000_000  # per workbook; about 2 GB as cell objects, beyond any real review file
 MAX_ARRAY_CELLS = 1_000_000  # cells covered by array-formula blocks, per workbook
 PRUNE_EVERY = 512  # rows between drops of parsed rows from the tree (memory stays flat)
-MAX_COLUMN = 16_384
 
-_COLUMNS: dict[str, int] = {}
+_COLUMNS: dict[str, int] = {}  # valid column letters only: at most MAX_COL entries
 _new_cell = object.__new__
 # Cell is a frozen dataclass with slots; filling the slots directly skips the frozen
 # __setattr__ path, about half the cost of building a cell, which matters at millions of cells.
@@ -42,7 +42,7 @@ def _column(letters: str) -> int:
         if not letters.isalpha() or not letters.isascii() or not letters.isupper():
             raise ValueError(f"bad column letters {letters!r}")
         index = column_index(letters)
-        if not 1 <= index <= MAX_COLUMN:
+        if not 1 <= index <= MAX_COL:
             raise ValueError(f"column {letters!r} is beyond the last column XFD")
         _COLUMNS[letters] = index
     return index

@@ -16,8 +16,9 @@ what the file is and what to do. Macros in .xlsm files are never run: only works
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass, field
+
+from auditor.grid import column_letter
 
 ERROR_CODES = (
     "#NULL!",
@@ -131,29 +132,3 @@ class Workbook:
 
     def formula_cells(self) -> list[Cell]:
         return [c for s in self.sheets.values() for c in s.cells.values() if c.formula]
-
-
-def column_letter(col: int) -> str:
-    letters = ""
-    while col > 0:
-        col, rem = divmod(col - 1, 26)
-        letters = chr(65 + rem) + letters
-    return letters
-
-
-def column_index(letters: str) -> int:
-    index = 0
-    for char in letters.upper():
-        index = index * 26 + (ord(char) - 64)
-    return index
-
-
-_CELL_RE = re.compile(r"^\$?([A-Za-z]{1,3})\$?(\d+)$")
-
-
-def parse_cell(coord: str) -> tuple[int, int]:
-    """'$B$7' -> (7, 2)."""
-    match = _CELL_RE.match(coord.strip())
-    if not match:
-        raise ValueError(f"not a cell reference: {coord!r}")
-    return int(match.group(2)), column_index(match.group(1))

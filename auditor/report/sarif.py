@@ -29,6 +29,7 @@ from pathlib import Path, PurePosixPath, PureWindowsPath
 from typing import Any, BinaryIO
 from urllib.parse import quote
 
+from auditor.grid import A1_CELL, column_index, split_cell
 from auditor.model import AuditResult, CheckInfo, Finding
 from auditor.report.common import plain
 
@@ -39,14 +40,6 @@ SARIF_SCHEMA = (
 FINGERPRINT = "regauditIdentity/v1"  # bump the version if the identity key ever changes shape
 SOURCE_ROOT = "%SRCROOT%"
 LEVELS: dict[str, str] = {"critical": "error", "major": "error", "minor": "warning", "info": "note"}
-
-_A1 = re.compile(r"^\$?([A-Za-z]{1,3})\$?([0-9]+)$")
-
-
-def split_cell(reference: str) -> tuple[str, str]:
-    """'My Sheet!B4:B9' -> ('My Sheet', 'B4:B9'); a sheet name may itself hold '!'."""
-    sheet, bang, address = reference.rpartition("!")
-    return (sheet, address) if bang else ("", reference)
 
 
 _LABEL = re.compile(r"^(Failing|Passing|Severity):")
@@ -97,21 +90,14 @@ def artifact_location(path: str) -> dict[str, Any]:
     return {"uri": quote(str(posix), safe="/"), "uriBaseId": SOURCE_ROOT}
 
 
-def _column_number(letters: str) -> int:
-    number = 0
-    for letter in letters.upper():
-        number = number * 26 + ord(letter) - ord("A") + 1
-    return number
-
-
 def cell_region(cell: str) -> dict[str, int] | None:
     """``Sheet!E11`` → startLine 11, startColumn 5; a range adds its end (exclusive column)."""
     corners = split_cell(cell)[1].split(":")
-    points = [_A1.match(corner) for corner in corners]
+    points = [A1_CELL.match(corner) for corner in corners]
     if not 1 <= len(points) <= 2 or any(point is None for point in points):
         return None  # whole columns or rows, or a name: no single place to point at
-    rows = [int(p.group(2)) for p in points if p]
-    columns = [_column_number(p.group(1)) for p in points if p]
+    rows = [int(p.group(4)) for p in points if p]
+    columns = [column_index(p.group(2)) for p in points if p]
     region = {"startLine": min(rows), "startColumn": min(columns)}
     if len(points) == 2:
         region["endLine"] = max(rows)

@@ -32,10 +32,9 @@ import re
 from collections.abc import Iterable, Sequence
 from pathlib import Path
 
-from openpyxl.utils.cell import column_index_from_string
-
 from auditor.errors import FormulaError
 from auditor.formula.r1c1 import parse_a1, r1c1_text, to_r1c1
+from auditor.grid import A1_CELL, column_index, on_grid, split_cell
 from auditor.model import (
     AuditResult,
     Finding,
@@ -47,11 +46,8 @@ from auditor.model import (
 
 IDENTITY_DIGITS = 16
 SEPARATOR = "\x1f"  # the ASCII unit separator: cannot occur in a path, sheet name or check id
-MAX_ROW = 1_048_576  # the xlsx grid; anything beyond is a defined name, not a cell
-MAX_COLUMN = 16_384
 
 _BOOKS = (".xlsx", ".xlsm")
-_CELL = re.compile(r"^(\$?)([A-Za-z]{1,3})(\$?)([0-9]+)$")
 _COLUMNS = re.compile(r"^(\$?)([A-Za-z]{1,3}):(\$?)([A-Za-z]{1,3})$")
 _ROWS = re.compile(r"^(\$?)([0-9]+):(\$?)([0-9]+)$")
 # Statistics tried in turn as the anchor of a regression's other cells: the slope first, since
@@ -90,25 +86,15 @@ def relative_workbook_path(path: str | Path, root: Path) -> str:
         return absolute.as_posix()  # outside the root (cannot happen for collected inputs)
 
 
-def split_cell(reference: str) -> tuple[str, str]:
-    """'My Sheet!B4:B9' -> ('My Sheet', 'B4:B9'); a sheet name may itself hold '!'."""
-    sheet, bang, address = reference.rpartition("!")
-    return (sheet, address) if bang else ("", reference)
-
-
 def _position(address: str) -> tuple[int, int] | None:
     """'E11' or '$E$11' -> (11, 5); None for anything that is not one cell."""
-    match = _CELL.match(address)
+    match = A1_CELL.match(address)
     if match is None:
         return None
-    row, column = int(match.group(4)), _column(match.group(2))
-    if not (1 <= row <= MAX_ROW and 1 <= column <= MAX_COLUMN):
+    row, column = int(match.group(4)), column_index(match.group(2))
+    if not on_grid(row, column):  # beyond the grid: a defined name, not a cell
         return None
     return row, column
-
-
-def _column(letters: str) -> int:
-    return int(column_index_from_string(letters.upper()))
 
 
 def reference_r1c1(reference: str, origin: tuple[int, int]) -> str | None:

@@ -11,6 +11,7 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 
+from auditor.grid import split_cell
 from auditor.model import AuditResult, RegressionResult, WorkbookResult
 from auditor.report.common import stat_order
 
@@ -53,15 +54,15 @@ def internal_link(sheet: str, cell: str = "A1") -> str:
     return f"internal:{quote_sheet(sheet)}!{cell}"
 
 
-def split_cell(cell: str) -> tuple[str, str]:
-    """'My Sheet!E5' -> ('My Sheet', 'E5'); the sheet's own name, unquoted (the JSON contract)."""
-    sheet, _, address = cell.rpartition("!")
+def plain_cell(cell: str) -> tuple[str, str]:
+    """'My Sheet'!$E$5 -> ('My Sheet', 'E5'): sheet unquoted, address without ``$``."""
+    sheet, address = split_cell(cell)
     return sheet.strip("'"), address.replace("$", "")
 
 
 def source_link(path: str, cell: str) -> str | None:
     """The HYPERLINK target of a cell in a source workbook, or None when Excel cannot hold it."""
-    sheet, address = split_cell(cell)
+    sheet, address = plain_cell(cell)
     if not sheet or not address:
         return None
     first = address.split(":", 1)[0]
