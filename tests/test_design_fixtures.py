@@ -17,8 +17,9 @@ from typing import Any
 
 import pytest
 
-from auditor.checks import REGISTRY, RegressionContext
+from auditor.checks import REGISTRY
 from auditor.compare.reported import build_reported
+from auditor.context import RegressionContext
 from auditor.design.inputs import DesignInputReader
 from auditor.evaluation.evaluator import Evaluator
 from auditor.extract import extract

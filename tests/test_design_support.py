@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from auditor.checks import RegressionContext
+from auditor.context import RegressionContext
 from auditor.extract import Extracted
 from auditor.fit.ols import fit_ols
 from auditor.formula.syntax import Ref

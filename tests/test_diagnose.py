@@ -20,7 +20,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import stats as distributions
 
-from auditor.checks.base import RegressionContext
+from auditor.context import RegressionContext
 from auditor.diagnose.engine import Explanation, _row_table, explain, moment_stat, rows_at_ends
 from auditor.extract import Extracted
 from auditor.fit.ols import fit_ols

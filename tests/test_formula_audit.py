@@ -21,7 +21,7 @@ import statsmodels.api as sm
 from auditor.checks.formula_audit import typed_counts
 from auditor.checks.formula_blocks import blocks_of, frame_form, sibling_groups, translate
 from auditor.checks.formula_support import replace_argument
-from auditor.checks.workbook_level import WorkbookContext
+from auditor.context import WorkbookContext
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import parse
 from auditor.locate.locator import Locator, locate

@@ -16,9 +16,9 @@ from auditor.checks import (  # noqa: F401
 from auditor.checks.base import (
     REGISTRY,
     Check,
-    RegressionContext,
     catalogue,
     run_regression_checks,
 )
+from auditor.context import RegressionContext
 
 __all__ = ["REGISTRY", "Check", "RegressionContext", "catalogue", "run_regression_checks"]

@@ -4,9 +4,10 @@ from __future__ import annotations
 
 from scipy import stats as distributions
 
-from auditor.checks.base import RegressionContext, check
+from auditor.checks.base import check
 from auditor.compare.precision import agree_stored, parse_text_number
 from auditor.compare.reported import relative_tolerance
+from auditor.context import RegressionContext
 from auditor.diagnose.engine import explain
 from auditor.model import STAT_KEYS, Finding, ReportedValue, Severity, stat_base
 from auditor.wording import fmt

@@ -7,26 +7,8 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
-from auditor.design.inputs import DesignInputs
-from auditor.extract import Extracted
-from auditor.fit.ols import FitResult
-from auditor.locate.locator import RegressionSpec
-from auditor.model import CheckInfo, Finding, ReportedValue
-from auditor.policy import Policy
-
-
-@dataclass
-class RegressionContext:
-    """Everything a check may look at for one regression (plain data, no files)."""
-
-    spec: RegressionSpec
-    data: Extracted
-    fit: FitResult
-    reported: dict[str, ReportedValue]
-    policy: Policy
-    stored_values: bool = True
-    design_inputs: DesignInputs | None = None  # claim text, stated working range, predictions
-
+from auditor.context import RegressionContext
+from auditor.model import CheckInfo, Finding
 
 CheckFunction = Callable[[RegressionContext], list[Finding]]
 

@@ -6,7 +6,8 @@ from __future__ import annotations
 import re
 
 from auditor.checks.agreement import describe
-from auditor.checks.base import RegressionContext, check
+from auditor.checks.base import check
+from auditor.context import RegressionContext
 from auditor.model import Finding, Severity, stat_base
 from auditor.wording import fmt
 

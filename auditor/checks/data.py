@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from auditor.checks.base import RegressionContext, check
+from auditor.checks.base import check
+from auditor.context import RegressionContext
 from auditor.grid import column_letter
 from auditor.model import Finding, Severity
 from auditor.wording import rows_text

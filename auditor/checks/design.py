@@ -10,11 +10,12 @@ claim comes from the reported p and no prediction is judged.
 
 from __future__ import annotations
 
-from auditor.checks.base import RegressionContext, check
+from auditor.checks.base import check
+from auditor.context import RegressionContext
 from auditor.design.claims import Claim, read_claim
 from auditor.design.findings import lack_of_fit_findings, levels_findings, spread_findings
 from auditor.design.inputs import DesignInputs
-from auditor.design.metrics import DesignMetrics, cached_design
+from auditor.design.metrics import DesignMetrics
 from auditor.design.point_findings import (
     extrapolation_findings,
     fragile_findings,
@@ -33,7 +34,7 @@ def _judged(context: RegressionContext) -> tuple[DesignMetrics, Claim] | None:
     if context.fit.status != "ok" or context.spec.x_columns != 1:
         return None
     inputs = _inputs(context)
-    metrics = cached_design(context.data, context.fit, context.policy, inputs)
+    metrics = context.design_metrics()
     if not metrics.simple:
         return None
     texts = inputs.texts if inputs is not None else []

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from auditor.checks.base import RegressionContext, check
+from auditor.checks.base import check
 from auditor.checks.formula_support import (
     local_text,
     parse_quietly,
@@ -18,6 +18,7 @@ from auditor.checks.formula_support import (
     replace_argument,
     severity_in_regression,
 )
+from auditor.context import RegressionContext
 from auditor.formula.syntax import Binary, Call, Node, Number, Ref, Unary
 from auditor.grid import column_letter
 from auditor.model import Finding, stat_base

@@ -9,7 +9,7 @@ belongs to is left unaudited and the finding says so.
 from __future__ import annotations
 
 from auditor.checks.base import check
-from auditor.checks.workbook_level import WorkbookContext
+from auditor.context import WorkbookContext
 from auditor.formula.syntax import NameNode, Node, RefNode, calls, walk
 from auditor.grid import column_letter
 from auditor.locate.locator import PAIR_FUNCS

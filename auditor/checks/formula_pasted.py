@@ -15,7 +15,7 @@ from auditor.checks.agreement import describe
 from auditor.checks.base import check
 from auditor.checks.formula_blocks import Block, blocks_of, sibling_groups, translate
 from auditor.checks.formula_support import local_text, reached_cells, severity_in_result
-from auditor.checks.workbook_level import WorkbookContext
+from auditor.context import WorkbookContext
 from auditor.model import Finding, ReportedValue, Severity, stat_base
 from auditor.read.workbook import Cell
 from auditor.wording import fmt

@@ -31,7 +31,7 @@ from auditor.checks.formula_blocks import (
     translate,
 )
 from auditor.checks.formula_support import reached_cells, severity_in_result
-from auditor.checks.workbook_level import WorkbookContext
+from auditor.context import WorkbookContext
 from auditor.errors import FormulaError
 from auditor.formula.r1c1 import Reference, a1_text, references
 from auditor.model import Finding, Severity

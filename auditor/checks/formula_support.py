@@ -13,7 +13,7 @@ from collections.abc import Iterable
 from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 
 from auditor.checks.agreement import significance_changes
-from auditor.checks.base import RegressionContext
+from auditor.context import RegressionContext
 from auditor.errors import FormulaError
 from auditor.formula.syntax import Node, parse, references
 from auditor.grid import column_letter

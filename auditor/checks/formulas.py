@@ -3,13 +3,14 @@ each call should pair x and y from the same rows."""
 
 from __future__ import annotations
 
-from auditor.checks.base import RegressionContext, check
+from auditor.checks.base import check
 from auditor.checks.formula_support import (
     local_text,
     parse_quietly,
     reached_cells,
     severity_in_regression,
 )
+from auditor.context import RegressionContext
 from auditor.formula.syntax import Node, Ref, RefNode, calls
 from auditor.locate.locator import PairUse
 from auditor.locate.spec import overlaps

@@ -2,29 +2,9 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-from typing import Any
-
 from auditor.checks.base import check
+from auditor.context import WorkbookContext
 from auditor.model import Finding
-
-
-@dataclass
-class WorkbookContext:
-    """What a workbook-level check may look at: the cells (as data, never the file), the
-    located regressions and their results."""
-
-    stored_values: bool
-    formula_count: int
-    unparsed: list[tuple[str, str]] = field(default_factory=list)  # (cell, why)
-    regressions: int = 0
-    workbook: Any = None  # auditor.read.workbook.Workbook
-    specs: list[Any] = field(
-        default_factory=list
-    )  # auditor.locate.locator.RegressionSpec, in order
-    results: list[Any] = field(default_factory=list)  # auditor.model.RegressionResult, same order
-    parsed: dict[tuple[str, int, int], Any] = field(default_factory=dict)  # formula ASTs by cell
-    policy: Any = None  # auditor.policy.Policy
 
 
 @check(

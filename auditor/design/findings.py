@@ -17,7 +17,7 @@ from auditor.model import Finding, Severity
 from auditor.policy import Policy
 
 if TYPE_CHECKING:
-    from auditor.checks.base import RegressionContext
+    from auditor.context import RegressionContext
 
 
 def row_cells(context: RegressionContext, row: int | None) -> list[str]:

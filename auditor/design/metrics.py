@@ -246,23 +246,8 @@ def _fill_inputs(metrics: DesignMetrics, inputs: DesignInputs | None, policy: Po
         metrics.width_needed = width_for_sxx_even(metrics.sxx_needed, metrics.n)
 
 
-_CACHE: list[tuple[object, object, object, object, DesignMetrics]] = []
-
-
-def cached_design(
-    data: Extracted, fit: FitResult, policy: Policy, inputs: DesignInputs | None = None
-) -> DesignMetrics:
-    """compute_design, computed once for the checks of one regression (they run in a row)."""
-    for entry in _CACHE:
-        if entry[0] is data and entry[1] is fit and entry[2] is policy and entry[3] is inputs:
-            return entry[4]
-    metrics = compute_design(data, fit, policy, inputs)
-    _CACHE[:] = [(data, fit, policy, inputs, metrics)]
-    return metrics
-
-
 def design_metrics(
     data: Extracted, fit: FitResult, policy: Policy, inputs: DesignInputs | None = None
 ) -> dict[str, float | int | str | None]:
     """The design part of a regression's result (JSON-ready, no NaN)."""
-    return cached_design(data, fit, policy, inputs).to_dict()
+    return compute_design(data, fit, policy, inputs).to_dict()

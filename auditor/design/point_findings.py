@@ -16,7 +16,7 @@ from auditor.design.metrics import DesignMetrics
 from auditor.model import Finding
 
 if TYPE_CHECKING:
-    from auditor.checks.base import RegressionContext
+    from auditor.context import RegressionContext
 
 
 def leverage_findings(

@@ -62,7 +62,7 @@ from auditor.model import ReportedValue, stat_base
 from auditor.wording import rows_text
 
 if TYPE_CHECKING:  # only annotations: the checks package imports this module (no cycle)
-    from auditor.checks.base import RegressionContext
+    from auditor.context import RegressionContext
 
 # What other modules and tests have imported from here since the row search moved out.
 __all__ = [

@@ -20,7 +20,7 @@ from auditor.model import ReportedValue
 from auditor.wording import rows_text
 
 if TYPE_CHECKING:  # only annotations: the checks package imports auditor.diagnose.engine (no cycle)
-    from auditor.checks.base import RegressionContext
+    from auditor.context import RegressionContext
 
 # A formula over the whole table for each statistic a stale value should be replaced by.
 FORMULAS = {

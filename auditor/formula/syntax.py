@@ -79,17 +79,16 @@ def _parse_free(text: str, sheet: str) -> Node:
     return _parse_now(_Context(text, sheet, None))
 
 
-# Per-workbook caches, keyed by id() because Workbook (a mutable dataclass) is unhashable;
-# a finaliser drops a cache when its workbook is collected.
-_BOOK_CACHES: dict[int, dict[tuple[str, str], Node]] = {}
+# Per-workbook parse caches; an entry goes when its workbook is collected.
+_BOOK_CACHES: weakref.WeakKeyDictionary[Workbook, dict[tuple[str, str], Node]] = (
+    weakref.WeakKeyDictionary()
+)
 
 
 def _book_cache(workbook: Workbook) -> dict[tuple[str, str], Node]:
-    key = id(workbook)
-    cache = _BOOK_CACHES.get(key)
+    cache = _BOOK_CACHES.get(workbook)
     if cache is None:
-        cache = _BOOK_CACHES[key] = {}
-        weakref.finalize(workbook, _BOOK_CACHES.pop, key, None)
+        cache = _BOOK_CACHES[workbook] = {}
     return cache
 
 

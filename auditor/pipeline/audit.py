@@ -11,11 +11,11 @@ from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
-from auditor.checks import RegressionContext, run_regression_checks
-from auditor.checks.workbook_level import WorkbookContext, run_workbook_checks
+from auditor.checks import run_regression_checks
+from auditor.checks.workbook_level import run_workbook_checks
 from auditor.compare.reported import build_reported
+from auditor.context import RegressionContext, WorkbookContext
 from auditor.design.inputs import DesignInputReader
-from auditor.design.metrics import design_metrics
 from auditor.errors import UnreadableWorkbook
 from auditor.evaluation.evaluator import Evaluator
 from auditor.extract import extract
@@ -84,7 +84,7 @@ def audit_regression(
         x_columns=spec.x_columns,
         intended=intended,
         reported=reported,
-        design=design_metrics(data, fit, policy, inputs),
+        design=context.design_metrics().to_dict(),
         findings=findings,
         data=points,
         intended_x_range=data.intended_x_range,

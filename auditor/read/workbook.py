@@ -90,7 +90,7 @@ class DefinedName:
     scope: str | None = None  # sheet name for a sheet-scoped name, None for workbook scope
 
 
-@dataclass
+@dataclass(eq=False)  # compared and hashed by identity: a parsed workbook is one object
 class Workbook:
     path: str
     sha256: str

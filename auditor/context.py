@@ -1,0 +1,56 @@
+"""What a check receives: one regression's context, or one workbook's.
+
+Both are plain data built by the pipeline (:mod:`auditor.pipeline.audit`). The design metrics are
+a step of their own: computed once per regression, the first time a check asks, and carried on
+the context (no cache outside it).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from auditor.design.inputs import DesignInputs
+from auditor.design.metrics import DesignMetrics, compute_design
+from auditor.extract import Extracted
+from auditor.fit.ols import FitResult
+from auditor.formula.syntax import Node
+from auditor.locate.spec import RegressionSpec
+from auditor.model import RegressionResult, ReportedValue
+from auditor.policy import Policy
+from auditor.read.workbook import Workbook
+
+
+@dataclass
+class RegressionContext:
+    """Everything a check may look at for one regression (plain data, no files)."""
+
+    spec: RegressionSpec
+    data: Extracted
+    fit: FitResult
+    reported: dict[str, ReportedValue]
+    policy: Policy
+    stored_values: bool = True
+    design_inputs: DesignInputs | None = None  # claim text, stated working range, predictions
+    design: DesignMetrics | None = None  # set by design_metrics(), once
+
+    def design_metrics(self) -> DesignMetrics:
+        """The design metrics of this regression, computed on first use and kept."""
+        if self.design is None:
+            self.design = compute_design(self.data, self.fit, self.policy, self.design_inputs)
+        return self.design
+
+
+@dataclass
+class WorkbookContext:
+    """What a workbook-level check may look at: the cells (as data, never the file), the
+    located regressions and their results."""
+
+    stored_values: bool
+    formula_count: int
+    unparsed: list[tuple[str, str]] = field(default_factory=list)  # (cell, why)
+    regressions: int = 0
+    workbook: Workbook | None = None
+    specs: list[RegressionSpec] = field(default_factory=list)  # in the order of ``results``
+    results: list[RegressionResult] = field(default_factory=list)
+    parsed: dict[tuple[str, int, int], Node] = field(default_factory=dict)  # formula ASTs by cell
+    policy: Policy | None = None
