@@ -18,9 +18,11 @@ from tabulate import tabulate
 from auditor import __version__
 from auditor.cli.plan import add_plan_parser
 from auditor.cli.review import add_review_parsers, cluster_options
-from auditor.cli.runner import FORMATS, run_audit
+from auditor.cli.runner import run_audit
 from auditor.errors import PolicyError, RegauditError, UsageError
 from auditor.model import SEVERITIES, SEVERITY_RANK, AuditResult
+from auditor.options import DEFAULT_FORMATS as FORMATS
+from auditor.options import RunOptions
 from auditor.pipeline.limits import default_jobs
 
 FAIL_CHOICES = ("critical", "major", "minor", "info", "never")
@@ -76,10 +78,8 @@ def cmd_audit(args: argparse.Namespace) -> int:
     if bad:
         raise UsageError(f"unknown format {bad[0]!r}; choose from {', '.join(FORMAT_CHOICES)}")
     started = time.perf_counter()
-    result = run_audit(
-        args.paths,
-        Path(args.out),
-        args.policy,
+    options = RunOptions(
+        policy=args.policy,
         jobs=args.jobs,
         formats=formats,
         bindings_file=args.bindings,
@@ -95,6 +95,7 @@ def cmd_audit(args: argparse.Namespace) -> int:
         time_limit=args.time_limit,
         memory_limit_gb=args.memory_limit,
     )
+    result = run_audit(args.paths, Path(args.out), options)
     _print_outcome(result, Path(args.out), formats)
     print(f"  in {time.perf_counter() - started:.1f} s")
     return exit_code(result, args.fail_on)
@@ -166,14 +167,10 @@ def cmd_demo(args: argparse.Namespace) -> int:
         shutil.copyfile(source, inputs / source.name)
     print(f"wrote {len(demo_workbooks())} demo workbooks to {inputs}")
     out_dir = target / "audit"
-    result = run_audit(
-        [str(inputs)],
-        out_dir,
-        args.policy,
-        jobs=args.jobs,
-        timestamp=args.timestamp,
-        annotate=True,
+    options = RunOptions(
+        policy=args.policy, jobs=args.jobs, timestamp=args.timestamp, annotate=True
     )
+    result = run_audit([str(inputs)], out_dir, options)
     _print_outcome(result, out_dir, FORMATS)
     print(f"open {out_dir / 'audit.xlsx'} or read {out_dir / 'summary.txt'}")
     return 0

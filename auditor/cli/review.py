@@ -10,6 +10,7 @@ from auditor import __version__
 from auditor.cli.runner import load_bindings, run_audit
 from auditor.errors import UsageError
 from auditor.model import AuditResult
+from auditor.options import RunOptions
 
 
 def cmd_baseline_create(args: argparse.Namespace) -> int:
@@ -17,10 +18,8 @@ def cmd_baseline_create(args: argparse.Namespace) -> int:
     from auditor.review.baseline import create_baseline, save_baseline
     from auditor.review.identity import audit_root
 
-    result = run_audit(
-        args.paths,
-        Path("."),
-        args.policy,
+    options = RunOptions(
+        policy=args.policy,
         jobs=args.jobs,
         bindings_file=args.bindings,
         timestamp=args.timestamp,
@@ -29,6 +28,7 @@ def cmd_baseline_create(args: argparse.Namespace) -> int:
         waivers_file=None,
         write=False,
     )
+    result = run_audit(args.paths, Path("."), options)
     if not any(w.status != "unreadable" for w in result.workbooks):
         raise UsageError("none of the inputs could be read, so there is nothing to record")
     baseline = create_baseline(result, audit_root(args.paths))

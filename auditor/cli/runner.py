@@ -13,8 +13,7 @@ from typing import Any
 from auditor import __version__
 from auditor.errors import UsageError
 from auditor.model import AuditResult
-
-FORMATS = ("json", "text", "xlsx")  # written by default
+from auditor.options import RunOptions
 
 
 def timestamp_text(option: str | None) -> str:
@@ -91,26 +90,8 @@ def _audit_locally(
             ledger.close()
 
 
-def run_audit(
-    inputs: list[str],
-    out_dir: Path,
-    policy_name: str = "general",
-    jobs: int = 1,
-    formats: tuple[str, ...] = FORMATS,
-    bindings_file: str | None = None,
-    timestamp: str | None = None,
-    cluster: str | None = None,
-    ship_bytes: bool = False,
-    waivers_file: str | None = None,
-    baseline_file: str | None = None,
-    write: bool = True,
-    annotate: bool = False,
-    changed: bool = False,
-    ledger_file: str | None = None,
-    use_ledger: bool = True,
-    time_limit: float | None = 600.0,
-    memory_limit_gb: float | None = 4.0,
-) -> AuditResult:
+def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = None) -> AuditResult:
+    """Audit ``inputs`` as ``options`` say; write the reports into ``out_dir``."""
     from auditor.checks import catalogue
     from auditor.pipeline.audit import collect_inputs
     from auditor.policy import load_policy
@@ -121,9 +102,10 @@ def run_audit(
     from auditor.review.identity import assign_identities, audit_root
     from auditor.review.waivers import apply_waivers, default_waiver_file, load_waivers
 
+    options = options or RunOptions()
     assert_safe_xml()
-    policy = load_policy(policy_name)
-    bindings = load_bindings(bindings_file)
+    policy = load_policy(options.policy)
+    bindings = load_bindings(options.bindings_file)
     missing = [p for p in inputs if not Path(p).exists()]
     if missing:
         raise UsageError(f"no such file or folder: {', '.join(repr(m) for m in missing)}")
@@ -134,32 +116,32 @@ def run_audit(
         )
     # Read the baseline and waivers first: a typo in them should not cost a whole audit.
     root = audit_root(inputs)
-    waiver_path = Path(waivers_file) if waivers_file else default_waiver_file(root)
-    waivers = load_waivers(waiver_path, required=waivers_file is not None)
-    baseline = load_baseline(Path(baseline_file)) if baseline_file else None
-    if cluster:
+    waiver_path = Path(options.waivers_file) if options.waivers_file else default_waiver_file(root)
+    waivers = load_waivers(waiver_path, required=options.waivers_file is not None)
+    baseline = load_baseline(Path(options.baseline_file)) if options.baseline_file else None
+    if options.cluster:
         from auditor.pipeline.cluster import audit_on_cluster
 
         workbooks = audit_on_cluster(
-            paths, policy, bindings, cluster=cluster, ship_bytes=ship_bytes
+            paths, policy, bindings, cluster=options.cluster, ship_bytes=options.ship_bytes
         )
     else:
         workbooks = _audit_locally(
             paths,
             policy,
             bindings,
-            jobs,
-            changed,
-            ledger_file,
-            use_ledger,
-            time_limit,
-            memory_limit_gb,
+            options.jobs,
+            options.changed,
+            options.ledger_file,
+            options.use_ledger,
+            options.time_limit,
+            options.memory_limit_gb,
         )
     result = AuditResult(
         version=__version__,
         policy=policy.name,
         workbooks=workbooks,
-        generated=timestamp_text(timestamp),
+        generated=timestamp_text(options.timestamp),
         inputs=[str(p) for p in inputs],
         checks=catalogue(),
     )
@@ -175,11 +157,15 @@ def run_audit(
         result = outcome.result
         for line in describe_outcome(outcome):
             print(line)
-    if write:
+    if options.write:
         # Copies first: the Overview lists them, and a refusal stops the run before any write.
-        copies = annotate_copies(result, out_dir, paths) if annotate else []
+        copies = annotate_copies(result, out_dir, paths) if options.annotate else []
         write_reports(
-            result, out_dir, list(formats), input_paths=[Path(p) for p in paths], copies=copies
+            result,
+            out_dir,
+            list(options.formats),
+            input_paths=[Path(p) for p in paths],
+            copies=copies,
         )
         for copy in copies:
             if copy.error:
