@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import inspect
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
+from types import ModuleType
 from typing import Any
 
-from auditor.context import RegressionContext
+from auditor.context import RegressionContext, WorkbookContext
 from auditor.model import CheckInfo, Finding
 
 CheckFunction = Callable[[RegressionContext], list[Finding]]
@@ -15,6 +16,10 @@ CheckFunction = Callable[[RegressionContext], list[Finding]]
 
 @dataclass(frozen=True)
 class Check:
+    """One check: a stable id, a one-line summary, its family (module) and its function.
+
+    Calling a Check calls its function, so a module can still call its own checks by name."""
+
     id: str
     summary: str
     family: str
@@ -26,36 +31,52 @@ class Check:
     def doc(self) -> str:
         return inspect.getdoc(self.function) or ""
 
-
-REGISTRY: dict[str, Check] = {}
-
-
-def catalogue() -> list[CheckInfo]:
-    """Every registered check as the result model describes it (for reporters)."""
-    return [
-        CheckInfo(item.id, item.summary, item.doc, item.family, item.scope)
-        for item in REGISTRY.values()
-    ]
+    def __call__(self, context: Any) -> list[Finding]:
+        return self.function(context)
 
 
 def check(
     check_id: str, summary: str, *, scope: str = "regression", options: dict[str, Any] | None = None
-) -> Callable[[Callable[..., list[Finding]]], Callable[..., list[Finding]]]:
-    """Register a check function under a stable id."""
+) -> Callable[[Callable[..., list[Finding]]], Check]:
+    """Make a function a check with a stable id; :func:`build_registry` collects it."""
 
-    def register(function: Callable[..., list[Finding]]) -> Callable[..., list[Finding]]:
-        if check_id in REGISTRY:
-            raise ValueError(f"check id {check_id!r} is registered twice")
+    def make(function: Callable[..., list[Finding]]) -> Check:
         family = function.__module__.rsplit(".", 1)[-1]
-        REGISTRY[check_id] = Check(check_id, summary, family, function, scope, options or {})
-        return function
+        return Check(check_id, summary, family, function, scope, options or {})
 
-    return register
+    return make
 
 
-def run_regression_checks(context: RegressionContext) -> list[Finding]:
+def build_registry(families: Iterable[ModuleType]) -> dict[str, Check]:
+    """Every check defined in ``families``, in their order and then in definition order.
+
+    A check imported into another module is counted once, where it is defined; an id used twice
+    is an error."""
+    registry: dict[str, Check] = {}
+    for module in families:
+        family = module.__name__.rsplit(".", 1)[-1]
+        for value in vars(module).values():
+            if not isinstance(value, Check) or value.family != family:
+                continue
+            if value.id in registry:
+                raise ValueError(f"check id {value.id!r} is defined twice")
+            registry[value.id] = value
+    return registry
+
+
+def catalogue_of(registry: dict[str, Check]) -> list[CheckInfo]:
+    """Every check of ``registry`` as the result model describes it (for reporters)."""
+    return [
+        CheckInfo(item.id, item.summary, item.doc, item.family, item.scope)
+        for item in registry.values()
+    ]
+
+
+def run_checks(
+    registry: dict[str, Check], scope: str, context: RegressionContext | WorkbookContext
+) -> list[Finding]:
     findings: list[Finding] = []
-    for registered in REGISTRY.values():
-        if registered.scope == "regression":
+    for registered in registry.values():
+        if registered.scope == scope:
             findings.extend(registered.function(context))
     return findings

@@ -56,13 +56,3 @@ def formula_unreadable(context: WorkbookContext) -> list[Finding]:
         )
         for cell, why in context.unparsed
     ]
-
-
-def run_workbook_checks(context: WorkbookContext) -> list[Finding]:
-    from auditor.checks.base import REGISTRY
-
-    findings: list[Finding] = []
-    for registered in REGISTRY.values():
-        if registered.scope == "workbook":
-            findings.extend(registered.function(context))
-    return findings

@@ -11,8 +11,7 @@ from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
-from auditor.checks import run_regression_checks
-from auditor.checks.workbook_level import run_workbook_checks
+from auditor.checks import run_regression_checks, run_workbook_checks
 from auditor.compare.reported import build_reported
 from auditor.context import RegressionContext, WorkbookContext
 from auditor.design.inputs import DesignInputReader
