@@ -9,7 +9,6 @@ among the flagged ones.
 
 from __future__ import annotations
 
-import dataclasses
 import functools
 import json
 from pathlib import Path
@@ -18,22 +17,13 @@ from typing import Any
 import pytest
 
 from auditor.checks import REGISTRY
-from auditor.compare.reported import build_reported
-from auditor.context import RegressionContext
-from auditor.design.inputs import DesignInputReader
-from auditor.evaluation.evaluator import Evaluator
-from auditor.extract import extract
-from auditor.fit.ols import fit_ols
-from auditor.locate.locator import Locator, locate
 from auditor.model import Finding
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
-from auditor.read.open import read_workbook
 
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURES = ROOT / "fixtures"
 DESIGN_CHECKS = {c.id for c in REGISTRY.values() if c.family == "design"}
-WIRED = "design_inputs" in {f.name for f in dataclasses.fields(RegressionContext)}
 
 
 def _declared() -> list[tuple[str, dict[str, Any]]]:
@@ -49,28 +39,13 @@ def _declared() -> list[tuple[str, dict[str, Any]]]:
 
 @functools.cache
 def design_findings(file: str) -> dict[tuple[str, str], list[Finding]]:
-    """Design findings per (x range, y range), through the pipeline once it reads the design
-    inputs, and until then through the same steps with the inputs read here."""
+    """Design findings per (x range, y range), through the whole pipeline."""
     path, policy = FIXTURES / "workbooks" / file, load_policy("general")
-    if WIRED:
-        result = audit_workbook(path, policy)
-        return {
-            (r.x_range, r.y_range): [f for f in r.findings if f.check in DESIGN_CHECKS]
-            for r in result.regressions
-        }
-    workbook = read_workbook(path)
-    evaluator, locator = Evaluator(workbook), Locator(workbook)
-    reader = DesignInputReader(workbook, evaluator, locator.parsed)
-    out = {}
-    for spec in locate(workbook, None, locator):
-        data = extract(workbook, evaluator, spec)
-        fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
-        reported = build_reported(spec, evaluator, fit.stats(), workbook.stored_values, 1e-9)
-        context = RegressionContext(spec, data, fit, reported, policy, workbook.stored_values)
-        context.design_inputs = reader.read(spec)  # type: ignore[attr-defined]
-        found = [f for c in DESIGN_CHECKS for f in REGISTRY[c].function(context)]
-        out[(spec.x.address, spec.y.address)] = found
-    return out
+    result = audit_workbook(path, policy)
+    return {
+        (r.x_range, r.y_range): [f for f in r.findings if f.check in DESIGN_CHECKS]
+        for r in result.regressions
+    }
 
 
 CASES = _declared()

@@ -207,22 +207,22 @@ def _changes_conclusion(value: dict[str, Any], key: str, alpha: float) -> bool:
     return key == "slope" and reported * intended < 0
 
 
-@pytest.mark.parametrize(
-    ("file", "declared"), _declared(), ids=[f"{f}:{r['y_range']}" for f, r in _declared()]
-)
-def test_decision_changing_defects_are_critical(
-    audit: dict[str, Any], file: str, declared: dict[str, Any]
-) -> None:
+def test_decision_changing_defects_are_critical(audit: dict[str, Any]) -> None:
     """A reported p on the other side of alpha (0.05, the general policy) or a slope of the
-    wrong sign gets a critical finding."""
-    workbook = _workbook(audit, file)
-    regression = _match(workbook, declared)
-    changed = [
-        v["cell"]
-        for key, v in regression["reported"].items()
-        if _changes_conclusion(v, key.split("@")[0], 0.05)
-    ]
-    if not changed:
-        return
-    critical = [f for f in _findings_of(workbook, regression) if f["severity"] == "critical"]
-    assert critical, changed
+    wrong sign gets a critical finding; the corpus holds several such defects."""
+    missed, seen = [], 0
+    for file, declared in _declared():
+        workbook = _workbook(audit, file)
+        regression = _match(workbook, declared)
+        changed = [
+            v["cell"]
+            for key, v in regression["reported"].items()
+            if _changes_conclusion(v, key.split("@")[0], 0.05)
+        ]
+        if not changed:
+            continue
+        seen += 1
+        if not any(f["severity"] == "critical" for f in _findings_of(workbook, regression)):
+            missed.append((file, changed))
+    assert seen >= 3  # the demo corpus plants several decision-changing defects
+    assert missed == []

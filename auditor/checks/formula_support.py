@@ -10,12 +10,13 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 
-from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
+from openpyxl.formula.tokenizer import Token
 
 from auditor.checks.agreement import significance_changes
 from auditor.context import RegressionContext
 from auditor.errors import FormulaError
 from auditor.formula.syntax import Node, parse, references
+from auditor.formula.tokens import tokenize
 from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec
 from auditor.model import RegressionResult, Severity
@@ -99,8 +100,8 @@ def replace_argument(formula: str, function: str, index: int, new_text: str) -> 
     """The formula with argument ``index`` (0-based) of the first call to ``function`` replaced,
     or None when there is no such argument. ``function`` is matched without storage prefixes."""
     try:
-        tokens = list(Tokenizer(formula if formula.startswith("=") else "=" + formula).items)
-    except (TokenizerError, IndexError, AssertionError, KeyError, ValueError):
+        tokens = tokenize(formula)
+    except FormulaError:
         return None
     values = [t.value for t in tokens]
     for start, token in enumerate(tokens):

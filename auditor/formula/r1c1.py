@@ -19,9 +19,9 @@ import re
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
+from openpyxl.formula.tokenizer import Token
 
-from auditor.errors import FormulaError
+from auditor.formula.tokens import tokenize
 from auditor.grid import A1_CELL, A1_COLUMN, A1_ROW, MAX_COL, MAX_ROW, column_index, column_letter
 
 _STORAGE_PREFIXES = ("_XLFN.", "_XLWS.", "_XLUDF.")
@@ -183,12 +183,7 @@ def parse_r1c1(operand: str, row: int, col: int) -> Reference | None:
 
 
 def _tokens(formula: str, keep_space: bool = True) -> list[Token]:
-    text = formula if formula.startswith("=") else "=" + formula
-    try:
-        items = Tokenizer(text).items
-        return [t for t in items if keep_space or t.type != Token.WSPACE]
-    except (TokenizerError, IndexError, AssertionError, KeyError, ValueError) as exc:
-        raise FormulaError(f"cannot tokenize formula {formula!r}: {exc}") from exc
+    return [t for t in tokenize(formula) if keep_space or t.type != Token.WSPACE]
 
 
 def rewrite_references(

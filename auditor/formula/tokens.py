@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from openpyxl.formula.tokenizer import Tokenizer, TokenizerError
+from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 
 from auditor.errors import FormulaError
 
@@ -54,12 +54,22 @@ def _split_outside_quotes(text: str, sep: str) -> list[str]:
     return parts
 
 
-def _tokens(text: str) -> list[_Tok]:
+# openpyxl's tokenizer signals unbalanced or odd text with several exception types.
+TOKENIZER_FAILURES = (TokenizerError, IndexError, AssertionError, KeyError, ValueError)
+
+
+def tokenize(formula: str) -> list[Token]:
+    """openpyxl's tokens of ``formula`` ('=' added when missing); FormulaError when it cannot
+    read the text. The one place the tokenizer is called."""
+    text = formula if formula.startswith("=") else "=" + formula
     try:
-        raw = Tokenizer(text).items
-    except (TokenizerError, IndexError, AssertionError, KeyError, ValueError) as exc:
-        # The tokenizer signals unbalanced text with several exception types.
-        raise FormulaError(f"cannot parse formula {text!r}: {exc}") from exc
+        return list(Tokenizer(text).items)
+    except TOKENIZER_FAILURES as exc:
+        raise FormulaError(f"cannot parse formula {formula!r}: {exc}") from exc
+
+
+def _tokens(text: str) -> list[_Tok]:
+    raw = tokenize(text)
     out: list[_Tok] = []
     for item in raw:
         kind, sub, value = item.type, item.subtype, item.value

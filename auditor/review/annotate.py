@@ -179,7 +179,14 @@ def _annotate_one(
     losses = lossy_content(source)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        book = openpyxl.load_workbook(source, keep_links=True)
+        try:
+            book = openpyxl.load_workbook(source, keep_links=True)
+        except (ValueError, KeyError, TypeError, zipfile.BadZipFile) as exc:
+            # openpyxl's own ways of refusing a package it cannot model; a bug of ours below
+            # this point keeps its traceback.
+            raise UnreadableWorkbook(
+                f"openpyxl cannot load it ({type(exc).__name__}: {exc})"
+            ) from exc
     losses += [f'what openpyxl warned of ("{text}")' for text in _warnings(caught)]
     notes = annotate_book(book, workbook, result, losses)
     with atomic_output(target, inputs) as handle:
@@ -205,7 +212,7 @@ def annotate_copies(
     for workbook, target in targets:
         try:
             copies.append(_annotate_one(workbook, target, result, inputs))
-        except (UnreadableWorkbook, OSError, ValueError, KeyError, zipfile.BadZipFile) as exc:
+        except (UnreadableWorkbook, OSError) as exc:
             # The audit read the file its own way; if openpyxl cannot, the others still get copies.
             why = f"no copy was made: {type(exc).__name__}: {exc}"
             copies.append(AnnotatedCopy(workbook.path, str(target), 0, (), error=why))
