@@ -15,11 +15,9 @@ from hypothesis import strategies as st
 from openpyxl.formula.translate import Translator
 
 from auditor.errors import FormulaError
+from auditor.formula.operands import Corner, Reference, parse_a1
 from auditor.formula.r1c1 import (
-    Corner,
-    Reference,
     canonical,
-    parse_a1,
     references,
     rewrite_references,
     to_a1,

@@ -20,7 +20,8 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
-from auditor.formula.r1c1 import Corner, Reference, canonical, rewrite_references
+from auditor.formula.operands import Corner, Reference
+from auditor.formula.r1c1 import canonical, rewrite_references
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec, StatCell

@@ -33,7 +33,8 @@ from auditor.checks.formula_blocks import (
 from auditor.checks.formula_support import reached_cells, severity_in_result
 from auditor.context import WorkbookContext
 from auditor.errors import FormulaError
-from auditor.formula.r1c1 import Reference, a1_text, references
+from auditor.formula.operands import Reference
+from auditor.formula.r1c1 import a1_text, references
 from auditor.model import Finding, Severity
 
 CHECK = "sibling-formula-differs"

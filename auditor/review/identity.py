@@ -33,7 +33,8 @@ from collections.abc import Iterable, Sequence
 from pathlib import Path
 
 from auditor.errors import FormulaError
-from auditor.formula.r1c1 import parse_a1, r1c1_text, to_r1c1
+from auditor.formula.operands import parse_a1
+from auditor.formula.r1c1 import r1c1_text, to_r1c1
 from auditor.grid import A1_CELL, column_index, on_grid, split_cell
 from auditor.model import (
     AuditResult,
