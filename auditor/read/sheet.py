@@ -8,8 +8,6 @@ costs a visible share of the reading time.
 
 from __future__ import annotations
 
-import zipfile
-from dataclasses import dataclass, field
 from typing import Any
 
 from openpyxl.formula.translate import Translator
@@ -17,13 +15,12 @@ from openpyxl.utils.datetime import from_ISO8601, to_excel
 
 from auditor.errors import UnreadableWorkbook
 from auditor.grid import MAX_COL, column_index, column_letter
-from auditor.read.parts import plain_text
+from auditor.read.book import BookState
 from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet
 from auditor.read.xmlsafe import iter_part, prune
 
 NOT_A_NUMBER = ErrorValue("#NUM!")
 MAX_CELLS = 10_000_000  # per workbook; about 2 GB as cell objects, beyond any real review file
-MAX_ARRAY_CELLS = 1_000_000  # cells covered by array-formula blocks, per workbook
 PRUNE_EVERY = 512  # rows between drops of parsed rows from the tree (memory stays flat)
 
 _COLUMNS: dict[str, int] = {}  # valid column letters only: at most MAX_COL entries
@@ -257,48 +254,3 @@ class SheetReader:
                     cells.pop(key, None)
         self.sheet.max_row = max((r for r, _ in cells), default=0)
         self.sheet.max_col = max((c for _, c in cells), default=0)
-
-
-@dataclass
-class BookState:
-    """What the sheets of one workbook share while they are read, and the counts they leave."""
-
-    archive: zipfile.ZipFile
-    label: str  # the file's name, for messages
-    ns: str  # "{namespace}" of SpreadsheetML in this package
-    strings: list[str]
-    formats: list[str]  # number format per cell style
-    dates: frozenset[str]  # cell styles (as their "s" text) that format dates or durations
-    styles: dict[str | None, str] = field(default_factory=dict)  # "s" text -> number format
-    arrays: dict[tuple[str, int, int], tuple[int, int, int, int]] = field(default_factory=dict)
-    cell_count: int = 0
-    formula_count: int = 0
-    valued_formulas: int = 0
-
-    def __post_init__(self) -> None:
-        self.styles.setdefault(None, self.formats[0])
-
-    def style_of(self, s: str | None) -> str:
-        """The number format of style ``s`` (memoised in ``styles``)."""
-        try:
-            index = int(s or 0)
-            found = self.formats[index] if 0 <= index < len(self.formats) else "General"
-        except ValueError:
-            found = "General"
-        self.styles[s] = found
-        return found
-
-    def inline_text(self, element: Any) -> str:
-        return plain_text(element, self.ns)
-
-    def add_array(self, sheet: str, ref: str) -> None:
-        bounds = _bounds(ref)
-        r1, c1, r2, c2 = bounds
-        if len(self.arrays) + (r2 - r1 + 1) * (c2 - c1 + 1) > MAX_ARRAY_CELLS:
-            raise UnreadableWorkbook(
-                f"{self.label}: sheet {sheet!r}: array formulas cover more than "
-                f"{MAX_ARRAY_CELLS:,} cells (block {ref!r}); refused as too large"
-            )
-        for row in range(r1, r2 + 1):
-            for col in range(c1, c2 + 1):
-                self.arrays[(sheet, row, col)] = bounds

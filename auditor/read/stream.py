@@ -24,8 +24,9 @@ import zlib
 from pathlib import Path
 
 from auditor.errors import UnreadableWorkbook
+from auditor.read.book import BookState
 from auditor.read.parts import read_book, read_number_formats, read_shared_strings, workbook_part
-from auditor.read.sheet import BookState, SheetReader
+from auditor.read.sheet import SheetReader
 from auditor.read.workbook import DefinedName, Sheet, Workbook
 
 # What zipfile raises on a damaged container: a bad header or checksum, a deflate stream that
