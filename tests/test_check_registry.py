@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import ast
+import inspect
 import types
 
 import pytest
@@ -9,6 +11,7 @@ import pytest
 from auditor.checks import FAMILIES, REGISTRY
 from auditor.checks.base import Check, build_registry, check
 from auditor.model import Finding
+from auditor.policy import KNOWN
 
 
 def _family(name: str, **members: object) -> types.ModuleType:
@@ -49,3 +52,45 @@ def test_an_id_defined_twice_is_refused() -> None:
 def test_a_check_is_callable_like_its_function() -> None:
     made = _made("call-check", "one")
     assert made(None) == [Finding("x", "info", "m")]
+
+
+def _policy_keys_read(source: str) -> set[str]:
+    """Policy keys a module's source reads: ``policy.get("k")``, ``policy.find("k")``,
+    ``policy.alpha``."""
+    tree = ast.parse(source)
+    keys: set[str] = set()
+    for node in ast.walk(tree):
+        if (
+            isinstance(node, ast.Call)
+            and isinstance(node.func, ast.Attribute)
+            and node.func.attr in ("get", "find")
+            and isinstance(node.func.value, ast.Attribute | ast.Name)
+            and getattr(node.func.value, "attr", getattr(node.func.value, "id", "")) == "policy"
+            and node.args
+            and isinstance(node.args[0], ast.Constant)
+        ):
+            keys.add(str(node.args[0].value))
+        if isinstance(node, ast.Attribute) and node.attr == "alpha":
+            base = node.value
+            if getattr(base, "attr", getattr(base, "id", "")) == "policy":
+                keys.add("alpha")
+    return keys
+
+
+def test_declared_thresholds_are_policy_keys_and_cover_them() -> None:
+    declared = {key for c in REGISTRY.values() for key in c.thresholds}
+    assert declared <= set(KNOWN)
+    assert set(KNOWN) <= declared  # every threshold a policy may set is read by some check
+
+
+@pytest.mark.parametrize("module", FAMILIES, ids=lambda m: m.__name__.rsplit(".", 1)[-1])
+def test_a_family_declares_the_thresholds_its_source_reads(module: types.ModuleType) -> None:
+    family = module.__name__.rsplit(".", 1)[-1]
+    declared = {key for c in REGISTRY.values() if c.family == family for key in c.thresholds}
+    read = _policy_keys_read(inspect.getsource(module))
+    assert read <= declared
+
+
+def test_the_scanner_sees_policy_reads() -> None:
+    source = 'a = context.policy.get("power")\nb = policy.find("max_leverage")\nc = policy.alpha\n'
+    assert _policy_keys_read(source) == {"power", "max_leverage", "alpha"}

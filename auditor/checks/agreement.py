@@ -68,7 +68,11 @@ def significance_changes(context: RegressionContext, value: ReportedValue) -> bo
     return False
 
 
-@check("stat-recompute", "A reported statistic differs from the independent recomputation.")
+@check(
+    "stat-recompute",
+    "A reported statistic differs from the independent recomputation.",
+    thresholds=("alpha", "stored_relative_tolerance"),
+)
 def stat_recompute(context: RegressionContext) -> list[Finding]:
     """Compare each reported value with the fit over the intended data table.
 
@@ -200,7 +204,11 @@ def _stat_rank(key: str) -> int:
     return STAT_KEYS.index(base) if base in STAT_KEYS else len(STAT_KEYS)
 
 
-@check("stat-stale", "A stored value no longer matches what its own formula computes.")
+@check(
+    "stat-stale",
+    "A stored value no longer matches what its own formula computes.",
+    thresholds=("stored_relative_tolerance",),
+)
 def stat_stale(context: RegressionContext) -> list[Finding]:
     """A cell's cached value differs from its formula's result over the current cells.
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import inspect
 from collections.abc import Callable, Iterable
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from types import ModuleType
 from typing import Any
 
@@ -25,7 +25,7 @@ class Check:
     family: str
     function: Callable[..., list[Finding]]
     scope: str = "regression"  # "regression" or "workbook"
-    options: dict[str, Any] = field(default_factory=dict)
+    thresholds: tuple[str, ...] = ()  # the policy keys it reads (regaudit rules lists them)
 
     @property
     def doc(self) -> str:
@@ -36,13 +36,17 @@ class Check:
 
 
 def check(
-    check_id: str, summary: str, *, scope: str = "regression", options: dict[str, Any] | None = None
+    check_id: str,
+    summary: str,
+    *,
+    scope: str = "regression",
+    thresholds: tuple[str, ...] = (),
 ) -> Callable[[Callable[..., list[Finding]]], Check]:
     """Make a function a check with a stable id; :func:`build_registry` collects it."""
 
     def make(function: Callable[..., list[Finding]]) -> Check:
         family = function.__module__.rsplit(".", 1)[-1]
-        return Check(check_id, summary, family, function, scope, options or {})
+        return Check(check_id, summary, family, function, scope, thresholds)
 
     return make
 

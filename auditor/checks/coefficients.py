@@ -23,6 +23,7 @@ def _stem(header: str) -> str:
 @check(
     "coefficient-label-mismatch",
     "A label names one x column while the cell holds another column's statistic.",
+    thresholds=("alpha",),
 )
 def coefficient_label_mismatch(context: RegressionContext) -> list[Finding]:
     """With x columns B "Analyte" and C "Conductivity", LINEST's first column is Conductivity's.

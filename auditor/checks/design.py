@@ -44,6 +44,16 @@ def _judged(context: RegressionContext) -> tuple[DesignMetrics, Claim] | None:
 @check(
     "x-spread-too-narrow",
     "The x spread could not detect the slope that matters (or is too imprecise for the claim).",
+    thresholds=(
+        "alpha",
+        "power",
+        "slope_that_matters",
+        "relevant_elasticity",
+        "max_sxx_share",
+        "max_ci_relative_half_width",
+        "confidence",
+        "min_levels",
+    ),
 )
 def spread_too_narrow(context: RegressionContext) -> list[Finding]:
     """A "no effect" reading needs a design that could have detected the slope that matters.
@@ -56,7 +66,11 @@ def spread_too_narrow(context: RegressionContext) -> list[Finding]:
     return [] if judged is None else spread_findings(context, *judged)
 
 
-@check("x-levels-too-few", "Too few distinct x levels to show that the relation is a line.")
+@check(
+    "x-levels-too-few",
+    "Too few distinct x levels to show that the relation is a line.",
+    thresholds=("min_levels", "recommended_levels", "require_linearity_evidence"),
+)
 def levels_too_few(context: RegressionContext) -> list[Finding]:
     """With two levels any line fits their means; curvature cannot be seen.
 
@@ -67,7 +81,11 @@ def levels_too_few(context: RegressionContext) -> list[Finding]:
     return [] if judged is None else levels_findings(context, *judged)
 
 
-@check("one-point-carries-slope", "One point's leverage or share of Sxx sets the slope.")
+@check(
+    "one-point-carries-slope",
+    "One point's leverage or share of Sxx sets the slope.",
+    thresholds=("alpha", "max_sxx_share", "max_leverage", "leverage_multiple"),
+)
 def one_point_carries_slope(context: RegressionContext) -> list[Finding]:
     """A significant slope that rests on one far point is fragile.
 
@@ -81,6 +99,7 @@ def one_point_carries_slope(context: RegressionContext) -> list[Finding]:
 @check(
     "conclusion-hinges-on-one-row",
     "Leaving out one observation makes the slope lose its significance.",
+    thresholds=("alpha", "max_sxx_share", "confidence"),
 )
 def conclusion_hinges_on_one_row(context: RegressionContext) -> list[Finding]:
     """Significance that one observation can take away is fragile.
@@ -95,6 +114,7 @@ def conclusion_hinges_on_one_row(context: RegressionContext) -> list[Finding]:
 @check(
     "prediction-outside-x-range",
     "A prediction or a stated working range goes beyond the x values of the data.",
+    thresholds=("extrapolation_tolerance", "require_linearity_evidence"),
 )
 def prediction_outside_x_range(context: RegressionContext) -> list[Finding]:
     """The line is supported only over the x values it was fitted to.
@@ -106,7 +126,11 @@ def prediction_outside_x_range(context: RegressionContext) -> list[Finding]:
     return [] if judged is None else extrapolation_findings(context, *judged)
 
 
-@check("line-lacks-fit", "Replicates show that a straight line does not fit the level means.")
+@check(
+    "line-lacks-fit",
+    "Replicates show that a straight line does not fit the level means.",
+    thresholds=("lack_of_fit_alpha", "alpha", "require_linearity_evidence"),
+)
 def line_lacks_fit(context: RegressionContext) -> list[Finding]:
     """The lack-of-fit F test compares the level means with the line, against pure error.
 

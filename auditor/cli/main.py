@@ -105,8 +105,9 @@ def cmd_rules(args: argparse.Namespace) -> int:
     from auditor.checks import REGISTRY
     from auditor.policy import load_policy
 
-    rows = [(c.id, c.family, c.summary) for c in REGISTRY.values()]
-    print(tabulate(rows, headers=["check", "family", "what it finds"], tablefmt="simple"))
+    rows = [(c.id, c.family, c.summary, ", ".join(c.thresholds)) for c in REGISTRY.values()]
+    headers = ["check", "family", "what it finds", "thresholds it reads"]
+    print(tabulate(rows, headers=headers, tablefmt="simple"))
     policy = load_policy(args.policy)
     print(f"\npolicy {policy.name!r}: {policy.description}")
     rows2 = [(k, f"{t.value:g}", t.source) for k, t in policy.thresholds.items()]
