@@ -48,7 +48,7 @@ class FormulaLocator:
         return self.parsed.get((cell.sheet, cell.row, cell.col))
 
     # -- formulas ---------------------------------------------------------------------------
-    def from_formulas(self) -> list[RegressionSpec]:
+    def from_formulas(self, taken: set[str] | None = None) -> list[RegressionSpec]:
         uses: list[PairUse] = []
         for key, node in self.parsed.items():
             cell = self.workbook.cell(*key)

@@ -14,108 +14,103 @@ from auditor.model import stat_base
 from auditor.read.workbook import Cell
 
 
-class LabelsMixin(FormulaLocator):
-    def from_labels(self, taken: set[str]) -> list[RegressionSpec]:
-        """A typed number beside "Slope" with a two-column numeric table to its left."""
-        specs = []
-        for sheet in self.workbook.sheets.values():
-            for cell in sorted(sheet.cells.values(), key=lambda c: (c.row, c.col)):
-                if not isinstance(cell.value, str) or role_from_label(cell.value) != "slope":
-                    continue
-                target = sheet.get(cell.row, cell.col + 1)
-                if (
-                    target is None
-                    or target.formula
-                    or isinstance(target.value, bool)
-                    or not isinstance(target.value, (int, float))
-                    or target.address in taken
-                ):
-                    continue
-                pair = self._table_left_of(sheet.name, cell.col)
-                if pair is None:
-                    continue
-                x, y = pair
-                spec = RegressionSpec(
-                    f"{sheet.name}/{target.coord}", sheet.name, x, y, True, "labels"
-                )
-                spec.stats["slope"] = StatCell("slope", target, "label")
-                taken.add(target.address)
-                specs.append(spec)
-        return specs
-
-    def _table_left_of(self, sheet_name: str, col: int) -> tuple[Ref, Ref] | None:
-        """The nearest pair of adjacent columns left of ``col`` with 3+ numeric rows together."""
-        sheet = self.workbook.sheet(sheet_name)
-        if sheet is None:
-            return None
-
-        def numeric(r: int, c: int) -> bool:
-            value = sheet.value(r, c)
-            return isinstance(value, (int, float)) and not isinstance(value, bool)
-
-        for c in range(col - 2, 0, -1):
-            rows = [r for r in range(1, sheet.max_row + 1) if numeric(r, c) and numeric(r, c + 1)]
-            if len(rows) < 3:
+def from_labels(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
+    """A typed number beside "Slope" with a two-column numeric table to its left."""
+    specs = []
+    for sheet in locator.workbook.sheets.values():
+        for cell in sorted(sheet.cells.values(), key=lambda c: (c.row, c.col)):
+            if not isinstance(cell.value, str) or role_from_label(cell.value) != "slope":
                 continue
-            start = end = rows[0]
-            best = (start, end)
-            for r in rows[1:]:
-                end = r if r == end + 1 else end
-                if r != end:
-                    start = end = r
-                if end - start > best[1] - best[0]:
-                    best = (start, end)
-            if best[1] - best[0] >= 2:
-                return (
-                    Ref(sheet.name, best[0], c, best[1], c),
-                    Ref(sheet.name, best[0], c + 1, best[1], c + 1),
-                )
+            target = sheet.get(cell.row, cell.col + 1)
+            if (
+                target is None
+                or target.formula
+                or isinstance(target.value, bool)
+                or not isinstance(target.value, (int, float))
+                or target.address in taken
+            ):
+                continue
+            pair = _table_left_of(locator, sheet.name, cell.col)
+            if pair is None:
+                continue
+            x, y = pair
+            spec = RegressionSpec(f"{sheet.name}/{target.coord}", sheet.name, x, y, True, "labels")
+            spec.stats["slope"] = StatCell("slope", target, "label")
+            taken.add(target.address)
+            specs.append(spec)
+    return specs
+
+
+def _table_left_of(locator: FormulaLocator, sheet_name: str, col: int) -> tuple[Ref, Ref] | None:
+    """The nearest pair of adjacent columns left of ``col`` with 3+ numeric rows together."""
+    sheet = locator.workbook.sheet(sheet_name)
+    if sheet is None:
         return None
 
-    def attach_labelled_constants(self, spec: RegressionSpec) -> None:
-        """Typed numbers beside statistic labels near the block are its reported values."""
-        cells = [s.cell for s in spec.stats.values()] or [
-            Cell(spec.y.sheet, spec.y.r1, spec.y.c2 + 1, None)
-        ]
-        sheet = self.workbook.sheet(cells[0].sheet)
-        if sheet is None:
-            return
-        data_columns = [spec.x, spec.y]
-        rows = range(min(c.row for c in cells) - 3, max(c.row for c in cells) + 6)
-        cols = range(min(c.col for c in cells) - 3, max(c.col for c in cells) + 5)
-        for r in rows:
-            for c in cols:
-                cell = sheet.get(r, c)
-                if (
-                    cell is None
-                    or cell.formula
-                    or cell.value is None
-                    or isinstance(cell.value, bool)
-                ):
-                    continue
-                if isinstance(cell.value, str) and not looks_like_claim(cell.value):
-                    continue
-                if any(r_.c1 <= c <= r_.c2 and r_.sheet == cell.sheet for r_ in data_columns):
-                    continue  # a value in a data column is data, whatever its header says
-                label = label_for(self.workbook, cell)
-                role = role_from_label(label) if label else None
-                if role and not any(stat_base(k) == role for k in spec.stats):
-                    self._put(spec, role, StatCell(role, cell, "label"))
+    def numeric(r: int, c: int) -> bool:
+        value = sheet.value(r, c)
+        return isinstance(value, (int, float)) and not isinstance(value, bool)
 
-    def block_title(self, spec: RegressionSpec) -> str:
-        if not spec.stats:
-            return ""
-        top = min(spec.stats.values(), key=lambda s: (s.cell.row, s.cell.col)).cell
-        sheet = self.workbook.sheet(top.sheet)
-        if sheet is None:
-            return ""
-        for r in range(top.row - 1, max(0, top.row - 4), -1):
-            for c in (top.col - 1, top.col, top.col - 2):
-                cell = sheet.get(r, c) if c >= 1 else None
-                if cell is not None and isinstance(cell.value, str) and not cell.formula:
-                    if role_from_label(cell.value) is None and len(cell.value) > 3:
-                        return cell.value
+    for c in range(col - 2, 0, -1):
+        rows = [r for r in range(1, sheet.max_row + 1) if numeric(r, c) and numeric(r, c + 1)]
+        if len(rows) < 3:
+            continue
+        start = end = rows[0]
+        best = (start, end)
+        for r in rows[1:]:
+            end = r if r == end + 1 else end
+            if r != end:
+                start = end = r
+            if end - start > best[1] - best[0]:
+                best = (start, end)
+        if best[1] - best[0] >= 2:
+            return (
+                Ref(sheet.name, best[0], c, best[1], c),
+                Ref(sheet.name, best[0], c + 1, best[1], c + 1),
+            )
+    return None
+
+
+def attach_labelled_constants(locator: FormulaLocator, spec: RegressionSpec) -> None:
+    """Typed numbers beside statistic labels near the block are its reported values."""
+    cells = [s.cell for s in spec.stats.values()] or [
+        Cell(spec.y.sheet, spec.y.r1, spec.y.c2 + 1, None)
+    ]
+    sheet = locator.workbook.sheet(cells[0].sheet)
+    if sheet is None:
+        return
+    data_columns = [spec.x, spec.y]
+    rows = range(min(c.row for c in cells) - 3, max(c.row for c in cells) + 6)
+    cols = range(min(c.col for c in cells) - 3, max(c.col for c in cells) + 5)
+    for r in rows:
+        for c in cols:
+            cell = sheet.get(r, c)
+            if cell is None or cell.formula or cell.value is None or isinstance(cell.value, bool):
+                continue
+            if isinstance(cell.value, str) and not looks_like_claim(cell.value):
+                continue
+            if any(r_.c1 <= c <= r_.c2 and r_.sheet == cell.sheet for r_ in data_columns):
+                continue  # a value in a data column is data, whatever its header says
+            label = label_for(locator.workbook, cell)
+            role = role_from_label(label) if label else None
+            if role and not any(stat_base(k) == role for k in spec.stats):
+                locator._put(spec, role, StatCell(role, cell, "label"))
+
+
+def block_title(locator: FormulaLocator, spec: RegressionSpec) -> str:
+    if not spec.stats:
         return ""
+    top = min(spec.stats.values(), key=lambda s: (s.cell.row, s.cell.col)).cell
+    sheet = locator.workbook.sheet(top.sheet)
+    if sheet is None:
+        return ""
+    for r in range(top.row - 1, max(0, top.row - 4), -1):
+        for c in (top.col - 1, top.col, top.col - 2):
+            cell = sheet.get(r, c) if c >= 1 else None
+            if cell is not None and isinstance(cell.value, str) and not cell.formula:
+                if role_from_label(cell.value) is None and len(cell.value) > 3:
+                    return cell.value
+    return ""
 
 
 _CLAIM = re.compile(

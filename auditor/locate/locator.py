@@ -1,30 +1,66 @@
 """Finding the regressions in a workbook, with no setup by the user.
 
-Four ways, merged into one list of :class:`RegressionSpec`:
+Each form a regression takes is found by one *recogniser*: a function with the one signature
+``find(locator, taken) -> list[RegressionSpec]`` (``locator`` holds the workbook and its parsed
+formulas; ``taken`` the addresses of reported cells already bound to a regression). They run in
+the order of :data:`RECOGNISERS`:
 
-* **formulas** — every SLOPE/INTERCEPT/STEYX/RSQ/CORREL/PEARSON/LINEST call names a (y, x) pair;
-  calls whose ranges overlap belong to one regression (a range that differs is a finding later,
-  not a second regression); cells built on those (t, p, df, n, SE, limits) are attached by
-  following references;
-* **names** — defined names ``<stem>_x`` and ``<stem>_y`` (and ``<stem>_slope``, …);
-* **bindings** — a TOML file mapping the cells of a template once for a batch of copies;
-* **labels** — typed numbers beside labels such as "Slope" or "p-value".
+* **bindings**, **names** — declared regressions (a bindings TOML, defined names ``<stem>_x``…);
+  a later regression over the same data merges into a declared one;
+* **formulas** — SLOPE/INTERCEPT/STEYX/RSQ/LINEST calls name a (y, x) pair; cells built on them
+  (t, p, df, n, SE, limits) are attached by following references;
+* then typed numbers beside statistic labels are attached to every regression found so far;
+* *late* recognisers see the cells bound so far and never take one twice: **labels** (a typed
+  slope beside a two-column table).
+
+A new form is one module with one ``find`` function and one line in :data:`RECOGNISERS`.
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from dataclasses import dataclass
 from typing import Any
 
-from auditor.locate.declared import DeclaredMixin
-from auditor.locate.labels import LabelsMixin
+from auditor.locate import declared, labels
+from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PAIR_FUNCS, PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
 
-__all__ = ["PAIR_FUNCS", "Locator", "PairUse", "RegressionSpec", "StatCell", "locate"]
+__all__ = [
+    "PAIR_FUNCS",
+    "RECOGNISERS",
+    "Locator",
+    "PairUse",
+    "Recogniser",
+    "RegressionSpec",
+    "StatCell",
+    "locate",
+]
+
+Locator = FormulaLocator  # the per-workbook state every recogniser reads: cells, parsed formulas
 
 
-class Locator(DeclaredMixin, LabelsMixin):
-    """All four ways of finding regressions over one parsed workbook."""
+@dataclass(frozen=True)
+class Recogniser:
+    """One way of finding regressions."""
+
+    name: str
+    find: Callable[[FormulaLocator, set[str]], list[RegressionSpec]]
+    absorbs: bool = False  # a later regression over overlapping x and y merges into these
+    late: bool = False  # runs after labelled constants are attached; respects ``taken``
+
+
+def _formulas(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
+    return locator.from_formulas()
+
+
+RECOGNISERS: tuple[Recogniser, ...] = (
+    Recogniser("bindings", declared.from_bindings, absorbs=True),
+    Recogniser("names", declared.from_names, absorbs=True),
+    Recogniser("formulas", _formulas),
+    Recogniser("labels", labels.from_labels, late=True),
+)
 
 
 def _merge(primary: RegressionSpec, other: RegressionSpec) -> None:
@@ -33,32 +69,40 @@ def _merge(primary: RegressionSpec, other: RegressionSpec) -> None:
     primary.uses.extend(other.uses)
 
 
+def _taken(specs: list[RegressionSpec]) -> set[str]:
+    return {stat.cell.address for spec in specs for stat in spec.stats.values()}
+
+
 def locate(
     workbook: Workbook,
     bindings: list[dict[str, Any]] | None = None,
-    locator: Locator | None = None,
+    locator: FormulaLocator | None = None,
+    recognisers: tuple[Recogniser, ...] = RECOGNISERS,
 ) -> list[RegressionSpec]:
     """Every regression in the workbook, each with how it was found and its statistic cells."""
-    locator = locator or Locator(workbook, bindings)
-    declared = locator.from_bindings() + locator.from_names()
-    found = locator.from_formulas()
+    locator = locator or FormulaLocator(workbook, bindings)
     specs: list[RegressionSpec] = []
-    for spec in declared:
-        for other in list(found):
-            if overlaps(spec.x, other.x) and overlaps(spec.y, other.y):
-                _merge(spec, other)
-                found.remove(other)
-        specs.append(spec)
-    specs.extend(found)
+    absorbing: list[RegressionSpec] = []
+    for recogniser in (r for r in recognisers if not r.late):
+        for spec in recogniser.find(locator, _taken(specs)):
+            target = next(
+                (s for s in absorbing if overlaps(s.x, spec.x) and overlaps(s.y, spec.y)), None
+            )
+            if target is not None:
+                _merge(target, spec)
+                continue
+            specs.append(spec)
+            if recogniser.absorbs:
+                absorbing.append(spec)
     for spec in specs:
-        locator.attach_labelled_constants(spec)
-    taken = {stat.cell.address for spec in specs for stat in spec.stats.values()}
-    by_labels = locator.from_labels(taken)
-    for spec in by_labels:
-        locator.attach_labelled_constants(spec)
-    specs.extend(by_labels)
+        labels.attach_labelled_constants(locator, spec)
+    for recogniser in (r for r in recognisers if r.late):
+        found = recogniser.find(locator, _taken(specs))
+        for spec in found:
+            labels.attach_labelled_constants(locator, spec)
+        specs.extend(found)
     for spec in specs:
-        spec.label = locator.block_title(spec)
+        spec.label = labels.block_title(locator, spec)
         spec.x_headers = locator.x_headers(spec)
     seen: set[str] = set()
     for spec in specs:
