@@ -4,7 +4,7 @@
 A mistake in one piece carries through what is built on it (a wrong SE gives a wrong t and p),
 so :func:`carried` turns a wrong coefficient, SE or t into the value of whichever statistic is
 under review. The hypotheses themselves live in :mod:`auditor.diagnose.pvalue` and
-:mod:`auditor.diagnose.se`; :data:`auditor.diagnose.mistakes.HYPOTHESES` lists them.
+:mod:`auditor.diagnose.se`; :data:`auditor.diagnose.mistakes.MISTAKES` lists them.
 """
 
 from __future__ import annotations

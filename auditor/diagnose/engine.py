@@ -5,7 +5,7 @@ those whose number agrees with the reported one *at its precision*
 (:mod:`auditor.compare.precision`) are
 returned simplest first, one per kind:
 
-1. formula slips (:data:`auditor.diagnose.mistakes.HYPOTHESES`): a one-tailed p, SUMSQ for DEVSQ, …;
+1. formula slips (:data:`auditor.diagnose.mistakes.MISTAKES`): a one-tailed p, SUMSQ for DEVSQ, …;
 2. row subsets (:data:`auditor.diagnose.rowsearch.ROW_SUBSETS`): the fit over the rows the author's
 ranges
    took in or left out. Rows dropped at either end are screened with running sums of the centred
@@ -28,8 +28,7 @@ from scipy import stats as distributions
 
 from auditor.compare.precision import agree_stored, agree_text, agree_typed, parse_text_number
 from auditor.diagnose.mistakes import (
-    FORMULA_HINTS,
-    HYPOTHESES,
+    MISTAKES,
     PER_SLOPE,
     Basis,
     Candidate,
@@ -146,11 +145,11 @@ def _explain(value: ReportedValue, context: RegressionContext, depth: int) -> li
 
 
 def _formula_candidates(basis: Basis) -> list[Candidate]:
-    candidates = [c for hypothesis in HYPOTHESES.values() for c in hypothesis(basis)]
+    candidates = [c for mistake in MISTAKES for c in mistake.hypothesis(basis)]
     formula = basis.formula or ""
     # The formula's own functions (T.DIST.RT, SUMSQ, NORM.S.DIST) name the likelier of two
     # mistakes that give the same number, e.g. one-tailed and left-tailed p for a negative t.
-    hinted = {kind for kind, pattern in FORMULA_HINTS.items() if pattern.search(formula)}
+    hinted = {m.kind for m in MISTAKES if m.hint is not None and m.hint.search(formula)}
     return sorted(candidates, key=lambda c: c.kind not in hinted)
 
 

@@ -2,9 +2,9 @@
 
 Each hypothesis is a small function from a :class:`Basis` (the statistic under review, the
 intended fit and its data) to the :class:`Candidate` numbers that mistake would give for that
-statistic; it returns nothing where the mistake cannot apply. :data:`HYPOTHESES` lists them
-simplest first, so adding a mistake is one function (in the module of its family) and one entry
-here. The families:
+statistic; it returns nothing where the mistake cannot apply. :data:`MISTAKES` lists them
+simplest first, each with the formula text that points at it, so adding a mistake is one function
+(in the module of its family) and one entry here. The families:
 
 - :mod:`auditor.diagnose.pvalue`: a wrong p from the right t;
 - :mod:`auditor.diagnose.se`: a wrong SE, t or coefficient, carried into the t and p built on it;
@@ -17,6 +17,7 @@ and live in :mod:`auditor.diagnose.rowsearch` and :mod:`auditor.diagnose.rows`.
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
 
 from auditor.diagnose.basis import (
     NAMES,
@@ -52,8 +53,8 @@ from auditor.diagnose.se import (
 
 # The names other modules have always imported from here.
 __all__ = [
-    "FORMULA_HINTS",
-    "HYPOTHESES",
+    "MISTAKES",
+    "Mistake",
     "NAMES",
     "NUMBER_LITERAL",
     "PER_SLOPE",
@@ -81,29 +82,34 @@ __all__ = [
     "xy_swapped",
 ]
 
-# Function names in a formula that point at one mistake: the candidate it names is shown first.
-FORMULA_HINTS = {
-    "p-one-tailed": re.compile(r"T\.DIST\.RT\(|TDIST\(.*,\s*1\s*\)\s*$", re.I),
-    "p-left-tail": re.compile(r"(?<![.\w])T\.DIST\(", re.I),
-    "p-normal-approx": re.compile(r"NORM", re.I),
-    "se-uncentered-ssx": re.compile(r"SUMSQ\(", re.I),
-    "se-sd-y": re.compile(r"STDEV", re.I),
-}
+
+@dataclass(frozen=True)
+class Mistake:
+    """One named mistake: its kind, the hypothesis that computes what it would give, and the
+    formula text that points at it (its candidate is then shown first)."""
+
+    kind: str
+    hypothesis: Hypothesis
+    hint: re.Pattern[str] | None = None
+
 
 # Simplest first: a single slip in one function before wrong pieces carried through t and p.
-HYPOTHESES: dict[str, Hypothesis] = {
-    "p-one-tailed": p_one_tailed,
-    "p-left-tail": p_left_tail,
-    "p-complement": p_complement,
-    "p-normal-approx": p_normal_approx,
-    "p-wrong-df": p_wrong_df,
-    "hardcoded-constant": hardcoded_constant,
-    "xy-swapped": xy_swapped,
-    "coefficient-order": coefficient_order,
-    "se-intercept-for-slope": se_intercept_for_slope,
-    "se-sd-y": se_sd_y,
-    "se-uncentered-ssx": se_uncentered_ssx,
-    "se-n-not-n-2": se_n_not_n_2,
-    "se-no-sqrt": se_no_sqrt,
-    "t-inverted": t_inverted,
-}
+# Adding a mistake is one hypothesis function (in its family's module) and one entry here.
+MISTAKES: tuple[Mistake, ...] = (
+    Mistake(
+        "p-one-tailed", p_one_tailed, re.compile(r"T\.DIST\.RT\(|TDIST\(.*,\s*1\s*\)\s*$", re.I)
+    ),
+    Mistake("p-left-tail", p_left_tail, re.compile(r"(?<![.\w])T\.DIST\(", re.I)),
+    Mistake("p-complement", p_complement),
+    Mistake("p-normal-approx", p_normal_approx, re.compile(r"NORM", re.I)),
+    Mistake("p-wrong-df", p_wrong_df),
+    Mistake("hardcoded-constant", hardcoded_constant),
+    Mistake("xy-swapped", xy_swapped),
+    Mistake("coefficient-order", coefficient_order),
+    Mistake("se-intercept-for-slope", se_intercept_for_slope),
+    Mistake("se-sd-y", se_sd_y, re.compile(r"STDEV", re.I)),
+    Mistake("se-uncentered-ssx", se_uncentered_ssx, re.compile(r"SUMSQ\(", re.I)),
+    Mistake("se-n-not-n-2", se_n_not_n_2),
+    Mistake("se-no-sqrt", se_no_sqrt),
+    Mistake("t-inverted", t_inverted),
+)

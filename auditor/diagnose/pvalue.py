@@ -1,7 +1,7 @@
 """p-value slips: a wrong p computed from the right t (one tail, 1 − p, the normal
 distribution, the wrong or a typed df).
 
-Each function is one entry of :data:`auditor.diagnose.mistakes.HYPOTHESES`: from a :class:`Basis` it
+Each function is one entry of :data:`auditor.diagnose.mistakes.MISTAKES`: from a :class:`Basis` it
 returns the :class:`Candidate` numbers that slip would give, or nothing where it cannot apply.
 """
 

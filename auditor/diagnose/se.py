@@ -1,7 +1,7 @@
 """Standard-error and coefficient slips: a wrong SE, t or coefficient, and the t and p built on it
 (the SD of y for STEYX, SUMSQ for DEVSQ, n for n − 2, x and y swapped, LINEST's column order).
 
-Each function is one entry of :data:`auditor.diagnose.mistakes.HYPOTHESES`; a wrong piece is
+Each function is one entry of :data:`auditor.diagnose.mistakes.MISTAKES`; a wrong piece is
 carried into
 the statistic under review by :func:`auditor.diagnose.basis.carried`.
 """
