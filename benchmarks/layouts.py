@@ -1,6 +1,6 @@
 """Generated layouts (issue 12): regaudit on fixtures/layouts against the generator's answer key.
 
-    python benchmarks/layouts.py            # prints the table of fixtures/layout_score.py and the time
+    python benchmarks/layouts.py     # the table of fixtures/layout_score.py, and the time
 
 The workbooks and key come from ``fixtures/layout_generator.py`` (LibreOffice-recalculated,
 committed). A benchmark, not a test: the suite runs a sample (tests/test_layouts.py).
