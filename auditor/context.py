@@ -8,6 +8,7 @@ the context (no cache outside it).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 from auditor.design.inputs import DesignInputs
 from auditor.design.metrics import DesignMetrics, compute_design
@@ -32,6 +33,7 @@ class RegressionContext:
     stored_values: bool = True
     design_inputs: DesignInputs | None = None  # claim text, stated working range, predictions
     design: DesignMetrics | None = None  # set by design_metrics(), once
+    calibration: Any = None  # CalibrationInputs (auditor.design.calibration) for a calibration
 
     def design_metrics(self) -> DesignMetrics:
         """The design metrics of this regression, computed on first use and kept."""

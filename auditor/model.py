@@ -162,6 +162,9 @@ class RegressionResult:
     intended_x_range: str = ""
     intended_y_range: str = ""
     label: str = ""  # the block's own title where the workbook gives one
+    policy: str = ""  # the policy that judged it (auto: chosen per regression)
+    policy_reason: str = ""  # why that policy, in words
+    calibration: dict[str, Any] = field(default_factory=dict)  # the run summary row of a curve
 
     @property
     def verdict(self) -> Verdict:
@@ -194,6 +197,9 @@ class RegressionResult:
             "reported": {k: v.to_dict() for k, v in self.reported.items()},
             "design": {k: clean_number(v) for k, v in self.design.items()},
             "findings": [f.to_dict() for f in self.findings],
+            "policy": self.policy,
+            "policy_reason": self.policy_reason,
+            "calibration": {k: clean_number(v) for k, v in self.calibration.items()},
         }
 
 

@@ -33,6 +33,18 @@ KNOWN: dict[str, tuple[type, float, float]] = {
     "lack_of_fit_alpha": (float, 1e-6, 0.5),
     "require_linearity_evidence": (int, 0, 1),
     "extrapolation_tolerance": (float, 0.0, 10.0),
+    # Calibration curves (auditor.design.calibration, auditor.checks.calibration): set only by a
+    # policy that judges calibrations; absent, those checks are off.
+    "standards_tolerance": (float, 0.0, 100.0),
+    "lowest_standard_tolerance": (float, 0.0, 100.0),
+    "standards_min_share": (float, 0.0, 1.0),
+    "standards_min_count": (int, 1, 1000),
+    "spread_alpha": (float, 1e-6, 0.5),
+    "shape_alpha": (float, 1e-6, 0.5),
+    "lod_factor": (float, 0.1, 100.0),
+    "loq_factor": (float, 0.1, 100.0),
+    "read_off_tolerance": (float, 0.0, 0.1),
+    "curvature_sd_ratio": (float, 1.0, 100.0),
 }
 
 # Keys a policy file may leave out: the value used then, with its source. Keys absent from both a
@@ -92,6 +104,12 @@ DEFAULTS.update(
 )
 
 
+AUTO_DESCRIPTION = (
+    "Per regression: 'calibration' for a curve recognised as a calibration by its words and "
+    "layout, 'general' for the rest (thresholds of 'general' for workbook-level checks)."
+)
+
+
 def builtin_names() -> list[str]:
     folder = resources.files("auditor.rules")
     return sorted(p.name[:-5] for p in folder.iterdir() if p.name.endswith(".toml"))
@@ -130,6 +148,9 @@ def _parse(data: dict[str, Any], origin: str) -> Policy:
 
 def load_policy(name_or_file: str = "general") -> Policy:
     """A built-in policy by name (``general``, ``calibration``) or a TOML file by path."""
+    if name_or_file == "auto":  # per regression: calibration curves by their words, else general
+        general = load_policy("general")
+        return Policy("auto", AUTO_DESCRIPTION, general.thresholds)
     path = Path(name_or_file)
     if name_or_file.endswith(".toml") or path.is_file():
         if not path.is_file():
@@ -139,7 +160,7 @@ def load_policy(name_or_file: str = "general") -> Policy:
         names = builtin_names()
         if name_or_file not in names:
             raise PolicyError(
-                f"unknown policy {name_or_file!r}; choose one of {', '.join(names)} "
+                f"unknown policy {name_or_file!r}; choose auto, {', '.join(names)} "
                 "or give the path of a .toml file"
             )
         text = resources.files("auditor.rules").joinpath(f"{name_or_file}.toml").read_text("utf-8")

@@ -4,6 +4,8 @@ listed in ``FAMILIES`` (a new family module is added to that tuple)."""
 
 from auditor.checks import (
     agreement,
+    calibration,
+    calibration_results,
     coefficients,
     data,
     design,
@@ -20,6 +22,8 @@ from auditor.model import CheckInfo, Finding
 
 FAMILIES = (
     agreement,
+    calibration,
+    calibration_results,
     coefficients,
     data,
     design,

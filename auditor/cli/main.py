@@ -196,7 +196,11 @@ def build_parser() -> argparse.ArgumentParser:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     audit.add_argument("paths", nargs="+", metavar="PATH", help=".xlsx/.xlsm files or folders")
-    audit.add_argument("--policy", default="general", help="policy name or TOML file")
+    audit.add_argument(
+        "--policy",
+        default="auto",
+        help="auto (per regression: calibration curves by their words), a policy name or a .toml",
+    )
     audit.add_argument("--out", default="regaudit-out", metavar="DIR", help="output folder")
     audit.add_argument("--jobs", type=int, default=cores, metavar="N", help="parallel workers")
     audit.add_argument(

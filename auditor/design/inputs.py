@@ -222,7 +222,8 @@ class DesignInputReader:
             elif isinstance(sub, Binary) and sub.op == "/" and _is_cell(sub.right, slope_cells):
                 left = sub.left
                 if isinstance(left, Binary) and left.op == "-":
-                    if _is_cell(left.right, intercept_cells):
+                    own = isinstance(left.left, RefNode) and overlaps(left.left.ref, spec.y)
+                    if _is_cell(left.right, intercept_cells) and not own:  # not a read-back
                         for x in self._evaluate(sub, sheet):
                             yield x, "(y − b0)/b1"
 

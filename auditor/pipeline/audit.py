@@ -14,6 +14,8 @@ from typing import Any
 from auditor.checks import run_regression_checks, run_workbook_checks
 from auditor.compare.reported import build_reported
 from auditor.context import RegressionContext, WorkbookContext
+from auditor.design.calibration import prepare
+from auditor.design.calibration_summary import summary_row
 from auditor.design.inputs import DesignInputReader
 from auditor.errors import UnreadableWorkbook
 from auditor.evaluation.evaluator import Evaluator
@@ -60,14 +62,20 @@ def audit_regression(
     inputs_reader: DesignInputReader | None = None,
 ) -> RegressionResult:
     data = extract(workbook, evaluator, spec)
+    reader = inputs_reader or DesignInputReader(workbook, evaluator)
+    inputs = reader.read(spec)
+    # The job decides the policy (auto: calibration curves by their words) before anything is
+    # judged; for a calibration, what the workbook computes from the curve is read here.
+    policy, job, calibration = prepare(
+        workbook, evaluator, spec, data, inputs, reader.parsed, policy
+    )
     fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
     intended = fit.stats()
     reported = build_reported(
         spec, evaluator, intended, workbook.stored_values, policy.get("stored_relative_tolerance")
     )
-    inputs = (inputs_reader or DesignInputReader(workbook, evaluator)).read(spec)
     context = RegressionContext(
-        spec, data, fit, reported, policy, workbook.stored_values, design_inputs=inputs
+        spec, data, fit, reported, policy, workbook.stored_values, inputs, calibration=calibration
     )
     findings = run_regression_checks(context)
     points = list(data.points)
@@ -89,6 +97,9 @@ def audit_regression(
         intended_x_range=data.intended_x_range,
         intended_y_range=data.intended_y_range,
         label=spec.label,
+        policy=policy.name,
+        policy_reason=job.why,
+        calibration=summary_row(spec, calibration, policy, findings),
     )
 
 

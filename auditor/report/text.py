@@ -22,6 +22,7 @@ from auditor.report.common import (
     reported_and_intended,
     status_counts,
 )
+from auditor.report.text_calibration import policy_lines, run_summary
 
 WIDTH = 100
 INDENT = "    "
@@ -100,7 +101,7 @@ def finding_block(finding: Finding) -> list[str]:
     return lines
 
 
-def _workbook_section(workbook: WorkbookResult) -> list[str]:
+def _workbook_section(workbook: WorkbookResult, run_policy: str = "") -> list[str]:
     lines = [f"== {workbook.path}: {workbook.status}"]
     if workbook.status == "unreadable":
         lines += _wrap(f"could not be read: {workbook.error or 'no reason was recorded'}", INDENT)
@@ -115,6 +116,7 @@ def _workbook_section(workbook: WorkbookResult) -> list[str]:
         )
         lines += ["", *_wrap(legend), ""]
         lines += regression_table(workbook).splitlines()
+        lines += policy_lines(workbook, run_policy)
     elif workbook.status == "no-regressions":
         lines += _wrap("No regression was found in this workbook.", INDENT)
     findings = sort_findings(workbook.all_findings())
@@ -128,9 +130,9 @@ def _workbook_section(workbook: WorkbookResult) -> list[str]:
 
 
 def render_text(result: AuditResult) -> str:
-    lines = _header(result)
+    lines = _header(result) + run_summary(result)
     for workbook in result.workbooks:
-        lines += ["", *_workbook_section(workbook)]
+        lines += ["", *_workbook_section(workbook, result.policy)]
     lines += ["", *_wrap(CAUTION)]
     return "\n".join(line.rstrip() for line in lines) + "\n"
 

@@ -25,6 +25,7 @@ from xlsxwriter import Workbook
 
 from auditor.model import AuditResult
 from auditor.report.common import AnnotatedCopy
+from auditor.report.xlsx.calibration import curves_sheet
 from auditor.report.xlsx.detail import detail_sheet
 from auditor.report.xlsx.links import detail_refs
 from auditor.report.xlsx.overview import overview_sheet
@@ -78,6 +79,7 @@ class XlsxReporter:
         overview_sheet(book, result, styles, refs, self.copies)
         regressions_sheet(book, result, styles, refs)
         findings_sheet(book, result, styles, refs)
+        curves_sheet(book, result, styles, refs)  # only when some curve is a calibration
         for ref in refs:
             detail_sheet(book, styles, ref)
         book.close()
