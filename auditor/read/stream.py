@@ -25,6 +25,7 @@ from pathlib import Path
 
 from auditor.errors import UnreadableWorkbook
 from auditor.read.book import BookState
+from auditor.read.charts import read_charts
 from auditor.read.parts import read_book, read_number_formats, read_shared_strings, workbook_part
 from auditor.read.sheet import SheetReader
 from auditor.read.workbook import DefinedName, Sheet, Workbook
@@ -76,6 +77,7 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
         names=names,
         stored_values=book.formula_count == 0 or book.valued_formulas > 0,
         array_anchors=book.arrays,
+        charts=read_charts(archive, parts.sheets, label),
     )
 
 

@@ -17,6 +17,10 @@ what the file is and what to do. Macros in .xlsm files are never run: only works
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from auditor.read.charts import Chart
 
 from auditor.grid import column_letter
 
@@ -100,6 +104,7 @@ class Workbook:
     array_anchors: dict[tuple[str, int, int], tuple[int, int, int, int]] = field(
         default_factory=dict
     )  # (sheet, row, col) of every cell in an array block -> (r1, c1, r2, c2) of the block
+    charts: list[Chart] = field(default_factory=list)  # auditor.read.charts, in sheet order
 
     def sheet(self, name: str) -> Sheet | None:
         if name in self.sheets:
