@@ -265,6 +265,10 @@ def extract(
 ) -> Extracted:
     """The intended table of ``spec``. ``cell_by_cell=True`` classifies every row one cell at a
     time (slow on large tables): the reference the fast path is tested against."""
+    if spec.found_by == "trendline":
+        from auditor.extract_series import extract_series
+
+        return extract_series(spec)
     x_ref, y_ref = spec.x, spec.y
     k = x_ref.c2 - x_ref.c1 + 1
     x_cols = list(range(x_ref.c1, x_ref.c2 + 1))

@@ -14,6 +14,7 @@ from auditor.checks import (
     formula_pasted,
     formula_siblings,
     formulas,
+    trendlines,
     workbook_level,
 )
 from auditor.checks.base import Check, build_registry, catalogue_of, run_checks

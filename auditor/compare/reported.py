@@ -117,7 +117,10 @@ def build_reported(
         cell = stat.cell
         as_written, note = as_written_value(evaluator, stat)
         raw = cell.value
-        if cell.formula is None:
+        if stat.typed_value is not None:  # a constant typed inside the formula
+            as_written, note = None, f"typed into the formula {cell.formula}"
+            raw = stat.typed_value
+        if cell.formula is None or stat.typed_value is not None:
             source = "text" if isinstance(raw, str) else "typed"
             value: float | str | None = raw if isinstance(raw, str) else _as_float(raw)
             if isinstance(raw, str) and parse_text_number(raw) is not None:
@@ -133,9 +136,8 @@ def build_reported(
         true = intended.get(stat_base(key))
         true_f = float(true) if isinstance(true, (int, float)) else None
         tolerance = relative_tolerance(key, rel, intended)
-        agreement = judge(
-            value, true_f, source, cell.number_format, tolerance, _scale_for(key, intended)
-        )
+        shown_format = "General" if stat.typed_value is not None else cell.number_format
+        agreement = judge(value, true_f, source, shown_format, tolerance, _scale_for(key, intended))
         if isinstance(raw, ErrorValue) and true_f is not None:
             verdict = "mismatch"
         elif agreement.agrees is None:

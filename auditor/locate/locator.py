@@ -25,6 +25,7 @@ from typing import Any
 from auditor.locate import declared, labels
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PAIR_FUNCS, PairUse, RegressionSpec, StatCell, overlaps
+from auditor.locate.trendlines import add_trendlines
 from auditor.read.workbook import Workbook
 
 __all__ = [
@@ -104,6 +105,7 @@ def locate(
     for spec in specs:
         spec.label = labels.block_title(locator, spec)
         spec.x_headers = locator.x_headers(spec)
+    specs = add_trendlines(workbook, specs, locator.parsed)
     seen: set[str] = set()
     for spec in specs:
         base, n = spec.id, 2

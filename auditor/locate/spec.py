@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 from auditor.formula.syntax import Call, Node, Number, Ref, RefNode, calls
 from auditor.model import FoundBy
@@ -20,6 +21,7 @@ class StatCell:
     block_position: tuple[int, int] | None = None  # (row, col) inside an array block
     label: str = ""  # the author's words beside the cell ("t (analyte)")
     column_header: str = ""  # for a LINEST block cell: the text above its column of the block
+    typed_value: float | None = None  # a constant typed inside the cell's formula (=1.49*B2+2.1)
 
 
 @dataclass
@@ -46,6 +48,9 @@ class RegressionSpec:
     label: str = ""
 
     x_headers: list[str] = field(default_factory=list)  # header text of each x column
+    # Chart series whose trendline fits this regression (auditor.locate_trendlines.TrendlineUse)
+    trendlines: list[Any] = field(default_factory=list)
+    range_texts: tuple[str, str] | None = None  # x and y ranges in words, when not plain blocks
 
     @property
     def x_columns(self) -> int:

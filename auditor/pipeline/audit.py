@@ -83,8 +83,8 @@ def audit_regression(
     return RegressionResult(
         id=spec.id,
         sheet=spec.sheet,
-        x_range=spec.x.address,
-        y_range=spec.y.address,
+        x_range=spec.range_texts[0] if spec.range_texts else spec.x.address,
+        y_range=spec.range_texts[1] if spec.range_texts else spec.y.address,
         found_by=spec.found_by,
         n=data.n,
         intercept=spec.intercept,

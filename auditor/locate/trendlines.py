@@ -1,0 +1,410 @@
+"""Regressions that exist as a chart trendline: one per chart series with a linear trendline.
+
+What a trendline fits is what the chart plots:
+
+* a scatter (or bubble) series pairs its x and y values by position; when the two references
+  differ in length only the first min(n_x, n_y) positions pair up (LibreOffice draws and fits
+  those and leaves the rest out: checked by rendering a chart whose y range is longer), and the
+  mismatch is a finding of its own (``auditor.checks.trendlines``);
+* a line, bar, column or area series, or a scatter series whose x values are text, is plotted
+  against the positions 1..n, whatever its category cells hold (dates, years, labels): its
+  trendline fits y against 1..n (common practice; LibreOffice's rendering agrees). The
+  regression keeps the category range as its x range and says it fits positions;
+* a point whose y (or, in a scatter, x) is empty, text or an error is not drawn and not fitted.
+
+Not every linear trendline is a regression of data. A series whose y cells are formulas of the
+x cell in their row and constants only is a *model line* (the author's own line drawn again,
+R² = 1 by construction); one whose y cells subtract such a line from a data cell is a *residual
+plot* (its trendline is flat by construction). Both, series with fewer than three points, and
+every non-linear trendline (polynomial, exponential, logarithmic, power, moving average) are
+listed as not audited, with why, instead of becoming a regression.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from auditor.evaluation.evaluator import Evaluator, Unsupported
+from auditor.formula.syntax import Binary, Node, Ref, RefNode, parse, references, walk
+from auditor.locate.spec import RegressionSpec
+from auditor.read.charts import Chart, ChartSeries, SeriesValues, Trendline
+from auditor.read.workbook import Cell, Workbook
+
+MIN_POINTS = 3
+FORMULA_SAMPLE = 50  # y cells looked at to call a series a model line or residuals
+FollowKey = tuple[str, int, int]
+
+
+@dataclass
+class SeriesPoint:
+    position: int  # 1-based position in the series, the x of a series plotted by position
+    x: float | None
+    y: float | None
+    x_cell: str  # "Sheet!A1", or "" for a cached or positional value
+    y_cell: str
+
+
+@dataclass
+class TrendlineUse:
+    """One chart series with trendlines, as the chart fits it."""
+
+    chart: Chart
+    series: ChartSeries
+    x_ref: Ref | None  # the series' x (category) reference, names resolved
+    y_ref: Ref | None
+    points: list[SeriesPoint] = field(default_factory=list)  # paired positions only
+    x_count: int = 0  # values the x reference (or literal) holds
+    y_count: int = 0
+    status: str = "audited"  # or why not: "non-linear", "too few points", "model line", …
+    why: str = ""
+    runs_into: list[str] = field(default_factory=list)  # other regressions' data the extra reach
+
+    @property
+    def linear(self) -> Trendline | None:
+        return next((t for t in self.series.trendlines if t.kind == "linear"), None)
+
+    @property
+    def shows(self) -> set[str]:
+        """What the labels of its linear trendlines show: "equation", "r_squared"."""
+        shown: set[str] = set()
+        for line in self.series.trendlines:
+            if line.kind == "linear" and line.display_equation:
+                shown.add("equation")
+            if line.kind == "linear" and line.display_r_squared:
+                shown.add("r_squared")
+        return shown
+
+    @property
+    def by_position(self) -> bool:
+        return self.series.x_by_position
+
+    @property
+    def used(self) -> list[SeriesPoint]:
+        return [p for p in self.points if p.x is not None and p.y is not None]
+
+    def pairs(self) -> tuple[list[float], list[float]]:
+        """x and y of the plotted points."""
+        xs, ys = [], []
+        for point in self.points:
+            if point.x is not None and point.y is not None:
+                xs.append(point.x)
+                ys.append(point.y)
+        return xs, ys
+
+    @property
+    def describe(self) -> str:
+        name = f" {self.series.name!r}" if self.series.name else ""
+        return f"series {self.series.index + 1}{name} of {self.chart.label}"
+
+    @property
+    def forced_intercept(self) -> float | None:
+        line = self.linear
+        return None if line is None else line.intercept
+
+    @property
+    def x_text(self) -> str:
+        return _axis_text(self.series.x, self.x_ref, "x")
+
+    @property
+    def y_text(self) -> str:
+        return _axis_text(self.series.y, self.y_ref, "y")
+
+    @property
+    def length_mismatch(self) -> bool:
+        return not self.by_position and self.x_count != self.y_count
+
+
+def _axis_text(values: SeriesValues | None, ref: Ref | None, axis: str) -> str:
+    if ref is not None:
+        return ref.address
+    if values is not None and values.formula:
+        return values.formula
+    return f"{axis} values cached in the chart"
+
+
+def survey(workbook: Workbook, evaluator: Evaluator | None = None) -> list[TrendlineUse]:
+    """Every chart series that carries a trendline, read as the chart fits it."""
+    evaluator = evaluator or Evaluator(workbook)
+    found: list[TrendlineUse] = []
+    for chart in workbook.charts:
+        for series in chart.series:
+            if series.trendlines:
+                found.append(_read_use(workbook, evaluator, chart, series))
+    return found
+
+
+def _resolve(workbook: Workbook, values: SeriesValues | None, sheet: str) -> Ref | None:
+    if values is None or values.formula is None:
+        return None
+    if values.ref is not None:
+        return None if values.ref.external else values.ref
+    try:  # a defined name, sheet- or workbook-scoped
+        node = parse("=" + values.formula.split("!")[-1], sheet, workbook)
+    except Exception:  # noqa: BLE001 - any reference the parser refuses is simply not a block
+        return None
+    return node.ref if isinstance(node, RefNode) and not node.ref.external else None
+
+
+def _cells(ref: Ref) -> list[tuple[int, int]]:
+    """A series block's cells in series order: down a column, or across a row."""
+    if ref.cols == 1 or ref.rows > 1:
+        return [(r, c) for c in range(ref.c1, ref.c2 + 1) for r in range(ref.r1, ref.r2 + 1)]
+    return [(ref.r1, c) for c in range(ref.c1, ref.c2 + 1)]
+
+
+def _axis_values(
+    workbook: Workbook, evaluator: Evaluator, values: SeriesValues | None, ref: Ref | None
+) -> tuple[list[object], list[str]]:
+    """The values a series axis plots, with their cells; cached values when no cells hold them."""
+    if ref is not None and workbook.sheet(ref.sheet) is not None:
+        sheet = workbook.sheet(ref.sheet)
+        assert sheet is not None
+        cells = _cells(ref) if ref.cols == 1 or ref.rows == 1 else _cells(ref)[: ref.rows]
+        out: list[object] = []
+        for row, col in cells:
+            cell = sheet.get(row, col)
+            out.append(_cell_value(workbook, evaluator, cell))
+        return out, [f"{sheet.name}!{_coord(r, c)}" for r, c in cells]
+    cached: list[object] = list(values.cached) if values is not None else []
+    return cached, [""] * len(cached)
+
+
+def _cell_value(workbook: Workbook, evaluator: Evaluator, cell: Cell | None) -> object:
+    if cell is None:
+        return None
+    if cell.formula is None or workbook.stored_values:
+        return cell.value
+    try:
+        return evaluator.cell_value(cell.sheet, cell.row, cell.col)
+    except Unsupported:
+        return cell.value
+
+
+def _number(value: object) -> float | None:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return None
+    return float(value) if math.isfinite(value) else None
+
+
+def _read_use(
+    workbook: Workbook, evaluator: Evaluator, chart: Chart, series: ChartSeries
+) -> TrendlineUse:
+    x_ref = _resolve(workbook, series.x, chart.sheet)
+    y_ref = _resolve(workbook, series.y, chart.sheet)
+    use = TrendlineUse(chart, series, x_ref, y_ref)
+    ys, y_cells = _axis_values(workbook, evaluator, series.y, y_ref)
+    xs, x_cells = _axis_values(workbook, evaluator, series.x, x_ref)
+    use.x_count, use.y_count = len(xs), len(ys)
+    pairs = len(ys) if use.by_position else min(len(xs), len(ys))
+    for i in range(pairs):
+        x = float(i + 1) if use.by_position else _number(xs[i])
+        x_cell = x_cells[i] if i < len(x_cells) else ""
+        use.points.append(SeriesPoint(i + 1, x, _number(ys[i]), x_cell, y_cells[i]))
+    use.status, use.why = _status(workbook, use)
+    return use
+
+
+def _status(workbook: Workbook, use: TrendlineUse) -> tuple[str, str]:
+    line = use.linear
+    if line is None:
+        kinds = ", ".join(sorted({t.kind for t in use.series.trendlines}))
+        return "non-linear", f"only a {kinds} trendline (not a straight-line fit)"
+    if len(use.used) < MIN_POINTS:
+        return "too few points", f"{len(use.used)} plotted point(s) hold numbers"
+    if line.intercept not in (None, 0.0):
+        return "fixed intercept", f"the intercept is fixed at {line.intercept:g}"
+    shape = _formula_shape(workbook, use)
+    if shape == "line":
+        return "model line", (
+            "its y cells are formulas of the x cell in their row and constants: a line the "
+            "author drew, not data (a straight-line fit of it is exact by construction)"
+        )
+    if shape == "residual":
+        return "residuals", (
+            "its y cells subtract a line of x from the data: a residual plot, whose trendline "
+            "is flat by construction"
+        )
+    return "audited", ""
+
+
+def _formula_shape(workbook: Workbook, use: TrendlineUse) -> str:
+    """ "line" when every sampled y cell is a line of x, "residual" when every one subtracts such
+    a line from data, "" otherwise (data, or cells the sample cannot judge)."""
+    if use.by_position or use.x_ref is None or use.y_ref is None:
+        return ""
+    x_keys = {_key_of(p.x_cell) for p in use.used if p.x_cell}
+    shapes: set[str] = set()
+    for point in use.used[:FORMULA_SAMPLE]:
+        shapes.add(_shape_of(workbook, _key_of(point.y_cell), x_keys, 0))
+        if len(shapes) > 1:
+            return ""
+    return shapes.pop() if shapes and shapes <= {"line", "residual"} else ""
+
+
+def _key_of(address: str) -> FollowKey:
+    sheet, _, coord = address.rpartition("!")
+    from auditor.read.workbook import parse_cell
+
+    row, col = parse_cell(coord)
+    return (sheet.lower(), row, col)
+
+
+def _shape_of(workbook: Workbook, key: FollowKey, x_keys: set[FollowKey], depth: int) -> str:
+    """ "line" (x of the row, constants and parameter cells only), "residual" (data minus a
+    line), "data" otherwise."""
+    cell = workbook.cell(key[0], key[1], key[2])
+    if cell is None or cell.formula is None or depth > 3:
+        return "data"
+    node = _parsed(workbook, cell)
+    if node is None:
+        return "data"
+    kinds: set[str] = set()
+    for ref in references(node):
+        if not ref.is_cell:
+            return "data"  # a range (a sum, an average): not a line of one x
+        ref_key = (ref.sheet.lower(), ref.r1, ref.c1)
+        if ref_key in x_keys:
+            kinds.add("x")
+        elif ref_key[1] != key[1] and ref_key[2] != key[2]:
+            kinds.add("parameter")  # a fixed cell off the series' row and column
+        elif _shape_of(workbook, ref_key, x_keys, depth + 1) == "line":
+            kinds.add("line")
+        else:
+            kinds.add("data")
+    if not kinds & {"x", "line"}:
+        return "data"
+    if "data" not in kinds:
+        return "line"
+    return "residual" if "line" in kinds and _subtracts(node) else "data"
+
+
+def _subtracts(node: Node) -> bool:
+    return any(isinstance(n, Binary) and n.op == "-" for n in walk(node))
+
+
+def _parsed(workbook: Workbook, cell: Cell) -> Node | None:
+    try:
+        return parse(cell.formula or "", cell.sheet, workbook)
+    except Exception:  # noqa: BLE001 - an unreadable formula is reported elsewhere
+        return None
+
+
+def _coord(row: int, col: int) -> str:
+    from auditor.read.workbook import column_letter
+
+    return f"{column_letter(col)}{row}"
+
+
+# --- the regressions ----------------------------------------------------------------------------
+
+
+def _span(ref: Ref | None, first: int, last: int) -> Ref | None:
+    """Positions first..last (1-based) of a one-row or one-column series block."""
+    if ref is None:
+        return None
+    if ref.cols == 1 or ref.rows > 1:
+        return Ref(ref.sheet, ref.r1 + first - 1, ref.c1, ref.r1 + last - 1, ref.c2)
+    return Ref(ref.sheet, ref.r1, ref.c1 + first - 1, ref.r2, ref.c1 + last - 1)
+
+
+def spec_for(use: TrendlineUse) -> RegressionSpec:
+    """The regression a linear trendline fits: the series trimmed to its plotted points."""
+    used = use.used
+    first, last = used[0].position, used[-1].position
+    y = _span(use.y_ref, first, last)
+    x = _span(use.x_ref, first, last)
+    texts = (
+        x.address if x is not None else f"positions {first}..{last}",
+        y.address if y is not None else use.y_text,
+    )
+    placeholder = Ref("", 1, 1, 1, 1)  # no cells: values cached in the chart only
+    sheet = (y or x).sheet if (y or x) is not None else use.chart.sheet  # type: ignore[union-attr]
+    name = use.chart.part.rsplit("/", 1)[-1].removesuffix(".xml")
+    if use.by_position:
+        x = None  # the category cells are labels: the fit's x are the positions 1..n
+    spec = RegressionSpec(
+        id=f"{use.chart.sheet}/{name}-series{use.series.index + 1}",
+        sheet=sheet,
+        x=x or placeholder,
+        y=y or placeholder,
+        intercept=use.forced_intercept is None,
+        found_by="trendline",
+    )
+    spec.trendlines.append(use)
+    spec.range_texts = texts
+    how = "against positions 1..n" if use.by_position else "y on x"
+    spec.label = f"linear trendline of {use.describe} ({how})"
+    return spec
+
+
+def _same(a: Ref, b: Ref) -> bool:
+    return (a.sheet.lower(), a.r1, a.c1, a.r2, a.c2) == (b.sheet.lower(), b.r1, b.c1, b.r2, b.c2)
+
+
+def add_trendlines(
+    workbook: Workbook, specs: list[RegressionSpec], parsed: dict[FollowKey, Node] | None = None
+) -> list[RegressionSpec]:
+    """``specs`` with the chart trendlines added: a trendline over the very ranges of a
+    regression found otherwise joins it; every other audited trendline is a regression."""
+    from auditor.locate.trendline_copies import attach_copies
+
+    evaluator = Evaluator(workbook)
+    added: list[RegressionSpec] = []
+    for use in survey(workbook, evaluator):
+        if use.status != "audited":
+            continue
+        spec = spec_for(use)
+        same = next(
+            (
+                other
+                for other in [*specs, *added]
+                if not use.by_position and _same(other.x, spec.x) and _same(other.y, spec.y)
+            ),
+            None,
+        )
+        if same is not None:
+            same.trendlines.append(use)
+            continue
+        added.append(spec)
+    result = [*specs, *added]
+    for spec in result:
+        for use in spec.trendlines:
+            if use.length_mismatch:
+                use.runs_into = _reached_blocks(use, spec, result)
+    attach_copies(workbook, result, parsed or {})
+    return result
+
+
+def _reached_blocks(
+    use: TrendlineUse, own: RegressionSpec, specs: list[RegressionSpec]
+) -> list[str]:
+    """Data ranges of other regressions that a series' unpaired cells run into."""
+    longer = use.y_ref if use.y_count > use.x_count else use.x_ref
+    if longer is None:
+        return []
+    paired = min(use.x_count, use.y_count)
+    extra = (
+        Ref(longer.sheet, longer.r1 + paired, longer.c1, longer.r2, longer.c2)
+        if longer.cols == 1
+        else Ref(longer.sheet, longer.r1, longer.c1 + paired, longer.r2, longer.c2)
+    )
+    reached = []
+    for spec in specs:
+        if spec is own or spec.found_by == "trendline":
+            continue
+        for block in (spec.y, spec.x):
+            if _overlap(extra, block):
+                reached.append(f"{block.address} (the data of the regression {spec.id})")
+                break
+    return reached
+
+
+def _overlap(a: Ref, b: Ref) -> bool:
+    return (
+        a.sheet.lower() == b.sheet.lower()
+        and a.r1 <= b.r2
+        and b.r1 <= a.r2
+        and a.c1 <= b.c2
+        and b.c1 <= a.c2
+    )
