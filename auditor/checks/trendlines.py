@@ -82,9 +82,9 @@ def _length_finding(use: TrendlineUse, context: RegressionContext) -> Finding:
             f"The {use.describe} pairs x {use.x_text} ({use.x_count} values) with y {use.y_text} "
             f"({use.y_count} values): the {longer} range runs {extra} cell(s) past the "
             f"other{into}; {held}. A chart pairs x and y by position, so only the first "
-            f"{paired} pairs are drawn and fitted (so LibreOffice draws it; other applications may place the extra "
-            "values differently), and the trendline is not the fit of the block as selected."
-            + fitted
+            f"{paired} pairs are drawn and fitted (so LibreOffice draws it; other applications "
+            "may place the extra values differently), and the trendline is not the fit of the "
+            "block as selected." + fitted
         ),
         evidence={
             "x_range": use.x_text,
