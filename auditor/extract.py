@@ -266,9 +266,7 @@ def extract(
     """The intended table of ``spec``. ``cell_by_cell=True`` classifies every row one cell at a
     time (slow on large tables): the reference the fast path is tested against."""
     if spec.found_by == "trendline":
-        from auditor.extract_series import extract_series
-
-        return extract_series(spec)
+        return _series_table(spec)
     x_ref, y_ref = spec.x, spec.y
     k = x_ref.c2 - x_ref.c1 + 1
     x_cols = list(range(x_ref.c1, x_ref.c2 + 1))
@@ -350,3 +348,46 @@ def _paired(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> E
 
 def _range_text(sheet: str, c1: int, r1: int, c2: int, r2: int) -> str:
     return f"{sheet}!{column_letter(c1)}{r1}:{column_letter(c2)}{r2}"
+
+
+def _row_of(address: str, position: int) -> int:
+    """The sheet row of a point's cell (its position when the chart alone holds the value)."""
+    coord = address.rpartition("!")[2]
+    digits = "".join(ch for ch in coord if ch.isdigit())
+    return int(digits) if digits else position
+
+
+def _series_table(spec: RegressionSpec) -> Extracted:
+    """A chart trendline's data: the series' points exactly as the chart plots them (paired by
+    position, against 1..n for a series plotted by position); no rows added below its range and
+    no total row left out, since a trendline fits what the chart draws and nothing else."""
+    use = spec.trendlines[0]  # auditor.locate.trendlines.TrendlineUse
+    points: list[DataPoint] = []
+    dropped: list[tuple[str, str]] = []
+    xs: list[float] = []
+    ys: list[float] = []
+    for point in use.points:
+        row = _row_of(point.y_cell, point.position)
+        used = point.x is not None and point.y is not None
+        reason = ""
+        if not used:
+            missing = "y" if point.y is None else "x"
+            where = point.y_cell if point.y is None else point.x_cell
+            reason = f"not drawn: its {missing} is not a number"
+            if where:
+                dropped.append((where, f"{missing} not a number: the chart skips the point"))
+        points.append(DataPoint(row, [point.x], point.y, used, used, reason))
+        if used:
+            assert point.x is not None and point.y is not None
+            xs.append(point.x)
+            ys.append(point.y)
+    x_text, y_text = spec.range_texts or (spec.x.address, spec.y.address)
+    return Extracted(
+        x=np.array(xs, dtype=float).reshape(-1, 1),
+        y=np.array(ys, dtype=float),
+        points=points,
+        intended_x_range=x_text,
+        intended_y_range=y_text,
+        dropped=dropped,
+        n_as_written=len(ys),
+    )

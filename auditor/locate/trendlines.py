@@ -25,6 +25,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.formula.syntax import Binary, Node, Ref, RefNode, parse, references, walk
 from auditor.locate.spec import RegressionSpec
@@ -135,13 +136,13 @@ def survey(workbook: Workbook, evaluator: Evaluator | None = None) -> list[Trend
 
 
 def _resolve(workbook: Workbook, values: SeriesValues | None, sheet: str) -> Ref | None:
+    """The block a series reference names (a defined name resolved); None for literals, unions
+    and blocks in other workbooks."""
     if values is None or values.formula is None:
         return None
-    if values.ref is not None:
-        return None if values.ref.external else values.ref
-    try:  # a defined name, sheet- or workbook-scoped
-        node = parse("=" + values.formula.split("!")[-1], sheet, workbook)
-    except Exception:  # noqa: BLE001 - any reference the parser refuses is simply not a block
+    try:
+        node = parse("=" + values.formula, sheet, workbook)
+    except FormulaError:
         return None
     return node.ref if isinstance(node, RefNode) and not node.ref.external else None
 

@@ -7,8 +7,9 @@ drawing to its chart parts. Each chart part holds one or more plots (``c:scatter
 * its x values: ``c:xVal`` in a scatter or bubble plot, ``c:cat`` (categories) in the others;
 * its y values: ``c:yVal`` or ``c:val``;
 * for each, a reference (``c:numRef``/``c:strRef`` with a ``c:f`` such as
-  ``'My Data'!$B$2:$B$9``) with the values the application cached when it last drew the chart,
-  or literal values only (``c:numLit``/``c:strLit``, no reference);
+  ``'My Data'!$B$2:$B$9``, kept as text: the locator parses it against the workbook's sheets and
+  names) with the values the application cached when it last drew the chart, or literal values
+  only (``c:numLit``/``c:strLit``, no reference);
 * its trendlines (``c:trendline``): type (linear, poly, exp, log, power, movingAvg), polynomial
   order or moving-average period, a forced intercept, and whether the equation and R² are shown.
 
@@ -23,8 +24,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import Any
 
-from auditor.errors import FormulaError, UnreadableWorkbook
-from auditor.formula.syntax import Ref, RefNode, parse
+from auditor.errors import UnreadableWorkbook
 from auditor.read.parts import SheetEntry, read_relationships
 from auditor.read.xmlsafe import parse_part
 
@@ -40,7 +40,6 @@ class SeriesValues:
     """One axis of a series: the reference as written, and the values cached beside it."""
 
     formula: str | None  # the reference text, e.g. "'Run Data'!$B$2:$B$9"; None for literals
-    ref: Ref | None  # the reference parsed; None for literals, names and unions
     cached: tuple[float | str | None, ...]  # by point index; None where the cache has no point
     text: bool = False  # a string reference or literal (category labels)
 
@@ -181,21 +180,10 @@ def _values(axis: Any, sheet: str) -> SeriesValues | None:
             formula_element = child.find(f"{CHART_NS}f")
             formula = (formula_element.text or "").strip() if formula_element is not None else ""
             cache = next((c for c in child if _local(c.tag).endswith("Cache")), None)
-            return SeriesValues(formula or None, _reference(formula, sheet), _points(cache), text)
+            return SeriesValues(formula or None, _points(cache), text)
         if kind in ("numLit", "strLit"):
-            return SeriesValues(None, None, _points(child), text)
+            return SeriesValues(None, _points(child), text)
     return None
-
-
-def _reference(formula: str, sheet: str) -> Ref | None:
-    """The block a series reference names, when it is one plain block of cells."""
-    if not formula:
-        return None
-    try:
-        node = parse("=" + formula, sheet)
-    except FormulaError:
-        return None
-    return node.ref if isinstance(node, RefNode) else None
 
 
 def _points(cache: Any) -> tuple[float | str | None, ...]:
