@@ -392,7 +392,7 @@ def _reached_blocks(
     )
     reached = []
     for spec in specs:
-        if spec is own or spec.found_by == "trendline":
+        if spec is own:
             continue
         for block in (spec.y, spec.x):
             if _overlap(extra, block):
