@@ -39,7 +39,8 @@ FollowKey = tuple[str, int, int]
 @dataclass(frozen=True)
 class Literal:
     cell: Cell
-    value: float  # with the sign the formula gives it
+    typed: float  # as typed
+    value: float  # with the sign the formula gives it (the same for a constant in a cell)
     in_formula: bool
 
 
@@ -90,10 +91,14 @@ def figures(xs: list[float], ys: list[float], intercept: bool) -> TrendFigures |
     return TrendFigures(slope, b0, r_squared, max(ys) - min(ys), min(xs), max(xs))
 
 
-def _signed(node: Node, sign: float) -> Iterator[float]:
-    """Each number literal of a formula with the sign the formula applies to it."""
+def _signed(node: Node, sign: float) -> Iterator[tuple[float, float]]:
+    """Each number literal of a formula: as typed (a minus written before it included), and
+    with the sign the formula applies to it (``=(B2-2.06)/0.54`` gives (2.06, −2.06))."""
     if isinstance(node, Number):
-        yield sign * float(node.value)
+        yield float(node.value), sign * float(node.value)
+    elif isinstance(node, Unary) and isinstance(node.operand, Number) and node.op == "-":
+        value = -float(node.operand.value)
+        yield value, sign * value
     elif isinstance(node, Unary):
         yield from _signed(node.operand, -sign if node.op == "-" else sign)
     elif isinstance(node, Binary) and node.op in ("+", "-", "*", "/"):
@@ -196,12 +201,12 @@ def _literals(workbook: Workbook, parsed: dict[FollowKey, Node]) -> list[Literal
                 value = cell.value
                 if isinstance(value, (int, float)) and not isinstance(value, bool):
                     if math.isfinite(value) and not _in_data_run(workbook, cell):
-                        found.append(Literal(cell, float(value), False))
+                        found.append(Literal(cell, float(value), float(value), False))
                 continue
             node = parsed.get((cell.sheet, cell.row, cell.col))
             if node is None or _continues_copy(workbook, parsed, cell, node):
                 continue
-            found.extend(Literal(cell, value, True) for value in _signed(node, 1.0))
+            found.extend(Literal(cell, typed, value, True) for typed, value in _signed(node, 1.0))
     return found
 
 
@@ -323,19 +328,21 @@ def _attach_by_value(
     taken: set[str],
 ) -> None:
     truth = {"slope": found.slope, "intercept": found.intercept, "r_squared": found.r_squared}
-    by_cell: dict[str, list[tuple[str, Literal]]] = {}
+    by_cell: dict[str, list[tuple[str, Cell, float]]] = {}
     for literal in literals:
         if literal.cell.address in taken:
             continue
         for key in sorted(shown):
-            if _matches(literal.value, truth[key]):
-                by_cell.setdefault(literal.cell.address, []).append((key, literal))
+            for value in dict.fromkeys((literal.typed, literal.value)):
+                if _matches(value, truth[key]):
+                    by_cell.setdefault(literal.cell.address, []).append((key, literal.cell, value))
+                    break
     for matched in by_cell.values():
-        keys = {key for key, _ in matched}
+        keys = {key for key, _, _ in matched}
         needed = MIN_DIGITS_PAIRED if len(keys) > 1 else MIN_DIGITS_ALONE
-        for key, literal in matched:
-            if significant_digits(literal.value) >= needed:
-                _put(spec, key, literal.cell, literal.value)
+        for key, cell, value in matched:
+            if significant_digits(value) >= needed:
+                _put(spec, key, cell, value)
 
 
 def _author_lines(
@@ -353,11 +360,7 @@ def _author_lines(
             continue
         if line.slope_literal is None:
             continue
-        gap = max(
-            abs((line.slope - found.slope) * x + (line.intercept - found.intercept))
-            for x in (found.x_low, found.x_high)
-        )
-        if gap > CLOSE_SHARE * found.y_span:
+        if not _copies_trendline(line, found):
             continue
         cell = workbook.cell(*key)
         if cell is None:
@@ -380,3 +383,20 @@ def _lower_key(address: str) -> FollowKey:
     sheet, _, coord = address.rpartition("!")
     row, col = parse_cell(coord)
     return (sheet.lower(), row, col)
+
+
+def _copies_trendline(line: _Line, found: TrendFigures) -> bool:
+    """An author's line of x is taken for a copy of the trendline's equation when it runs close
+    to it over the plotted x, or when it holds both figures and one of them agrees at its digits
+    (one slipped digit must not hide the copy)."""
+    gap = max(
+        abs((line.slope - found.slope) * x + (line.intercept - found.intercept))
+        for x in (found.x_low, found.x_high)
+    )
+    if gap <= CLOSE_SHARE * found.y_span:
+        return True
+    if line.slope_literal is None or line.intercept_literal is None:
+        return False
+    return _matches(line.slope_literal, found.slope) or (
+        line.intercept_literal != 0 and _matches(line.intercept_literal, found.intercept)
+    )

@@ -316,7 +316,9 @@ def spec_for(use: TrendlineUse) -> RegressionSpec:
     y = _span(use.y_ref, first, last)
     x = _span(use.x_ref, first, last)
     texts = (
-        x.address if x is not None else f"positions {first}..{last}",
+        x.address
+        if x is not None
+        else (f"positions {first}..{last}" if use.by_position else use.x_text),
         y.address if y is not None else use.y_text,
     )
     placeholder = Ref("", 1, 1, 1, 1)  # no cells: values cached in the chart only
