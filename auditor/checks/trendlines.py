@@ -123,13 +123,34 @@ def fits_positions(context: RegressionContext) -> list[Finding]:
                     f"The {use.describe} is a {use.series.plot} chart: its trendline fits y "
                     f"against the positions 1..{use.y_count}, not against the category cells "
                     f"({categories}). The slope is per position (one step along the axis); the "
-                    "recomputation here does the same."
+                    "recomputation here does the same." + _date_axis_note(use)
                 ),
                 evidence={"plot": use.series.plot, "categories": categories},
                 fix="Use a scatter chart when the trendline should fit y against the x values.",
             )
         )
     return findings
+
+
+def _date_axis_note(use: TrendlineUse) -> str:
+    """Evenly spaced numeric categories (dates) may be fitted as values by some applications."""
+    cached = use.series.x.cached if use.series.x is not None else ()
+    values = [v for v in cached if isinstance(v, float)]
+    if len(values) < 2 or len(values) != len(cached):
+        return ""
+    steps = {round(b - a, 9) for a, b in zip(values, values[1:], strict=False)}
+    if len(steps) != 1:
+        return ""
+    step = steps.pop()
+    per_value = (
+        "the slope is the same, the intercept differs"
+        if step == 1
+        else f"its slope is this one divided by {step:g}, the step between them"
+    )
+    return (
+        f" The category cells are evenly spaced numbers (dates, a step of {step:g}): LibreOffice "
+        f"puts them on a date axis and fits y against them instead ({per_value}; R² is the same)."
+    )
 
 
 NOT_AUDITED_WORDS = {

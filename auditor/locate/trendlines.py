@@ -7,9 +7,11 @@ What a trendline fits is what the chart plots:
   those and leaves the rest out: checked by rendering a chart whose y range is longer), and the
   mismatch is a finding of its own (``auditor.checks.trendlines``);
 * a line, bar, column or area series, or a scatter series whose x values are text, is plotted
-  against the positions 1..n, whatever its category cells hold (dates, years, labels): its
-  trendline fits y against 1..n (common practice; LibreOffice's rendering agrees). The
-  regression keeps the category range as its x range and says it fits positions;
+  against the positions 1..n: its trendline fits y against 1..n (common practice for the
+  spreadsheet the studied workbooks come from; LibreOffice's rendering agrees for text
+  categories, but fits evenly spaced dates on a date axis as values, which the
+  ``trendline-fits-positions`` note spells out). The regression keeps the category range as its
+  x range and says it fits positions;
 * a point whose y (or, in a scatter, x) is empty, text or an error is not drawn and not fitted.
 
 Not every linear trendline is a regression of data. A series whose y cells are formulas of the
