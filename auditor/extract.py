@@ -350,13 +350,6 @@ def _range_text(sheet: str, c1: int, r1: int, c2: int, r2: int) -> str:
     return f"{sheet}!{column_letter(c1)}{r1}:{column_letter(c2)}{r2}"
 
 
-def _row_of(address: str, position: int) -> int:
-    """The sheet row of a point's cell (its position when the chart alone holds the value)."""
-    coord = address.rpartition("!")[2]
-    digits = "".join(ch for ch in coord if ch.isdigit())
-    return int(digits) if digits else position
-
-
 def _series_table(spec: RegressionSpec) -> Extracted:
     """A chart trendline's data: the series' points exactly as the chart plots them (paired by
     position, against 1..n for a series plotted by position); no rows added below its range and
@@ -367,7 +360,7 @@ def _series_table(spec: RegressionSpec) -> Extracted:
     xs: list[float] = []
     ys: list[float] = []
     for point in use.points:
-        row = _row_of(point.y_cell, point.position)
+        row = point.y_at[1] if point.y_at is not None else point.position
         used = point.x is not None and point.y is not None
         reason = ""
         if not used:

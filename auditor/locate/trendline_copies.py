@@ -193,14 +193,20 @@ def _only(
     return None
 
 
-def _literals(workbook: Workbook, parsed: dict[FollowKey, Node]) -> list[Literal]:
+def _literals(
+    workbook: Workbook, parsed: dict[FollowKey, Node], data_cells: set[FollowKey]
+) -> list[Literal]:
+    """Constants typed in cells (outside the data) and number literals inside formulas."""
     found: list[Literal] = []
     for sheet in workbook.sheets.values():
-        for cell in sheet.cells.values():
+        lowered = sheet.name.lower()
+        for (row, col), cell in sheet.cells.items():
             if cell.formula is None:
+                if (lowered, row, col) in data_cells:
+                    continue
                 value = cell.value
                 if isinstance(value, (int, float)) and not isinstance(value, bool):
-                    if math.isfinite(value) and not _in_data_run(workbook, cell):
+                    if math.isfinite(value):
                         found.append(Literal(cell, float(value), float(value), False))
                 continue
             node = parsed.get((cell.sheet, cell.row, cell.col))
@@ -301,11 +307,7 @@ def attach_copies(
     if not targets:
         return
     data_cells = _series_cells(specs)
-    literals = [
-        lit
-        for lit in _literals(workbook, parsed)
-        if lit.in_formula or (lit.cell.sheet.lower(), lit.cell.row, lit.cell.col) not in data_cells
-    ]
+    literals = _literals(workbook, parsed, data_cells)
     for spec in targets:
         found, shown = _shown_figures(spec)
         if found is None or not shown:
@@ -317,10 +319,11 @@ def attach_copies(
                 _put(spec, "slope", cell, line.slope_literal)
             if line.intercept_literal is not None and "intercept" in shown:
                 _put(spec, "intercept", cell, line.intercept_literal)
-        _attach_by_value(spec, literals, found, shown, taken)
+        _attach_by_value(workbook, spec, literals, found, shown, taken)
 
 
 def _attach_by_value(
+    workbook: Workbook,
     spec: RegressionSpec,
     literals: list[Literal],
     found: TrendFigures,
@@ -338,6 +341,8 @@ def _attach_by_value(
                     by_cell.setdefault(literal.cell.address, []).append((key, literal.cell, value))
                     break
     for matched in by_cell.values():
+        if matched[0][1].formula is None and _in_data_run(workbook, matched[0][1]):
+            continue  # a number in a column of data that happens to agree
         keys = {key for key, _, _ in matched}
         needed = MIN_DIGITS_PAIRED if len(keys) > 1 else MIN_DIGITS_ALONE
         for key, cell, value in matched:
@@ -352,7 +357,7 @@ def _author_lines(
     use = spec.trendlines[0]
     if use.by_position:
         return []
-    x_cells = {_lower_key(p.x_cell) for p in use.used if p.x_cell}
+    x_cells = {(p.x_at[0].lower(), p.x_at[1], p.x_at[2]) for p in use.used if p.x_at}
     lines: list[tuple[Cell, _Line]] = []
     for key, node in parsed.items():
         line = _line(node)
@@ -375,14 +380,6 @@ def _author_lines(
                 continue  # copied down: the first cell speaks for the block
         lines.append((cell, line))
     return lines
-
-
-def _lower_key(address: str) -> FollowKey:
-    from auditor.read.workbook import parse_cell
-
-    sheet, _, coord = address.rpartition("!")
-    row, col = parse_cell(coord)
-    return (sheet.lower(), row, col)
 
 
 def _copies_trendline(line: _Line, found: TrendFigures) -> bool:

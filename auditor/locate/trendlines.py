@@ -25,6 +25,7 @@ listed as not audited, with why, instead of becoming a regression.
 from __future__ import annotations
 
 import math
+import weakref
 from dataclasses import dataclass, field
 
 from auditor.errors import FormulaError
@@ -39,13 +40,26 @@ FORMULA_SAMPLE = 50  # y cells looked at to call a series a model line or residu
 FollowKey = tuple[str, int, int]
 
 
-@dataclass
+@dataclass(slots=True)
 class SeriesPoint:
     position: int  # 1-based position in the series, the x of a series plotted by position
     x: float | None
     y: float | None
-    x_cell: str  # "Sheet!A1", or "" for a cached or positional value
-    y_cell: str
+    x_at: FollowKey | None  # (sheet, row, col) of the x cell; None for a cached value
+    y_at: FollowKey | None
+
+    @property
+    def x_cell(self) -> str:
+        return _address(self.x_at)
+
+    @property
+    def y_cell(self) -> str:
+        return _address(self.y_at)
+
+
+def _address(at: FollowKey | None) -> str:
+    """ "Sheet!A1", or "" for a value held in the chart only."""
+    return "" if at is None else f"{at[0]}!{_coord(at[1], at[2])}"
 
 
 @dataclass
@@ -126,14 +140,25 @@ def _axis_text(values: SeriesValues | None, ref: Ref | None, axis: str) -> str:
     return f"{axis} values cached in the chart"
 
 
+# One survey a workbook, shared by the locator and the checks; keyed by id() because Workbook
+# is unhashable, and dropped when its workbook is collected.
+_SURVEYS: dict[int, list[TrendlineUse]] = {}
+
+
 def survey(workbook: Workbook, evaluator: Evaluator | None = None) -> list[TrendlineUse]:
     """Every chart series that carries a trendline, read as the chart fits it."""
+    key = id(workbook)
+    known = _SURVEYS.get(key)
+    if known is not None:
+        return known
     evaluator = evaluator or Evaluator(workbook)
     found: list[TrendlineUse] = []
     for chart in workbook.charts:
         for series in chart.series:
             if series.trendlines:
                 found.append(_read_use(workbook, evaluator, chart, series))
+    _SURVEYS[key] = found
+    weakref.finalize(workbook, _SURVEYS.pop, key, None)
     return found
 
 
@@ -158,7 +183,7 @@ def _cells(ref: Ref) -> list[tuple[int, int]]:
 
 def _axis_values(
     workbook: Workbook, evaluator: Evaluator, values: SeriesValues | None, ref: Ref | None
-) -> tuple[list[object], list[str]]:
+) -> tuple[list[object], list[FollowKey | None]]:
     """The values a series axis plots, with their cells; cached values when no cells hold them."""
     if ref is not None and workbook.sheet(ref.sheet) is not None:
         sheet = workbook.sheet(ref.sheet)
@@ -168,9 +193,9 @@ def _axis_values(
         for row, col in cells:
             cell = sheet.get(row, col)
             out.append(_cell_value(workbook, evaluator, cell))
-        return out, [f"{sheet.name}!{_coord(r, c)}" for r, c in cells]
+        return out, [(sheet.name, r, c) for r, c in cells]
     cached: list[object] = list(values.cached) if values is not None else []
-    return cached, [""] * len(cached)
+    return cached, [None] * len(cached)
 
 
 def _cell_value(workbook: Workbook, evaluator: Evaluator, cell: Cell | None) -> object:
@@ -202,8 +227,8 @@ def _read_use(
     pairs = len(ys) if use.by_position else min(len(xs), len(ys))
     for i in range(pairs):
         x = float(i + 1) if use.by_position else _number(xs[i])
-        x_cell = x_cells[i] if i < len(x_cells) else ""
-        use.points.append(SeriesPoint(i + 1, x, _number(ys[i]), x_cell, y_cells[i]))
+        x_at = x_cells[i] if i < len(x_cells) and not use.by_position else None
+        use.points.append(SeriesPoint(i + 1, x, _number(ys[i]), x_at, y_cells[i]))
     use.status, use.why = _status(workbook, use)
     return use
 
@@ -236,21 +261,25 @@ def _formula_shape(workbook: Workbook, use: TrendlineUse) -> str:
     a line from data, "" otherwise (data, or cells the sample cannot judge)."""
     if use.by_position or use.x_ref is None or use.y_ref is None:
         return ""
-    x_keys = {_key_of(p.x_cell) for p in use.used if p.x_cell}
+    sample = [p.y_at for p in use.used[:FORMULA_SAMPLE] if p.y_at is not None]
+    if not all(_is_formula(workbook, at) for at in sample):
+        return ""  # typed data: no need to look further
+    x_keys = {_lower(p.x_at) for p in use.used if p.x_at is not None}
     shapes: set[str] = set()
-    for point in use.used[:FORMULA_SAMPLE]:
-        shapes.add(_shape_of(workbook, _key_of(point.y_cell), x_keys, 0))
+    for at in sample:
+        shapes.add(_shape_of(workbook, _lower(at), x_keys, 0))
         if len(shapes) > 1:
             return ""
     return shapes.pop() if shapes and shapes <= {"line", "residual"} else ""
 
 
-def _key_of(address: str) -> FollowKey:
-    sheet, _, coord = address.rpartition("!")
-    from auditor.read.workbook import parse_cell
+def _is_formula(workbook: Workbook, at: FollowKey) -> bool:
+    cell = workbook.cell(*at)
+    return cell is not None and cell.formula is not None
 
-    row, col = parse_cell(coord)
-    return (sheet.lower(), row, col)
+
+def _lower(at: FollowKey) -> FollowKey:
+    return (at[0].lower(), at[1], at[2])
 
 
 def _shape_of(workbook: Workbook, key: FollowKey, x_keys: set[FollowKey], depth: int) -> str:
