@@ -33,6 +33,7 @@ FAMILIES = (
     formula_pasted,
     formula_siblings,
     formulas,
+    trendlines,
     workbook_level,
 )
 REGISTRY: dict[str, Check] = build_registry(FAMILIES)

@@ -5,8 +5,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from auditor.checks.base import RegressionContext, check
-from auditor.checks.workbook_level import WorkbookContext
+from auditor.checks.base import check
+from auditor.context import RegressionContext, WorkbookContext
 from auditor.locate.trendline_copies import figures
 from auditor.locate.trendlines import TrendlineUse, survey
 from auditor.model import Finding
@@ -42,7 +42,7 @@ def _extra(use: TrendlineUse) -> tuple[str, list[str], list[Any]]:
     paired = min(use.x_count, use.y_count)
     cells: list[str] = []
     if ref is not None:
-        from auditor.read.workbook import column_letter
+        from auditor.grid import column_letter
 
         column = ref.cols == 1 or ref.rows > 1
         for offset in range(paired, max(use.x_count, use.y_count)):

@@ -323,7 +323,7 @@ def _parsed(workbook: Workbook, cell: Cell) -> Node | None:
 
 
 def _coord(row: int, col: int) -> str:
-    from auditor.read.workbook import column_letter
+    from auditor.grid import column_letter
 
     return f"{column_letter(col)}{row}"
 
