@@ -264,6 +264,26 @@ def test_a_typed_r_squared_and_an_inverse_prediction_are_copies(tmp_path: Path) 
     }
 
 
+def test_a_label_copied_as_text_is_read_figure_by_figure(tmp_path: Path) -> None:
+    fit = sm.OLS(np.array(Y), sm.add_constant(X)).fit()
+    assert round(float(fit.rsquared), 4) == 0.9985  # statsmodels: R² of Y on x
+    book = tmp_path / "text.xlsx"
+    _simple(book, Y, {})
+    parts = read_parts(book)
+    sheet = parts["xl/worksheets/sheet1.xml"].decode("utf-8")
+    label = "Fit: y = 0.9893x + 1.1646 (R² = 0.9985)"  # intercept digits swapped: 1.1464
+    cell = f'<c r="H2" t="inlineStr"><is><t>{label}</t></is></c>'
+    sheet = re.sub(r'(<row r="2"[^>]*>.*?)(</row>)', rf"\1{cell}\2", sheet, count=1, flags=re.S)
+    parts["xl/worksheets/sheet1.xml"] = sheet.encode("utf-8")
+    regression = _audit(write_package(tmp_path / "text2.xlsx", dict(parts))).regressions[0]
+    found = {(k, v.cell, v.value, v.verdict) for k, v in regression.reported.items()}
+    assert found == {
+        ("slope", "Kiln Log!H2", 0.9893, "confirmed"),
+        ("intercept", "Kiln Log!H2", 1.1646, "mismatch"),
+        ("r_squared", "Kiln Log!H2", 0.9985, "confirmed"),
+    }
+
+
 def test_x_and_y_of_different_lengths_are_flagged(tmp_path: Path) -> None:
     long_y = [*Y, 40.0, 41.5, 43.0]  # three more readings below the block
     path = _simple(tmp_path / "long.xlsx", long_y, {}, y_rows=len(long_y))

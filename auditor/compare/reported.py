@@ -118,7 +118,12 @@ def build_reported(
         as_written, note = as_written_value(evaluator, stat)
         raw = cell.value
         if stat.typed_value is not None:  # a constant typed inside the formula
-            as_written, note = None, f"typed into the formula {cell.formula}"
+            as_written = None
+            note = (
+                f"typed into the formula {cell.formula}"
+                if cell.formula
+                else f"written in the text {cell.value!r}"
+            )
             raw = stat.typed_value
         if cell.formula is None or stat.typed_value is not None:
             source = "text" if isinstance(raw, str) else "typed"

@@ -21,6 +21,7 @@ inside a chart series or a regression's data ranges are data, never copies.
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Iterator
 from dataclasses import dataclass
 
@@ -288,8 +289,8 @@ def _put(spec: RegressionSpec, key: str, cell: Cell, value: float) -> None:
         return
     name = key if key not in spec.stats else f"{key}@{cell.address}"
     stat = StatCell(key, cell, "trendline-copy")
-    if cell.formula is not None:
-        stat.typed_value = value
+    if cell.formula is not None or isinstance(cell.value, str):
+        stat.typed_value = value  # a number inside a formula or a text, not the cell's value
     spec.stats[name] = stat
 
 
@@ -308,6 +309,7 @@ def attach_copies(
         return
     data_cells = _series_cells(specs)
     literals = _literals(workbook, parsed, data_cells)
+    equations = _equation_texts(workbook)
     for spec in targets:
         found, shown = _shown_figures(spec)
         if found is None or not shown:
@@ -319,6 +321,8 @@ def attach_copies(
                 _put(spec, "slope", cell, line.slope_literal)
             if line.intercept_literal is not None and "intercept" in shown:
                 _put(spec, "intercept", cell, line.intercept_literal)
+        for cell, figures_typed in equations:
+            _attach_equation(spec, cell, figures_typed, found, shown)
         _attach_by_value(workbook, spec, literals, found, shown, taken)
 
 
@@ -341,7 +345,8 @@ def _attach_by_value(
                     by_cell.setdefault(literal.cell.address, []).append((key, literal.cell, value))
                     break
     for matched in by_cell.values():
-        if matched[0][1].formula is None and _in_data_run(workbook, matched[0][1]):
+        first = matched[0][1]
+        if first.formula is None and _plain_number(first.value) and _in_data_run(workbook, first):
             continue  # a number in a column of data that happens to agree
         keys = {key for key, _, _ in matched}
         needed = MIN_DIGITS_PAIRED if len(keys) > 1 else MIN_DIGITS_ALONE
@@ -397,3 +402,58 @@ def _copies_trendline(line: _Line, found: TrendFigures) -> bool:
     return _matches(line.slope_literal, found.slope) or (
         line.intercept_literal != 0 and _matches(line.intercept_literal, found.intercept)
     )
+
+
+NUMBER_TEXT = r"[-\u2212]?\s*\d[\d,]*(?:\.\d+)?(?:[eE][-+]?\d+)?"
+EQUATION = re.compile(
+    rf"\by\s*=\s*(?P<slope>{NUMBER_TEXT})\s*\*?\s*x\b(?:\s*(?P<sign>[-+\u2212])\s*"
+    rf"(?P<intercept>\d[\d,]*(?:\.\d+)?(?:[eE][-+]?\d+)?))?",
+    re.I,
+)
+R_SQUARED = re.compile(rf"\bR\s*(?:\u00b2|\^?2)\s*=\s*(?P<r2>{NUMBER_TEXT})", re.I)
+
+
+def _text_number(text: str) -> float:
+    return float(text.replace("\u2212", "-").replace(",", "").replace(" ", ""))
+
+
+def _equation_texts(workbook: Workbook) -> list[tuple[Cell, dict[str, float]]]:
+    """Text cells holding a trendline label copied as text: "y = 1.49x + 21.9", "R² = 0.88"."""
+    found: list[tuple[Cell, dict[str, float]]] = []
+    for sheet in workbook.sheets.values():
+        for cell in sheet.cells.values():
+            if cell.formula is not None or not isinstance(cell.value, str) or "=" not in cell.value:
+                continue
+            typed: dict[str, float] = {}
+            equation = EQUATION.search(cell.value)
+            if equation:
+                typed["slope"] = _text_number(equation.group("slope"))
+                if equation.group("intercept"):
+                    sign = -1.0 if equation.group("sign") in ("-", "\u2212") else 1.0
+                    typed["intercept"] = sign * _text_number(equation.group("intercept"))
+            r_squared = R_SQUARED.search(cell.value)
+            if r_squared:
+                typed["r_squared"] = _text_number(r_squared.group("r2"))
+            if typed:
+                found.append((cell, typed))
+    return found
+
+
+def _attach_equation(
+    spec: RegressionSpec,
+    cell: Cell,
+    typed: dict[str, float],
+    found: TrendFigures,
+    shown: set[str],
+) -> None:
+    """A label copied as text belongs to the trendline when one of its figures agrees at its
+    digits (four significant digits at least, or two figures); then every figure it holds is a
+    reported value, so a wrong one is judged."""
+    truth = {"slope": found.slope, "intercept": found.intercept, "r_squared": found.r_squared}
+    keys = [key for key in typed if key in shown]
+    agreeing = [key for key in keys if _matches(typed[key], truth[key])]
+    needed = MIN_DIGITS_PAIRED if len(agreeing) > 1 else MIN_DIGITS_ALONE
+    if not any(significant_digits(typed[key]) >= needed for key in agreeing):
+        return
+    for key in keys:
+        _put(spec, key, cell, typed[key])
