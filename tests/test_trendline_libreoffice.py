@@ -9,7 +9,10 @@ render them, reads the labels back and compares them with the regressions regaud
 * a line series with dates as categories: LibreOffice fits y on the date serials (a date axis),
   while regaudit, like the spreadsheet the key workbooks come from, fits the positions 1..n: the
   test pins that difference (the slopes differ by the spacing of the dates);
-* a scatter series whose y range is three cells longer than its x range: the first n pairs only.
+* a scatter series whose y range is three cells longer than its x range: the first n pairs only;
+* a scatter series with an empty x cell: the point is left out, the others keep their x values;
+* a scatter series with one x cell holding text: LibreOffice leaves that point out, while
+  regaudit, like the spreadsheet the studied workbooks come from, fits y against 1..n (pinned).
 
 The PDF text is read through each font's ToUnicode map (ISO 32000-1, 9.10.3): LibreOffice writes
 text as glyph codes of subset fonts, and the map turns them back into characters.
@@ -23,7 +26,9 @@ import subprocess
 import zlib
 from pathlib import Path
 
+import numpy as np
 import pytest
+import statsmodels.api as sm
 import xlsxwriter
 
 from auditor.pipeline.audit import audit_workbook
@@ -44,6 +49,8 @@ LAYOUTS = (  # sheet, plot, categories, extra y cells
     ("Line Run", "line", "labels", 0),
     ("Dated Run", "line", "dates", 0),
     ("Long Y", "scatter", "numbers", 3),
+    ("Text X", "scatter", "one text", 0),
+    ("Blank X", "scatter", "one blank", 0),
 )
 
 
@@ -58,6 +65,11 @@ def _write(path: Path) -> None:
                 sheet.write_number(i, 0, 46000 + 7 * i, dates)  # a week apart
             elif categories == "labels":
                 sheet.write_string(i, 0, f"Week {i + 1}")
+            elif categories.startswith("one") and i == 2:
+                if categories == "one text":
+                    sheet.write_string(i, 0, "n/a")
+            elif categories == "one text":
+                sheet.write_number(i, 0, 2 * x + 1)  # x values that are not the positions
             else:
                 sheet.write_number(i, 0, x)
         sheet.write_column(0, 1, [*y, 30.0, 35.0, 41.0][: len(y) + extra])
@@ -119,11 +131,22 @@ def test_libreoffice_draws_the_trendline_regaudit_recomputes(tmp_path: Path) -> 
             drawn.append((float(found.group(1)), sign * float(found.group(3))))
     result = audit_workbook(source, load_policy("general"))
     recomputed = [(r.intended["slope"], r.intended["intercept"]) for r in result.regressions]
-    assert len(recomputed) == 4 and len(drawn) == 4, (labels, recomputed)
-    scatter, labelled, dated, long_y = zip(drawn, recomputed, strict=True)
-    for (slope, intercept), (ours, our_intercept) in (scatter, labelled, long_y):
+    assert len(recomputed) == len(LAYOUTS) and len(drawn) == len(LAYOUTS), (labels, recomputed)
+    scatter, labelled, dated, long_y, text_x, blank_x = zip(drawn, recomputed, strict=True)
+    for (slope, intercept), (ours, our_intercept) in (scatter, labelled, long_y, blank_x):
         assert slope == pytest.approx(ours, rel=1e-9)
         assert intercept == pytest.approx(our_intercept, rel=1e-9, abs=1e-12)
+    # x cells holding text: the spreadsheet the studied workbooks come from plots the series
+    # against 1..n (common practice: it ignores non-numeric x values and counts), which regaudit
+    # follows; LibreOffice leaves the text point out and keeps the other x values.
+    y = np.array([round(v * 1.4 + 4, 3) for v in Y])
+    x = np.array([2 * v + 1 for v in X])
+    kept = np.arange(len(X)) != 2
+    drawn_fit = sm.OLS(y[kept], sm.add_constant(x[kept])).fit().params
+    positions_fit = sm.OLS(y, sm.add_constant(np.arange(1.0, len(X) + 1))).fit().params
+    (slope, _), (ours, _) = text_x
+    assert slope == pytest.approx(float(drawn_fit[1]), rel=1e-9)
+    assert ours == pytest.approx(float(positions_fit[1]), rel=1e-12)
     # A date axis is where the applications part: LibreOffice fits y on the date serials, so its
     # slope is per day (the positions are a week apart) where regaudit's is per position.
     (slope, _), (ours, _) = dated

@@ -100,13 +100,15 @@ def _length_finding(use: TrendlineUse, context: RegressionContext) -> Finding:
 
 @check(
     "trendline-fits-positions",
-    "A line (or bar, area) chart's trendline fits y against 1..n, not its category cells.",
+    "A trendline fits y against 1..n: a line (bar, area) chart, or x cells holding text.",
 )
 def fits_positions(context: RegressionContext) -> list[Finding]:
     """Outside a scatter chart the x axis holds categories, so a trendline fits y against the
-    positions 1, 2, …, n whatever the category cells hold (dates, years, labels).
+    positions 1, 2, …, n whatever the category cells hold (dates, years, labels). A scatter
+    chart whose x cells hold text is plotted the same way (common practice: the spreadsheet
+    ignores non-numeric x values and counts the points; LibreOffice leaves those points out).
 
-    Failing (info): a line chart of sales by date, with a linear trendline.
+    Failing: a line chart of sales by date, with a linear trendline.
     Passing: a scatter chart of the same data.
     """
     findings = []
@@ -114,13 +116,19 @@ def fits_positions(context: RegressionContext) -> list[Finding]:
         if not use.by_position or use.linear is None:
             continue
         categories = use.x_text if use.x_ref is not None else "none"
+        why = (
+            "a scatter chart whose x cells hold text (the spreadsheet then plots the points "
+            "against their positions; LibreOffice leaves the text points out instead)"
+            if use.series.plot in ("scatter", "bubble")
+            else f"a {use.series.plot} chart"
+        )
         findings.append(
             Finding(
                 check="trendline-fits-positions",
                 severity="info",
                 cells=[],
                 message=(
-                    f"The {use.describe} is a {use.series.plot} chart: its trendline fits y "
+                    f"The {use.describe} is {why}: its trendline fits y "
                     f"against the positions 1..{use.y_count}, not against the category cells "
                     f"({categories}). The slope is per position (one step along the axis); the "
                     "recomputation here does the same." + _date_axis_note(use)
@@ -170,7 +178,7 @@ NOT_AUDITED_WORDS = {
 def not_audited(context: WorkbookContext) -> list[Finding]:
     """Only linear trendlines over data are recomputed; the others are listed, not ignored.
 
-    Failing (info): a polynomial trendline of order 3; a linear trendline over a line typed from
+    Failing: a polynomial trendline of order 3; a linear trendline over a line typed from
     constants (``=1.2*B2+3``); a linear trendline with its intercept fixed at 5.
     Passing: a linear trendline over measured data.
     """
