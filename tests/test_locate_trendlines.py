@@ -363,3 +363,27 @@ def test_trendlines_not_audited_are_listed(
         # through (0, 1.5): slope = Σx(y − 1.5)/Σx² (statsmodels OLS of y − 1.5 on x, no constant)
         slope = float(sm.OLS(np.array(Y) - 1.5, X.reshape(-1, 1)).fit().params[0])
         assert f"{slope:.6g}" in notes[0].message
+
+
+def test_a_scatter_whose_x_cells_hold_text_is_fitted_against_positions(tmp_path: Path) -> None:
+    book = xlsxwriter.Workbook(str(tmp_path / "text_x.xlsx"))
+    sheet = book.add_worksheet("Kiln Log")
+    sheet.write_column(0, 0, ["run A", *[f"{v:g} h" for v in X[1:]]])  # hours written as text
+    sheet.write_column(0, 1, Y)
+    chart = book.add_chart({"type": "scatter"})
+    chart.add_series(
+        {
+            "categories": "='Kiln Log'!$A$1:$A$8",
+            "values": "='Kiln Log'!$B$1:$B$8",
+            "trendline": {"type": "linear"},
+        }
+    )
+    sheet.insert_chart("F2", chart)
+    book.close()
+    (regression,) = _audit(tmp_path / "text_x.xlsx").regressions
+    positions = np.arange(1.0, len(Y) + 1)
+    fit = sm.OLS(np.array(Y), sm.add_constant(positions)).fit()
+    assert (regression.x_range, regression.n) == ("Kiln Log!A1:A8", 8)
+    assert regression.intended["slope"] == pytest.approx(float(fit.params[1]), rel=1e-12)
+    (note,) = [f for f in regression.findings if f.check == "trendline-fits-positions"]
+    assert "x cells hold text" in note.message and "positions 1..8" in note.message

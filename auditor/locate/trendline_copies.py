@@ -310,11 +310,12 @@ def attach_copies(
     data_cells = _series_cells(specs)
     literals = _literals(workbook, parsed, data_cells)
     equations = _equation_texts(workbook)
+    one_cell_lines = _lines_of_one_cell(parsed)
     for spec in targets:
         found, shown = _shown_figures(spec)
         if found is None or not shown:
             continue
-        lines = _author_lines(workbook, spec, parsed, found) if "slope" in shown else []
+        lines = _author_lines(workbook, spec, one_cell_lines, found) if "slope" in shown else []
         taken = {cell.address for cell, _ in lines}
         for cell, line in lines:
             if line.slope_literal is not None:
@@ -355,36 +356,38 @@ def _attach_by_value(
                 _put(spec, key, cell, value)
 
 
+def _lines_of_one_cell(parsed: dict[FollowKey, Node]) -> dict[FollowKey, _Line]:
+    """Every formula that is m·x + c of one cell with m typed as a literal, by its cell."""
+    found: dict[FollowKey, _Line] = {}
+    for key, node in parsed.items():
+        line = _line(node)
+        if line is not None and line.x_key is not None and line.slope_literal not in (None, 0):
+            found[key] = line
+    return found
+
+
 def _author_lines(
-    workbook: Workbook, spec: RegressionSpec, parsed: dict[FollowKey, Node], found: TrendFigures
+    workbook: Workbook, spec: RegressionSpec, lines: dict[FollowKey, _Line], found: TrendFigures
 ) -> list[tuple[Cell, _Line]]:
     """Formulas that draw a line of the series' own x cell close to the trendline."""
     use = spec.trendlines[0]
     if use.by_position:
         return []
     x_cells = {(p.x_at[0].lower(), p.x_at[1], p.x_at[2]) for p in use.used if p.x_at}
-    lines: list[tuple[Cell, _Line]] = []
-    for key, node in parsed.items():
-        line = _line(node)
-        if line is None or line.x_key is None or line.x_key not in x_cells or line.slope == 0:
-            continue
-        if line.slope_literal is None:
-            continue
-        if not _copies_trendline(line, found):
+    copies: list[tuple[Cell, _Line]] = []
+    for key, line in lines.items():
+        if line.x_key not in x_cells or not _copies_trendline(line, found):
             continue
         cell = workbook.cell(*key)
-        if cell is None:
-            continue
-        above = parsed.get((key[0], key[1] - 1, key[2]))
-        if above is not None and _line(above) is not None:
-            previous = _line(above)
-            if previous is not None and (previous.slope, previous.intercept) == (
-                line.slope,
-                line.intercept,
-            ):
-                continue  # copied down: the first cell speaks for the block
-        lines.append((cell, line))
-    return lines
+        previous = lines.get((key[0], key[1] - 1, key[2]))
+        if previous is not None and (previous.slope, previous.intercept) == (
+            line.slope,
+            line.intercept,
+        ):
+            continue  # copied down: the first cell speaks for the block
+        if cell is not None:
+            copies.append((cell, line))
+    return copies
 
 
 def _copies_trendline(line: _Line, found: TrendFigures) -> bool:
