@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.formula.syntax import Binary, Node, Ref, RefNode, parse, references, walk
-from auditor.locate.spec import RegressionSpec
+from auditor.locate.spec import RegressionSpec, overlaps
 from auditor.read.charts import Chart, ChartSeries, SeriesValues, Trendline
 from auditor.read.workbook import Cell, Workbook
 
@@ -428,17 +428,7 @@ def _reached_blocks(
         if spec is own:
             continue
         for block in (spec.y, spec.x):
-            if _overlap(extra, block):
+            if overlaps(extra, block):
                 reached.append(f"{block.address} (the data of the regression {spec.id})")
                 break
     return reached
-
-
-def _overlap(a: Ref, b: Ref) -> bool:
-    return (
-        a.sheet.lower() == b.sheet.lower()
-        and a.r1 <= b.r2
-        and b.r1 <= a.r2
-        and a.c1 <= b.c2
-        and b.c1 <= a.c2
-    )
