@@ -11,7 +11,8 @@ the order of :data:`RECOGNISERS`:
   (t, p, df, n, SE, limits) are attached by following references;
 * then typed numbers beside statistic labels are attached to every regression found so far;
 * *late* recognisers see the cells bound so far and never take one twice: **labels** (a typed
-  slope beside a two-column table).
+  slope beside a two-column table), **trendlines** (a chart series with a linear trendline;
+  its ``finish`` step joins a trendline over the same data as an earlier regression into it).
 
 A new form is one module with one ``find`` function and one line in :data:`RECOGNISERS`.
 """
@@ -22,10 +23,9 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from auditor.locate import declared, labels
+from auditor.locate import declared, labels, trendlines
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PAIR_FUNCS, PairUse, RegressionSpec, StatCell, overlaps
-from auditor.locate.trendlines import add_trendlines
 from auditor.read.workbook import Workbook
 
 __all__ = [
@@ -50,6 +50,9 @@ class Recogniser:
     find: Callable[[FormulaLocator, set[str]], list[RegressionSpec]]
     absorbs: bool = False  # a later regression over overlapping x and y merges into these
     late: bool = False  # runs after labelled constants are attached; respects ``taken``
+    # runs once all have found theirs, over the whole list (joins, completes, may drop its own)
+    labelled: bool = True  # typed numbers beside statistic labels near its blocks are attached
+    finish: Callable[[FormulaLocator, list[RegressionSpec]], list[RegressionSpec]] | None = None
 
 
 def _formulas(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
@@ -61,6 +64,8 @@ RECOGNISERS: tuple[Recogniser, ...] = (
     Recogniser("names", declared.from_names, absorbs=True),
     Recogniser("formulas", _formulas),
     Recogniser("labels", labels.from_labels, late=True),
+    # a chart series is no block of cells with labels beside it: its copies are found by value
+    Recogniser("trendlines", trendlines.find, late=True, finish=trendlines.finish, labelled=False),
 )
 
 
@@ -99,13 +104,15 @@ def locate(
         labels.attach_labelled_constants(locator, spec)
     for recogniser in (r for r in recognisers if r.late):
         found = recogniser.find(locator, _taken(specs))
-        for spec in found:
+        for spec in found if recogniser.labelled else ():
             labels.attach_labelled_constants(locator, spec)
         specs.extend(found)
     for spec in specs:
         spec.label = labels.block_title(locator, spec)
         spec.x_headers = locator.x_headers(spec)
-    specs = add_trendlines(workbook, specs, locator.parsed)
+    for recogniser in recognisers:
+        if recogniser.finish is not None:
+            specs = recogniser.finish(locator, specs)
     seen: set[str] = set()
     for spec in specs:
         base, n = spec.id, 2

@@ -31,6 +31,7 @@ from dataclasses import dataclass, field
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.formula.syntax import Binary, Node, Ref, RefNode, parse, references, walk
+from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import RegressionSpec, overlaps
 from auditor.read.charts import Chart, ChartSeries, SeriesValues, Trendline
 from auditor.read.workbook import Cell, Workbook
@@ -367,8 +368,6 @@ def spec_for(use: TrendlineUse) -> RegressionSpec:
     )
     spec.trendlines.append(use)
     spec.range_texts = texts
-    how = "against positions 1..n" if use.by_position else "y on x"
-    spec.label = f"linear trendline of {use.describe} ({how})"
     return spec
 
 
@@ -376,38 +375,54 @@ def _same(a: Ref, b: Ref) -> bool:
     return (a.sheet.lower(), a.r1, a.c1, a.r2, a.c2) == (b.sheet.lower(), b.r1, b.c1, b.r2, b.c2)
 
 
-def add_trendlines(
-    workbook: Workbook, specs: list[RegressionSpec], parsed: dict[FollowKey, Node] | None = None
-) -> list[RegressionSpec]:
-    """``specs`` with the chart trendlines added: a trendline over the very ranges of a
-    regression found otherwise joins it; every other audited trendline is a regression."""
+def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
+    """One regression per chart series with a linear trendline over data (a late recogniser:
+    it binds no cell; :func:`finish` joins and completes what it found)."""
+    return [spec_for(use) for use in survey(locator.workbook) if use.status == "audited"]
+
+
+def finish(locator: FormulaLocator, specs: list[RegressionSpec]) -> list[RegressionSpec]:
+    """Once every recogniser has run: a trendline over the very ranges of a regression found
+    before joins it (one regression, two ways of showing it); the unpaired cells of unequal
+    series are traced into the regressions they reach; typed copies of the trendlines' figures
+    are attached (:mod:`auditor.locate.trendline_copies`)."""
     from auditor.locate.trendline_copies import attach_copies
 
-    evaluator = Evaluator(workbook)
-    added: list[RegressionSpec] = []
-    for use in survey(workbook, evaluator):
-        if use.status != "audited":
-            continue
-        spec = spec_for(use)
-        same = next(
-            (
-                other
-                for other in [*specs, *added]
-                if not use.by_position and _same(other.x, spec.x) and _same(other.y, spec.y)
-            ),
-            None,
-        )
-        if same is not None:
-            same.trendlines.append(use)
-            continue
-        added.append(spec)
-    result = [*specs, *added]
-    for spec in result:
+    kept: list[RegressionSpec] = []
+    for spec in specs:
+        if spec.found_by == "trendline" and spec.trendlines:
+            use: TrendlineUse = spec.trendlines[0]
+            same = next(
+                (
+                    other
+                    for other in kept
+                    if not use.by_position and _same(other.x, spec.x) and _same(other.y, spec.y)
+                ),
+                None,
+            )
+            if same is not None:
+                _join(same, spec)
+                continue
+            how = "against positions 1..n" if use.by_position else "y on x"
+            own = f"linear trendline of {use.describe} ({how})"
+            spec.label = f"{spec.label}: {own}" if spec.label else own
+        kept.append(spec)
+    for spec in kept:
         for use in spec.trendlines:
             if use.length_mismatch:
-                use.runs_into = _reached_blocks(use, spec, result)
-    attach_copies(workbook, result, parsed or {})
-    return result
+                use.runs_into = _reached_blocks(use, spec, kept)
+    attach_copies(locator.workbook, kept, locator.parsed)
+    return kept
+
+
+def _join(primary: RegressionSpec, other: RegressionSpec) -> None:
+    """Move a trendline regression into the regression over the same data: its chart series,
+    and any statistic cells found beside it (under a key of their own when the name is taken)."""
+    primary.trendlines.extend(other.trendlines)
+    for key, stat in other.stats.items():
+        if any(s.cell.address == stat.cell.address for s in primary.stats.values()):
+            continue
+        primary.stats[key if key not in primary.stats else f"{key}@{stat.cell.address}"] = stat
 
 
 def _reached_blocks(
