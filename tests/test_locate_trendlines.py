@@ -387,3 +387,21 @@ def test_a_scatter_whose_x_cells_hold_text_is_fitted_against_positions(tmp_path:
     assert regression.intended["slope"] == pytest.approx(float(fit.params[1]), rel=1e-12)
     (note,) = [f for f in regression.findings if f.check == "trendline-fits-positions"]
     assert "x cells hold text" in note.message and "positions 1..8" in note.message
+
+
+def test_a_trendline_over_the_data_of_a_slope_formula_joins_that_regression(
+    tmp_path: Path,
+) -> None:
+    long_y = [*Y, 40.0, 41.5]  # the chart's y runs two readings past the formula's rows
+    path = _simple(tmp_path / "joined.xlsx", long_y, {"E2": "=SLOPE(B2:B9,A2:A9)"}, y_rows=10)
+    (regression,) = _audit(path).regressions
+    fit = sm.OLS(np.array(Y), sm.add_constant(X)).fit()
+    assert (regression.found_by, regression.x_range, regression.y_range) == (
+        "formulas",
+        "Kiln Log!A2:A9",
+        "Kiln Log!B2:B9",
+    )
+    assert regression.reported["slope"].cell == "Kiln Log!E2"
+    assert regression.intended["slope"] == pytest.approx(float(fit.params[1]), rel=1e-12)
+    (finding,) = [f for f in regression.findings if f.check == "trendline-series-length"]
+    assert finding.cells == ["Kiln Log!B10", "Kiln Log!B11"]
