@@ -165,6 +165,9 @@ class RegressionResult:
     policy: str = ""  # the policy that judged it (auto: chosen per regression)
     policy_reason: str = ""  # why that policy, in words
     calibration: dict[str, Any] = field(default_factory=dict)  # the run summary row of a curve
+    # Condition numbers of the design and the digits they leave (auditor.fit.conditioning); empty
+    # when the fit is undefined.
+    conditioning: dict[str, Any] = field(default_factory=dict)
 
     @property
     def verdict(self) -> Verdict:
@@ -196,6 +199,7 @@ class RegressionResult:
             "intended": {k: clean_number(v) for k, v in self.intended.items()},
             "reported": {k: v.to_dict() for k, v in self.reported.items()},
             "design": {k: clean_number(v) for k, v in self.design.items()},
+            "conditioning": {k: clean_number(v) for k, v in self.conditioning.items()},
             "findings": [f.to_dict() for f in self.findings],
             "policy": self.policy,
             "policy_reason": self.policy_reason,

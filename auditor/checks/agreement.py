@@ -5,7 +5,8 @@ from __future__ import annotations
 from scipy import stats as distributions
 
 from auditor.checks.base import check
-from auditor.compare.precision import agree_stored, parse_text_number
+from auditor.compare.conditioning import agree_conditioned
+from auditor.compare.precision import parse_text_number
 from auditor.compare.reported import relative_tolerance
 from auditor.context import RegressionContext
 from auditor.diagnose.engine import explain
@@ -222,11 +223,14 @@ def stat_stale(context: RegressionContext) -> list[Finding]:
     for value in context.reported.values():
         if value.source != "stored" or value.as_written is None or isinstance(value.value, str):
             continue
-        if value.value is None:
-            continue
+        if value.value is None or value.verdict == "confirmed":
+            continue  # a stored value that matches the correct fit is never stale
         allowed = relative_tolerance(value.key, rel, intended)
-        if agree_stored(float(value.value), value.as_written, rel=allowed).agrees:
-            continue
+        judged = agree_conditioned(
+            float(value.value), value.as_written, value.key, allowed, None, context.fit.conditioning
+        )
+        if judged.agrees is not False:
+            continue  # equal within what two engines may differ by, or too ill-conditioned
         wrong = value.verdict == "mismatch"
         findings.append(
             Finding(

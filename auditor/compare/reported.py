@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 
+from auditor.compare.conditioning import agree_conditioned
 from auditor.compare.precision import (
     Agreement,
     agree_stored,
@@ -17,6 +18,7 @@ from auditor.compare.precision import (
     parse_text_number,
 )
 from auditor.evaluation.evaluator import Evaluator, Unsupported
+from auditor.fit.conditioning import Conditioning
 from auditor.locate.locator import RegressionSpec, StatCell
 from auditor.model import ReportedValue, stat_base
 from auditor.read.workbook import ErrorValue
@@ -95,6 +97,8 @@ def judge(
     number_format: str,
     rel: float,
     scale: float | None = None,
+    key: str = "",
+    conditioning: Conditioning | None = None,
 ) -> Agreement:
     if true is None or reported is None:
         return Agreement(None, "no value to compare", None)
@@ -102,6 +106,8 @@ def judge(
         return agree_text(reported, true)
     if source == "typed":
         return agree_typed(float(reported), true, number_format)
+    if conditioning is not None:
+        return agree_conditioned(float(reported), true, key, rel, scale, conditioning)
     return agree_stored(float(reported), true, rel=rel, scale=scale)
 
 
@@ -111,6 +117,7 @@ def build_reported(
     intended: dict[str, float | int | None],
     stored_values: bool,
     rel: float,
+    conditioning: Conditioning | None = None,
 ) -> dict[str, ReportedValue]:
     out: dict[str, ReportedValue] = {}
     for key, stat in spec.stats.items():
@@ -142,7 +149,16 @@ def build_reported(
         true_f = float(true) if isinstance(true, (int, float)) else None
         tolerance = relative_tolerance(key, rel, intended)
         shown_format = "General" if stat.typed_value is not None else cell.number_format
-        agreement = judge(value, true_f, source, shown_format, tolerance, _scale_for(key, intended))
+        agreement = judge(
+            value,
+            true_f,
+            source,
+            shown_format,
+            tolerance,
+            _scale_for(key, intended),
+            key,
+            conditioning,
+        )
         if isinstance(raw, ErrorValue) and true_f is not None:
             verdict = "mismatch"
         elif agreement.agrees is None:

@@ -116,12 +116,16 @@ def _independent_columns(xc: np.ndarray) -> list[int]:
     combination of the others is removed and reported with coefficient 0 and error 0."""
     if xc.shape[1] == 0:
         return []
-    _, r, pivots = linalg.qr(xc, mode="economic", pivoting=True)
-    diag = np.abs(np.diag(r))
-    if diag.size == 0 or diag[0] == 0:
+    # Unit-length columns: dependence is a property of directions, not of units (x¹⁰ beside x
+    # is not "negligible" because its values are larger).
+    norms = np.sqrt(np.einsum("ij,ij->j", xc, xc))
+    nonzero = np.flatnonzero(norms > 0.0)
+    if nonzero.size == 0:
         return []
+    _, r, pivots = linalg.qr(xc[:, nonzero] / norms[nonzero], mode="economic", pivoting=True)
+    diag = np.abs(np.diag(r))
     tolerance = diag[0] * max(xc.shape) * 1e-13
-    return sorted(int(p) for p in pivots[: int((diag > tolerance).sum())])
+    return sorted(int(nonzero[p]) for p in pivots[: int((diag > tolerance).sum())])
 
 
 def _least_squares(y: np.ndarray, x: np.ndarray, const: bool) -> _Fit:
@@ -134,7 +138,9 @@ def _least_squares(y: np.ndarray, x: np.ndarray, const: bool) -> _Fit:
     df = n - rank - (1 if const else 0)
     if rank == 0 or df < 0:
         raise Fault(_NUM)
-    q, r = np.linalg.qr(xc[:, kept])
+    norms = np.sqrt(np.einsum("ij,ij->j", xc[:, kept], xc[:, kept]))
+    q, r = np.linalg.qr(xc[:, kept] / norms)  # unit-length columns, as in auditor.fit.lstsq
+    r = r * norms  # the factor of the unscaled columns: xc[:, kept] = q @ (r_s D)
     coef = np.zeros(k)
     coef[kept] = linalg.solve_triangular(r, q.T @ yc)
     fitted = xc @ coef

@@ -1,8 +1,13 @@
 """Least-squares solving: coefficients, residuals and leverage, computed without cancellation.
 
 One x column uses two-pass centred sums with ``math.fsum``; several use a QR factorisation of the
-centred design (never the normal equations). Degenerate designs give a :class:`Solution` whose
-``status`` says why the coefficients are undefined; :mod:`auditor.fit.ols` builds the statistics.
+centred design with its columns scaled to unit length (never the normal equations). Both give the
+design's condition numbers (:mod:`auditor.fit.conditioning`); when these say that double
+precision may lose digits (more than two, :data:`EXACT_ABOVE`) and the fit is small enough, the
+coefficients, residuals and standard-error factors are refined to the exact least-squares
+solution of the stored doubles (:mod:`auditor.fit.exact`). Degenerate designs give a
+:class:`Solution` whose ``status`` says why the coefficients are undefined;
+:mod:`auditor.fit.ols` builds the statistics.
 """
 
 from __future__ import annotations
@@ -12,6 +17,9 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
+
+from auditor.fit.conditioning import Conditioning, design_conditioning, simple_conditioning
+from auditor.fit.exact import solve_exact, within_budget
 
 FloatArray = NDArray[np.float64]
 
@@ -34,7 +42,13 @@ class Solution:
     sxx: float
     x_mean: float
     y_mean: float
+    conditioning: Conditioning | None = None
 
+
+# A condition number above this puts more than two of the ~16 digits of a double at risk: the fit
+# is refined in exact arithmetic. Below it the scaled QR keeps 13 digits or more (NIST Pontius,
+# κ = 18: LRE 13.2) and well-conditioned fits keep the fast double-precision path.
+EXACT_ABOVE = 100.0
 
 # |R_jj| at or below this share of the column's own norm: column j lies in the span of the earlier
 # columns (and the constant) to within rounding, so its slope cannot be separated from theirs.
@@ -132,7 +146,8 @@ def _solve_simple(
     # Residuals from the centred quantities: no cancellation against a large offset in x or y.
     residuals = y_c - slope * x_c
     leverage = x_c * x_c / sxx + (1.0 / x.size if intercept else 0.0)
-    return Solution(
+    kappa, kappa_centred = simple_conditioning(x.size, x_mean, sxx, intercept)
+    solution = Solution(
         status="ok",
         message="",
         slopes=np.array([slope]),
@@ -147,7 +162,9 @@ def _solve_simple(
         sxx=sxx,
         x_mean=x_mean,
         y_mean=y_mean,
+        conditioning=Conditioning(kappa, kappa_centred, "double"),
     )
+    return _refined(solution, x.reshape(-1, 1), y, intercept)
 
 
 def _solve_qr(
@@ -161,10 +178,12 @@ def _solve_qr(
     n, k = x.shape
     means = np.array([_mean(x[:, j]) for j in range(k)]) if intercept else np.zeros(k)
     x_c = x - means
-    q, r = np.linalg.qr(x_c)  # reduced: q (n, k), r (k, k) upper triangular
     norms = np.sqrt(np.einsum("ij,ij->j", x_c, x_c))
+    # Unit-length columns: the factorisation's error then follows the design's own conditioning,
+    # not the columns' units (x and x^5 differ by 10^6 in scale on 0..20).
+    q, r_scaled = np.linalg.qr(x_c / norms)  # reduced: q (n, k), r (k, k) upper triangular
     for j in range(1, k):
-        if abs(r[j, j]) <= COLLINEAR_RATIO * norms[j]:
+        if abs(r_scaled[j, j]) <= COLLINEAR_RATIO:
             others = "x column 1" if j == 1 else f"x columns 1-{j}"
             const = " and the constant" if intercept else ""
             return _undefined(
@@ -177,8 +196,9 @@ def _solve_qr(
                 y_mean,
             )
     qty = q.T @ y_c
-    slopes = np.linalg.solve(r, qty) if k > 0 else np.zeros(0)
-    r_inv = np.linalg.solve(r, np.eye(k))  # R^-1, so (Xc'Xc)^-1 = R^-1 R^-T
+    slopes = np.linalg.solve(r_scaled, qty) / norms
+    # R^-1 of the unscaled centred columns is D^-1 R_s^-1, so (Xc'Xc)^-1 = R^-1 R^-T.
+    r_inv = np.linalg.solve(r_scaled, np.eye(k)) / norms[:, np.newaxis]
     g_diag = np.einsum("ij,ij->i", r_inv, r_inv)
     intercept_factor = math.nan
     intercept_value = 0.0
@@ -188,7 +208,8 @@ def _solve_qr(
         intercept_value = y_mean - math.fsum(slopes * means)
     residuals = y_c - x_c @ slopes
     leverage = np.einsum("ij,ij->i", q, q) + (1.0 / n if intercept else 0.0)
-    return Solution(
+    kappa, kappa_centred = design_conditioning(r_scaled, norms, means, n, intercept)
+    solution = Solution(
         status="ok",
         message="",
         slopes=slopes,
@@ -203,4 +224,36 @@ def _solve_qr(
         sxx=math.nan,
         x_mean=math.nan,
         y_mean=y_mean,
+        conditioning=Conditioning(kappa, kappa_centred, "double"),
     )
+    return _refined(solution, x, y, intercept)
+
+
+def _refined(solution: Solution, x: FloatArray, y: FloatArray, intercept: bool) -> Solution:
+    """The exact solution of the stored doubles where conditioning puts digits at risk.
+
+    The leverage (a diagnostic, not a reported statistic) stays from the factorisation.
+    """
+    conditioning = solution.conditioning
+    if conditioning is None or conditioning.condition_number <= EXACT_ABOVE:
+        return solution
+    n, k = x.shape
+    if not within_budget(n, k + (1 if intercept else 0)):
+        return solution
+    exact = solve_exact(x, y, intercept)
+    if exact is None:
+        return solution
+    first = 1 if intercept else 0
+    solution.slopes = exact.coefficients[first:]
+    solution.g_diag = exact.inverse_diagonal[first:]
+    if intercept:
+        solution.intercept_value = float(exact.coefficients[0])
+        solution.intercept_factor = float(exact.inverse_diagonal[0])
+    solution.residuals = exact.residuals
+    solution.fitted = y - exact.residuals
+    solution.ss_total = exact.ss_total
+    solution.ss_regression = exact.ss_regression
+    solution.conditioning = Conditioning(
+        conditioning.condition_number, conditioning.condition_number_centred, "exact"
+    )
+    return solution

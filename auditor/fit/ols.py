@@ -21,11 +21,12 @@ The solving lives in :mod:`auditor.fit.lstsq` and the tests and intervals in
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from numpy.typing import ArrayLike
 
+from auditor.fit.conditioning import AllowanceInputs, Conditioning
 from auditor.fit.inference import _f_test, _influence, _intervals, _r_squared, _tests
 from auditor.fit.lstsq import COLLINEAR_RATIO, FloatArray, Solution, solve_centred
 from auditor.model import STAT_KEYS, clean_number
@@ -89,6 +90,7 @@ class FitResult:
     leverage: FloatArray
     studentized_residuals: FloatArray
     cooks_distance: FloatArray
+    conditioning: Conditioning | None = None  # None when the fit itself is undefined
 
     def stats(self) -> dict[str, float | int | None]:
         """The statistics under their JSON keys; per-slope keys get ``[j]`` when k > 1."""
@@ -162,7 +164,30 @@ def fit_ols(
         raise ValueError(f"confidence must lie strictly between 0 and 1, got {confidence!r}")
     n, k = x_arr.shape
     df = max(0, n - k - (1 if intercept else 0))  # never negative: no points left is 0 left
-    return _finish(solve_centred(x_arr, y_arr, intercept), n, k, intercept, df, confidence)
+    solution = solve_centred(x_arr, y_arr, intercept)
+    result = _finish(solution, n, k, intercept, df, confidence)
+    if (
+        result.conditioning is not None
+        and result.slopes.size
+        and np.all(np.isfinite(result.slopes))
+    ):
+        coefficients = result.slopes
+        inverse = solution.g_diag
+        if intercept:
+            coefficients = np.concatenate(([result.intercept_value], result.slopes))
+            inverse = np.concatenate(([solution.intercept_factor], solution.g_diag))
+        inputs = AllowanceInputs(
+            x_arr,
+            y_arr,
+            intercept,
+            coefficients,
+            inverse,
+            result.ss_residual,
+            solution.ss_total,
+            df,
+        )
+        result.conditioning = replace(result.conditioning, inputs=inputs)
+    return result
 
 
 def _finish(
@@ -236,6 +261,7 @@ def _finish(
         leverage=sol.leverage,
         studentized_residuals=studentized,
         cooks_distance=cooks,
+        conditioning=sol.conditioning,
     )
 
 

@@ -72,7 +72,12 @@ def audit_regression(
     fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
     intended = fit.stats()
     reported = build_reported(
-        spec, evaluator, intended, workbook.stored_values, policy.get("stored_relative_tolerance")
+        spec,
+        evaluator,
+        intended,
+        workbook.stored_values,
+        policy.get("stored_relative_tolerance"),
+        fit.conditioning,
     )
     context = RegressionContext(
         spec, data, fit, reported, policy, workbook.stored_values, inputs, calibration=calibration
@@ -100,6 +105,7 @@ def audit_regression(
         policy=policy.name,
         policy_reason=job.why,
         calibration=summary_row(spec, calibration, policy, findings),
+        conditioning=fit.conditioning.to_dict() if fit.conditioning is not None else {},
     )
 
 

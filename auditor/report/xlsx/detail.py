@@ -64,7 +64,25 @@ def _identification(ref: DetailRef) -> list[tuple[str, Any, str]]:
     ]
     if not ref.workbook.stored_values:
         rows.append(("stored values", "none in the file: reported values were computed", "top"))
+    rows += _conditioning_rows(regression.conditioning)
     return rows
+
+
+def _conditioning_rows(conditioning: dict[str, Any]) -> list[tuple[str, Any, str]]:
+    """The design's condition number and the digits it leaves a double-precision engine."""
+    if not conditioning:
+        return []
+    solver = conditioning.get("solver")
+    how = (
+        "exact arithmetic on the stored values"
+        if solver == "exact"
+        else "double precision (well conditioned)"
+    )
+    return [
+        ("condition number", conditioning.get("condition_number"), "top"),
+        ("digits left to an engine", conditioning.get("digits_left"), "top"),
+        ("intended values computed in", how, "top"),
+    ]
 
 
 def _style(styles: Styles, name: str) -> Any:
