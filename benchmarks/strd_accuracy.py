@@ -44,7 +44,10 @@ FIT_SCRIPT = """
 import json, sys
 sys.path.insert(0, {tests!r})
 import strd_reference as strd
-from auditor.fit.ols import fit_ols
+try:
+    from auditor.fit.ols import fit_ols
+except ImportError:  # a revision before the stage subpackages
+    from auditor.fit import fit_ols
 out = {{}}
 for name in strd.DATASETS:
     d = strd.load(name)
@@ -61,7 +64,10 @@ print(json.dumps(out))
 TIMING_SCRIPT = """
 import json, time
 import numpy as np
-from auditor.fit.ols import fit_ols
+try:
+    from auditor.fit.ols import fit_ols
+except ImportError:  # a revision before the stage subpackages
+    from auditor.fit import fit_ols
 rng = np.random.default_rng(7)
 cases = {{}}
 x = rng.normal(size=200_000) * 10 + 50
