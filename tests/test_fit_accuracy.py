@@ -15,6 +15,7 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from strd_reference import exact_fit
 
+from auditor.fit.exact import solve_exact
 from auditor.fit.ols import fit_ols
 
 DETERMINISTIC = settings(max_examples=60, deadline=None, derandomize=True, database=None)
@@ -112,3 +113,22 @@ def test_well_conditioned_fit_stays_in_double_precision_and_matches_statsmodels(
     ref = sm.OLS(y, sm.add_constant(x)).fit()  # statsmodels as the outside reference
     assert np.allclose(fit.slopes, ref.params[1:], rtol=1e-12, atol=0)
     assert np.allclose(fit.se_slopes, ref.bse[1:], rtol=1e-12, atol=0)
+
+
+def test_a_large_ill_conditioned_fit_is_refined_to_the_exact_solution() -> None:
+    # 30,000 rows of x, x², x³ at x ≈ 45,000 (dates as serial numbers): too large for the exact
+    # solver's budget, condition number ~1e9. Exact rational arithmetic (auditor.fit.exact,
+    # itself checked against fractions on the NIST data) is the reference.
+    rng = np.random.default_rng(4)
+    t = np.sort(rng.uniform(0.0, 400.0, 30_000))
+    x = np.column_stack([(45_000 + t) ** p for p in (1, 2, 3)])
+    y = 3 + 0.5 * t - 0.001 * t * t + rng.normal(size=t.size)
+    fit = fit_ols(x, y)
+    assert fit.conditioning is not None and fit.conditioning.solver == "refined"
+    assert fit.conditioning.condition_number > 1e8
+    exact = solve_exact(x, y, True)
+    assert exact is not None
+    computed = np.concatenate(([fit.intercept_value], fit.slopes))
+    relative = np.abs(computed - exact.coefficients) / np.abs(exact.coefficients)
+    assert np.all(relative < 1e-12), relative
+    assert close(fit.residual_sd, math.sqrt(exact.ss_residual / fit.df), 1e-13)

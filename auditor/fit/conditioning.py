@@ -66,7 +66,9 @@ class Conditioning:
 
     condition_number: float  # scaled columns beside the constant (not centred)
     condition_number_centred: float  # centred (with an intercept) and scaled: the slopes'
-    solver: str  # "exact" (rational arithmetic on the stored doubles) or "double" (QR)
+    # "exact" (rational arithmetic on the stored doubles), "refined" (QR with residuals in twice
+    # double precision, for fits too large for exact arithmetic) or "double" (QR alone)
+    solver: str
     inputs: AllowanceInputs | None = field(default=None, repr=False, compare=False)
 
     @cached_property

@@ -20,6 +20,7 @@ from numpy.typing import NDArray
 
 from auditor.fit.conditioning import Conditioning, design_conditioning, simple_conditioning
 from auditor.fit.exact import solve_exact, within_budget
+from auditor.fit.refine import refine
 
 FloatArray = NDArray[np.float64]
 
@@ -226,11 +227,18 @@ def _solve_qr(
         y_mean=y_mean,
         conditioning=Conditioning(kappa, kappa_centred, "double"),
     )
-    return _refined(solution, x, y, intercept)
+    return _refined(solution, x, y, intercept, (r_scaled, norms, means))
 
 
-def _refined(solution: Solution, x: FloatArray, y: FloatArray, intercept: bool) -> Solution:
-    """The exact solution of the stored doubles where conditioning puts digits at risk.
+def _refined(
+    solution: Solution,
+    x: FloatArray,
+    y: FloatArray,
+    intercept: bool,
+    factor: tuple[FloatArray, FloatArray, FloatArray] | None = None,
+) -> Solution:
+    """The exact solution of the stored doubles where conditioning puts digits at risk; beyond
+    the exact budget, the QR solution refined with residuals in twice double precision.
 
     The leverage (a diagnostic, not a reported statistic) stays from the factorisation.
     """
@@ -239,6 +247,19 @@ def _refined(solution: Solution, x: FloatArray, y: FloatArray, intercept: bool) 
         return solution
     n, k = x.shape
     if not within_budget(n, k + (1 if intercept else 0)):
+        if factor is None or not np.all(np.abs(x) < 1e150):
+            return solution  # one x column: the centred sums are already accurate
+        b0, slopes, residuals = refine(
+            x, y, intercept, *factor, solution.intercept_value, solution.slopes
+        )
+        solution.slopes, solution.residuals, solution.fitted = slopes, residuals, y - residuals
+        if intercept:
+            solution.intercept_value = b0
+        ss_residual = math.fsum(residuals * residuals)
+        solution.ss_regression = max(0.0, solution.ss_total - ss_residual)
+        solution.conditioning = Conditioning(
+            conditioning.condition_number, conditioning.condition_number_centred, "refined"
+        )
         return solution
     exact = solve_exact(x, y, intercept)
     if exact is None:

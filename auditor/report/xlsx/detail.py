@@ -73,11 +73,10 @@ def _conditioning_rows(conditioning: dict[str, Any]) -> list[tuple[str, Any, str
     if not conditioning:
         return []
     solver = conditioning.get("solver")
-    how = (
-        "exact arithmetic on the stored values"
-        if solver == "exact"
-        else "double precision (well conditioned)"
-    )
+    how = {
+        "exact": "exact arithmetic on the stored values",
+        "refined": "double precision, refined with residuals in twice the precision",
+    }.get(str(solver), "double precision (well conditioned)")
     return [
         ("condition number", conditioning.get("condition_number"), "top"),
         ("digits left to an engine", conditioning.get("digits_left"), "top"),
