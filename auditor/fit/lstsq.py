@@ -5,9 +5,10 @@ centred design with its columns scaled to unit length (never the normal equation
 design's condition numbers (:mod:`auditor.fit.conditioning`); when these say that double
 precision may lose digits (more than two, :data:`EXACT_ABOVE`) and the fit is small enough, the
 coefficients, residuals and standard-error factors are refined to the exact least-squares
-solution of the stored doubles (:mod:`auditor.fit.exact`). Degenerate designs give a
-:class:`Solution` whose ``status`` says why the coefficients are undefined;
-:mod:`auditor.fit.ols` builds the statistics.
+solution of the stored doubles (:mod:`auditor.fit.exact`); a larger fit with several x columns
+gets iterative refinement in twice double precision instead (:mod:`auditor.fit.refine`).
+Degenerate designs give a :class:`Solution` whose ``status`` says why the coefficients are
+undefined; :mod:`auditor.fit.ols` builds the statistics.
 """
 
 from __future__ import annotations
