@@ -12,6 +12,7 @@ from typing import Any
 
 from auditor.design.inputs import DesignInputs
 from auditor.design.metrics import DesignMetrics, compute_design
+from auditor.evaluation.evaluator import Evaluator
 from auditor.extract import Extracted
 from auditor.fit.ols import FitResult
 from auditor.formula.syntax import Node
@@ -56,3 +57,4 @@ class WorkbookContext:
     results: list[RegressionResult] = field(default_factory=list)
     parsed: dict[tuple[str, int, int], Node] = field(default_factory=dict)  # formula ASTs by cell
     policy: Policy | None = None
+    evaluator: Evaluator | None = None  # as-written values (equivalent spellings are evaluated)

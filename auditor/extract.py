@@ -15,12 +15,21 @@ from typing import Any, cast
 import numpy as np
 
 from auditor.compare.precision import parse_text_number
-from auditor.evaluation.evaluator import Evaluator
+from auditor.evaluation.evaluator import Evaluator, Unsupported, Unverifiable
+from auditor.extract_fallback import StoredFallback
+from auditor.extract_totals import (
+    claimed_elsewhere,
+    continues_pattern,
+    format_changes,
+    summary_formula,
+)
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec
 from auditor.model import DataPoint
 from auditor.read.workbook import ErrorValue, Workbook
+
+Reader = Evaluator | StoredFallback  # what extraction reads cells through
 
 TOTAL_LABEL = re.compile(r"^\s*(grand\s+)?(total|sum|mean|average|avg|σ|Σ)\b", re.I)
 MAX_GAP_SCAN = 1_048_576
@@ -37,6 +46,7 @@ class Extracted:
     parsed: list[tuple[str, str]] = field(default_factory=list)  # (cell, what was parsed)
     total_rows: list[int] = field(default_factory=list)
     n_as_written: int = 0  # pairs the author's SLOPE-family formulas see
+    taken_as_stored: list[tuple[str, str]] = field(default_factory=list)  # (cell, why)
 
     @property
     def n(self) -> int:
@@ -59,7 +69,7 @@ def _number(value: object) -> tuple[float | None, str]:
     return None, "empty"
 
 
-def _column_values(evaluator: Evaluator, sheet: str, col: int, r1: int, r2: int) -> list[object]:
+def _column_values(evaluator: Reader, sheet: str, col: int, r1: int, r2: int) -> list[object]:
     if r2 < r1:
         return []  # a range past the sheet's last row (a damaged or empty sheet) holds nothing
     ref = Ref(sheet, r1, col, r2, col)
@@ -177,13 +187,26 @@ class _IntendedRows:
                 ys_used.append(y)
                 running.add(y)
 
+    def _is_total(self, r: int, label: str, y: float) -> bool:
+        """A total or summary row needs evidence, never arithmetic coincidence alone (0.72 =
+        0.24 + 0.48 because y is proportional to x; rounded returns that happen to add up): a
+        word in its label cell, a SUM/AVERAGE-type formula over the rows above, or a value that
+        equals the sum or mean above *and* a number format unlike the row above it."""
+        if label and TOTAL_LABEL.match(label):
+            return True
+        if summary_formula(self.workbook, self.sheet, r, self.y_col):
+            return True
+        return self.running.looks_like_total(y) and format_changes(
+            self.workbook, self.sheet, r, self.y_col
+        )
+
     def _add_possible_total(self, r: int, xs: list[float], y: float) -> None:
         """A row of Python floats whose label cells hold text or whose y matches the running sum
         or mean: what ``_add_cell_by_cell`` gives for it (there are no notes to record)."""
         result = self.result
         used, reason = True, ""
         label = _row_label(self.workbook, self.sheet, r, self.label_col)
-        if (label and TOTAL_LABEL.match(label)) or self.running.looks_like_total(y):
+        if self._is_total(r, label, y):
             used = False
             reason = f"total or mean row ({label.strip() or 'equals the sum or mean above'})"
             result.total_rows.append(r)
@@ -214,7 +237,7 @@ class _IntendedRows:
         ]
         if used:
             label = _row_label(self.workbook, sheet, r, self.label_col)
-            if (label and TOTAL_LABEL.match(label)) or self.running.looks_like_total(y):  # type: ignore[arg-type]
+            if self._is_total(r, label, y):  # type: ignore[arg-type]
                 used = False
                 reason = f"total or mean row ({label.strip() or 'equals the sum or mean above'})"
                 result.total_rows.append(r)
@@ -264,17 +287,39 @@ def extract(
     workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec, *, cell_by_cell: bool = False
 ) -> Extracted:
     """The intended table of ``spec``. ``cell_by_cell=True`` classifies every row one cell at a
-    time (slow on large tables): the reference the fast path is tested against."""
+    time (slow on large tables): the reference the fast path is tested against. A data cell
+    whose formula cannot be evaluated is read as stored (recorded in ``taken_as_stored``)."""
     if spec.found_by == "trendline":
         return _series_table(spec)
+    try:
+        return _extract(workbook, evaluator, spec, cell_by_cell=cell_by_cell)
+    except Unverifiable:
+        raise
+    except Unsupported:
+        reader = StoredFallback(evaluator, workbook)
+        result = _extract(workbook, reader, spec, cell_by_cell=cell_by_cell)
+        result.taken_as_stored = list(dict.fromkeys(reader.taken_as_stored))
+        return result
+
+
+def _extract(
+    workbook: Workbook, evaluator: Reader, spec: RegressionSpec, *, cell_by_cell: bool = False
+) -> Extracted:
     x_ref, y_ref = spec.x, spec.y
     k = x_ref.c2 - x_ref.c1 + 1
     x_cols = list(range(x_ref.c1, x_ref.c2 + 1))
     same_frame = x_ref.sheet.lower() == y_ref.sheet.lower()
     rows_referenced = set(range(x_ref.r1, x_ref.r2 + 1)) & set(range(y_ref.r1, y_ref.r2 + 1))
     first, last = min(x_ref.r1, y_ref.r1), max(x_ref.r2, y_ref.r2)
-    if not same_frame or (x_ref.r2 - x_ref.r1) != (y_ref.r2 - y_ref.r1) and not rows_referenced:
-        # Different sheets or unrelated rows: take the ranges as they are, row by row.
+    lagged = same_frame and (x_ref.c1, x_ref.c2) == (y_ref.c1, y_ref.c1) and x_ref.r1 != y_ref.r1
+    if (
+        not same_frame
+        or (x_ref.r2 - x_ref.r1) != (y_ref.r2 - y_ref.r1)
+        and not rows_referenced
+        or lagged
+    ):
+        # Different sheets, unrelated rows, or one column against itself rows apart (a lag):
+        # take the ranges as they are, position by position.
         return _paired(workbook, evaluator, spec)
     sheet = workbook.sheet(y_ref.sheet)
     max_row = sheet.max_row if sheet is not None else last
@@ -285,10 +330,15 @@ def extract(
             evaluator.cell_value(y_ref.sheet, r, y_ref.c1)
         ]
 
-    # Extend over contiguous data rows (rows added below a fixed range are the common case).
-    while first > 1 and _is_data_row(row_values(first - 1)):
-        first -= 1
-    while last < max_row and _is_data_row(row_values(last + 1)):
+    # Extend over rows added below a fixed range (the common case), only while they continue
+    # its pattern and belong to no other regression: the author's ranges define a regression.
+    columns = [(x_ref.sheet, c) for c in x_cols] + [(y_ref.sheet, y_ref.c1)]
+    while (
+        last < max_row
+        and _is_data_row(row_values(last + 1))
+        and continues_pattern(workbook, columns, last, last + 1)
+        and not claimed_elsewhere(spec, last + 1)
+    ):
         last += 1
     x_block = (
         np.array(
@@ -315,7 +365,7 @@ def extract(
     return result
 
 
-def _paired(workbook: Workbook, evaluator: Evaluator, spec: RegressionSpec) -> Extracted:
+def _paired(workbook: Workbook, evaluator: Reader, spec: RegressionSpec) -> Extracted:
     """Ranges on different sheets or rows: pair them position by position, no extension."""
     x_values = evaluator.range_values(spec.x)
     y_values = evaluator.range_values(spec.y).reshape(-1)

@@ -10,6 +10,18 @@ def fmt(value: object) -> str:
     return str(value)
 
 
+def fmt_pair(a: object, b: object) -> tuple[str, str]:
+    """Two numbers shown with the fewest significant digits (6 or more) that tell them apart:
+    never "reported 1, recomputed 1"."""
+    if not (isinstance(a, float) and isinstance(b, float)) or a == b:
+        return fmt(a), fmt(b)
+    for digits in range(6, 18):
+        left, right = f"{a:.{digits}g}", f"{b:.{digits}g}"
+        if left != right:
+            return left, right
+    return repr(a), repr(b)
+
+
 def rows_text(rows: list[int]) -> str:
     """[16] -> "row 16"; [4, 16, 17] -> "rows 4, 16–17" (runs of rows joined by a dash)."""
     runs: list[list[int]] = []

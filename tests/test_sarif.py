@@ -164,7 +164,7 @@ def test_a_waived_finding_is_suppressed_with_its_reason(
             "justification": "Known swap, corrected in the signed copy (accepted by A. Reviewer)",
         }
     ]
-    other = _sarif_result(audited[1], "Line 2!E4", "stat-recompute")
+    other = _sarif_result(audited[1], "Line 1!E12", "stat-recompute")  # not waived
     assert "suppressions" not in other
 
 

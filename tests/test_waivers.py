@@ -39,6 +39,7 @@ from auditor.review.waivers import (
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURES = ROOT / "fixtures" / "workbooks"
 LINES = "ops_line_review_with_errors.xlsx"
+RANGES = "ops_ranges_past_table.xlsx"
 
 
 def _audit(folder: Path) -> AuditResult:
@@ -117,17 +118,20 @@ def test_waive_appends_to_the_file_and_keeps_what_was_there(lines_folder: Path) 
     assert tomllib.loads(path.read_text(encoding="utf-8")) == data  # refused: file unchanged
 
 
-def test_find_findings_needs_the_check_when_several_share_a_cell(lines_folder: Path) -> None:
-    result = _audit(lines_folder)
-    both = find_findings(result, LINES, "Line 2!E4")
-    assert sorted(f.check for f in both) == ["ranges-disagree", "stat-recompute"]
-    assert find_findings(result, "other.xlsx", "Line 2!E4") == []
-    with pytest.raises(UsageError, match="2 findings at 'Line 2!E4'.*add --check"):
-        choose_finding(result, LINES, "Line 2!E4")
-    with pytest.raises(UsageError, match="no finding at 'Line 2!A1'.*Line 2!E4 stat-recompute"):
-        choose_finding(result, LINES, "Line 2!A1")
-    chosen = choose_finding(result, LINES, "Line 2!E4", "stat-recompute")
-    assert chosen.check == "stat-recompute" and chosen.cells[0] == "Line 2!E4"
+def test_find_findings_needs_the_check_when_several_share_a_cell(tmp_path: Path) -> None:
+    # Hall B holds two mistakes (whole columns over the headers, a mean row fitted as a point)
+    # that spoil the same reported cells: two findings at Hall B!F10.
+    shutil.copyfile(FIXTURES / RANGES, tmp_path / RANGES)
+    result = _audit(tmp_path)
+    both = find_findings(result, RANGES, "Hall B!F10")
+    assert sorted(f.check for f in both) == ["range-beyond-table", "total-row-in-range"]
+    assert find_findings(result, "other.xlsx", "Hall B!F10") == []
+    with pytest.raises(UsageError, match="2 findings at 'Hall B!F10'.*add --check"):
+        choose_finding(result, RANGES, "Hall B!F10")
+    with pytest.raises(UsageError, match="no finding at 'Hall B!A1'.*Hall B!F4 range-beyond"):
+        choose_finding(result, RANGES, "Hall B!A1")
+    chosen = choose_finding(result, RANGES, "Hall B!F10", "total-row-in-range")
+    assert chosen.check == "total-row-in-range" and "Hall B!F10" in chosen.cells
 
 
 @pytest.mark.parametrize(

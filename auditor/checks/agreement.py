@@ -10,8 +10,9 @@ from auditor.compare.precision import parse_text_number
 from auditor.compare.reported import relative_tolerance
 from auditor.context import RegressionContext
 from auditor.diagnose.engine import explain
+from auditor.diagnose.fixes import corrected_formula
 from auditor.model import STAT_KEYS, Finding, ReportedValue, Severity, stat_base
-from auditor.wording import fmt
+from auditor.wording import fmt_pair
 
 NAMES = {
     "slope": "slope",
@@ -99,10 +100,11 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
                 if not value.key.startswith("slope")
                 else " The sign of the slope is reversed"
             ) + "."
+        shown, recomputed = fmt_pair(value.value, value.intended)
         message = (
-            f"The reported {describe(value.key)} is {fmt(value.value)}, but the "
+            f"The reported {describe(value.key)} is {shown}, but the "
             f"{context.data.n} points of {context.data.intended_y_range} give "
-            f"{fmt(value.intended)} (tolerance: {value.tolerance}).{consequence}"
+            f"{recomputed} (tolerance: {value.tolerance}).{consequence}"
         )
         evidence: dict[str, object] = {
             "key": value.key,
@@ -111,13 +113,29 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
             "intended": value.intended,
             "tolerance": value.tolerance,
         }
-        fix = f"Recompute {value.cell} from the whole data table and report {fmt(value.intended)}."
+        repair = corrected_formula(
+            value.key,
+            context.spec,
+            context.data,
+            value.cell.rpartition("!")[0],
+            1.0 - context.policy.get("confidence"),
+        )
+        if repair is not None:
+            evidence["fix_formula"] = repair
+            fix = f"Enter {repair} in {value.cell}, so that it follows the data."
+        else:
+            fix = (
+                f"Correct the formula in {value.cell} so that it reads the whole data table "
+                f"({context.data.intended_y_range})."
+            )
         kind = None
         explanations = explain(value, context)
         if explanations:
             # The simplest mistake that reproduces the reported number names the cause.
             cause = explanations[0]
             kind, fix = cause.kind, cause.fix
+            if repair is not None:
+                fix = f"{fix.rstrip('.')}; in {value.cell}: {repair}"
             message += f" Cause: {cause.message.rstrip('. ')}."
             evidence["reproduced_by"] = cause.kind
             evidence["reproduced"] = cause.reproduced
@@ -163,7 +181,9 @@ def _merge_by_cause(
         values = [causes[i][0] for i in order]
         critical = any(findings[i].severity == "critical" for i in members)
         lines = "; ".join(
-            f"{describe(v.key)} in {v.cell}: reported {fmt(v.value)}, recomputed {fmt(v.intended)}"
+            "{} in {}: reported {}, recomputed {}".format(
+                describe(v.key), v.cell, *fmt_pair(v.value, v.intended)
+            )
             for v in values
         )
         consequence = (
@@ -190,8 +210,9 @@ def _merge_by_cause(
                             "reported": v.value,
                             "intended": v.intended,
                             "tolerance": v.tolerance,
+                            "fix_formula": findings[i].evidence.get("fix_formula"),
                         }
-                        for v in values
+                        for i, v in zip(order, values, strict=True)
                     ],
                 },
                 fix=findings[order[0]].fix,
@@ -213,9 +234,13 @@ def _stat_rank(key: str) -> int:
 def stat_stale(context: RegressionContext) -> list[Finding]:
     """A cell's cached value differs from its formula's result over the current cells.
 
-    Failing: ``E5 =E2/E3`` stores 4.10 but E2/E3 is now 3.62 (the file was saved without
-    recalculation, or the value was pasted over and the formula restored).
-    Passing: the stored value equals the formula's result to 1e-9 relative.
+    Failing: ``E5 =E2/E3`` stores 4.10 but E2/E3 is now 3.62, which the data confirm (the file
+    was saved without recalculation, or the value was pasted over and the formula restored).
+    Passing: the stored value equals the formula's result to 1e-9 relative; or the stored value
+    matches the independent fit (one engine's rule, such as dropping a near-collinear LINEST
+    column, is not the truth: a stored value that is right is never stale); or the formula's own
+    result disagrees with the data too (then nothing shows that something changed, and
+    stat-recompute reports the wrong value with its cause).
     """
     rel = context.policy.get("stored_relative_tolerance")
     intended = context.fit.stats()
@@ -231,7 +256,17 @@ def stat_stale(context: RegressionContext) -> list[Finding]:
         )
         if judged.agrees is not False:
             continue  # equal within what two engines may differ by, or too ill-conditioned
+        evidence = (
+            agree_conditioned(
+                value.as_written, value.intended, value.key, allowed, None, context.fit.conditioning
+            )
+            if value.intended is not None
+            else None
+        )
+        if evidence is None or evidence.agrees is not True:
+            continue  # no evidence that the data changed under a right formula
         wrong = value.verdict == "mismatch"
+        stored, now = _stored_and_now(value)
         findings.append(
             Finding(
                 check="stat-stale",
@@ -239,9 +274,9 @@ def stat_stale(context: RegressionContext) -> list[Finding]:
                 severity="major" if wrong else "minor",
                 cells=[value.cell],
                 message=(
-                    f"{value.cell} stores {fmt(value.value)} but its formula {value.formula} "
-                    f"computes {fmt(value.as_written)} from the cells as they are now: the stored "
-                    "value is out of date."
+                    f"{value.cell} stores {stored} but its formula {value.formula} computes "
+                    f"{now} from the cells as they are now, as the independent fit does: the "
+                    "stored value is out of date."
                 ),
                 evidence={"stored": value.value, "as_written": value.as_written},
                 fix="Recalculate the workbook (or re-enter the formula) and re-check the "
@@ -249,6 +284,10 @@ def stat_stale(context: RegressionContext) -> list[Finding]:
             )
         )
     return findings
+
+
+def _stored_and_now(value: ReportedValue) -> tuple[str, str]:
+    return fmt_pair(float(value.value) if value.value is not None else None, value.as_written)
 
 
 @check("stat-unverifiable", "A reported statistic could not be checked, and why.")
@@ -274,6 +313,21 @@ def stat_unverifiable(context: RegressionContext) -> list[Finding]:
                 evidence={"key": value.key, "reported": value.value},
                 fix="Check this value by hand, or state it as a number or a claim such as "
                 "'p < 0.001'.",
+            )
+        )
+    stored = context.data.taken_as_stored
+    if stored:
+        cells = [cell for cell, _ in stored]
+        findings.append(
+            Finding(
+                check="stat-unverifiable",
+                severity="info",
+                cells=cells[:1] + cells[1:20],
+                message=f"{len(cells)} data cell(s) ({', '.join(cells[:3])}"
+                f"{'…' if len(cells) > 3 else ''}) could not be recomputed ({stored[0][1]}); "
+                "their stored values were used as the data.",
+                evidence={"cells_taken_as_stored": len(cells)},
+                fix="Check these data cells by hand if their formulas matter.",
             )
         )
     return findings

@@ -5,6 +5,7 @@ from __future__ import annotations
 import inspect
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
+from functools import partial
 from types import ModuleType
 from typing import Any
 
@@ -79,8 +80,16 @@ def catalogue_of(registry: dict[str, Check]) -> list[CheckInfo]:
 def run_checks(
     registry: dict[str, Check], scope: str, context: RegressionContext | WorkbookContext
 ) -> list[Finding]:
+    from auditor.checks.guard import guarded_check  # noqa: PLC0415 (guard imports the model)
+
+    cells: list[str] = []
+    if isinstance(context, RegressionContext):
+        cells = [value.cell for value in context.reported.values()] or [context.spec.y.address]
     findings: list[Finding] = []
     for registered in registry.values():
         if registered.scope == scope:
-            findings.extend(registered.function(context))
+            # One check's failure never costs the others (auditor.checks.guard).
+            findings.extend(
+                guarded_check(registered.id, partial(registered.function, context), cells)
+            )
     return findings

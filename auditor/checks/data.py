@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from auditor.checks.base import check
 from auditor.context import RegressionContext
+from auditor.diagnose.fixes import intended_ranges
 from auditor.grid import column_letter
 from auditor.model import Finding, Severity
 from auditor.wording import rows_text
@@ -23,11 +24,20 @@ def rows_outside_range(context: RegressionContext) -> list[Finding]:
     Failing: the table runs A2:B15 but ``=SLOPE(B2:B13,A2:A13)``: rows 14–15 are not used.
     Passing: the range covers every data row of the table.
     """
-    outside = [p for p in context.data.points if p.used and "outside the formula" in p.reason]
+    spec = context.spec
+    # A row inside one of the two ranges is not left out by a short range: a y range moved a
+    # row against x reads it on one side (xy-rows-misaligned says so).
+    spans = [(r.r1, r.r2) for r in (spec.x, spec.y)]
+    outside = [
+        p
+        for p in context.data.points
+        if p.used
+        and "outside the formula" in p.reason
+        and not any(r1 <= p.row <= r2 for r1, r2 in spans)
+    ]
     if not outside:
         return []
     rows = [p.row for p in outside]
-    spec = context.spec
     return [
         Finding(
             check="rows-outside-range",
@@ -74,6 +84,13 @@ def text_numbers_skipped(context: RegressionContext) -> list[Finding]:
     ]
 
 
+def _end_above_totals(context: RegressionContext) -> str:
+    meant = intended_ranges(context.spec, context.data)
+    if meant is None:
+        return "End the ranges at the last data row."
+    return f"End the ranges at the last data row: {meant[1].address} and {meant[0].address}."
+
+
 @check("total-row-in-range", "A total or mean row lies inside the range of the regression.")
 def total_row_in_range(context: RegressionContext) -> list[Finding]:
     """A row of totals or means inside the range is fitted as if it were a data point.
@@ -96,7 +113,7 @@ def total_row_in_range(context: RegressionContext) -> list[Finding]:
                 "the formulas fit as a data point."
             ),
             evidence={"rows": inside},
-            fix="End the ranges at the last data row.",
+            fix=_end_above_totals(context),
         )
     ]
 

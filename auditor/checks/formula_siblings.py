@@ -30,6 +30,7 @@ from auditor.checks.formula_blocks import (
     sibling_groups,
     translate,
 )
+from auditor.checks.formula_equivalence import computes_the_same
 from auditor.checks.formula_support import reached_cells, severity_in_result
 from auditor.context import WorkbookContext
 from auditor.errors import FormulaError
@@ -135,7 +136,10 @@ def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
     divides by PH-2's x spread; six line sheets where Line 1's p-value is ``=TDIST(…,1)`` and
     the five others' ``=T.DIST.2T(…)``; PH-2's ``=STEYX($E$3:$E$12,$D$3:$D$12)`` anchored on its
     own data while PH-1 writes ``=STEYX(B3:B12,A3:A12)`` (minor: the next copy will point back).
-    Passing: every block's formulas read, relative to its own table, the same.
+    Passing: every block's formulas read, relative to its own table, the same; or a cell
+    spells the same statistic otherwise and gives the same number (``=TDIST(ABS(E11),E9,2)``
+    beside siblings' ``=T.DIST.2T(ABS(E11),E9)``; ``=INDEX(LINEST(y,x),1,2)`` beside
+    ``=INTERCEPT(y,x)``).
     """
     covered = {
         use.cell.address
@@ -195,8 +199,10 @@ def _breaks(context: WorkbookContext, members: list[Member], reported: set[str])
     for member in live:
         if member.form == pattern or member.coarse == model.coarse:
             continue  # the same formula over other rows of its own data: ranges-disagree's
-        reported.add(member.cell)
         fixed = translate(model.formula, model.block, model.sheet, member.block)
+        if computes_the_same(context.evaluator, member.cell, fixed, member.formula):
+            continue  # another spelling of the same statistic (TDIST(…,2) and T.DIST.2T(…))
+        reported.add(member.cell)
         also = ", ".join(holders[:3]) + ("…" if len(holders) > 3 else "")
         also = f" (so do {also})" if also else ""
         out.append(

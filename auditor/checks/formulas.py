@@ -171,12 +171,15 @@ def xy_rows_misaligned(context: RegressionContext) -> list[Finding]:
 
     Failing: ``=SLOPE(B5:B16,A4:A15)`` (y moved one row down against x).
     Passing: ``=SLOPE(B4:B15,A4:A15)``; or x and y from different sheets or tables on purpose
-    (``=SLOPE('Run 2'!C2:C13,'Run 1'!B2:B13)`` is not judged).
+    (``=SLOPE('Run 2'!C2:C13,'Run 1'!B2:B13)`` is not judged); or one column against itself a
+    row apart (``=SLOPE(A3:A101,A2:A100)``, a lag-1 autoregression).
     """
     spec = context.spec
     x, y = spec.x, spec.y
     if x.sheet.lower() != y.sheet.lower() or x.rows != y.rows or x.r1 == y.r1:
         return []
+    if (x.c1, x.c2) == (y.c1, y.c2):
+        return []  # one column against itself, rows apart: a lag, by design
     if not (x.r1 <= y.r2 and y.r1 <= x.r2) or x.rows < 3:
         return []  # separate tables side by side, not one table read crooked
     uses = [u for u in spec.uses if u.x == x and u.y == y]

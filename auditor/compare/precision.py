@@ -27,7 +27,10 @@ STAR_LEVELS = {"*": 0.05, "**": 0.01, "***": 0.001}  # common practice in publis
 
 MINUS_SIGNS = "\u2212\u2012\u2013\ufe63\uff0d"  # minus sign, figure dash, en dash, small, wide
 SPACES = "\u00a0\u202f\u2009"  # no-break, narrow no-break and thin spaces inside numbers
-NUMBER = re.compile(r"[+-]?(?:\d{1,3}(?:,\d{3})+|\d*)(?:\.\d*)?(?:[eE][+-]?\d+)?")
+# A mantissa with at least one digit (ASCII only: "E-01" is an id, "٣" is not typed as 3).
+NUMBER = re.compile(
+    r"[+-]?(?:(?:\d{1,3}(?:,\d{3})+|\d+)(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII
+)
 # An optional "p" / "p-value" label, an optional comparison, then a number: "p < .05", "≥0.1".
 CLAIM = re.compile(r"(?:p(?:[\s-]*values?)?\s*)?(?P<op><=|>=|<|>|=|:)?\s*(?P<num>.+)")
 # Compared without trailing dots: "n.s." and "sig." match "n.s" and "sig".
@@ -116,6 +119,8 @@ def parse_text_number(text: str) -> float | None:
     if not any(ch.isdigit() for ch in cleaned) or not NUMBER.fullmatch(cleaned):
         return None
     number = float(cleaned.replace(",", "")) * factor
+    if not math.isfinite(number):
+        return None  # "1e999": no spreadsheet number
     return -number if negate else number
 
 

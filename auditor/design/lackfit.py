@@ -40,6 +40,28 @@ def level_groups(x: ArrayLike) -> dict[float, list[int]]:
     return groups
 
 
+def designed_replicates(x: ArrayLike) -> bool:
+    """Whether repeated x levels look planned rather than coincidental ties.
+
+    Replicates are a design when at least half of the levels are repeated, about equally often
+    (duplicates at every standard; no level three times as frequent as another), or when a
+    small design (at most 10 levels) repeats a level three times or more (centre-point
+    replicates). Values rounded to a grid tie too, but unevenly (a bell of counts). A single
+    repeated row among 8 levels, or the ties of rounded daily returns (12 % of 17,000 levels
+    repeated), are coincidences: their "pure error" says nothing about the line, so no
+    lack-of-fit test is made on them.
+    """
+    groups = level_groups(x)
+    if not groups:
+        return False
+    sizes = [len(rows) for rows in groups.values()]
+    replicated = sum(1 for size in sizes if size >= 2)
+    balanced = max(sizes) <= 3 * min(sizes)  # a plan repeats levels alike; rounding does not
+    if 2 * replicated >= len(sizes) and replicated >= 1 and balanced:
+        return True
+    return len(sizes) <= 10 and max(sizes) >= 3
+
+
 def lack_of_fit(
     x: ArrayLike, y: ArrayLike, ss_residual: float, intercept: bool = True
 ) -> LackOfFit | None:

@@ -20,10 +20,11 @@ import math
 from dataclasses import asdict, dataclass
 
 import numpy as np
+from scipy import stats as distributions
 
 from auditor.design.dropone import DropOne, drop_one, leave_one_out
 from auditor.design.inputs import DesignInputs, Prediction
-from auditor.design.lackfit import LackOfFit, lack_of_fit, level_groups
+from auditor.design.lackfit import LackOfFit, designed_replicates, lack_of_fit, level_groups
 from auditor.design.power import (
     min_detectable_slope,
     slope_power,
@@ -200,7 +201,8 @@ def _fill_simple(
     slopes_without, _, _, p_without = leave_one_out(x, fit)
     metrics.top_share_slope_without = _finite(slopes_without[top])
     metrics.top_share_p_without = _finite(p_without[top])
-    metrics.lack = lack_of_fit(x, y, fit.ss_residual, fit.intercept)
+    if designed_replicates(x):  # coincidental ties are no pure error
+        metrics.lack = lack_of_fit(x, y, fit.ss_residual, fit.intercept)
     stated = policy.find("slope_that_matters")
     if stated:
         metrics.slope_that_matters, metrics.slope_that_matters_source = stated, "the policy"
@@ -210,6 +212,22 @@ def _fill_simple(
             metrics.slope_that_matters = default
             elasticity = policy.find("relevant_elasticity")
             metrics.slope_that_matters_source = f"the relative default {elasticity:g}·|ȳ|/|x̄|"
+
+
+def _read_back_margin(metrics: DesignMetrics, policy: Policy, width: float) -> float:
+    """Half-width of the interval of a concentration read back from one response (common
+    practice for inverse prediction): t · s/|b1| · √(1 + 1/n + width²/Sxx), at the widest."""
+    s, slope, sxx, df, n = (
+        metrics.residual_sd,
+        metrics.slope,
+        metrics.sxx,
+        metrics.df,
+        metrics.n,
+    )
+    if not (s and slope and sxx and df and n) or df < 1:
+        return 0.0
+    t = float(distributions.t.ppf(1.0 - policy.alpha / 2.0, df))
+    return t * abs(s / slope) * math.sqrt(1.0 + 1.0 / n + width * width / sxx)
 
 
 def _fill_inputs(metrics: DesignMetrics, inputs: DesignInputs | None, policy: Policy) -> None:
@@ -222,7 +240,15 @@ def _fill_inputs(metrics: DesignMetrics, inputs: DesignInputs | None, policy: Po
         low, high = metrics.x_min or 0.0, metrics.x_max or 0.0
         margin = (policy.find("extrapolation_tolerance") or 0.0) * (high - low)
         slack = margin + 1e-12 * max(abs(low), abs(high), high - low)
-        metrics.outside = [p for p in inputs.predictions if p.x < low - slack or p.x > high + slack]
+        # A concentration read back from a response, (y - b0)/b1, carries the scatter of y: the
+        # top standard read back as 10.03 on a 0-10 curve is at the range's end, not beyond it.
+        read_back = _read_back_margin(metrics, policy, high - low)
+        metrics.outside = [
+            p
+            for p in inputs.predictions
+            if (p.x < low - slack - (read_back if p.how.startswith("(y") else 0.0))
+            or (p.x > high + slack + (read_back if p.how.startswith("(y") else 0.0))
+        ]
         metrics.working_range = inputs.working_range
         metrics.working_range_cell = inputs.working_range_cell
     target = metrics.slope_that_matters

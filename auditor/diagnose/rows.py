@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from auditor.diagnose.basis import Basis, Candidate, Evidence, g, pair, stat_name
+from auditor.diagnose.fixes import intended_ranges
 from auditor.diagnose.rowsearch import BoolArray, RowTable
 from auditor.model import ReportedValue
 from auditor.wording import rows_text
@@ -87,6 +88,9 @@ def subset_candidate(
             f"the ranges take in the total {rows_text(totals)}: with it the {name} is "
             f"{shown}; the {n} data rows give {intended}"
         )
+        meant = intended_ranges(context.spec, context.data)
+        if meant is not None:  # the rows of the table without the total, not the faulty range
+            ranges = f"{meant[1].address} and {meant[0].address}"
         return Candidate(
             "total-row", exact, message, f"end the ranges above the total row: {ranges}", evidence
         )

@@ -7,7 +7,7 @@ from typing import Any
 
 from auditor.errors import FormulaError
 from auditor.formula.syntax import Binary, Call, Node, RefNode, parse, references, walk
-from auditor.locate.grouping import PairGroups, adopt_strays, primary_pair
+from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
 from auditor.locate.roles import (
     linest_block_role,
     linest_index_role,
@@ -58,6 +58,8 @@ class FormulaLocator:
         self.anchor_cells = {(u.cell.sheet, u.cell.row, u.cell.col) for u in uses}
         specs = []
         for group in groups:
+            if self._correlation_only(group):
+                continue
             x, y = primary_pair(group)
             intercept = (
                 all(u.intercept for u in group if u.function == "LINEST")
@@ -78,6 +80,14 @@ class FormulaLocator:
             self._follow_dependents(spec)
             specs.append(spec)
         return specs
+
+    def _correlation_only(self, group: list[PairUse]) -> bool:
+        """Cells that compute only a correlation coefficient (r, not r squared)."""
+        return correlation_only(group) and all(
+            role_from_shape(node) == "r"
+            for node in (self.node(use.cell) for use in group)
+            if node is not None
+        )
 
     def _put(self, spec: RegressionSpec, key: str | None, stat: StatCell) -> None:
         """Attach a statistic cell; a second cell holding the same statistic gets ``key@A1``."""

@@ -5,19 +5,57 @@ from __future__ import annotations
 from auditor.formula.syntax import Ref
 from auditor.locate.spec import PairUse, overlaps
 
+CORRELATION_FUNCS = frozenset({"CORREL", "PEARSON"})
+
+
+def _lagged(use: PairUse) -> bool:
+    """x and y in one column of one sheet: a lag (CORREL(A3:A101, A2:A100)), by design."""
+    return use.x.sheet.lower() == use.y.sheet.lower() and (use.x.c1, use.x.c2) == (
+        use.y.c1,
+        use.y.c2,
+    )
+
+
+def _mostly_same_rows(a: Ref, b: Ref) -> bool:
+    """The same columns of one sheet, sharing at least half of the shorter range's rows: one
+    author's range, edited (a range left short, a range moved by a row), not two data sets."""
+    if a.sheet.lower() != b.sheet.lower() or (a.c1, a.c2) != (b.c1, b.c2):
+        return False
+    shared = min(a.r2, b.r2) - max(a.r1, b.r1) + 1
+    return 2 * shared >= min(a.r2 - a.r1, b.r2 - b.r1) + 1
+
+
+def same_regression(a: PairUse, b: PairUse) -> bool:
+    """Whether two calls name one regression. The author's ranges define a regression: ranges
+    that merely touch (the rising and the falling edge of a wave, SLOPE over rows 1-33 and over
+    33-96) are two; so are two models of one table (a quadratic LINEST beside a straight line
+    through the origin). Lagged calls are one regression only with identical ranges."""
+    if a.function == "LINEST" and b.function == "LINEST" and a.intercept != b.intercept:
+        return False
+    if _lagged(a) or _lagged(b):
+        return (a.x, a.y) == (b.x, b.y) or (a.x, a.y) == (b.y, b.x)
+    if (a.x.c2 - a.x.c1) == (b.x.c2 - b.x.c1) and (
+        _mostly_same_rows(a.x, b.x) and _mostly_same_rows(a.y, b.y)
+    ):
+        return True
+    one_column = a.x.c1 == a.x.c2 and b.x.c1 == b.x.c2
+    return one_column and _mostly_same_rows(a.x, b.y) and _mostly_same_rows(a.y, b.x)
+
+
+def correlation_only(uses: list[PairUse]) -> bool:
+    """CORREL/PEARSON alone measure association; they are not a regression (design)."""
+    return all(use.function in CORRELATION_FUNCS for use in uses)
+
 
 class PairGroups:
-    """Union-find over pair uses: overlapping (or swapped) ranges are one regression."""
+    """Union-find over pair uses: calls naming one regression (see :func:`same_regression`)."""
 
     def __init__(self, uses: list[PairUse]):
         self.uses = uses
         self.parent = list(range(len(uses)))
         for i, a in enumerate(uses):
             for j in range(i):
-                b = uses[j]
-                same = overlaps(a.x, b.x) and overlaps(a.y, b.y)
-                swapped = overlaps(a.x, b.y) and overlaps(a.y, b.x)
-                if same or swapped:
+                if same_regression(a, uses[j]):
                     self._union(i, j)
 
     def _find(self, i: int) -> int:

@@ -4,7 +4,10 @@ from __future__ import annotations
 
 import re
 
+import numpy as np
+
 from auditor.formula.syntax import Ref
+from auditor.locate.blocks import role_in_list, same_block
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.roles import (
     role_from_label,
@@ -31,14 +34,31 @@ def from_labels(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec
             ):
                 continue
             pair = _table_left_of(locator, sheet.name, cell.col)
-            if pair is None:
-                continue
+            if pair is None or not _reproduces(locator, pair, float(target.value)):
+                continue  # no table beside it gives this slope: nothing says it is its data
             x, y = pair
             spec = RegressionSpec(f"{sheet.name}/{target.coord}", sheet.name, x, y, True, "labels")
             spec.stats["slope"] = StatCell("slope", target, "label")
             taken.add(target.address)
             specs.append(spec)
     return specs
+
+
+def _reproduces(locator: FormulaLocator, pair: tuple[Ref, Ref], typed: float) -> bool:
+    """The table's least-squares slope agrees with the typed one to 5 % (a typed copy keeps a
+    few digits; a number of another model, such as a logistic b1 beside 0/1 data, is no slope
+    of the table, and a table found by position alone is no evidence)."""
+    sheet = locator.workbook.sheet(pair[0].sheet)
+    if sheet is None:
+        return False
+    x, y = pair
+    x_values = np.array([sheet.value(r, x.c1) for r in range(x.r1, x.r2 + 1)], dtype=float)
+    y_values = np.array([sheet.value(r, y.c1) for r in range(y.r1, y.r2 + 1)], dtype=float)
+    sxx = float(((x_values - x_values.mean()) ** 2).sum())
+    if not sxx > 0.0:
+        return False
+    slope = float(((x_values - x_values.mean()) * (y_values - y_values.mean())).sum() / sxx)
+    return abs(slope - typed) <= 0.05 * max(abs(slope), abs(typed))
 
 
 def _table_left_of(locator: FormulaLocator, sheet_name: str, col: int) -> tuple[Ref, Ref] | None:
@@ -80,6 +100,7 @@ def attach_labelled_constants(locator: FormulaLocator, spec: RegressionSpec) -> 
     if sheet is None:
         return
     data_columns = [spec.x, spec.y]
+    targets = {(s.cell.row, s.cell.col) for s in spec.stats.values() if s.cell.sheet == sheet.name}
     rows = range(min(c.row for c in cells) - 3, max(c.row for c in cells) + 6)
     cols = range(min(c.col for c in cells) - 3, max(c.col for c in cells) + 5)
     for r in rows:
@@ -93,8 +114,13 @@ def attach_labelled_constants(locator: FormulaLocator, spec: RegressionSpec) -> 
                 continue  # a value in a data column is data, whatever its header says
             label = label_for(locator.workbook, cell)
             role = role_from_label(label) if label else None
-            if role and not any(stat_base(k) == role for k in spec.stats):
-                locator._put(spec, role, StatCell(role, cell, "label"))
+            if role and c > 1:
+                role = role_in_list(sheet, r, c - 1, role)
+            if not role or any(stat_base(k) == role for k in spec.stats):
+                continue
+            if not same_block(sheet, (r, c), targets):
+                continue  # another block's number (a pasted table beside the formulas)
+            locator._put(spec, role, StatCell(role, cell, "label"))
 
 
 def block_title(locator: FormulaLocator, spec: RegressionSpec) -> str:

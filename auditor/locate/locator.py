@@ -113,6 +113,10 @@ def locate(
     for recogniser in recognisers:
         if recogniser.finish is not None:
             specs = recogniser.finish(locator, specs)
+    for spec in specs:
+        spec.neighbour_ranges = [
+            ref for other in specs if other is not spec for ref in (other.x, other.y)
+        ]
     seen: set[str] = set()
     for spec in specs:
         base, n = spec.id, 2

@@ -51,6 +51,9 @@ class RegressionSpec:
     # Chart series whose trendline fits this regression (auditor.locate_trendlines.TrendlineUse)
     trendlines: list[Any] = field(default_factory=list)
     range_texts: tuple[str, str] | None = None  # x and y ranges in words, when not plain blocks
+    # The x and y ranges of the other regressions of the workbook: rows they hold are theirs,
+    # never an extension of this one's table.
+    neighbour_ranges: list[Ref] = field(default_factory=list)
 
     @property
     def x_columns(self) -> int:

@@ -8,10 +8,13 @@ batch goes on.
 from __future__ import annotations
 
 from collections.abc import Iterable
+from functools import partial
 from pathlib import Path
 from typing import Any
 
 from auditor.checks import run_regression_checks, run_workbook_checks
+from auditor.checks.formula_support import reached_cells
+from auditor.checks.merge import one_per_mistake
 from auditor.compare.reported import build_reported
 from auditor.context import RegressionContext, WorkbookContext
 from auditor.design.calibration import prepare
@@ -23,6 +26,7 @@ from auditor.extract import extract
 from auditor.fit.ols import FitResult, fit_ols
 from auditor.locate.locator import Locator, RegressionSpec, locate
 from auditor.model import DataPoint, Finding, RegressionResult, WorkbookResult
+from auditor.pipeline.isolate import guarded, unverifiable_regression
 from auditor.policy import Policy
 from auditor.read.open import read_workbook, sha256_of
 from auditor.read.workbook import Workbook
@@ -139,7 +143,13 @@ def audit_workbook(
     locator = Locator(workbook, bindings)
     specs = locate(workbook, bindings, locator)
     reader = DesignInputReader(workbook, evaluator, locator.parsed)
-    regressions = [audit_regression(workbook, evaluator, spec, policy, reader) for spec in specs]
+    regressions = [
+        guarded(
+            partial(audit_regression, workbook, evaluator, spec, policy, reader),
+            partial(unverifiable_regression, spec),
+        )
+        for spec in specs
+    ]
     context = WorkbookContext(
         stored_values=workbook.stored_values,
         formula_count=len(workbook.formula_cells()),
@@ -150,15 +160,43 @@ def audit_workbook(
         results=regressions,
         parsed=locator.parsed,
         policy=policy,
+        evaluator=evaluator,
     )
+    kept = _route(run_workbook_checks(context), regressions)
+    for spec, result in zip(specs, regressions, strict=True):
+        result.findings = guarded(
+            partial(one_per_mistake, result.findings, partial(_reach, spec, locator=locator)),
+            partial(_as_they_are, result.findings),
+        )
     return WorkbookResult(
         path=str(path),
         sha256=workbook.sha256,
         status="audited" if regressions else "no-regressions",
         stored_values=workbook.stored_values,
         regressions=regressions,
-        findings=_route(run_workbook_checks(context), regressions),
+        findings=kept,
     )
+
+
+def _as_they_are(findings: list[Finding], _exc: BaseException) -> list[Finding]:
+    return findings
+
+
+def _reach(spec: RegressionSpec, cell: str, *, locator: Locator) -> list[str]:
+    """The reported cells a fault at ``cell`` spoils: those built on it, and the other cells of
+    the array block it belongs to (one LINEST computes them all)."""
+    reached = reached_cells(spec, cell, locator.parsed)
+    blocks = {
+        stat.cell.array_ref
+        for stat in spec.stats.values()
+        if stat.how == "linest-block" and stat.cell.address in reached
+    }
+    same_block = [
+        stat.cell.address
+        for stat in spec.stats.values()
+        if stat.how == "linest-block" and stat.cell.array_ref in blocks
+    ]
+    return list(dict.fromkeys(reached + same_block))
 
 
 def _route(findings: list[Finding], regressions: list[RegressionResult]) -> list[Finding]:

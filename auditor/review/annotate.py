@@ -153,7 +153,10 @@ def annotate_book(
     for (sheet_name, address), findings in by_cell.items():
         colour = PALETTE[worst(findings) or "info"][1]
         anchor = _fill(book[sheet_name], address, colour)
-        anchors.setdefault((sheet_name, anchor), []).extend(findings)
+        noted = anchors.setdefault((sheet_name, anchor), [])
+        # One note per finding: a cell named twice, or a range and its own top-left cell,
+        # would otherwise repeat it.
+        noted.extend(f for f in findings if not any(f is other for other in noted))
     for (sheet_name, anchor), findings in anchors.items():
         _attach(book[sheet_name], anchor, _note_text(findings))
 
