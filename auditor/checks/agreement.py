@@ -73,7 +73,7 @@ def significance_changes(context: RegressionContext, value: ReportedValue) -> bo
 @check(
     "stat-recompute",
     "A reported statistic differs from the independent recomputation.",
-    thresholds=("alpha", "stored_relative_tolerance"),
+    thresholds=("alpha", "confidence", "stored_relative_tolerance"),
 )
 def stat_recompute(context: RegressionContext) -> list[Finding]:
     """Compare each reported value with the fit over the intended data table.
