@@ -13,8 +13,11 @@
   with planted mistakes, the findings of severity minor or above that the audit gives it (its
   own and the workbook-level ones routed to it), against the number of planted mistakes (the
   manifest's expected entries, counting entries on the same cells as one mistake: a df typed
-  into a p formula is one slip, whatever kinds it is named by). Clean regressions count every
-  major or critical finding as a false alarm, except the design findings the manifest declares.
+  into a p formula is one slip, whatever kinds it is named by). Design and calibration
+  judgements of the data (spread, lack of fit, acceptance of standards) are counted apart: they
+  judge the data against a policy, not the arithmetic a mistake was planted in. Clean
+  regressions count every major or critical finding as a false alarm, except the design
+  findings the manifest declares.
 
 A table is printed; nothing is asserted (speed and counts belong to benchmarks, not tests).
 """
@@ -75,6 +78,15 @@ def _planted_mistakes(declared: dict[str, Any]) -> int:
     return len({tuple(sorted(e.get("cells", []))) for e in declared.get("expected", [])})
 
 
+def _judgement_checks() -> set[str]:
+    """Checks that judge the data against a policy (design spread, calibration acceptance):
+    they are no finding about a planted arithmetic mistake, and are counted apart."""
+    from auditor.checks import REGISTRY
+
+    families = {"design", "calibration", "calibration_results"}
+    return {check.id for check in REGISTRY.values() if check.family in families}
+
+
 def _findings_of(workbook: dict[str, Any], regression: dict[str, Any]) -> list[dict[str, Any]]:
     cells = {v["cell"] for v in regression["reported"].values()}
     routed = [f for f in workbook["findings"] if f["cells"] and f["cells"][0] in cells]
@@ -97,6 +109,7 @@ def demo(verbose: bool) -> None:
     by_name = {Path(w["path"]).name: w for w in audit["workbooks"]}
     rows: list[tuple[str, str, int, int]] = []
     false_alarms = 0
+    judgements, judgement_count = _judgement_checks(), 0
     for entry in manifest["workbooks"]:
         workbook = by_name.get(entry["file"])
         if workbook is None:
@@ -116,6 +129,9 @@ def demo(verbose: bool) -> None:
                 ]
                 false_alarms += len(serious)
                 continue
+            judged = [f for f in findings if f["check"] in judgements]
+            findings = [f for f in findings if f["check"] not in judgements]
+            judgement_count += len(judged)
             rows.append(
                 (entry["file"], declared["sheet"], _planted_mistakes(declared), len(findings))
             )
@@ -134,6 +150,10 @@ def demo(verbose: bool) -> None:
         f"  total: {planted} planted, {found} findings ({found / max(planted, 1):.2f} per "
         f"mistake); {exact}/{len(rows)} regressions with exactly one finding per mistake; "
         f"{false_alarms} major/critical findings on clean regressions"
+    )
+    print(
+        f"  (left out of the count: {judgement_count} design or calibration judgement(s) of "
+        "the data on these regressions, which a policy decides)"
     )
 
 
