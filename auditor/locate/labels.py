@@ -114,8 +114,12 @@ def attach_labelled_constants(locator: FormulaLocator, spec: RegressionSpec) -> 
                 continue  # a value in a data column is data, whatever its header says
             label = label_for(locator.workbook, cell)
             role = role_from_label(label) if label else None
-            if role and c > 1:
-                role = role_in_list(sheet, r, c - 1, role)
+            label_col = next(
+                (lc for lc in range(c - 1, max(0, c - 4), -1) if sheet.value(r, lc) == label),
+                None,
+            )
+            if role and label_col is not None:
+                role = role_in_list(sheet, r, label_col, role)
             if not role or any(stat_base(k) == role for k in spec.stats):
                 continue
             if not same_block(sheet, (r, c), targets):
