@@ -244,6 +244,7 @@ def test_findings_of_one_cause_merge_at_the_cause() -> None:
     shift = Finding("xy-rows-misaligned", "major", "y moved.", "range-shifted", ["S!E4", "S!E5"])
     short = Finding("rows-outside-range", "major", "rows left out.", "range-short", ["S!B5:B16"])
     spoiled = Finding("stat-recompute", "critical", "E9 wrong. More.", None, ["S!E9", "S!E9"])
+    spoiled.evidence = {"key": "p_slope", "reported": 0.2, "intended": 0.01}
     sibling = Finding("sibling-formula-differs", "minor", "differs.", "copied-block", ["T!A1"])
     reach = {"S!E4": ["S!E4", "S!E9"]}
     merged = one_per_mistake([spoiled, short, shift, sibling], lambda cell: reach.get(cell, [cell]))
@@ -255,7 +256,10 @@ def test_findings_of_one_cause_merge_at_the_cause() -> None:
     cause = merged[1]
     assert cause.severity == "critical" and cause.cells == ["S!E4", "S!E5", "S!E9"]
     assert cause.evidence["merged_checks"] == ["xy-rows-misaligned", "stat-recompute"]
-    assert "Also: E9 wrong." in cause.message
+    assert "It makes 1 reported value(s) wrong: p-value of the slope in S!E9 0.2 (recomputed " in (
+        cause.message
+    )
+    assert "E9 wrong" not in cause.message  # the value is said once, in the cause's words
 
 
 def test_cells_are_listed_once_and_in_order() -> None:

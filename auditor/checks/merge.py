@@ -25,8 +25,10 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
+from auditor.checks.agreement import describe
 from auditor.grid import parse_cell
 from auditor.model import SEVERITY_RANK, Finding
+from auditor.wording import fmt_pair
 
 # Checks that name the cause itself, most direct first (a shifted range explains the rows it
 # leaves out; a typed df explains the wrong p).
@@ -94,10 +96,13 @@ class _Group:
             return leader
         cells = list(dict.fromkeys(c for f in self.members for c in f.cells))
         severity = min((f.severity for f in self.members), key=lambda s: SEVERITY_RANK[s])
-        extra = [f for f in self.members[1:] if f.check != leader.check]
+        extra = [f for f in self.members[1:] if f.check not in (leader.check, RECOMPUTE)]
         said = " ".join(
             dict.fromkeys(f"Also: {_first_sentence(f.message)}" for f in extra if f.message)
         )
+        if leader.check != RECOMPUTE:
+            spoilt = _values_spoilt([f for f in self.members if f.check == RECOMPUTE])
+            said = (said + " " + spoilt).strip()
         evidence = dict(leader.evidence)
         evidence["kinds"] = list(self.kinds)
         evidence["merged_checks"] = list(dict.fromkeys(f.check for f in self.members))
@@ -133,6 +138,26 @@ def fix_formulas(finding: Finding) -> dict[str, str]:
         if isinstance(value, dict) and isinstance(value.get("fix_formula"), str):
             found.setdefault(str(value["cell"]), str(value["fix_formula"]))
     return found
+
+
+def _values_spoilt(recomputed: list[Finding]) -> str:
+    """The wrong values a cause makes, in one sentence: "It makes 3 reported values wrong:
+    slope in S!E4 -0.0890414 (recomputed -0.0888641); …"."""
+    values: list[dict[str, object]] = []
+    for finding in recomputed:
+        grouped = finding.evidence.get("values")
+        if isinstance(grouped, list):
+            values.extend(v for v in grouped if isinstance(v, dict))
+        elif "reported" in finding.evidence and finding.cells:
+            values.append({**finding.evidence, "cell": finding.cells[0]})
+    if not values:
+        return ""
+    parts = []
+    for value in sorted(values, key=lambda v: _position(str(v.get("cell", "")))):
+        shown, recomputed_text = fmt_pair(value.get("reported"), value.get("intended"))
+        name = describe(str(value.get("key", "")))
+        parts.append(f"{name} in {value.get('cell')} {shown} (recomputed {recomputed_text})")
+    return f"It makes {len(values)} reported value(s) wrong: " + "; ".join(parts) + "."
 
 
 def _first_sentence(message: str) -> str:
