@@ -11,6 +11,7 @@ mean to us. The fixtures are LibreOffice recalculations (fixtures/make_fixtures.
 
 from __future__ import annotations
 
+import re
 import shutil
 import sys
 from pathlib import Path
@@ -31,8 +32,15 @@ WORKBOOKS = sorted((ROOT / "fixtures" / "workbooks").glob("*.xlsx"))
 RELATIVE = 1e-9
 
 
+# A fix that ends in a formula: "Enter the formula again: =SLOPE(…)", "Compute it from the data:
+# =T.DIST.2T(…)", "Point it at this block's own data: =…", "…; in Sheet!E12: =…".
+TRAILING = re.compile(r"(?:(?:in (?P<cell>[^:;]+!\$?[A-Z]+\$?\d+))?:|use) (?P<formula>=[^;]+?)\.?$")
+
+
 def _suggested(result: WorkbookResult) -> list[tuple[str, str, float]]:
-    """(cell, formula, intended value) for every suggested formula of the workbook."""
+    """(cell, formula, intended value) for every formula a finding suggests: those recorded
+    with stat-recompute's evidence, and those its fix text ends with (pasted results, typed
+    counts, copied blocks). Only cells that report a statistic with an intended value count."""
     intended = {
         value.cell: value.intended
         for regression in result.regressions
@@ -41,7 +49,11 @@ def _suggested(result: WorkbookResult) -> list[tuple[str, str, float]]:
     }
     out = []
     for finding in result.all_findings():
-        for cell, formula in fix_formulas(finding).items():
+        suggested = list(fix_formulas(finding).items())
+        match = TRAILING.search(finding.fix.strip())
+        if match is not None and finding.cells:
+            suggested.append((match.group("cell") or finding.cells[0], match.group("formula")))
+        for cell, formula in suggested:
             if cell in intended:
                 out.append((cell, formula, float(intended[cell])))
     return list(dict.fromkeys(out))
@@ -66,6 +78,8 @@ def test_the_corpus_gets_formula_fixes_for_its_wrong_values() -> None:
     assert all(f.startswith("=") for f in formulas)
     assert any(f.startswith("=SLOPE(") for f in formulas)
     assert any("T.DIST.2T(" in f for f in formulas)
+    assert any(f.startswith("=J6/SQRT(DEVSQ(") for f in formulas)  # a copied block repointed
+    assert any("TINV(0.05,E9)" in f for f in formulas)  # a typed count replaced
 
 
 @pytest.mark.parametrize("path", WORKBOOKS, ids=[p.name for p in WORKBOOKS])
@@ -81,7 +95,7 @@ def test_each_suggested_formula_gives_the_intended_value(path: Path) -> None:
 def _stored_prefix(formula: str) -> str:
     """Newer functions are stored with the _xlfn. prefix in a file (design: spreadsheet facts)."""
     for name in ("T.DIST.2T(", "T.INV.2T("):
-        formula = formula.replace(name, "_xlfn." + name)
+        formula = re.sub(rf"(?<![._A-Za-z]){re.escape(name)}", "_xlfn." + name, formula)
     return formula
 
 
