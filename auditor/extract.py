@@ -17,6 +17,7 @@ import numpy as np
 from auditor.compare.precision import parse_text_number
 from auditor.evaluation.evaluator import Evaluator, Unsupported, Unverifiable
 from auditor.extract_fallback import StoredFallback
+from auditor.extract_pasted import pasted_points
 from auditor.extract_totals import (
     claimed_elsewhere,
     continues_pattern,
@@ -291,6 +292,18 @@ def extract(
     whose formula cannot be evaluated is read as stored (recorded in ``taken_as_stored``)."""
     if spec.found_by == "trendline":
         return _series_table(spec)
+    if spec.pasted is not None:
+        # A pasted table's data are exactly the cells that reproduce it: no extension.
+        pasted_x, pasted_y, pasted_rows, dropped = pasted_points(workbook, spec)
+        return Extracted(
+            x=pasted_x,
+            y=pasted_y,
+            points=pasted_rows,
+            intended_x_range=spec.x.address,
+            intended_y_range=spec.y.address,
+            dropped=dropped,
+            n_as_written=len(pasted_y),
+        )
     try:
         return _extract(workbook, evaluator, spec, cell_by_cell=cell_by_cell)
     except Unverifiable:

@@ -14,6 +14,7 @@ from auditor.checks import (
     formula_pasted,
     formula_siblings,
     formulas,
+    pasted_tables,
     trendlines,
     workbook_level,
 )
@@ -33,6 +34,7 @@ FAMILIES = (
     formula_pasted,
     formula_siblings,
     formulas,
+    pasted_tables,
     trendlines,
     workbook_level,
 )

@@ -33,6 +33,16 @@ NAMES = {
     "ss_residual": "residual sum of squares",
     "ci_slope_low": "lower confidence limit of the slope",
     "ci_slope_high": "upper confidence limit of the slope",
+    "multiple_r": "multiple R",
+    "adj_r_squared": "adjusted R²",
+    "df_regression": "regression degrees of freedom",
+    "df_total": "total degrees of freedom",
+    "ss_total": "total sum of squares",
+    "ms_regression": "regression mean square",
+    "ms_residual": "residual mean square",
+    "f_p": "p-value of F",
+    "ci_intercept_low": "lower confidence limit of the intercept",
+    "ci_intercept_high": "upper confidence limit of the intercept",
 }
 
 
@@ -86,6 +96,9 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
     """
     findings: list[Finding] = []
     causes: list[tuple[ReportedValue, str]] = []
+    pasted = context.spec.pasted
+    if pasted is not None and pasted.source.status == "stale":
+        return []  # one finding for the whole table: table-stale
     for value in context.reported.values():
         if value.verdict != "mismatch":
             continue

@@ -20,6 +20,7 @@ from auditor.compare.precision import (
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.fit.conditioning import Conditioning
 from auditor.locate.locator import RegressionSpec, StatCell
+from auditor.locate.pasted_spec import judge_pasted
 from auditor.model import ReportedValue, stat_base
 from auditor.read.workbook import ErrorValue
 
@@ -145,7 +146,7 @@ def build_reported(
             value = raw if isinstance(raw, str) else _as_float(raw)
             if isinstance(raw, ErrorValue):
                 value, note = str(raw), f"the cell shows {raw.code}"
-        true = intended.get(stat_base(key))
+        true = intended.get(key, intended.get(stat_base(key)))  # a full key names its own
         true_f = float(true) if isinstance(true, (int, float)) else None
         tolerance = relative_tolerance(key, rel, intended)
         shown_format = "General" if stat.typed_value is not None else cell.number_format
@@ -159,6 +160,11 @@ def build_reported(
             key,
             conditioning,
         )
+        if spec.pasted is not None and isinstance(value, float) and true_f is not None:
+            table = spec.pasted.table
+            agreement, source = judge_pasted(
+                key, value, true_f, cell.number_format, table, conditioning
+            )
         if isinstance(raw, ErrorValue) and true_f is not None:
             verdict = "mismatch"
         elif agreement.agrees is None:

@@ -9,6 +9,7 @@ import numpy as np
 from auditor.formula.syntax import Ref
 from auditor.locate.blocks import role_in_list, same_block
 from auditor.locate.formulas import FormulaLocator
+from auditor.locate.pasted_spec import in_pasted_table
 from auditor.locate.roles import (
     role_from_label,
 )
@@ -112,6 +113,8 @@ def attach_labelled_constants(locator: FormulaLocator, spec: RegressionSpec) -> 
                 continue
             if any(r_.c1 <= c <= r_.c2 and r_.sheet == cell.sheet for r_ in data_columns):
                 continue  # a value in a data column is data, whatever its header says
+            if in_pasted_table(locator.workbook, cell.sheet, r, c):
+                continue  # a pasted table's numbers are its own, whatever labels they carry
             label = label_for(locator.workbook, cell)
             role = role_from_label(label) if label else None
             label_col = next(

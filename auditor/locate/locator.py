@@ -12,7 +12,9 @@ the order of :data:`RECOGNISERS`:
 * then typed numbers beside statistic labels are attached to every regression found so far;
 * *late* recognisers see the cells bound so far and never take one twice: **labels** (a typed
   slope beside a two-column table), **trendlines** (a chart series with a linear trendline;
-  its ``finish`` step joins a trendline over the same data as an earlier regression into it).
+  its ``finish`` step joins a trendline over the same data as an earlier regression into it),
+  **pasted tables** (an analysis add-in's output pasted as values, its data found by
+  reproduction).
 
 A new form is one module with one ``find`` function and one line in :data:`RECOGNISERS`.
 """
@@ -23,7 +25,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from auditor.locate import declared, labels, trendlines
+from auditor.locate import declared, labels, pasted_spec, trendlines
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PAIR_FUNCS, PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
@@ -66,6 +68,8 @@ RECOGNISERS: tuple[Recogniser, ...] = (
     Recogniser("labels", labels.from_labels, late=True),
     # a chart series is no block of cells with labels beside it: its copies are found by value
     Recogniser("trendlines", trendlines.find, late=True, finish=trendlines.finish, labelled=False),
+    # a pasted table is complete: its own layout names every number it holds
+    Recogniser("pasted tables", pasted_spec.find, late=True, labelled=False),
 )
 
 
@@ -108,7 +112,7 @@ def locate(
             labels.attach_labelled_constants(locator, spec)
         specs.extend(found)
     for spec in specs:
-        spec.label = labels.block_title(locator, spec)
+        spec.label = spec.label or labels.block_title(locator, spec)
         spec.x_headers = locator.x_headers(spec)
     for recogniser in recognisers:
         if recogniser.finish is not None:

@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from auditor.formula.syntax import Call, Node, Number, Ref, RefNode, calls
+from auditor.locate.pasted_data import PastedOrigin
 from auditor.model import FoundBy
 from auditor.read.workbook import Cell, Workbook
 
@@ -54,9 +55,12 @@ class RegressionSpec:
     # The x and y ranges of the other regressions of the workbook: rows they hold are theirs,
     # never an extension of this one's table.
     neighbour_ranges: list[Ref] = field(default_factory=list)
+    pasted: PastedOrigin | None = None  # the pasted table this regression was read from
 
     @property
     def x_columns(self) -> int:
+        if self.pasted is not None:
+            return self.pasted.table.k  # its data may lie in rows
         return self.x.c2 - self.x.c1 + 1
 
 

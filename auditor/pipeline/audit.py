@@ -25,6 +25,7 @@ from auditor.evaluation.evaluator import Evaluator
 from auditor.extract import extract
 from auditor.fit.ols import FitResult, fit_ols
 from auditor.locate.locator import Locator, RegressionSpec, locate
+from auditor.locate.pasted_spec import pasted_intended, unsourced_result
 from auditor.model import DataPoint, Finding, RegressionResult, WorkbookResult
 from auditor.pipeline.isolate import guarded, unverifiable_regression
 from auditor.policy import Policy
@@ -65,6 +66,9 @@ def audit_regression(
     policy: Policy,
     inputs_reader: DesignInputReader | None = None,
 ) -> RegressionResult:
+    unsourced = unsourced_result(spec)
+    if unsourced is not None:
+        return unsourced  # a pasted table with no data found: listed, nothing to recompute
     data = extract(workbook, evaluator, spec)
     reader = inputs_reader or DesignInputReader(workbook, evaluator)
     inputs = reader.read(spec)
@@ -75,6 +79,7 @@ def audit_regression(
     )
     fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
     intended = fit.stats()
+    intended.update(pasted_intended(spec, fit))
     reported = build_reported(
         spec,
         evaluator,

@@ -127,6 +127,17 @@ STAT_LABELS: dict[str, str] = {
     "ss_residual": "residual sum of squares",
     "ci_slope_low": "confidence limit of the slope, lower",
     "ci_slope_high": "confidence limit of the slope, upper",
+    # numbers of a pasted analysis table
+    "multiple_r": "multiple R",
+    "adj_r_squared": "adjusted R squared",
+    "df_regression": "regression degrees of freedom",
+    "df_total": "total degrees of freedom",
+    "ss_total": "total sum of squares",
+    "ms_regression": "regression mean square",
+    "ms_residual": "residual mean square",
+    "f_p": "p-value of F",
+    "ci_intercept_low": "confidence limit of the intercept, lower",
+    "ci_intercept_high": "confidence limit of the intercept, upper",
 }
 
 VERDICT_MEANING: dict[str, str] = {
@@ -165,7 +176,9 @@ def stat_label(key: str) -> str:
     label = STAT_LABELS.get(base, base.replace("_", " "))
     if column is not None:
         label += f" of x{column}"
-    if cell:
+    if cell.endswith("%"):
+        label += f" at {cell}"  # a second confidence level of a pasted table
+    elif cell:
         label += f" (also in {cell})"
     return label
 
