@@ -389,3 +389,14 @@ def test_a_column_of_fitted_values_is_not_taken_for_y(tmp_path: Path) -> None:
     table = Table("Fit", 0, 0, data, y_index=1, x_first=2, k=2, coefficients_only=True)
     regression = _for(_audit(Scene([data], [table]), tmp_path), table)
     assert (regression.x_range, regression.y_range) == (data.ref(2, 2), data.ref(1))
+
+
+def test_a_chart_of_the_same_data_joins_the_table_regression(tmp_path: Path) -> None:
+    """A scatter chart with a linear trendline over the data a pasted table reproduces: one
+    regression (the table's), shown two ways, not two."""
+    rng = np.random.default_rng(43)
+    data = _data(rng, 14, 1, "Data", 0, 0)
+    table = Table("Fit", 0, 0, data)
+    result = _audit(Scene([data], [table], charts=[(data, 0, 1)]), tmp_path)
+    assert len(result.regressions) == 1
+    _assert_reproduced(result.regressions[0], table)

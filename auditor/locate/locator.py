@@ -11,10 +11,10 @@ the order of :data:`RECOGNISERS`:
   (t, p, df, n, SE, limits) are attached by following references;
 * then typed numbers beside statistic labels are attached to every regression found so far;
 * *late* recognisers see the cells bound so far and never take one twice: **labels** (a typed
-  slope beside a two-column table), **trendlines** (a chart series with a linear trendline;
-  its ``finish`` step joins a trendline over the same data as an earlier regression into it),
-  **pasted tables** (an analysis add-in's output pasted as values, its data found by
-  reproduction).
+  slope beside a two-column table), **pasted tables** (an analysis add-in's output pasted as
+  values, its data found by reproduction), **trendlines** (a chart series with a linear
+  trendline; its ``finish`` step joins a trendline over the same data as an earlier regression
+  into it).
 
 A new form is one module with one ``find`` function and one line in :data:`RECOGNISERS`.
 """
@@ -66,10 +66,11 @@ RECOGNISERS: tuple[Recogniser, ...] = (
     Recogniser("names", declared.from_names, absorbs=True),
     Recogniser("formulas", _formulas),
     Recogniser("labels", labels.from_labels, late=True),
+    # a pasted table is complete: its own layout names every number it holds; before the
+    # trendlines, so that a chart of the same data joins the table's regression
+    Recogniser("pasted tables", pasted_spec.find, late=True, labelled=False),
     # a chart series is no block of cells with labels beside it: its copies are found by value
     Recogniser("trendlines", trendlines.find, late=True, finish=trendlines.finish, labelled=False),
-    # a pasted table is complete: its own layout names every number it holds
-    Recogniser("pasted tables", pasted_spec.find, late=True, labelled=False),
 )
 
 
