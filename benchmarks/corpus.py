@@ -113,6 +113,15 @@ def ensure(shape: Shape, folder: Path) -> Path:
     return path if path.is_file() else write_workbook(shape, path)
 
 
+def ensure_sheets(count: int, folder: Path) -> list[Path]:
+    """``count`` workbooks of 10 sheets × 500 rows (the issue's batch of 20), seeds 100 on."""
+    folder.mkdir(parents=True, exist_ok=True)
+    return [
+        ensure(Shape(f"sheets_10x500_{index:02d}", 10, 500, 100 + index), folder)
+        for index in range(count)
+    ]
+
+
 def ensure_many(count: int, folder: Path) -> list[Path]:
     """``count`` small workbooks (30 to 400 rows, one to three sheets) for throughput runs."""
     folder.mkdir(parents=True, exist_ok=True)

@@ -4,6 +4,7 @@
                                                 # and 1 vs 2 workers on 200 files
     python benchmarks/run.py --sizes rows_30 --repeat 9 --skip-huge --skip-throughput
     python benchmarks/run.py --profile rows_200000   # where the whole audit spends its time
+    python benchmarks/run.py --targets --repeat 3    # only issue 14's targets (targets.py)
 
 Per size it times, in one process and interleaved so that machine load touches all alike:
 
@@ -34,39 +35,15 @@ import subprocess
 import sys
 import tempfile
 import time
-import zipfile
 from collections.abc import Callable
 from pathlib import Path
 
-from lxml import etree
-
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 import corpus  # noqa: E402
+import targets  # noqa: E402
+from rawpass import raw_pass  # noqa: E402
 
 SIZES = {shape.name: shape for shape in (corpus.SMALL, corpus.MEDIUM, corpus.LARGE)}
-NS = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
-
-
-def raw_pass(path: Path) -> int:
-    """Formula text and stored value of every cell, and the shared strings; nothing built."""
-    cells = 0
-    with zipfile.ZipFile(path) as archive:
-        names = archive.namelist()
-        if "xl/sharedStrings.xml" in names:
-            with archive.open("xl/sharedStrings.xml") as handle:
-                for _, item in etree.iterparse(handle, tag=NS + "si"):
-                    item.xpath("string()")
-                    item.clear()
-        for name in names:
-            if not (name.startswith("xl/worksheets/") and name.endswith(".xml")):
-                continue
-            with archive.open(name) as handle:
-                for _, cell in etree.iterparse(handle, tag=NS + "c"):
-                    cell.findtext(NS + "f")
-                    cell.findtext(NS + "v")
-                    cells += 1
-                    cell.clear()
-    return cells
 
 
 def read_only(path: Path) -> object:
@@ -228,6 +205,10 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--repeat-throughput", type=int, default=3)
     parser.add_argument("--profile", metavar="SIZE", help="profile the whole audit of SIZE")
     parser.add_argument(
+        "--targets", action="store_true", help="only the targets of issue 14 (targets.py)"
+    )
+    parser.add_argument("--skip-targets", action="store_true")
+    parser.add_argument(
         "--proposed", action="store_true", help="with the patches of proposed.py installed"
     )
     args = parser.parse_args(argv)
@@ -242,6 +223,9 @@ def main(argv: list[str] | None = None) -> int:
         print("(with the patches of benchmarks/proposed.py)\n")
     if args.profile:
         profile(corpus.ensure(SIZES[args.profile], folder), 35)
+        return 0
+    if args.targets:
+        targets.print_targets(folder, args.repeat, args.timeout, args.skip_huge)
         return 0
     results: dict[str, dict[str, float]] = {}
     small = corpus.ensure(corpus.SMALL, folder)
@@ -298,6 +282,8 @@ def main(argv: list[str] | None = None) -> int:
             print(f"| {jobs} | {_fmt(seconds)} | {rate} |")
         if medians[1] and medians[2]:
             print(f"\n1 → 2 workers: {medians[1] / medians[2]:.2f}× the throughput")
+    if not args.skip_targets:
+        targets.print_targets(folder, args.repeat, args.timeout, args.skip_huge)
     return 0
 
 
