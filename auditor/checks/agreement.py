@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from scipy import stats as distributions
-
 from auditor.checks.base import check
 from auditor.compare.conditioning import agree_conditioned
 from auditor.compare.precision import parse_text_number
@@ -11,6 +9,7 @@ from auditor.compare.reported import relative_tolerance
 from auditor.context import RegressionContext
 from auditor.diagnose.engine import explain
 from auditor.diagnose.fixes import corrected_formula
+from auditor.fit.distributions import t_ppf
 from auditor.model import STAT_KEYS, Finding, ReportedValue, Severity, stat_base
 from auditor.wording import fmt_pair
 
@@ -70,7 +69,7 @@ def significance_changes(context: RegressionContext, value: ReportedValue) -> bo
         return reported is not None and (reported < alpha) != (value.intended < alpha)
     if base == "t_slope" and value.intended is not None and fit.df > 0:
         reported = _number(value.value)
-        critical = float(distributions.t.ppf(1 - alpha / 2, fit.df))
+        critical = float(t_ppf(1 - alpha / 2, fit.df))
         return reported is not None and (abs(reported) > critical) != (
             abs(value.intended) > critical
         )

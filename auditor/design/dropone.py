@@ -20,8 +20,8 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats as sps
 
+from auditor.fit.distributions import t_sf
 from auditor.fit.ols import FitResult
 
 # Leverage within this of 1: the point is the only one away from the others' common x.
@@ -71,7 +71,7 @@ def leave_one_out(
     with np.errstate(divide="ignore", invalid="ignore"):
         t_keep = np.where(se_keep > 0.0, slope[keep] / se_keep, np.nan)
     t[keep] = t_keep
-    p_keep = np.where(np.isfinite(t_keep), 2.0 * sps.t.sf(np.abs(t_keep), df), np.nan)
+    p_keep = np.where(np.isfinite(t_keep), 2.0 * t_sf(np.abs(t_keep), df), np.nan)
     # An exact fit without the point: SE 0 and a non-zero slope leave no doubt (p = 0).
     exact = (se_keep == 0.0) & (slope[keep] != 0.0)
     p_keep[exact] = 0.0

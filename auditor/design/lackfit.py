@@ -15,7 +15,8 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import ArrayLike
-from scipy import stats as sps
+
+from auditor.fit.distributions import f_sf
 
 
 @dataclass(frozen=True)
@@ -91,5 +92,5 @@ def lack_of_fit(
             math.inf, 0.0, df_lack_of_fit, df_pure_error, ss_lack_of_fit, ss_pure_error
         )
     f = (ss_lack_of_fit / df_lack_of_fit) / (ss_pure_error / df_pure_error)
-    p = float(sps.f.sf(f, df_lack_of_fit, df_pure_error))
+    p = float(f_sf(f, df_lack_of_fit, df_pure_error))
     return LackOfFit(f, p, df_lack_of_fit, df_pure_error, ss_lack_of_fit, ss_pure_error)

@@ -18,9 +18,9 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-from scipy import stats as sps
 
 from auditor.design.power import even_levels, slope_power, sxx_of, sxx_to_detect
+from auditor.fit.distributions import t_ppf
 from auditor.policy import Policy
 
 
@@ -123,7 +123,7 @@ def candidates(request: PlanRequest, policy: Policy) -> list[Candidate]:
     out = []
     for n in request.n_values:
         df = n - 2
-        critical = float(sps.t.ppf(0.5 + confidence / 2.0, df))
+        critical = float(t_ppf(0.5 + confidence / 2.0, df))
         seen: list[list[float]] = []
         for design, x in layouts(n, request.x_low, request.x_high, min_levels):
             if x in seen:
@@ -187,7 +187,7 @@ def needed_sxx(request: PlanRequest, policy: Policy, n: int) -> float | None:
     if request.target_se is not None:
         needs.append((request.sigma / request.target_se) ** 2)
     if request.target_half_width is not None:
-        critical = float(sps.t.ppf(0.5 + policy.get("confidence") / 2.0, df))
+        critical = float(t_ppf(0.5 + policy.get("confidence") / 2.0, df))
         needs.append((critical * request.sigma / request.target_half_width) ** 2)
     if request.detect_slope is not None:
         needs.append(

@@ -3,7 +3,8 @@
 For a straight line, SE(b1) = σ/√Sxx and t = b1/SE follows a noncentral t distribution with
 df = n − 2 (n − 1 through the origin) and noncentrality δ = β1·√Sxx/σ. The power of the two-sided
 test at level α is P(|T| > t_crit) under that distribution. It is computed with
-``scipy.stats.nct``, not with a normal approximation: at small df the normal overstates power by
+the noncentral t (``scipy.special`` through auditor.fit.distributions), not with a normal
+approximation: at small df the normal overstates power by
 several percentage points (tests/test_power.py shows it against a Monte Carlo simulation).
 
 Everything here is plain arithmetic on numbers; the design metrics (auditor.design.metrics) and the
@@ -14,11 +15,13 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from functools import lru_cache
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
-from scipy import optimize
-from scipy import stats as sps
+
+from auditor.design.brent import brentq
+from auditor.fit.distributions import nct_cdf, nct_sf, t_ppf
 
 FloatArray = NDArray[np.float64]
 
@@ -33,12 +36,16 @@ def _check(df: int, alpha: float) -> None:
 def power_at(noncentrality: float, df: int, alpha: float) -> float:
     """Power of the two-sided t test at level ``alpha`` when t has noncentrality ``δ``."""
     _check(df, alpha)
-    critical = float(sps.t.ppf(1.0 - alpha / 2.0, df))
+    return _power_beyond(noncentrality, df, alpha, float(t_ppf(1.0 - alpha / 2.0, df)))
+
+
+def _power_beyond(noncentrality: float, df: int, alpha: float, critical: float) -> float:
+    """Power with the critical value already known (computed once per root search)."""
     delta = abs(float(noncentrality))
     if delta == 0.0:
         return alpha
-    upper = float(sps.nct.sf(critical, df, delta))
-    lower = float(sps.nct.cdf(-critical, df, delta))
+    upper = float(nct_sf(critical, df, delta))
+    lower = float(nct_cdf(-critical, df, delta))
     return min(1.0, upper + lower)
 
 
@@ -49,19 +56,27 @@ def slope_power(slope: float, sigma: float, sxx: float, df: int, alpha: float) -
     return power_at(slope * math.sqrt(sxx) / sigma, df, alpha)
 
 
+@lru_cache(maxsize=4096)
 def noncentrality_for(power: float, df: int, alpha: float) -> float:
-    """The δ at which the two-sided test reaches ``power`` (0 when power ≤ alpha)."""
+    """The δ at which the two-sided test reaches ``power`` (0 when power ≤ alpha).
+
+    Cached: the design metrics, the advice and the planner ask for the same few (power, df,
+    alpha) again and again, and each answer is a root search of some twenty noncentral t tails.
+    """
     _check(df, alpha)
     if not 0.0 < power < 1.0:
         raise ValueError(f"power must lie strictly between 0 and 1, got {power!r}")
     if power <= alpha:
         return 0.0
+    critical = float(t_ppf(1.0 - alpha / 2.0, df))
     high = 1.0
-    while power_at(high, df, alpha) < power:
+    while _power_beyond(high, df, alpha, critical) < power:
         high *= 2.0
         if high > 1e8:  # unreachable at any sane df and power; say so rather than loop
             raise ValueError(f"power {power!r} cannot be reached with df = {df}")
-    return float(optimize.brentq(lambda d: power_at(d, df, alpha) - power, 0.0, high, xtol=1e-12))
+    return float(
+        brentq(lambda d: _power_beyond(d, df, alpha, critical) - power, 0.0, high, xtol=1e-12)
+    )
 
 
 def min_detectable_slope(sigma: float, sxx: float, df: int, alpha: float, power: float) -> float:
@@ -83,7 +98,7 @@ def sxx_for_se(sigma: float, target_se: float) -> float:
 
 def sxx_for_half_width(sigma: float, half_width: float, df: int, confidence: float) -> float:
     """The Sxx at which the two-sided CI of the slope has the given half-width."""
-    critical = float(sps.t.ppf(0.5 + confidence / 2.0, df))
+    critical = float(t_ppf(0.5 + confidence / 2.0, df))
     return (critical * sigma / half_width) ** 2
 
 

@@ -16,8 +16,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy import stats as distributions
 
+from auditor.fit.distributions import t_sf
 from auditor.fit.ols import FitResult
 
 Evidence = dict[str, float | int | str]
@@ -102,7 +102,7 @@ Hypothesis = Callable[[Basis], list[Candidate]]
 
 
 def two_sided(t: float, df: float) -> float:
-    return float(2.0 * distributions.t.sf(abs(t), df)) if df > 0 else math.nan
+    return float(2.0 * t_sf(abs(t), df)) if df > 0 else math.nan
 
 
 def usable(*values: float) -> bool:

@@ -24,8 +24,6 @@ import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from scipy import stats as distributions
-
 from auditor.compare.precision import agree_stored, agree_text, agree_typed, parse_text_number
 from auditor.diagnose.mistakes import (
     MISTAKES,
@@ -56,6 +54,7 @@ from auditor.diagnose.rowsearch import (
     rows_with_total,
     rows_without_text,
 )
+from auditor.fit.distributions import t_ppf
 from auditor.fit.ols import fit_ols
 from auditor.model import ReportedValue, stat_base
 from auditor.wording import rows_text
@@ -207,7 +206,7 @@ def _consequence(
     if stat.startswith("p_"):
         claimed, true = reported < alpha, intended < alpha
     elif stat.startswith("t_") and df > 0:
-        critical = float(distributions.t.ppf(1 - alpha / 2, df))
+        critical = float(t_ppf(1 - alpha / 2, df))
         claimed, true = abs(reported) > critical, abs(intended) > critical
     elif stat == "slope" and reported * intended < 0:
         return "; the reported slope has the wrong sign"

@@ -8,9 +8,9 @@ returns the :class:`Candidate` numbers that slip would give, or nothing where it
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats as distributions
 
 from auditor.diagnose.basis import NUMBER_LITERAL, Basis, Candidate, Evidence, g, two_sided, usable
+from auditor.fit.distributions import norm_sf, t_cdf, t_ppf, t_sf
 
 
 def _p_case(b: Basis) -> tuple[float, int] | None:
@@ -27,7 +27,7 @@ def p_one_tailed(b: Basis) -> list[Candidate]:
     if case is None:
         return []
     t, df = case
-    one = float(distributions.t.sf(abs(t), df))
+    one = float(t_sf(abs(t), df))
     how = f"p is one-tailed: T.DIST.RT(|t|, {df}) gives {g(one)} = half the two-sided {g(2 * one)}"
     return [Candidate("p-one-tailed", one, how, _two_tailed_fix(df), {"t": t, "df": df})]
 
@@ -37,7 +37,7 @@ def p_left_tail(b: Basis) -> list[Candidate]:
     if case is None:
         return []
     t, df = case
-    left = float(distributions.t.cdf(t, df))
+    left = float(t_cdf(t, df))
     how = (
         f"p is the left tail T.DIST({g(t)}, {df}, TRUE) = {g(left)}, not the two-sided "
         f"{g(two_sided(t, df))}"
@@ -61,7 +61,7 @@ def p_normal_approx(b: Basis) -> list[Candidate]:
     if case is None:
         return []
     t, df = case
-    one = float(distributions.norm.sf(abs(t)))
+    one = float(norm_sf(abs(t)))
     fix = f"use the t distribution with df {df}: T.DIST.2T(ABS(t), {df})"
     evidence: Evidence = {"t": t, "df": df}
     return [
@@ -99,7 +99,7 @@ def p_wrong_df(b: Basis) -> list[Candidate]:
     others = sorted(set(range(1, n + 3)) - set(common) - {df}, key=lambda d: (abs(d - df), d))
     candidates = common + others
     # One vectorised call: a df search over 1..n+2 stays cheap for long tables.
-    p_values = 2.0 * distributions.t.sf(abs(t), np.array(candidates, dtype=float))
+    p_values = 2.0 * t_sf(abs(t), np.array(candidates, dtype=float))
     right = g(two_sided(t, df))
     fix = f"use df = {df} (COUNT(x) − {n - df}, or LINEST's df): T.DIST.2T(ABS(t), {df})"
     out = []
@@ -124,7 +124,7 @@ def _ci_typed_df(b: Basis) -> list[Candidate]:
     for literal in sorted({int(m) for m in NUMBER_LITERAL.findall(b.formula)}):
         if literal < 1 or literal == df:
             continue
-        limit = slope + sign * float(distributions.t.ppf(0.5 + level / 2, literal)) * se
+        limit = slope + sign * float(t_ppf(0.5 + level / 2, literal)) * se
         how = f"the critical t uses a typed df of {literal}, but the {b.fit.n} points leave df {df}"
         fix = f"replace the typed {literal} by COUNT(x) − {b.fit.n - df} or a reference to df"
         out.append(Candidate("hardcoded-constant", limit, how, fix, {"df_typed": literal}))

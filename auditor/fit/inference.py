@@ -5,8 +5,8 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats as sps
 
+from auditor.fit.distributions import f_sf, t_ppf, t_sf
 from auditor.fit.lstsq import FloatArray
 
 
@@ -20,7 +20,7 @@ def _tests(coef: FloatArray, se: FloatArray, df: int) -> tuple[FloatArray, Float
         if s > 0.0:
             t[j] = b / s
             # sf, not 1 - cdf: keeps p-values far below 1e-16 instead of rounding them to 0.
-            p[j] = 2.0 * sps.t.sf(abs(t[j]), df)
+            p[j] = 2.0 * t_sf(abs(t[j]), df)
         elif s == 0.0 and b != 0.0:
             p[j] = 0.0  # an exact fit: no doubt that the coefficient differs from 0
     return t, p
@@ -31,7 +31,7 @@ def _intervals(
 ) -> tuple[FloatArray, FloatArray]:
     if df <= 0:
         return np.full(coef.shape, np.nan), np.full(coef.shape, np.nan)
-    half = sps.t.ppf(0.5 + confidence / 2.0, df) * se
+    half = t_ppf(0.5 + confidence / 2.0, df) * se
     return coef - half, coef + half
 
 
@@ -50,7 +50,7 @@ def _f_test(ss_regression: float, ss_residual: float, k: int, df: int) -> tuple[
     if ss_residual == 0.0:
         return (math.inf, 0.0) if ss_regression > 0.0 else (math.nan, math.nan)
     f = (ss_regression / k) / (ss_residual / df)
-    return f, float(sps.f.sf(f, k, df))
+    return f, float(f_sf(f, k, df))
 
 
 def _influence(
