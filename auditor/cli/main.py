@@ -13,8 +13,6 @@ import time
 from importlib import resources
 from pathlib import Path
 
-from tabulate import tabulate
-
 from auditor import __version__
 from auditor.cli.plan import add_plan_parser
 from auditor.cli.review import add_review_parsers, cluster_options
@@ -102,6 +100,8 @@ def cmd_audit(args: argparse.Namespace) -> int:
 
 
 def cmd_rules(args: argparse.Namespace) -> int:
+    from tabulate import tabulate  # here, not at start-up: an audit does not need it
+
     from auditor.checks import REGISTRY
     from auditor.policy import load_policy
 
@@ -116,6 +116,8 @@ def cmd_rules(args: argparse.Namespace) -> int:
 
 
 def cmd_history(args: argparse.Namespace) -> int:
+    from tabulate import tabulate
+
     from auditor.pipeline.ledger import Ledger, default_ledger_path
 
     path = Path(args.ledger) if args.ledger else default_ledger_path()

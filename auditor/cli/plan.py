@@ -18,8 +18,6 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from tabulate import tabulate
-
 from auditor.design.planner import PlanRequest, best, candidates, needed_sxx, reach_hint
 from auditor.errors import UsageError
 from auditor.policy import Policy, load_policy
@@ -190,6 +188,8 @@ def render(request: PlanRequest, policy: Policy) -> str:
     ]
     headers = ["design", "n", "levels", "x values", "Sxx", "SE(b1)", "CI ±", "power"]
     headers += ["meets target", "meets policy", "notes"]
+    from tabulate import tabulate  # imported here: the audit's start-up does not need it
+
     lines += ["", tabulate(rows, headers=headers, tablefmt="simple", disable_numparse=True), ""]
     pick = best(found)
     if pick is None:

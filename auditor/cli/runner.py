@@ -64,7 +64,6 @@ def _audit_locally(
     memory_limit_gb: float | None,
 ) -> list[Any]:
     from auditor.pipeline.batch import audit_batch
-    from auditor.pipeline.ledger import Ledger, default_ledger_path
     from auditor.pipeline.limits import FileLimits
 
     if changed and not use_ledger:
@@ -73,6 +72,11 @@ def _audit_locally(
     limits = FileLimits(seconds=time_limit or None, memory_bytes=memory)
     ledger = None
     if use_ledger:
+        from auditor.pipeline.ledger import (  # SQLite, imported when used
+            Ledger,
+            default_ledger_path,
+        )
+
         ledger = Ledger(Path(ledger_file) if ledger_file else default_ledger_path())
     try:
         return audit_batch(
@@ -97,7 +101,6 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
     from auditor.policy import load_policy
     from auditor.read.open import assert_safe_xml
     from auditor.report import write_reports
-    from auditor.review.annotate import annotate_copies
     from auditor.review.baseline import apply_baseline, describe_outcome, load_baseline
     from auditor.review.identity import assign_identities, audit_root
     from auditor.review.waivers import apply_waivers, default_waiver_file, load_waivers
@@ -159,7 +162,11 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
             print(line)
     if options.write:
         # Copies first: the Overview lists them, and a refusal stops the run before any write.
-        copies = annotate_copies(result, out_dir, paths) if options.annotate else []
+        copies = []
+        if options.annotate:
+            from auditor.review.annotate import annotate_copies  # openpyxl's writer, when asked
+
+            copies = annotate_copies(result, out_dir, paths)
         write_reports(
             result,
             out_dir,

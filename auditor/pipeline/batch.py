@@ -12,15 +12,17 @@ import time
 import traceback
 from collections.abc import Iterator, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from auditor import __version__
 from auditor.errors import RegauditError
 from auditor.model import WorkbookResult
-from auditor.pipeline.ledger import AuditKey, Ledger, audit_with_ledger, settings_digest
-from auditor.pipeline.limits import Failure, FileLimits, default_jobs, run_limited
+from auditor.pipeline.limits import Failure, FileLimits, default_jobs, run_in_process, run_limited
 from auditor.policy import Policy
 from auditor.read.open import sha256_of
+
+if TYPE_CHECKING:
+    from auditor.pipeline.ledger import Ledger
 
 Task = tuple[str, Policy, list[dict[str, Any]] | None]
 DEFAULT_LIMITS = FileLimits()  # 600 s and 4 GiB per file
@@ -72,6 +74,11 @@ def iter_audits(
             result, seconds = _audit_timed(task)
             yield index, result, seconds, True
         return
+    if len(tasks) == 1:  # one file: no worker to start, no result to send back
+        result, seconds = run_in_process(_audit_timed, tasks[0], limits, _stopped)
+        stopped = seconds < 0
+        yield 0, result, (limits.seconds or 0.0) if stopped else seconds, not stopped
+        return
     workers = default_jobs() if jobs is None else jobs
     for index, (result, seconds) in run_limited(_audit_timed, tasks, workers, limits, _stopped):
         stopped = seconds < 0  # stopped by a limit: not reused, tried again next run
@@ -97,6 +104,12 @@ def audit_batch(
     if ledger is None:
         stream: Iterator[tuple[int, WorkbookResult]] = ((i, r) for i, r, _, _ in audit_many(paths))
     else:
+        from auditor.pipeline.ledger import (  # SQLite, if used
+            AuditKey,
+            audit_with_ledger,
+            settings_digest,
+        )
+
         key = AuditKey(policy.name, settings_digest(policy, bindings), __version__)
         stream = audit_with_ledger(list(paths), audit_many, ledger, key, changed)
     bar = _progress_bar(len(paths)) if progress else None

@@ -13,18 +13,15 @@ file through ``output.atomic_output``, so a failure leaves the previous reports 
 
 from __future__ import annotations
 
+import importlib
 from collections.abc import Iterable, Sequence
 from pathlib import Path
-from typing import BinaryIO, Protocol
+from typing import Any, BinaryIO, Protocol
 
 from auditor.errors import UsageError
 from auditor.model import AuditResult
 from auditor.report.common import AnnotatedCopy
-from auditor.report.json import JsonReporter
 from auditor.report.output import atomic_output, refuse_inputs
-from auditor.report.sarif import SarifReporter
-from auditor.report.text import TextReporter
-from auditor.report.xlsx.workbook import XlsxReporter
 
 
 class Reporter(Protocol):
@@ -35,11 +32,35 @@ class Reporter(Protocol):
     def write(self, result: AuditResult, handle: BinaryIO) -> None: ...
 
 
+class _OnFirstUse:
+    """A reporter whose module (XlsxWriter, tabulate) is imported when it first writes: a run
+    that asks for JSON alone does not pay for the others' imports."""
+
+    def __init__(self, filename: str, module: str, name: str) -> None:
+        self.filename, self.module, self.name = filename, module, name
+
+    def made(self, *args: Any) -> Reporter:
+        made: Reporter = getattr(importlib.import_module(self.module), self.name)(*args)
+        return made
+
+    def write(self, result: AuditResult, handle: BinaryIO) -> None:
+        self.made().write(result, handle)
+
+
+_CLASSES = {
+    "XlsxReporter": ("audit.xlsx", "auditor.report.xlsx.workbook"),
+    "TextReporter": ("summary.txt", "auditor.report.text"),
+    "JsonReporter": ("audit.json", "auditor.report.json"),
+    "SarifReporter": ("audit.sarif", "auditor.report.sarif"),
+}
 REPORTERS: dict[str, Reporter] = {
-    "xlsx": XlsxReporter(),
-    "text": TextReporter(),
-    "json": JsonReporter(),
-    "sarif": SarifReporter(),
+    fmt: _OnFirstUse(*_CLASSES[name], name)
+    for fmt, name in (
+        ("xlsx", "XlsxReporter"),
+        ("text", "TextReporter"),
+        ("json", "JsonReporter"),
+        ("sarif", "SarifReporter"),
+    )
 }
 DEFAULT_FORMATS: tuple[str, ...] = ("xlsx", "text", "json")
 
@@ -71,7 +92,7 @@ def write_reports(
     inputs = audited_files(result) | {Path(source) for source in input_paths}
     out_dir = Path(out_dir)
     chosen = [  # keeps order, drops repeats; the workbook lists the annotated copies
-        XlsxReporter(copies) if name == "xlsx" else REPORTERS[name]
+        _with_copies(REPORTERS[name], copies) if name == "xlsx" else REPORTERS[name]
         for name in dict.fromkeys(formats)
     ]
     # Check every target first, so a refusal does not leave a half-written set of reports.
@@ -85,6 +106,17 @@ def write_reports(
             reporter.write(result, handle)
         written.append(target)
     return written
+
+
+def _with_copies(reporter: Reporter, copies: Sequence[AnnotatedCopy]) -> Reporter:
+    return reporter.made(copies) if isinstance(reporter, _OnFirstUse) else reporter
+
+
+def __getattr__(name: str) -> Any:
+    """The reporter classes stay importable from here, their modules loaded when asked for."""
+    if name in _CLASSES:
+        return getattr(importlib.import_module(_CLASSES[name][1]), name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 __all__ = [
