@@ -47,7 +47,7 @@ def _strip(value: Any) -> Any:
 
 def audit_documents(paths: list[Path]) -> dict[str, Any]:
     from auditor.report.json import audit_document
-    from auditor.runner import run_audit
+    from auditor.cli.runner import run_audit
 
     documents: dict[str, Any] = {}
     with tempfile.TemporaryDirectory() as scratch:
