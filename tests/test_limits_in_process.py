@@ -5,7 +5,7 @@ from __future__ import annotations
 import resource
 import time
 
-from auditor.limits import Failure, FileLimits, run_in_process
+from auditor.pipeline.limits import Failure, FileLimits, run_in_process
 
 
 def _sleep_forever(task: str) -> str:
