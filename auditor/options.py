@@ -27,3 +27,4 @@ class RunOptions:
     use_ledger: bool = True
     time_limit: float | None = 600.0  # seconds per file
     memory_limit_gb: float | None = 4.0  # per worker
+    detail: str = "findings"  # detail sheets in audit.xlsx: "findings" (with a finding) or "all"

@@ -46,7 +46,7 @@ def fixture_audit() -> AuditResult:
 
 def xlsx_bytes(result: AuditResult, reporter: XlsxReporter | None = None) -> bytes:
     handle = io.BytesIO()
-    (reporter or XlsxReporter()).write(result, handle)
+    (reporter or XlsxReporter(detail="all")).write(result, handle)  # every detail sheet
     return handle.getvalue()
 
 

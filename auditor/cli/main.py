@@ -92,6 +92,7 @@ def cmd_audit(args: argparse.Namespace) -> int:
         use_ledger=not args.no_ledger,
         time_limit=args.time_limit,
         memory_limit_gb=args.memory_limit,
+        detail=args.detail,
     )
     result = run_audit(args.paths, Path(args.out), options)
     _print_outcome(result, Path(args.out), formats)
@@ -257,6 +258,12 @@ def build_parser() -> argparse.ArgumentParser:
         "~/.local/state/regaudit/ledger.sqlite)",
     )
     audit.add_argument("--no-ledger", action="store_true", help="record nothing in the ledger")
+    audit.add_argument(
+        "--detail",
+        default="findings",
+        choices=("findings", "all"),
+        help="detail sheets in audit.xlsx: for each regression with a finding (default), or all",
+    )
     audit.add_argument(
         "--time-limit",
         type=float,

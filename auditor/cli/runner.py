@@ -173,6 +173,7 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
             list(options.formats),
             input_paths=[Path(p) for p in paths],
             copies=copies,
+            detail=options.detail,
         )
         for copy in copies:
             if copy.error:

@@ -78,12 +78,14 @@ def write_reports(
     formats: Sequence[str] = DEFAULT_FORMATS,
     input_paths: Iterable[Path | str] = (),
     copies: Sequence[AnnotatedCopy] = (),
+    detail: str = "findings",
 ) -> list[Path]:
     """Write one file per format into ``out_dir`` (created if missing); return their paths.
 
     No report is written onto ``input_paths`` (the files the CLI collected) nor onto any
     workbook or input file named in ``result``.
-    Unknown formats raise UsageError before any file is written.
+    Unknown formats raise UsageError before any file is written. ``detail`` is "findings" (a
+    detail sheet in audit.xlsx for each regression with a finding) or "all" (one each).
     """
     unknown = [name for name in formats if name not in REPORTERS]
     if unknown:
@@ -92,7 +94,7 @@ def write_reports(
     inputs = audited_files(result) | {Path(source) for source in input_paths}
     out_dir = Path(out_dir)
     chosen = [  # keeps order, drops repeats; the workbook lists the annotated copies
-        _with_copies(REPORTERS[name], copies) if name == "xlsx" else REPORTERS[name]
+        _with_copies(REPORTERS[name], copies, detail) if name == "xlsx" else REPORTERS[name]
         for name in dict.fromkeys(formats)
     ]
     # Check every target first, so a refusal does not leave a half-written set of reports.
@@ -108,8 +110,9 @@ def write_reports(
     return written
 
 
-def _with_copies(reporter: Reporter, copies: Sequence[AnnotatedCopy]) -> Reporter:
-    return reporter.made(copies) if isinstance(reporter, _OnFirstUse) else reporter
+def _with_copies(reporter: Reporter, copies: Sequence[AnnotatedCopy], detail: str) -> Reporter:
+    """The workbook reporter made for this run: the copies it lists, the detail sheets it has."""
+    return reporter.made(copies, detail) if isinstance(reporter, _OnFirstUse) else reporter
 
 
 def __getattr__(name: str) -> Any:

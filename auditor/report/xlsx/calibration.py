@@ -31,7 +31,10 @@ def curves_sheet(
     for row, ref in enumerate(curves, start=1):
         summary = ref.regression.calibration
         out.put(row, 0, shown.get(ref.workbook.path, ref.workbook.path), styles.top)
-        out.link(row, 1, internal_link(ref.sheet), ref.sheet)
+        if ref.detailed:
+            out.link(row, 1, internal_link(ref.sheet), ref.sheet)
+        else:
+            out.put(row, 1, "none (no finding)", styles.top)
         for col, (key, _) in enumerate(RUN_COLUMNS, start=2):
             value = str(summary.get(key, "—"))
             style = styles.for_verdict("mismatch") if value.startswith("fail") else styles.top

@@ -27,6 +27,7 @@ class DetailRef:
     workbook: WorkbookResult
     regression: RegressionResult
     sheet: str
+    detailed: bool = True  # False: no detail sheet is written (no finding, default --detail)
 
 
 def detail_sheet_name(index: int, width: int, regression_id: str) -> str:
@@ -36,12 +37,24 @@ def detail_sheet_name(index: int, width: int, regression_id: str) -> str:
     return f"R{index:0{width}d} {cleaned}"[:SHEET_NAME_LIMIT].rstrip()
 
 
-def detail_refs(result: AuditResult) -> list[DetailRef]:
-    """Every regression in reading order, each with its detail sheet's name."""
+DETAIL_CHOICES = ("findings", "all")  # which regressions get a detail sheet (--detail)
+
+
+def detail_refs(result: AuditResult, detail: str = "all") -> list[DetailRef]:
+    """Every regression in reading order, each with its detail sheet's name; with ``detail``
+    "findings" only those with a finding are ``detailed`` (the numbers stay those of "all", so
+    R07 is the seventh row of the Regressions sheet either way)."""
+    if detail not in DETAIL_CHOICES:
+        raise ValueError(f"detail must be one of {DETAIL_CHOICES}, got {detail!r}")
     pairs = [(w, r) for w in result.workbooks for r in w.regressions]
     width = max(2, len(str(len(pairs))))
     return [
-        DetailRef(workbook, regression, detail_sheet_name(index, width, regression.id))
+        DetailRef(
+            workbook,
+            regression,
+            detail_sheet_name(index, width, regression.id),
+            detail == "all" or bool(regression.findings),
+        )
         for index, (workbook, regression) in enumerate(pairs, start=1)
     ]
 

@@ -141,7 +141,10 @@ def regressions_sheet(
         out.put(row, 0, shown.get(ref.workbook.path, ref.workbook.path), styles.top)
         out.put(row, 1, regression.sheet, styles.top)
         out.put(row, 2, regression.id, styles.top)
-        out.link(row, 3, internal_link(ref.sheet), ref.sheet)
+        if ref.detailed:
+            out.link(row, 3, internal_link(ref.sheet), ref.sheet)
+        else:
+            out.put(row, 3, "none (no finding)", styles.top)
         out.source(row, 4, ref.workbook.path, anchor_cell(regression))
         for col, value in enumerate(
             (regression.x_range, regression.y_range, regression.found_by), start=5

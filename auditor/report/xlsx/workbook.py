@@ -5,8 +5,8 @@ Sheets, in order:
     Overview       what was audited, the counts, unreadable files, legends, the caution
     Regressions    one row per regression (an Excel table) linked to its detail sheet and source
     Findings       one row per finding, most severe first (an Excel table)
-    R01 …, R02 …   one detail sheet per regression: statistics, live formulas, design, findings,
-                   the data snapshot and two native charts
+    R01 …, R02 …   one detail sheet per regression with a finding (each with ``detail="all"``):
+                   statistics, live formulas, design, findings, the data snapshot, two charts
 
 The file is reproducible: the same result gives the same bytes. XlsxWriter stamps the document
 with the current time unless told otherwise, so the creation date comes from ``result.generated``;
@@ -58,8 +58,9 @@ class XlsxReporter:
 
     filename = "audit.xlsx"
 
-    def __init__(self, copies: Sequence[AnnotatedCopy] = ()) -> None:
+    def __init__(self, copies: Sequence[AnnotatedCopy] = (), detail: str = "findings") -> None:
         self.copies = tuple(copies)
+        self.detail = detail  # "findings": a detail sheet per regression with a finding; "all"
 
     def write(self, result: AuditResult, handle: BinaryIO) -> None:
         book = Workbook(handle, {"constant_memory": False, "in_memory": True})
@@ -75,12 +76,13 @@ class XlsxReporter:
         # reviewer who recalculates sees the spreadsheet's own results beside regaudit's.
         book.set_calc_mode("auto")
         styles = Styles(book)
-        refs = detail_refs(result)
-        overview_sheet(book, result, styles, refs, self.copies)
+        refs = detail_refs(result, self.detail)
+        detailed = [ref for ref in refs if ref.detailed]
+        overview_sheet(book, result, styles, detailed, self.copies)
         regressions_sheet(book, result, styles, refs)
-        findings_sheet(book, result, styles, refs)
+        findings_sheet(book, result, styles, detailed)
         curves_sheet(book, result, styles, refs)  # only when some curve is a calibration
-        for ref in refs:
+        for ref in detailed:
             detail_sheet(book, styles, ref)
         book.close()
 
