@@ -54,10 +54,22 @@ def _audit_timed(args: Task) -> tuple[WorkbookResult, float]:
     return result, time.perf_counter() - started
 
 
+def _audit_recorded(args: Task) -> tuple[WorkbookResult, float, str | None]:
+    """The audit and, made here in the worker rather than in the parent, its ledger record."""
+    from auditor.pipeline.resultjson import dumps
+
+    result, seconds = _audit_timed(args)
+    return result, seconds, dumps(result)
+
+
 def _stopped(args: Task, failure: Failure) -> tuple[WorkbookResult, float]:
     path = Path(args[0])
     digest = sha256_of(path) if path.is_file() else ""
     return WorkbookResult(str(path), digest, "unreadable", error=failure.reason), -1.0
+
+
+def _stopped_recorded(args: Task, failure: Failure) -> tuple[WorkbookResult, float, str | None]:
+    return (*_stopped(args, failure), None)
 
 
 def iter_audits(
@@ -66,23 +78,27 @@ def iter_audits(
     bindings: list[dict[str, Any]] | None = None,
     jobs: int | None = None,
     limits: FileLimits = DEFAULT_LIMITS,
-) -> Iterator[tuple[int, WorkbookResult, float, bool]]:
-    """(index, result, seconds, reusable) as files finish; jobs=0 runs in-process, no limits."""
+    records: bool = False,
+) -> Iterator[tuple[Any, ...]]:
+    """(index, result, seconds, reusable) as files finish; jobs=0 runs in-process, no limits.
+    With ``records`` each tuple ends with the result's ledger record, made by the worker."""
     tasks: list[Task] = [(str(p), policy, bindings) for p in paths]
+    work = _audit_recorded if records else _audit_timed
+    stopped_work = _stopped_recorded if records else _stopped
     if jobs == 0:
         for index, task in enumerate(tasks):
-            result, seconds = _audit_timed(task)
-            yield index, result, seconds, True
+            result, seconds, *record = work(task)
+            yield index, result, seconds, True, *record
         return
     if len(tasks) == 1:  # one file: no worker to start, no result to send back
-        result, seconds = run_in_process(_audit_timed, tasks[0], limits, _stopped)
-        stopped = seconds < 0
-        yield 0, result, (limits.seconds or 0.0) if stopped else seconds, not stopped
-        return
-    workers = default_jobs() if jobs is None else jobs
-    for index, (result, seconds) in run_limited(_audit_timed, tasks, workers, limits, _stopped):
+        outcome: tuple[Any, ...] = run_in_process(work, tasks[0], limits, stopped_work)
+        outcomes: Iterator[tuple[int, tuple[Any, ...]]] = iter([(0, outcome)])
+    else:
+        workers = default_jobs() if jobs is None else jobs
+        outcomes = run_limited(work, tasks, workers, limits, stopped_work)
+    for index, (result, seconds, *record) in outcomes:
         stopped = seconds < 0  # stopped by a limit: not reused, tried again next run
-        yield index, result, (limits.seconds or 0.0) if stopped else seconds, not stopped
+        yield index, result, (limits.seconds or 0.0) if stopped else seconds, not stopped, *record
 
 
 def audit_batch(
@@ -98,11 +114,11 @@ def audit_batch(
 ) -> list[WorkbookResult]:
     """Results in the order of ``paths``."""
 
-    def audit_many(subset: Sequence[Path]) -> Iterator[tuple[int, WorkbookResult, float, bool]]:
-        return iter_audits(subset, policy, bindings, jobs, limits)
+    def audit_many(subset: Sequence[Path]) -> Iterator[tuple[Any, ...]]:
+        return iter_audits(subset, policy, bindings, jobs, limits, records=ledger is not None)
 
     if ledger is None:
-        stream: Iterator[tuple[int, WorkbookResult]] = ((i, r) for i, r, _, _ in audit_many(paths))
+        stream: Iterator[tuple[int, WorkbookResult]] = ((i, r) for i, r, *_ in audit_many(paths))
     else:
         from auditor.pipeline.ledger import (  # SQLite, if used
             AuditKey,

@@ -167,9 +167,12 @@ class Ledger:
         result: WorkbookResult,
         seconds: float,
         reusable: bool = True,
+        payload: str | None = None,
     ) -> None:
-        """Store one file's result; committed before this returns."""
-        payload = resultjson.dumps(result)
+        """Store one file's result (``payload``: its JSON, when a worker made it already);
+        committed before this returns."""
+        if payload is None:
+            payload = resultjson.dumps(result)
         with self._transaction():
             self.db.execute(
                 "INSERT INTO audits (run, path, sha256, size, audited_at, seconds, policy,"
@@ -241,7 +244,8 @@ def file_identity(path: Path) -> tuple[str, int] | None:
         return None
 
 
-AuditMany = Callable[[list[Path]], Iterable[tuple[int, WorkbookResult, float, bool]]]
+# (index, result, seconds, reusable), optionally followed by the result's JSON for the ledger
+AuditMany = Callable[[list[Path]], Iterable[tuple[Any, ...]]]
 
 
 def audit_with_ledger(
@@ -250,7 +254,8 @@ def audit_with_ledger(
     """Yield ``(index, result)`` for every path: stored results first when ``changed`` and the
     content is known, then fresh audits from ``audit_many`` as they finish, each recorded.
 
-    ``audit_many(subset)`` yields ``(index into subset, result, seconds, reusable)``; a result
+    ``audit_many(subset)`` yields ``(index into subset, result, seconds, reusable)``, and may add
+    the result's JSON as a fifth item (made by the worker, so the parent only stores it); a result
     stopped by a time or memory limit should come with ``reusable`` False, so a later run tries
     it again."""
     identities = [file_identity(path) for path in paths]
@@ -264,10 +269,11 @@ def audit_with_ledger(
             continue
         reused += 1
         yield index, dataclasses.replace(stored, path=str(path))
-    for sub_index, result, seconds, reusable in audit_many([paths[i] for i in todo]):
+    for sub_index, result, seconds, reusable, *made in audit_many([paths[i] for i in todo]):
         index = todo[sub_index]
         identity = identities[index]
         if identity is not None:
-            ledger.record(run, paths[index], identity, key, result, seconds, reusable)
+            payload = made[0] if made else None
+            ledger.record(run, paths[index], identity, key, result, seconds, reusable, payload)
         yield index, result
     ledger.finish_run(run, reused)

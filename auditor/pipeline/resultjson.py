@@ -1,6 +1,8 @@
-"""The result model as JSON and back, for the ledger: ``dataclasses.asdict`` one way, and a
-rebuild guided by the dataclasses' own type hints the other, so that fields added to the model
-later need no change here (a stored result simply lacks them and they take their defaults)."""
+"""The result model as JSON and back, for the ledger: the dataclasses' fields one way (a table
+of rows for a list of data points), and a rebuild guided by the dataclasses' own type hints the
+other (which also reads the one-object-per-point form that earlier versions stored), so that
+fields added to the model later need no change here (a stored result simply lacks them and they
+take their defaults)."""
 
 from __future__ import annotations
 
@@ -15,7 +17,50 @@ from auditor.model import WorkbookResult
 
 
 def dumps(result: WorkbookResult) -> str:
-    return json.dumps(dataclasses.asdict(result), separators=(",", ":"), default=_json_default)
+    """Compact JSON: dataclasses as objects, except lists of one dataclass (the data points, one
+    per row of a table) which become ``{"fields": [names], "rows": [[values], …]}``, so a name is
+    stored once per table rather than once per row. Values are taken as they are, not copied:
+    ``dataclasses.asdict`` deep-copies every one, several times the cost of the encoding."""
+    return json.dumps(_plain(result), separators=(",", ":"), default=_json_default)
+
+
+_SCALARS = (str, int, float, bool, type(None))
+
+
+@functools.cache
+def _field_names(cls: type) -> tuple[str, ...]:
+    return tuple(item.name for item in dataclasses.fields(cls))
+
+
+def _plain(value: Any) -> Any:
+    if isinstance(value, _SCALARS):
+        return value
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {name: _field(getattr(value, name)) for name in _field_names(type(value))}
+    if isinstance(value, (list, tuple)):
+        return [_plain(item) for item in value]
+    if isinstance(value, dict):
+        return {key: _plain(item) for key, item in value.items()}
+    return value  # numpy scalars and the like: json's default turns them into numbers
+
+
+def _field(value: Any) -> Any:
+    """A dataclass field's value; a list of a slotted dataclass (the model's records made by
+    the thousand, such as DataPoint) as a table, rebuilt by the field's type hint."""
+    if isinstance(value, list) and len(value) > 1 and dataclasses.is_dataclass(value[0]):
+        kind = type(value[0])
+        if hasattr(kind, "__slots__") and all(type(item) is kind for item in value):
+            return _table(kind, value)
+    return _plain(value)
+
+
+def _table(kind: type, items: Any) -> dict[str, Any]:
+    names = _field_names(kind)
+    rows = []
+    for item in items:
+        row = [getattr(item, name) for name in names]
+        rows.append([v if isinstance(v, _SCALARS) else _plain(v) for v in row])
+    return {"fields": list(names), "rows": rows}
 
 
 def loads(text: str) -> WorkbookResult:
@@ -57,6 +102,10 @@ def _convert(hint: Any, value: Any) -> Any:
         return value
     if dataclasses.is_dataclass(hint) and isinstance(value, dict):
         return _build(hint, value)
+    if origin is list and isinstance(value, dict) and "fields" in value and "rows" in value:
+        (item_hint,) = typing.get_args(hint) or (Any,)
+        names = value["fields"]
+        return [_convert(item_hint, dict(zip(names, row, strict=True))) for row in value["rows"]]
     if origin is list and isinstance(value, list):
         (item_hint,) = typing.get_args(hint) or (Any,)
         return [_convert(item_hint, item) for item in value]
