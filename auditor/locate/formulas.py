@@ -6,7 +6,7 @@ import re
 from typing import Any
 
 from auditor.errors import FormulaError
-from auditor.formula.syntax import Binary, Call, Node, RefNode, parse, references, walk
+from auditor.formula.syntax import Binary, Call, Node, Ref, RefNode, parse, references, walk
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
 from auditor.locate.roles import (
     linest_block_role,
@@ -27,6 +27,8 @@ from auditor.locate.spec import (
 from auditor.model import STAT_KEYS, stat_base
 from auditor.read.workbook import Cell, Workbook
 
+Key = tuple[str, int, int]  # a formula cell: (sheet, row, column)
+
 
 class FormulaLocator:
     """Parses every formula once and finds regressions from the calls that name their data."""
@@ -34,8 +36,11 @@ class FormulaLocator:
     def __init__(self, workbook: Workbook, bindings: list[dict[str, Any]] | None = None):
         self.workbook = workbook
         self.bindings = bindings or []
-        self.parsed: dict[tuple[str, int, int], Node] = {}
+        self.parsed: dict[Key, Node] = {}
         self.parse_errors: list[tuple[Cell, str]] = []
+        self._refs_by_key: dict[Key, list[Ref]] = {}
+        self._readers: dict[tuple[str, int, int], set[Key]] | None = None
+        self._wide: set[Key] = set()
         for cell in workbook.formula_cells():
             try:
                 self.parsed[(cell.sheet, cell.row, cell.col)] = parse(
@@ -243,22 +248,58 @@ class FormulaLocator:
                     return "t_" + base
         return label_role
 
+    def _reverse_index(self) -> tuple[dict[tuple[str, int, int], set[Key]], set[Key]]:
+        """Which formulas read each cell (within the window ``_refs_roles`` looks at), built
+        once: following dependents then looks up readers instead of rescanning every formula.
+        A reference too wide to list cell by cell puts its formula among those always tried."""
+        if self._readers is None:
+            readers: dict[tuple[str, int, int], set[Key]] = {}
+            wide: set[Key] = set()
+            for key, node in self.parsed.items():
+                refs = self._refs_by_key.setdefault(key, references(node))
+                for ref in refs:
+                    rows = min(ref.r2, ref.r1 + 10) - ref.r1 + 1
+                    if rows * (ref.c2 - ref.c1 + 1) > 4096:
+                        wide.add(key)
+                        continue
+                    sheet = ref.sheet.lower()
+                    for r in range(ref.r1, ref.r1 + rows):
+                        for c in range(ref.c1, ref.c2 + 1):
+                            readers.setdefault((sheet, r, c), set()).add(key)
+            self._readers, self._wide = readers, wide
+        return self._readers, self._wide
+
+    def _stat_readers(self, spec: RegressionSpec) -> set[Key]:
+        readers, wide = self._reverse_index()
+        found = set(wide)
+        for address in self._stat_addresses(spec):
+            found |= readers.get(address, set())
+        return found
+
     def _follow_dependents(self, spec: RegressionSpec) -> None:
         data = [spec.x, spec.y]  # not the stray calls' ranges: those belong to a neighbour
         taken = {(s.cell.sheet, s.cell.row, s.cell.col) for s in spec.stats.values()}
         taken |= {(u.cell.sheet, u.cell.row, u.cell.col) for u in spec.uses}
+        self._reverse_index()
+        sheets = {spec.sheet.lower(), spec.x.sheet.lower()}
+        data_readers = {
+            key
+            for key, refs in self._refs_by_key.items()
+            if key[0].lower() in sheets and any(overlaps(ref, d) for ref in refs for d in data)
+        }
         for _ in range(MAX_FOLLOW_ROUNDS):
             added = False
+            stat_readers = self._stat_readers(spec)
             for key, node in self.parsed.items():
                 if key in taken or key in self.anchor_cells:
                     continue  # another regression's own call is never a dependent of this one
+                if key not in stat_readers and key not in data_readers:
+                    continue  # reads neither the statistics nor the data
                 cell = self.workbook.cell(*key)
                 if cell is None:
                     continue
                 touches_stats = bool(self._refs_roles(spec, node))
-                touches_data = any(
-                    overlaps(ref, d) for ref in references(node) for d in data
-                ) and key[0].lower() in {spec.sheet.lower(), spec.x.sheet.lower()}
+                touches_data = key in data_readers
                 if not (touches_stats or touches_data):
                     continue
                 if touches_data and not touches_stats and not self._near(spec, cell):
@@ -277,6 +318,7 @@ class FormulaLocator:
                     # built by hand are unambiguous shapes
                 if role:
                     self._put(spec, role, StatCell(role, cell, "formula"))
+                    stat_readers = self._stat_readers(spec)
                     added = True
             if not added:
                 break
