@@ -107,7 +107,34 @@ def _severity(context: WorkbookContext, member: Member) -> Severity:
     return severity_in_result(member.block.result, reached)
 
 
-def _points_back(member: Member, group: list[Block]) -> tuple[Reference, Block] | None:
+class _Owners:
+    """The blocks of a sibling group indexed by the sheet of their data and of their results, so
+    that finding which sibling a reference points into does not try every block for every
+    reference of every member (quadratic in the number of blocks)."""
+
+    def __init__(self, group: list[Block]) -> None:
+        self.order = {id(block): index for index, block in enumerate(group)}
+        self.data: dict[str, list[Block]] = {}
+        self.results: dict[str, list[tuple[int, int, Block]]] = {}
+        for block in group:
+            self.data.setdefault(block.data_sheet.lower(), []).append(block)
+            for stat in block.spec.stats.values():
+                cell = stat.cell
+                self.results.setdefault(cell.sheet.lower(), []).append((cell.row, cell.col, block))
+
+    def first_other(self, own: Block, box: tuple[str, int, int, int, int]) -> Block | None:
+        """The first block of the group, other than ``own``, owning data or results in box."""
+        sheet, r1, c1, r2, c2 = box
+        found = [b for b in self.data.get(sheet.lower(), []) if b is not own and b.owns_data(*box)]
+        found += [
+            block
+            for row, col, block in self.results.get(sheet.lower(), [])
+            if block is not own and r1 <= row <= r2 and c1 <= col <= c2
+        ]
+        return min(found, key=lambda block: self.order[id(block)]) if found else None
+
+
+def _points_back(member: Member, owners: _Owners) -> tuple[Reference, Block] | None:
     """The first reference of the member's formula into another sibling's data or results."""
     own = member.block
     for ref in member.references():
@@ -117,9 +144,9 @@ def _points_back(member: Member, group: list[Block]) -> tuple[Reference, Block] 
         box = (target.sheet, target.r1, target.c1, target.r2, target.c2)
         if own.owns_data(*box) or own.owns_result(*box):
             continue
-        for other in group:
-            if other is not own and (other.owns_data(*box) or other.owns_result(*box)):
-                return ref, other
+        other = owners.first_other(own, box)
+        if other is not None:
+            return ref, other
     return None
 
 
@@ -151,9 +178,10 @@ def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
     for group in sibling_groups(blocks_of(context.specs, context.results)):
         reported: set[str] = set()
         members = _members(group, covered, _names(context))
+        owners = _Owners(group)
         for position_members in members.values():
             for member in position_members:
-                back = _points_back(member, group)
+                back = _points_back(member, owners)
                 if back is None:
                     continue
                 ref, other = back

@@ -8,6 +8,7 @@ where it is the intersection operator. The binding powers the parser uses live h
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 
@@ -61,9 +62,16 @@ TOKENIZER_FAILURES = (TokenizerError, IndexError, AssertionError, KeyError, Valu
 def tokenize(formula: str) -> list[Token]:
     """openpyxl's tokens of ``formula`` ('=' added when missing); FormulaError when it cannot
     read the text. The one place the tokenizer is called."""
+    return list(_tokenized(formula))
+
+
+@lru_cache(maxsize=16384)
+def _tokenized(formula: str) -> tuple[Token, ...]:
+    """Kept per formula text: the locator, the evaluator and the checks read the same few
+    formulas again and again (each block's cells, once per check). Callers only read tokens."""
     text = formula if formula.startswith("=") else "=" + formula
     try:
-        return list(Tokenizer(text).items)
+        return tuple(Tokenizer(text).items)
     except TOKENIZER_FAILURES as exc:
         raise FormulaError(f"cannot parse formula {formula!r}: {exc}") from exc
 
