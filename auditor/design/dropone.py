@@ -88,19 +88,21 @@ def drop_one(
         return None
     slope, _, _, p = leave_one_out(x, fit)
     h = fit.leverage
-    undefined = [rows[i] for i in range(x.size) if h[i] >= 1.0 - LEVERAGE_ONE]
+    undefined = [rows[i] for i in np.flatnonzero(h >= 1.0 - LEVERAGE_ONE).tolist()]
     finite_p = np.isfinite(p)
     finite_b = np.isfinite(slope)
     full_p = float(fit.p_slopes[0])
     b1 = float(fit.slopes[0])
     significant = full_p < alpha
-    crossing = [i for i in range(x.size) if finite_p[i] and (p[i] < alpha) != significant]
+    with np.errstate(invalid="ignore"):
+        crossing = np.flatnonzero(finite_p & ((p < alpha) != significant)).tolist()
     crossing_row: int | None = None
     crossing_p: float | None = None
     if crossing:
         pick = max(crossing, key=lambda i: abs(math.log10(max(float(p[i]), 1e-300) / alpha)))
         crossing_row, crossing_p = rows[pick], float(p[pick])
-    flips = [i for i in range(x.size) if finite_b[i] and slope[i] * b1 < 0.0]
+    with np.errstate(invalid="ignore"):
+        flips = np.flatnonzero(finite_b & (slope * b1 < 0.0)).tolist()
     flip_row = rows[max(flips, key=lambda i: abs(slope[i]))] if flips else None
     return DropOne(
         slope_min=float(np.min(slope[finite_b])) if finite_b.any() else None,

@@ -14,7 +14,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from numpy.typing import ArrayLike
+from numpy.typing import ArrayLike, NDArray
 
 from auditor.fit.distributions import f_sf
 
@@ -52,15 +52,41 @@ def designed_replicates(x: ArrayLike) -> bool:
     repeated), are coincidences: their "pure error" says nothing about the line, so no
     lack-of-fit test is made on them.
     """
-    groups = level_groups(x)
-    if not groups:
+    counted = level_counts(x)  # one sort; level_groups only for x with a NaN or an infinity
+    sizes = (
+        counted[1].tolist() if counted is not None else [len(g) for g in level_groups(x).values()]
+    )
+    if not sizes:
         return False
-    sizes = [len(rows) for rows in groups.values()]
     replicated = sum(1 for size in sizes if size >= 2)
     balanced = max(sizes) <= 3 * min(sizes)  # a plan repeats levels alike; rounding does not
     if 2 * replicated >= len(sizes) and replicated >= 1 and balanced:
         return True
     return len(sizes) <= 10 and max(sizes) >= 3
+
+
+def level_counts(x: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.int64]] | None:
+    """The distinct x values in increasing order and how often each occurs, in one sort; None
+    when x holds a NaN or an infinity (np.unique would count every NaN as one level, where
+    :func:`level_groups` counts each apart)."""
+    values = np.asarray(x, dtype=np.float64)
+    if not np.isfinite(values).all():
+        return None
+    distinct, counts = np.unique(values, return_counts=True)
+    return distinct, counts
+
+
+def _replicated_groups(x: NDArray[np.float64]) -> tuple[int, list[NDArray[np.intp]]] | None:
+    """The number of levels and the row indices of each level that occurs more than once."""
+    if not np.isfinite(x).all():
+        return None
+    _, inverse, counts = np.unique(x, return_inverse=True, return_counts=True)
+    repeated = np.flatnonzero(counts[inverse] > 1)
+    if repeated.size == 0:
+        return int(counts.size), []
+    order = repeated[np.argsort(inverse[repeated], kind="stable")]
+    bounds = np.flatnonzero(np.diff(inverse[order])) + 1
+    return int(counts.size), np.split(order, bounds)
 
 
 def lack_of_fit(
@@ -69,15 +95,21 @@ def lack_of_fit(
     """The test for a fitted line with residual SS ``ss_residual``; None when it cannot be made
     (no replicates, or no more levels than the line has parameters)."""
     y_values = np.asarray(y, dtype=np.float64)
-    groups = level_groups(x)
+    found = _replicated_groups(np.asarray(x, dtype=np.float64))
+    if found is None:
+        groups = list(level_groups(x).values())
+        levels = len(groups)
+    else:
+        # A level seen once adds a deviation of exactly 0 to the pure error: only replicated
+        # levels need summing, and math.fsum is exact, so the order of the pieces is immaterial.
+        levels, groups = found[0], [rows.tolist() for rows in found[1]]
     parameters = 2 if intercept else 1
-    levels = len(groups)
     df_pure_error = y_values.size - levels
     df_lack_of_fit = levels - parameters
     if df_pure_error < 1 or df_lack_of_fit < 1 or not math.isfinite(ss_residual):
         return None
-    pieces = []
-    for rows in groups.values():
+    pieces: list[float] = []
+    for rows in groups:
         members = y_values[rows]
         mean = math.fsum(members) / members.size
         pieces.extend((members - mean).tolist())

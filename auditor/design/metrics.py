@@ -24,7 +24,13 @@ from scipy import stats as distributions
 
 from auditor.design.dropone import DropOne, drop_one, leave_one_out
 from auditor.design.inputs import DesignInputs, Prediction
-from auditor.design.lackfit import LackOfFit, designed_replicates, lack_of_fit, level_groups
+from auditor.design.lackfit import (
+    LackOfFit,
+    designed_replicates,
+    lack_of_fit,
+    level_counts,
+    level_groups,
+)
 from auditor.design.power import (
     min_detectable_slope,
     slope_power,
@@ -143,7 +149,10 @@ def compute_design(
 ) -> DesignMetrics:
     """Every design metric of one regression (see the module docstring)."""
     n = data.n
-    levels = len({tuple(row) for row in data.x.tolist()})
+    if data.x.size and np.isfinite(data.x).all():
+        levels = len(np.unique(data.x, axis=0))  # one sort, not a set of n tuples
+    else:
+        levels = len({tuple(row) for row in data.x.tolist()})
     rows = _used_rows(data)
     metrics = DesignMetrics(n=n, levels=levels, simple=False)
     if len(fit.leverage) == n and n:
@@ -153,14 +162,19 @@ def compute_design(
     if data.x.shape[1] != 1 or n == 0:
         return metrics
     x, y = data.x[:, 0], data.y
-    groups = level_groups(x)
-    counts = [len(g) for g in groups.values()]
+    counted = level_counts(x)
+    if counted is None:
+        groups = level_groups(x)
+        distinct = np.array(sorted(groups))
+        counts = [len(g) for g in groups.values()]
+    else:
+        distinct, counts_array = counted
+        counts = counts_array.tolist()
     metrics.replicated_levels = sum(1 for c in counts if c > 1)
     metrics.max_replicates = max(counts)
     metrics.x_min, metrics.x_max = float(x.min()), float(x.max())
     metrics.x_mean = float(fit.x_mean) if math.isfinite(fit.x_mean) else float(np.mean(x))
     metrics.sxx = float(fit.sxx) if math.isfinite(fit.sxx) else None
-    distinct = np.array(sorted(groups))
     if distinct.size >= 3:
         gaps = np.diff(distinct)
         metrics.spacing_evenness = float(gaps.min() / gaps.max())
