@@ -22,9 +22,12 @@ def from_labels(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec
     """A typed number beside "Slope" with a two-column numeric table to its left."""
     specs = []
     for sheet in locator.workbook.sheets.values():
-        for cell in sorted(sheet.cells.values(), key=lambda c: (c.row, c.col)):
-            if not isinstance(cell.value, str) or role_from_label(cell.value) != "slope":
-                continue
+        labels = [
+            cell
+            for cell in sheet.cells.values()
+            if isinstance(cell.value, str) and role_from_label(cell.value) == "slope"
+        ]  # the few "Slope" labels, in reading order: not a sort of every cell
+        for cell in sorted(labels, key=lambda c: (c.row, c.col)):
             target = sheet.get(cell.row, cell.col + 1)
             if (
                 target is None
