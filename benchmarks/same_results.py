@@ -46,8 +46,8 @@ def _strip(value: Any) -> Any:
 
 
 def audit_documents(paths: list[Path]) -> dict[str, Any]:
-    from auditor.report.json import audit_document
     from auditor.cli.runner import run_audit
+    from auditor.report.json import audit_document
 
     documents: dict[str, Any] = {}
     with tempfile.TemporaryDirectory() as scratch:

@@ -33,8 +33,9 @@ import json, resource, subprocess, sys, time
 started = time.perf_counter()
 subprocess.run(sys.argv[1:], check=True, stdout=subprocess.DEVNULL)
 seconds = time.perf_counter() - started
-peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
-print(json.dumps({"seconds": seconds, "peak_mb": peak}))
+usage = resource.getrusage(resource.RUSAGE_CHILDREN)
+cpu = usage.ru_utime + usage.ru_stime
+print(json.dumps({"seconds": seconds, "peak_mb": usage.ru_maxrss / 1024, "cpu": cpu}))
 """
 
 
@@ -84,14 +85,24 @@ def _ratio(top: float | None, bottom: float | None) -> str:
 def ratio_runs(
     paths: list[Path], repeat: int, timeout: float, scratch: Path
 ) -> dict[str, float | None]:
-    """Medians of the reading pass, the default run and the JSON-only run, alternated."""
+    """Medians of the reading pass, the default run and the JSON-only run, alternated: wall
+    time under the names, CPU time (user + system, less moved by other load) under "… cpu"."""
     samples: dict[str, list[dict[str, float] | None]] = {"raw": [], "default": [], "json": []}
     for index in range(repeat):
         out = scratch / f"run{index}"
         samples["raw"].append(measure(raw_argv(paths), timeout))
         samples["default"].append(measure(audit_argv(paths, out / "d", False), timeout))
         samples["json"].append(measure(audit_argv(paths, out / "j", True), timeout))
-    return {name: _median(values) for name, values in samples.items()}
+    medians = {name: _median(values) for name, values in samples.items()}
+    medians |= {f"{name} cpu": _median(values, "cpu") for name, values in samples.items()}
+    return medians
+
+
+def _both(got: dict[str, float | None], name: str) -> tuple[str, str]:
+    """ "wall / cpu" time and ratio to the reading pass of the run ``name``."""
+    time_text = f"{_fmt(got[name])} / {_fmt(got[name + ' cpu'])} cpu"
+    ratio = f"{_ratio(got[name], got['raw'])} / {_ratio(got[name + ' cpu'], got['raw cpu'])} cpu"
+    return time_text, ratio
 
 
 def print_targets(folder: Path, repeat: int, timeout: float, skip_huge: bool) -> None:
@@ -104,34 +115,19 @@ def print_targets(folder: Path, repeat: int, timeout: float, skip_huge: bool) ->
     with tempfile.TemporaryDirectory() as scratch_name:
         scratch = Path(scratch_name)
         got = ratio_runs(batch20, repeat, timeout, scratch / "b20")
-        rows.append(
-            (
-                "20 workbooks × 10 sheets × 500 rows, reading pass",
-                _fmt(got["raw"]),
-                "",
-                "",
-            )
-        )
-        rows.append(
-            ("  default run", _fmt(got["default"]), _ratio(got["default"], got["raw"]), "≤ 1.5×")
-        )
-        rows.append(
-            ("  --format json --no-ledger", _fmt(got["json"]), _ratio(got["json"], got["raw"]),
-             "≤ 1.0×")
-        )  # fmt: skip
+        rows.append(("20 books × 10 sheets × 500 rows, reading pass", _both(got, "raw")[0], "", ""))
+        rows.append(("  default run", *_both(got, "default"), "≤ 1.5×"))
+        rows.append(("  --format json --no-ledger", *_both(got, "json"), "≤ 1.0×"))
         print("  measured the batch of 20", file=sys.stderr)
         got = ratio_runs([large], max(1, repeat // 2 + 1), timeout, scratch / "large")
-        rows.append(("200,000-row single regression, reading pass", _fmt(got["raw"]), "", ""))
-        rows.append(
-            ("  default run", _fmt(got["default"]), _ratio(got["default"], got["raw"]), "≤ 1.5×")
-        )
-        rows.append(("  --format json --no-ledger", _fmt(got["json"]),
-                     _ratio(got["json"], got["raw"]), ""))  # fmt: skip
+        rows.append(("200,000-row single regression, reading pass", _both(got, "raw")[0], "", ""))
+        rows.append(("  default run", *_both(got, "default"), "≤ 1.5×"))
+        rows.append(("  --format json --no-ledger", *_both(got, "json"), ""))
         print("  measured 200,000 rows", file=sys.stderr)
         got = ratio_runs([small], repeat * 2 - 1, timeout, scratch / "small")
-        rows.append(("30-row single file, reading pass", _fmt(got["raw"]), "", ""))
-        rows.append(("  default run (start-up and all)", _fmt(got["default"]), "", "≤ 0.6 s"))
-        rows.append(("  --format json --no-ledger", _fmt(got["json"]), "", ""))
+        rows.append(("30-row single file, reading pass", _both(got, "raw")[0], "", ""))
+        rows.append(("  default run (start-up and all)", _both(got, "default")[0], "", "≤ 0.6 s"))
+        rows.append(("  --format json --no-ledger", _both(got, "json")[0], "", ""))
         print("  measured 30 rows", file=sys.stderr)
         if not skip_huge:
             huge = corpus.ensure(corpus.HUGE, folder)
