@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -96,25 +97,26 @@ def lack_of_fit(
     (no replicates, or no more levels than the line has parameters)."""
     y_values = np.asarray(y, dtype=np.float64)
     found = _replicated_groups(np.asarray(x, dtype=np.float64))
+    groups: list[Any]
     if found is None:
         groups = list(level_groups(x).values())
         levels = len(groups)
     else:
         # A level seen once adds a deviation of exactly 0 to the pure error: only replicated
         # levels need summing, and math.fsum is exact, so the order of the pieces is immaterial.
-        levels, groups = found[0], [rows.tolist() for rows in found[1]]
+        levels, groups = found[0], found[1]
     parameters = 2 if intercept else 1
     df_pure_error = y_values.size - levels
     df_lack_of_fit = levels - parameters
     if df_pure_error < 1 or df_lack_of_fit < 1 or not math.isfinite(ss_residual):
         return None
-    pieces: list[float] = []
+    squares = []  # arrays, not a list of a million Python floats
     for rows in groups:
         members = y_values[rows]
         mean = math.fsum(members) / members.size
-        pieces.extend((members - mean).tolist())
-    deviations = np.asarray(pieces)
-    ss_pure_error = math.fsum(deviations * deviations)
+        deviations = members - mean
+        squares.append(deviations * deviations)
+    ss_pure_error = math.fsum(np.concatenate(squares)) if squares else 0.0
     # Rounding can leave SS_lof a hair below 0 when the level means lie on the line.
     ss_lack_of_fit = max(0.0, ss_residual - ss_pure_error)
     if ss_pure_error == 0.0:
