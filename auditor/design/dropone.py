@@ -80,13 +80,19 @@ def leave_one_out(
 
 
 def drop_one(
-    x: np.ndarray, y: np.ndarray, fit: FitResult, rows: list[int], alpha: float
+    x: np.ndarray,
+    y: np.ndarray,
+    fit: FitResult,
+    rows: list[int],
+    alpha: float,
+    left_out: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> DropOne | None:
-    """How far the slope and p move when any one observation is left out."""
+    """How far the slope and p move when any one observation is left out (``left_out``: what
+    :func:`leave_one_out` gave, when the caller has it already)."""
     del y  # the residuals of the fit carry what is needed
     if fit.df < 2 or len(fit.residuals) != x.size:
         return None
-    slope, _, _, p = leave_one_out(x, fit)
+    slope, _, _, p = left_out if left_out is not None else leave_one_out(x, fit)
     h = fit.leverage
     undefined = [rows[i] for i in np.flatnonzero(h >= 1.0 - LEVERAGE_ONE).tolist()]
     finite_p = np.isfinite(p)

@@ -66,9 +66,24 @@ def audit_regression(
     policy: Policy,
     inputs_reader: DesignInputReader | None = None,
 ) -> RegressionResult:
+    result, fit = _audit_unannotated(workbook, evaluator, spec, policy, inputs_reader)
+    if fit is not None:
+        _annotate_points(result.data, fit)
+    return result
+
+
+def _audit_unannotated(
+    workbook: Workbook,
+    evaluator: Evaluator,
+    spec: RegressionSpec,
+    policy: Policy,
+    inputs_reader: DesignInputReader | None = None,
+) -> tuple[RegressionResult, FitResult | None]:
+    """The regression's result with its data points not yet given their fitted values (which
+    only the reports read), and the fit that gives them (None: nothing was fitted)."""
     unsourced = unsourced_result(spec)
     if unsourced is not None:
-        return unsourced  # a pasted table with no data found: listed, nothing to recompute
+        return unsourced, None  # a pasted table with no data found: listed, nothing to recompute
     data = extract(workbook, evaluator, spec)
     reader = inputs_reader or DesignInputReader(workbook, evaluator)
     inputs = reader.read(spec)
@@ -93,8 +108,7 @@ def audit_regression(
     )
     findings = run_regression_checks(context)
     points = list(data.points)
-    _annotate_points(points, fit)
-    return RegressionResult(
+    result = RegressionResult(
         id=spec.id,
         sheet=spec.sheet,
         x_range=spec.range_texts[0] if spec.range_texts else spec.x.address,
@@ -116,6 +130,7 @@ def audit_regression(
         calibration=summary_row(spec, calibration, policy, findings),
         conditioning=fit.conditioning.to_dict() if fit.conditioning is not None else {},
     )
+    return result, fit
 
 
 def _annotate_points(points: list[DataPoint], fit: FitResult) -> None:
@@ -148,13 +163,14 @@ def audit_workbook(
     locator = Locator(workbook, bindings)
     specs = locate(workbook, bindings, locator)
     reader = DesignInputReader(workbook, evaluator, locator.parsed)
-    regressions = [
+    audited = [
         guarded(
-            partial(audit_regression, workbook, evaluator, spec, policy, reader),
-            partial(unverifiable_regression, spec),
+            partial(_audit_unannotated, workbook, evaluator, spec, policy, reader),
+            partial(_unverifiable_unannotated, spec),
         )
         for spec in specs
     ]
+    regressions = [result for result, _ in audited]
     context = WorkbookContext(
         stored_values=workbook.stored_values,
         formula_count=len(workbook.formula_cells()),
@@ -173,7 +189,7 @@ def audit_workbook(
             partial(one_per_mistake, result.findings, partial(_reach, spec, locator=locator)),
             partial(_as_they_are, result.findings),
         )
-    return WorkbookResult(
+    outcome = WorkbookResult(
         path=str(path),
         sha256=workbook.sha256,
         status="audited" if regressions else "no-regressions",
@@ -181,6 +197,23 @@ def audit_workbook(
         regressions=regressions,
         findings=kept,
     )
+    # The cells are let go before the points take their four numbers each: on a sheet of a
+    # million rows the two would otherwise be held at once (hundreds of MB).
+    del context, reader, locator, evaluator, workbook
+    for result, fit in audited:
+        if fit is not None:
+            guarded(partial(_annotate_points, result.data, fit), _not_annotated)
+    return outcome
+
+
+def _unverifiable_unannotated(
+    spec: RegressionSpec, exc: BaseException
+) -> tuple[RegressionResult, FitResult | None]:
+    return unverifiable_regression(spec, exc), None
+
+
+def _not_annotated(_exc: BaseException) -> None:
+    return None  # the points keep no fitted values; the audit's findings stand
 
 
 def _as_they_are(findings: list[Finding], _exc: BaseException) -> list[Finding]:
