@@ -6,7 +6,7 @@
 Without PATHs the corpus is every workbook under fixtures/ (the demo workbooks that
 ``regaudit demo`` copies, and the edge cases) and the small benchmark workbooks of corpus.py
 (written into the system's temporary folder when missing). Each workbook is audited on its own,
-in-process, through the whole run (identities, waivers) with JSON as the only output; the
+in-process, through the whole run (policy auto, identities, waivers), JSON the only output; the
 document is kept with the run's date, the folders of paths and any duration removed. ``compare``
 prints the first differences and exits 1 when there are any. Never part of the test suite.
 """
@@ -47,20 +47,21 @@ def _strip(value: Any) -> Any:
 
 def audit_documents(paths: list[Path]) -> dict[str, Any]:
     from auditor.cli.runner import run_audit
+    from auditor.options import RunOptions
     from auditor.report.json import audit_document
 
     documents: dict[str, Any] = {}
     with tempfile.TemporaryDirectory() as scratch:
         for path in paths:
-            result = run_audit(
-                [str(path)],
-                Path(scratch),
+            options = RunOptions(
+                policy="auto",  # the command line's default
                 jobs=0,
                 formats=("json",),
                 timestamp="2000-01-01T00:00:00+00:00",
                 write=False,
                 use_ledger=False,
             )
+            result = run_audit([str(path)], Path(scratch), options)
             documents[str(path.relative_to(ROOT) if path.is_relative_to(ROOT) else path.name)] = (
                 _strip(audit_document(result))
             )

@@ -19,7 +19,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
-from scipy import stats
+
+from auditor.fit.distributions import f_sf, norm_cdf, t_sf
 
 FloatArray = NDArray[np.float64]
 
@@ -161,7 +162,7 @@ def spread_growth(x: ArrayLike, y: ArrayLike, residuals: ArrayLike) -> SpreadTes
         var_low, var_high = float(np.var(low, ddof=1)), float(np.var(high, ddof=1))
         if var_low > 0:
             f = var_high / var_low
-            p = float(stats.f.sf(f, high.size - 1, low.size - 1))
+            p = float(f_sf(f, high.size - 1, low.size - 1))
             return SpreadTest(
                 f"F test of the replicate variances at {levels[-1]:g} and {levels[0]:g}",
                 f,
@@ -170,6 +171,8 @@ def spread_growth(x: ArrayLike, y: ArrayLike, residuals: ArrayLike) -> SpreadTes
             )
     if xs.size < 5 or levels.size < 3:
         return None
+    from scipy import stats  # spearmanr only: scipy.stats is not imported at start-up
+
     rho, p_two = stats.spearmanr(xs, np.abs(rs))
     rho_f = float(rho)
     if not math.isfinite(rho_f):
@@ -206,7 +209,7 @@ def residual_runs(x: ArrayLike, residuals: ArrayLike) -> RunsResult | None:
     for a, b in zip(signs[:-1], signs[1:], strict=True):
         current = current + 1 if a == b else 1
         longest = max(longest, current)
-    return RunsResult(runs, n1, n2, expected, float(stats.norm.cdf(z)), longest)
+    return RunsResult(runs, n1, n2, expected, float(norm_cdf(z)), longest)
 
 
 @dataclass(frozen=True)
@@ -239,7 +242,7 @@ def curvature(x: ArrayLike, y: ArrayLike) -> CurvatureResult | None:
     line = fit_line(xs, ys)
     quadratic = float(coef[2]) / scale**2
     t = float(coef[2]) / se if se > 0 else math.inf
-    p = float(2 * stats.t.sf(abs(t), df)) if math.isfinite(t) else 0.0
+    p = float(2 * t_sf(abs(t), df)) if math.isfinite(t) else 0.0
     return CurvatureResult(quadratic, se / scale**2, t, p, line.residual_sd, s_quad)
 
 
@@ -322,5 +325,5 @@ class CoefficientTest:
 def coefficient_test(value: float, se: float, df: int, target: float) -> CoefficientTest:
     """Two-sided t test of a coefficient against a target value."""
     t = (value - target) / se if se > 0 else math.inf
-    p = float(2 * stats.t.sf(abs(t), df)) if math.isfinite(t) else 0.0
+    p = float(2 * t_sf(abs(t), df)) if math.isfinite(t) else 0.0
     return CoefficientTest(target, t, df, p)
