@@ -28,6 +28,8 @@ def test_student_t_tails_equal_scipy_stats(df: float) -> None:
     for q in QS:
         assert same(fd.t_ppf(q, df), stats.t.ppf(q, df)), (q, df)
         assert same(fd.t_isf(q, df), stats.t.isf(q, df)), (q, df)
+        assert same(fd.t_pdf(x, df), stats.t.pdf(x, df)), (x, df)
+    assert same(fd.t_pdf(1.3, np.inf), stats.t.pdf(1.3, np.inf))
     # arrays go through whole, as the drop-one table and the df search pass them
     assert same(fd.t_sf(np.array(XS), df), stats.t.sf(np.array(XS), df))
     assert same(fd.t_sf(2.1, np.array(DFS)), stats.t.sf(2.1, np.array(DFS)))

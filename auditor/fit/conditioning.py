@@ -27,7 +27,8 @@ from functools import cached_property
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy import stats as sps
+
+from auditor.fit.distributions import t_pdf, t_ppf
 
 EPSILON = 2.220446049250313e-16  # double precision
 DOUBLE_DIGITS = 15.95  # log10(2**53)
@@ -213,7 +214,7 @@ def engine_allowances(
     sd = factor * EPSILON * noise / math.sqrt(df)
     se = roots * (sd + s * scale)
     ss_res = 2.0 * residual_norm * math.sqrt(df) * sd + df * sd * sd
-    t_crit = float(sps.t.ppf(0.975, df))
+    t_crit = float(t_ppf(0.975, df))
     out: dict[str, float] = {
         "residual_sd": sd,
         "ss_residual": ss_res,
@@ -243,5 +244,5 @@ def engine_allowances(
             allow_t = abs(t) * (float(allow_b) / abs(float(b)) + float(allow_se) / se_value)
             out[f"t_{base}{suffix}"] = allow_t
             # dp/dt of the two-sided p is twice the t density: p moves by about 2·f(t)·δt.
-            out[f"p_{base}{suffix}"] = 2.0 * float(sps.t.pdf(abs(t), df)) * allow_t
+            out[f"p_{base}{suffix}"] = 2.0 * float(t_pdf(abs(t), df)) * allow_t
     return out

@@ -57,6 +57,23 @@ def t_isf(q: Any, df: Any) -> Any:
     return _finish(value, _bad_df(df) | ~((q >= 0.0) & (q <= 1.0)))
 
 
+def t_pdf(x: Any, df: Any) -> Any:
+    """The density of Student's t (``scipy.stats.t.pdf``): its log-density formula, the normal's
+    density at infinite df, 0 at an infinite x."""
+    x = np.asarray(x, dtype=np.float64)
+    df = np.asarray(df, dtype=np.float64)
+    inside = np.isfinite(x)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        normal = np.exp(-(x**2) / 2.0) / np.sqrt(2 * np.pi)
+        student = np.exp(
+            np.log(special.poch(0.5 * df, 0.5))
+            - 0.5 * (np.log(df) + np.log(np.pi))
+            - (df + 1) / 2 * np.log1p(x * x / df)
+        )
+    value = np.where(inside, np.where(df == np.inf, normal, student), 0.0)
+    return _finish(value, _bad_df(df) | np.isnan(x))
+
+
 def nct_sf(x: float, df: float, noncentrality: float) -> Any:
     """P(T > x) for the noncentral t (``scipy.stats.nct.sf``), clipped to [0, 1] as it is."""
     with np.errstate(over="ignore"):
