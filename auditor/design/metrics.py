@@ -20,7 +20,6 @@ import math
 from dataclasses import asdict, dataclass
 
 import numpy as np
-from scipy import stats as distributions
 
 from auditor.design.dropone import DropOne, drop_one, leave_one_out
 from auditor.design.inputs import DesignInputs, Prediction
@@ -40,6 +39,7 @@ from auditor.design.power import (
     width_for_sxx_even,
 )
 from auditor.extract import Extracted
+from auditor.fit.distributions import t_ppf
 from auditor.fit.ols import FitResult
 from auditor.model import clean_number
 from auditor.policy import Policy
@@ -241,7 +241,7 @@ def _read_back_margin(metrics: DesignMetrics, policy: Policy, width: float) -> f
     )
     if not (s and slope and sxx and df and n) or df < 1:
         return 0.0
-    t = float(distributions.t.ppf(1.0 - policy.alpha / 2.0, df))
+    t = float(t_ppf(1.0 - policy.alpha / 2.0, df))
     return t * abs(s / slope) * math.sqrt(1.0 + 1.0 / n + width * width / sxx)
 
 
