@@ -14,8 +14,8 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats as distributions
 
+from auditor.fit.distributions import t_ppf, t_sf
 from auditor.read.workbook import Sheet
 
 IDENTITY_RELATIVE = 1e-6  # pasted doubles satisfy their identities far tighter than this
@@ -32,7 +32,7 @@ def close(a: float, b: float, rel: float = IDENTITY_RELATIVE, floor: float = 0.0
 
 
 def two_sided_p(t: float, df: int) -> float:
-    return float(2.0 * distributions.t.sf(abs(t), df))
+    return float(2.0 * t_sf(abs(t), df))
 
 
 def solve_df(t: float, p: float) -> int | None:
@@ -307,9 +307,9 @@ def confidence_levels(run: list[CoefficientRow], df: int) -> list[float] | None:
         row = trusted[0]
         low, high = row.bounds[index]
         multiplier = (high - low) / (2.0 * row.se)
-        level = 1.0 - 2.0 * float(distributions.t.sf(multiplier, df))
+        level = 1.0 - 2.0 * float(t_sf(multiplier, df))
         rounded = round(level, 4)  # levels are typed as whole or tenths of a percent
-        if not close(float(distributions.t.ppf(0.5 + rounded / 2, df)), multiplier, rel=1e-5):
+        if not close(float(t_ppf(0.5 + rounded / 2, df)), multiplier, rel=1e-5):
             return None
         levels.append(rounded)
     if any(len(row.bounds) < pairs for row in run):

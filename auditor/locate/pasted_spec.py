@@ -14,11 +14,11 @@ import math
 import weakref
 
 import numpy as np
-from scipy import stats as distributions
 
 from auditor.compare.conditioning import agree_conditioned
 from auditor.compare.precision import Agreement, agree_typed
 from auditor.fit.conditioning import Conditioning
+from auditor.fit.distributions import t_ppf
 from auditor.fit.ols import FitResult
 from auditor.formula.syntax import Ref
 from auditor.locate.formulas import FormulaLocator
@@ -113,7 +113,7 @@ def pasted_intended(spec: RegressionSpec, fit: FitResult) -> dict[str, float | i
         tag = "" if pair == 0 else f"@{level * 100:g}%"
         multiplier = math.nan
         if fit.df > 0:
-            multiplier = float(distributions.t.ppf(0.5 + level / 2.0, fit.df))
+            multiplier = float(t_ppf(0.5 + level / 2.0, fit.df))
         for name, b, se in coefficients:
             base, _, column = name.partition("[")
             column = f"[{column}" if column else ""
