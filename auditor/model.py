@@ -55,6 +55,10 @@ def clean_number(value: Any) -> Any:
     return value
 
 
+def _strip_storage_prefixes(text: str) -> str:
+    return text.replace("_xlfn._xlws.", "").replace("_xlfn.", "").replace("_xlws.", "")
+
+
 @dataclass
 class Finding:
     """One problem (or one piece of context) found by a check."""
@@ -70,6 +74,15 @@ class Finding:
         ""  # stable across runs and row moves (auditor.review.identity); set after the audit
     )
     waived: str | None = None  # the waiver's reason, who accepted it and when; None if not waived
+    # The reviewer's decision as data: {"decision": "waived", "reason", "name", "date"}; None
+    # while the finding is open.
+    decision: dict[str, str] | None = None
+
+    def __post_init__(self) -> None:
+        # Newer functions are stored as _xlfn.T.DIST.2T; a reader types (and sees) T.DIST.2T.
+        # Evidence keeps the formulas exactly as stored.
+        self.message = _strip_storage_prefixes(self.message)
+        self.fix = _strip_storage_prefixes(self.fix)
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -82,6 +95,7 @@ class Finding:
             "fix": self.fix,
             "identity": self.identity,
             "waived": self.waived,
+            "decision": dict(self.decision) if self.decision else {"decision": "open"},
         }
 
 
@@ -245,6 +259,17 @@ class CheckInfo:
 
 
 @dataclass
+class SkippedFile:
+    """A file found in an audited folder but not audited (another format), with why."""
+
+    path: str
+    reason: str
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"path": self.path, "reason": self.reason}
+
+
+@dataclass
 class AuditResult:
     version: str
     policy: str
@@ -252,6 +277,7 @@ class AuditResult:
     generated: str = ""  # ISO date shown in reports; fixed by --timestamp / SOURCE_DATE_EPOCH
     inputs: list[str] = field(default_factory=list)
     checks: list[CheckInfo] = field(default_factory=list)  # the checks this run ran, for SARIF
+    skipped: list[SkippedFile] = field(default_factory=list)  # other formats beside the inputs
 
     def all_findings(self) -> list[Finding]:
         return [f for w in self.workbooks for f in w.all_findings()]
@@ -277,6 +303,7 @@ class AuditResult:
             "policy": self.policy,
             "generated": self.generated,
             "workbooks": [w.to_dict() for w in self.workbooks],
+            "skipped": [s.to_dict() for s in self.skipped],
             "totals": self.totals(),
         }
 

@@ -24,7 +24,7 @@ def test_stored_within_relative_tolerance() -> None:
     # Hand-derived: allowed = 1e-9 · |2.5| = 2.5e-9; a difference of 1e-9 passes, 1e-8 does not.
     result = agree_stored(2.5 + 1e-9, 2.5)
     assert result.agrees is True
-    assert result.tolerance == "1e-09 relative"
+    assert result.tolerance == "the same to 9 significant digits"
     assert result.allowed == pytest.approx(2.5e-9, rel=1e-12)
     assert agree_stored(2.5 + 1e-8, 2.5).agrees is False
 
@@ -40,7 +40,7 @@ def test_stored_near_zero_needs_a_scale() -> None:
     assert agree_stored(1e-10, 0.0).agrees is False
     with_scale = agree_stored(1e-10, 0.0, scale=3.0)
     assert with_scale.agrees is True and with_scale.allowed == pytest.approx(3e-9, rel=1e-12)
-    assert "floor 3" in with_scale.tolerance
+    assert "measured against 3" in with_scale.tolerance
 
 
 def test_stored_cannot_judge_missing_truth() -> None:
@@ -55,7 +55,7 @@ def test_typed_at_format_decimals() -> None:
     # true 0.5006 rounds to 0.501 (disagree). Half a unit of 3 decimals is 0.0005.
     agrees = agree_typed(0.5, 0.50049, "0.000")
     assert agrees.agrees is True
-    assert agrees.tolerance == "±0.0005 (3 decimals shown)"
+    assert agrees.tolerance == "the same when rounded to the 3 decimal(s) shown"
     assert agree_typed(0.5, 0.5006, "0.000").agrees is False
 
 

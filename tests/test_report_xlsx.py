@@ -59,7 +59,7 @@ def test_every_finding_is_a_row_most_severe_first(book: openpyxl.Workbook) -> No
     assert major["cells"].startswith("=HYPERLINK(") and "Calib!F4, Calib!A2:A9" in major["cells"]
     assert major["fix"] == "Extend both ranges to row 9."
     assert rows[3]["kind"] is None and rows[3]["evidence"] is None
-    assert rows[3]["cells"] is None and rows[3]["waived"] is None
+    assert rows[3]["cells"] is None and rows[3]["decision"] == "open"
 
 
 def test_formula_like_text_stays_text(book: openpyxl.Workbook) -> None:
@@ -71,10 +71,10 @@ def test_formula_like_text_stays_text(book: openpyxl.Workbook) -> None:
 
 def test_evidence_reads_as_words(book: openpyxl.Workbook) -> None:
     critical = _rows(book["Findings"])[0]
-    # NaN has no place in a cell; it reads as the dash the text summary uses.
-    assert critical["evidence"] == "reported: 0.0213; two tailed: 0.0426; alpha: 0.01; ratio: —"
+    # NaN has no place in a cell, and an absent figure says nothing: it is left out.
+    assert critical["evidence"] == "reported: 0.0213; two tailed: 0.0426; alpha: 0.01"
     major = _rows(book["Findings"])[1]
-    assert major["evidence"] == "formula rows: [2, 8]; table rows: [2, 9]"
+    assert major["evidence"] == "formula rows: 2, 8; table rows: 2, 9"  # words, not JSON
 
 
 def test_links_open_the_detail_sheet_and_the_source_cell(book: openpyxl.Workbook) -> None:
@@ -118,12 +118,21 @@ def test_mismatched_reported_value_is_highlighted(book: openpyxl.Workbook) -> No
 
 def test_tables_with_filters_and_frozen_headers(book: openpyxl.Workbook) -> None:
     findings, regressions = book["Findings"], book["Regressions"]
-    assert findings.tables["FindingsTable"].ref == "A1:J5"
+    assert findings.tables["FindingsTable"].ref == "A1:M5"
     assert regressions.tables["RegressionsTable"].ref == "A1:U3"
+    # Printed: the columns a reviewer signs off on, workbook to findings; titles on every page.
+    assert regressions.print_area == "'Regressions'!$A$1:$N$3"
+    assert regressions.print_title_rows == "$1:$1" and findings.print_title_rows == "$1:$1"
+    assert regressions.page_setup.orientation == "landscape"
+    # Fit to one page wide (1 is the file format's default, so not written), as tall as needed.
+    assert regressions.sheet_properties.pageSetUpPr.fitToPage
+    assert (
+        regressions.page_setup.fitToWidth in (None, 1) and regressions.page_setup.fitToHeight == 0
+    )
     assert findings.tables["FindingsTable"].autoFilter is not None
     assert regressions.tables["RegressionsTable"].autoFilter is not None
-    # Regressions keeps the workbook, sheet and id in view while scrolling right.
-    assert findings.freeze_panes == "A2" and regressions.freeze_panes == "D2"
+    # Regressions keeps the workbook and id in view while scrolling right.
+    assert findings.freeze_panes == "A2" and regressions.freeze_panes == "C2"
     assert findings.column_dimensions["G"].width > findings.column_dimensions["A"].width
     assert findings["G2"].alignment.wrap_text
 
@@ -208,7 +217,7 @@ def test_created_date(generated: str, expected: datetime) -> None:
 def test_empty_result_still_gives_tables() -> None:
     empty = AuditResult(version="0.1.0", policy="general", workbooks=[])
     book = openpyxl.load_workbook(io.BytesIO(_bytes(empty)))
-    assert book["Findings"].tables["FindingsTable"].ref == "A1:J2"
+    assert book["Findings"].tables["FindingsTable"].ref == "A1:M2"
     assert book.sheetnames == ["Overview", "Regressions", "Findings"]
     assert _bytes(empty) == _bytes(empty)
 

@@ -86,6 +86,13 @@ def test_waived_findings_stay_in_the_report_but_do_not_fail_the_run(
     assert (
         marked[0]["waived"] == "Rerun agreed; see QA log 17 (accepted by A. Reviewer on 2024-05-03)"
     )
+    assert marked[0]["decision"] == {
+        "decision": "waived",
+        "reason": "Rerun agreed; see QA log 17",
+        "name": "A. Reviewer",
+        "date": "2024-05-03",
+    }
+    assert {f["decision"]["decision"] for f in every if f["waived"] is None} == {"open"}
     schema = json.loads((ROOT / "tests" / "schema" / "audit.schema.json").read_text("utf-8"))
     jsonschema.validate(document, schema)
 

@@ -116,7 +116,7 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
         message = (
             f"The reported {describe(value.key)} is {shown}, but the "
             f"{context.data.n} points of {context.data.intended_y_range} give "
-            f"{recomputed} (tolerance: {value.tolerance}).{consequence}"
+            f"{recomputed}; they should be {value.tolerance}.{consequence}"
         )
         evidence: dict[str, object] = {
             "key": value.key,

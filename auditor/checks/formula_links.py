@@ -61,7 +61,7 @@ def other_workbook_ref(context: WorkbookContext) -> list[Finding]:
         feeding = [address for regression, address in cells if regression]
         severity: Severity = "minor" if feeding else "info"
         target = links.get(marker)
-        named = f"workbook {marker} ({target})" if target else f"linked workbook {marker}"
+        named = f"the linked workbook {target}" if target else f"linked workbook {marker}"
         shown = [address for _, address in cells][:MAX_CELLS_LISTED]
         what = (
             f"{len(feeding)} of them regression formulas ({', '.join(feeding[:4])}"

@@ -14,11 +14,12 @@ from importlib import resources
 from pathlib import Path
 
 from auditor import __version__
+from auditor.cli.outcome import outcome_line
 from auditor.cli.plan import add_plan_parser
 from auditor.cli.review import add_review_parsers, cluster_options
 from auditor.cli.runner import run_audit
 from auditor.errors import PolicyError, RegauditError, UsageError
-from auditor.model import SEVERITIES, SEVERITY_RANK, AuditResult
+from auditor.model import SEVERITY_RANK, AuditResult
 from auditor.options import DEFAULT_FORMATS as FORMATS
 from auditor.options import RunOptions
 from auditor.pipeline.limits import default_jobs
@@ -34,16 +35,19 @@ waived findings (regaudit-waivers.toml) and findings in --baseline never give ex
 """
 
 
+INTERRUPTED = (
+    "interrupted: no report was written (files finished before the interrupt are kept in the "
+    "ledger; --changed carries on from there)"
+)
+
+
 def _print_outcome(result: AuditResult, out_dir: Path, formats: tuple[str, ...]) -> None:
-    totals = result.totals()
     for workbook in result.workbooks:
         if workbook.status == "unreadable":
             print(f"error: {workbook.path}: {workbook.error}", file=sys.stderr)
-    severities = ", ".join(f"{totals['findings_by_severity'][s]} {s}" for s in SEVERITIES)
-    print(
-        f"audited {totals['workbooks']} workbook(s): {totals['regressions']} regression(s); "
-        f"findings: {severities}"
-    )
+    for skipped in result.skipped:
+        print(f"skipped {skipped.path}: {skipped.reason}", file=sys.stderr)
+    print(outcome_line(result))
     names = {
         "json": "audit.json",
         "text": "summary.txt",
@@ -290,14 +294,31 @@ def build_parser() -> argparse.ArgumentParser:
     history.set_defaults(handler=cmd_history)
 
     rules = sub.add_parser("rules", help="list the checks and the policy's thresholds")
-    rules.add_argument("--policy", default="general")
+    rules.add_argument(
+        "--policy",
+        default="general",
+        help="policy name or TOML file whose thresholds to list (default: general)",
+    )
     rules.set_defaults(handler=cmd_rules)
 
     demo = sub.add_parser("demo", help="write the demo workbooks and audit them")
-    demo.add_argument("dir", nargs="?", default="regaudit-demo", metavar="DIR")
-    demo.add_argument("--policy", default="general")
-    demo.add_argument("--jobs", type=int, default=cores, metavar="N")
-    demo.add_argument("--timestamp", default=None)
+    demo.add_argument(
+        "dir",
+        nargs="?",
+        default="regaudit-demo",
+        metavar="DIR",
+        help="folder to create: DIR/workbooks gets the demo workbooks, DIR/audit the reports "
+        "(default: regaudit-demo)",
+    )
+    demo.add_argument(
+        "--policy", default="general", help="policy name or TOML file (default: general)"
+    )
+    demo.add_argument(
+        "--jobs", type=int, default=cores, metavar="N", help="parallel workers (default: cores)"
+    )
+    demo.add_argument(
+        "--timestamp", default=None, help="date shown in the reports (for reproducible output)"
+    )
     demo.set_defaults(handler=cmd_demo)
     return parser
 
@@ -313,3 +334,6 @@ def main(argv: list[str] | None = None) -> int:
     except RegauditError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2
+    except KeyboardInterrupt:
+        print(INTERRUPTED, file=sys.stderr)
+        return 130  # 128 + SIGINT, as shells report it

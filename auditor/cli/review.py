@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import sys
 from pathlib import Path
 
 from auditor import __version__
@@ -11,6 +12,13 @@ from auditor.cli.runner import load_bindings, run_audit
 from auditor.errors import UsageError
 from auditor.model import AuditResult
 from auditor.options import RunOptions
+
+REPORT_FILES = {
+    "json": "audit.json",
+    "text": "summary.txt",
+    "xlsx": "audit.xlsx",
+    "sarif": "audit.sarif",
+}
 
 
 def cmd_baseline_create(args: argparse.Namespace) -> int:
@@ -75,6 +83,35 @@ def cmd_waive(args: argparse.Namespace) -> int:
     return 0
 
 
+def cmd_record(args: argparse.Namespace) -> int:
+    from auditor.cli.outcome import outcome_line
+    from auditor.cli.record import write_record
+
+    formats = tuple(args.format.split(",")) if args.format else ("json", "text", "xlsx")
+    result, unused = write_record(
+        args.paths,
+        Path(args.out),
+        args.policy,
+        formats=formats,
+        bindings_file=args.bindings,
+        waivers_file=args.waivers,
+        ledger_file=args.ledger,
+        timestamp=args.timestamp,
+    )
+    for waiver in unused:
+        print(
+            f"warning: the waiver of {waiver.identity} ({waiver.workbook} {waiver.cell} "
+            f"{waiver.check}) matches no finding; remove it if fixed",
+            file=sys.stderr,
+        )
+    waived = sum(1 for f in result.all_findings() if f.decision)
+    print(outcome_line(result))
+    print(f"  {waived} finding(s) waived; written from the ledger, nothing audited again")
+    for name in formats:
+        print(f"  wrote {Path(args.out) / REPORT_FILES[name]}")
+    return 0
+
+
 def cluster_options(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--cluster",
@@ -102,7 +139,12 @@ def add_review_parsers(sub: argparse._SubParsersAction, cores: int) -> None:  # 
     )
     create.add_argument("--policy", default="general", help="policy name or TOML file")
     create.add_argument("--jobs", type=int, default=cores, metavar="N", help="parallel workers")
-    create.add_argument("--bindings", default=None, metavar="FILE")
+    create.add_argument(
+        "--bindings",
+        default=None,
+        metavar="FILE",
+        help="TOML file mapping the cells of a workbook template (as for audit)",
+    )
     create.add_argument("--timestamp", default=None, help="date recorded in the file")
     cluster_options(create)
     create.set_defaults(handler=cmd_baseline_create)
@@ -126,6 +168,52 @@ def add_review_parsers(sub: argparse._SubParsersAction, cores: int) -> None:  # 
         metavar="WAIVERS",
         help="waiver file (default with --workbook: regaudit-waivers.toml beside it)",
     )
-    waive.add_argument("--policy", default="general")
-    waive.add_argument("--bindings", default=None, metavar="FILE")
+    waive.add_argument(
+        "--policy",
+        default="general",
+        help="policy name or TOML file the finding was reported under (default: general)",
+    )
+    waive.add_argument(
+        "--bindings",
+        default=None,
+        metavar="FILE",
+        help="TOML file mapping the cells of a workbook template (as for audit)",
+    )
     waive.set_defaults(handler=cmd_waive)
+
+    record = sub.add_parser(
+        "record",
+        help="write the reports of a folder already audited, with today's review decisions, "
+        "from the ledger (nothing is audited again)",
+        description="Rewrite audit.xlsx, summary.txt and audit.json for PATH... from the "
+        "ledger: each file is found by the SHA-256 of its present content under the same "
+        "policy, bindings and regaudit version, and the waivers are applied. A file changed "
+        "or never audited so is named and nothing is written.",
+    )
+    record.add_argument("paths", nargs="+", metavar="PATH", help=".xlsx/.xlsm files or folders")
+    record.add_argument("--out", required=True, metavar="DIR", help="folder for the reports")
+    record.add_argument(
+        "--policy", default="general", help="policy the files were audited under (default: general)"
+    )
+    record.add_argument(
+        "--bindings", default=None, metavar="FILE", help="bindings file the audit used, if any"
+    )
+    record.add_argument(
+        "--waivers",
+        default=None,
+        metavar="FILE",
+        help="review decisions (default: regaudit-waivers.toml in the audited folder, if any)",
+    )
+    record.add_argument(
+        "--ledger", default=None, metavar="FILE", help="the ledger to read (default as for audit)"
+    )
+    record.add_argument(
+        "--format",
+        default=None,
+        metavar="LIST",
+        help="comma-separated outputs among json,text,xlsx,sarif (default: json,text,xlsx)",
+    )
+    record.add_argument(
+        "--timestamp", default=None, help="date shown in the reports (for reproducible output)"
+    )
+    record.set_defaults(handler=cmd_record)

@@ -97,10 +97,11 @@ def _audit_locally(
 def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = None) -> AuditResult:
     """Audit ``inputs`` as ``options`` say; write the reports into ``out_dir``."""
     from auditor.checks import catalogue
-    from auditor.pipeline.audit import collect_inputs
+    from auditor.pipeline.inputs import scan_inputs
     from auditor.policy import load_policy
     from auditor.read.open import assert_safe_xml
     from auditor.report import write_reports
+    from auditor.report.output import prepare_out_dir, staged_outputs
     from auditor.review.baseline import apply_baseline, describe_outcome, load_baseline
     from auditor.review.identity import assign_identities, audit_root
     from auditor.review.waivers import apply_waivers, default_waiver_file, load_waivers
@@ -112,11 +113,15 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
     missing = [p for p in inputs if not Path(p).exists()]
     if missing:
         raise UsageError(f"no such file or folder: {', '.join(repr(m) for m in missing)}")
-    paths = collect_inputs(inputs)
+    scan = scan_inputs(inputs, out_dir if options.write else None)
+    paths = scan.workbooks
     if not paths:
+        others = "".join(f"\n  skipped {s.path}: {s.reason}" for s in scan.skipped)
         raise UsageError(
-            f"no .xlsx or .xlsm workbooks found in {', '.join(repr(p) for p in inputs)}"
+            f"no .xlsx or .xlsm workbooks found in {', '.join(repr(p) for p in inputs)}{others}"
         )
+    if options.write:
+        prepare_out_dir(out_dir)  # before the audit: a folder that cannot be written costs nothing
     # Read the baseline and waivers first: a typo in them should not cost a whole audit.
     root = audit_root(inputs)
     waiver_path = Path(options.waivers_file) if options.waivers_file else default_waiver_file(root)
@@ -147,6 +152,7 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
         generated=timestamp_text(options.timestamp),
         inputs=[str(p) for p in inputs],
         checks=catalogue(),
+        skipped=scan.skipped,
     )
     assign_identities(result, root)
     for unused in apply_waivers(result, waivers):
@@ -161,20 +167,28 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
         for line in describe_outcome(outcome):
             print(line)
     if options.write:
-        # Copies first: the Overview lists them, and a refusal stops the run before any write.
-        copies = []
-        if options.annotate:
-            from auditor.review.annotate import annotate_copies  # openpyxl's writer, when asked
+        # Copies first: the Overview lists them. All files of the set are renamed into place
+        # together at the end, so a refusal, a full disk or Ctrl-C leaves no partial set.
+        try:
+            with staged_outputs():
+                copies = []
+                if options.annotate:
+                    from auditor.review.annotate import annotate_copies  # openpyxl's writer
 
-            copies = annotate_copies(result, out_dir, paths)
-        write_reports(
-            result,
-            out_dir,
-            list(options.formats),
-            input_paths=[Path(p) for p in paths],
-            copies=copies,
-            detail=options.detail,
-        )
+                    copies = annotate_copies(result, out_dir, paths)
+                write_reports(
+                    result,
+                    out_dir,
+                    list(options.formats),
+                    input_paths=[Path(p) for p in paths],
+                    copies=copies,
+                    detail=options.detail,
+                )
+        except OSError as exc:
+            raise UsageError(
+                f"cannot write the reports into {str(out_dir)!r} ({exc.strerror or exc}); "
+                "nothing was written: free space or choose another folder with --out"
+            ) from exc
         for copy in copies:
             if copy.error:
                 print(f"error: {copy.source}: {copy.error}", file=sys.stderr)

@@ -50,12 +50,22 @@ def agree_stored(
     reported: float, true: float, rel: float = 1e-9, scale: float | None = None
 ) -> Agreement:
     """A formula's stored value: |reported − true| ≤ rel · max(|true|, scale)."""
-    tolerance = f"{rel:g} relative" + (f" (floor {scale:g})" if scale is not None else "")
+    tolerance = stored_tolerance_words(rel, scale)
     if not (_finite(reported) and _finite(true)):
         return Agreement(None, "no number to compare", None)
     # The floor keeps a value that should be near 0 (an intercept through the origin) judgeable.
     allowed = rel * max(abs(true), scale or 0.0)
     return Agreement(abs(reported - true) <= allowed, tolerance, allowed)
+
+
+def stored_tolerance_words(rel: float, scale: float | None = None) -> str:
+    """How a stored value is judged, as a reviewer says it: "the same to 9 significant digits"
+    (rel 1e-9); near zero, measured against ``scale`` (relative precision means nothing there)."""
+    digits = max(1, round(-math.log10(rel))) if rel > 0 else 15
+    words = f"the same to {digits} significant digits"
+    if scale is not None:
+        words += f" (differences near zero measured against {scale:.3g})"
+    return words
 
 
 def agree_typed(reported: float, true: float, number_format: str = "General") -> Agreement:
@@ -135,10 +145,10 @@ def _at_decimals(reported: float, true: float, decimals: int) -> Agreement:
     half_unit = 0.5 * 10.0 ** (-decimals)
     allowed = half_unit + REPRESENTATION_SLACK * max(abs(true), abs(reported))
     if decimals >= 0:
-        shown = f"{decimals} decimals shown"
+        words = f"the same when rounded to the {decimals} decimal(s) shown"
     else:
-        shown = f"shown to the nearest {10.0 ** (-decimals):g}"
-    return Agreement(abs(reported - true) <= allowed, f"±{half_unit:g} ({shown})", allowed)
+        words = f"the same when rounded to the nearest {10.0 ** (-decimals):g}, as shown"
+    return Agreement(abs(reported - true) <= allowed, words, allowed)
 
 
 def _not_understood(claim: str) -> Agreement:

@@ -229,10 +229,10 @@ def lack_of_fit_findings(
 
 
 def _state_it(where: str) -> str:
-    if not where.startswith("the relative default"):
+    if not where.startswith("the policy's default"):
         return ""
     return (
-        " The relative default is only a stand-in: state the slope that matters beside the "
+        " That default is only a stand-in: state the slope that matters beside the "
         "result (a cell labelled e.g. 'Smallest relevant slope') or as slope_that_matters in "
         "the policy."
     )

@@ -226,7 +226,9 @@ def _fill_simple(
         if default is not None:
             metrics.slope_that_matters = default
             elasticity = policy.find("relevant_elasticity")
-            metrics.slope_that_matters_source = f"the relative default {elasticity:g}·|ȳ|/|x̄|"
+            metrics.slope_that_matters_source = (
+                f"the policy's default of {elasticity:g} × mean of y / mean of x"
+            )
 
 
 def _read_back_margin(metrics: DesignMetrics, policy: Policy, width: float) -> float:

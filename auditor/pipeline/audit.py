@@ -27,36 +27,17 @@ from auditor.fit.ols import FitResult, fit_ols
 from auditor.locate.locator import Locator, RegressionSpec, locate
 from auditor.locate.pasted_spec import pasted_intended, unsourced_result
 from auditor.model import DataPoint, Finding, RegressionResult, WorkbookResult
+from auditor.pipeline.inputs import scan_inputs
 from auditor.pipeline.isolate import guarded, unverifiable_regression
 from auditor.policy import Policy
 from auditor.read.open import read_workbook, sha256_of
 from auditor.read.workbook import Workbook
 
-WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
-
 
 def collect_inputs(paths: Iterable[str | Path]) -> list[Path]:
-    """Files as given, and folders searched recursively for .xlsx/.xlsm (sorted, no duplicates)."""
-    found: list[Path] = []
-    for raw in paths:
-        path = Path(raw)
-        if path.is_dir():
-            found.extend(
-                sorted(
-                    p
-                    for p in path.rglob("*")
-                    if p.is_file()
-                    and p.suffix.lower() in WORKBOOK_SUFFIXES
-                    and not p.name.startswith("~$")  # a lock file of an open workbook
-                    and ".audited." not in p.name  # regaudit's own annotated copies
-                )
-            )
-        else:
-            found.append(path)
-    unique: dict[str, Path] = {}
-    for path in found:
-        unique.setdefault(str(path.resolve()), path)
-    return list(unique.values())
+    """Files as given, and folders searched recursively for .xlsx/.xlsm (sorted, no duplicates);
+    regaudit's own reports and annotated copies are left out (``auditor.pipeline.inputs``)."""
+    return scan_inputs(paths).workbooks
 
 
 def audit_regression(

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import multiprocessing
 import os
+import signal
 import sys
 import threading
 import time
@@ -67,6 +68,10 @@ def _limit_memory(memory_bytes: int | None) -> None:
 
 def _serve(fn: Callable[[Any], Any], conn: Connection, memory_bytes: int | None) -> None:
     """A worker: take (index, task), send back (index, "ok" | "memory" | "error", payload)."""
+    # Ctrl-C reaches the whole process group: the parent alone decides, and stops the workers.
+    # SIGINT came blocked from the parent (see _Pool.start), so none slips in before this.
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
     _limit_memory(memory_bytes)
     while True:
         try:
@@ -103,7 +108,12 @@ class _Pool(Generic[T, R]):
         process = self.context.Process(
             target=_serve, args=(self.fn, child, self.limits.memory_bytes), daemon=True
         )
-        process.start()
+        # Blocked, not ignored: a Ctrl-C during the start waits for the parent, never lost.
+        blocked = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+        try:
+            process.start()
+        finally:
+            signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
         child.close()
         worker = _Worker(process, parent)
         self.workers.append(worker)

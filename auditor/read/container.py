@@ -54,9 +54,10 @@ def _describe_non_zip(head: bytes, path: Path) -> str:
         streams = _compound_streams(path)
         if "EncryptedPackage".encode("utf-16-le") in streams:
             return (
-                f"{path.name} is a password-protected workbook (an encrypted package inside an "
-                "OLE compound file); regaudit cannot read it. Open it with the password, save "
-                "an unprotected copy as .xlsx, and audit the copy"
+                f"{path.name} is password-protected, so its contents cannot be read. Ask the "
+                "author for a copy without the password, or open it with the password, clear "
+                "it (File > Info > Protect Workbook > Encrypt with Password), save the copy "
+                "as .xlsx under a new name, and audit the copy"
             )
         if any(name.encode("utf-16-le") in streams for name in ("Workbook", "Book")):
             return (
@@ -64,9 +65,9 @@ def _describe_non_zip(head: bytes, path: Path) -> str:
                 "open it and save it as .xlsx, then audit the copy"
             )
         return (
-            f"{path.name} is an OLE compound file, not an xlsx package: either a legacy .xls "
-            "workbook or an xlsx protected with a password (encryption wraps it this way). "
-            "Remove the password or save it as .xlsx, then audit the copy"
+            f"{path.name} is either a legacy Excel 97-2003 workbook or a password-protected "
+            "one, so its contents cannot be read. Open it (with the password, if asked), save "
+            "a copy as .xlsx without a password, and audit the copy"
         )
     if not head:
         return f"{path.name} is empty (0 bytes); ask for a fresh copy"

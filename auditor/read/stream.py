@@ -26,6 +26,7 @@ from pathlib import Path
 from auditor.errors import UnreadableWorkbook
 from auditor.read.book import BookState
 from auditor.read.charts import read_charts
+from auditor.read.links import external_links
 from auditor.read.parts import read_book, read_number_formats, read_shared_strings, workbook_part
 from auditor.read.sheet import SheetReader
 from auditor.read.workbook import DefinedName, Sheet, Workbook
@@ -43,7 +44,8 @@ UNPACKING_ERRORS = (
 
 
 def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) -> Workbook:
-    parts = read_book(archive, workbook_part(archive, label), label)
+    book_part = workbook_part(archive, label)
+    parts = read_book(archive, book_part, label)
     ns = "{" + parts.namespace + "}"
     formats, date_styles = read_number_formats(archive, parts.styles, ns, label)
     book = BookState(
@@ -78,6 +80,7 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
         stored_values=book.formula_count == 0 or book.valued_formulas > 0,
         array_anchors=book.arrays,
         charts=read_charts(archive, parts.sheets, label),
+        external_links=external_links(archive, book_part, label),
     )
 
 

@@ -105,6 +105,7 @@ class Workbook:
         default_factory=dict
     )  # (sheet, row, col) of every cell in an array block -> (r1, c1, r2, c2) of the block
     charts: list[Chart] = field(default_factory=list)  # auditor.read.charts, in sheet order
+    external_links: dict[str, str] = field(default_factory=dict)  # "[1]" -> linked file's name
 
     def sheet(self, name: str) -> Sheet | None:
         if name in self.sheets:

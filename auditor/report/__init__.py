@@ -94,7 +94,9 @@ def write_reports(
     inputs = audited_files(result) | {Path(source) for source in input_paths}
     out_dir = Path(out_dir)
     chosen = [  # keeps order, drops repeats; the workbook lists the annotated copies
-        _with_copies(REPORTERS[name], copies, detail) if name == "xlsx" else REPORTERS[name]
+        _with_copies(REPORTERS[name], copies, detail, out_dir)
+        if name == "xlsx"
+        else REPORTERS[name]
         for name in dict.fromkeys(formats)
     ]
     # Check every target first, so a refusal does not leave a half-written set of reports.
@@ -110,9 +112,12 @@ def write_reports(
     return written
 
 
-def _with_copies(reporter: Reporter, copies: Sequence[AnnotatedCopy], detail: str) -> Reporter:
-    """The workbook reporter made for this run: the copies it lists, the detail sheets it has."""
-    return reporter.made(copies, detail) if isinstance(reporter, _OnFirstUse) else reporter
+def _with_copies(
+    reporter: Reporter, copies: Sequence[AnnotatedCopy], detail: str, folder: Path
+) -> Reporter:
+    """The workbook reporter made for this run: the copies it lists, the detail sheets it has,
+    the folder its source links are relative to."""
+    return reporter.made(copies, detail, folder) if isinstance(reporter, _OnFirstUse) else reporter
 
 
 def __getattr__(name: str) -> Any:

@@ -230,6 +230,18 @@ DESIGN_LABELS: dict[str, str] = {
     "lack_of_fit_p": "lack-of-fit p-value",
     "lack_of_fit_df": "lack-of-fit degrees of freedom",
     "pure_error_df": "pure-error degrees of freedom",
+    "working_range_cell": "cell stating the working range",
+    "drop_one_slope_min": "smallest slope with one row left out",
+    "drop_one_slope_max": "largest slope with one row left out",
+    "drop_one_p_min": "smallest p-value with one row left out",
+    "drop_one_p_max": "largest p-value with one row left out",
+    "drop_one_p_min_row": "row whose omission gives the smallest p-value",
+    "drop_one_p_max_row": "row whose omission gives the largest p-value",
+    "drop_one_crossing_rows": "rows whose omission alone changes the conclusion",
+    "drop_one_crossing_row": "of those, the row that moves p the most",
+    "drop_one_crossing_p": "p-value without that row",
+    "drop_one_undefined_row": "row without which the slope cannot be computed",
+    "drop_one_sign_flip_row": "row without which the slope changes sign",
 }
 
 

@@ -8,16 +8,24 @@ file system.
 
 The writer also refuses to write onto a file that is being audited, so a careless ``--out`` can
 never destroy a source workbook.
+
+A set of outputs that belong together (the reports and annotated copies of one run) is written
+inside ``staged_outputs()``: every file goes to its temporary file first and all are renamed at
+the end, with Ctrl-C held back for those few renames, so an interrupted run leaves either the
+previous set or the complete new one, never a mix.
 """
 
 from __future__ import annotations
 
 import contextlib
+import contextvars
 import os
+import signal
 import tempfile
+import threading
 from collections.abc import Iterable, Iterator
 from pathlib import Path
-from typing import BinaryIO
+from typing import Any, BinaryIO
 
 from auditor.errors import UsageError
 
@@ -68,6 +76,83 @@ def _sync_folder(folder: Path) -> None:
         os.close(descriptor)
 
 
+class _Stage:
+    """Temporary files written in one ``staged_outputs()`` block, waiting for their rename."""
+
+    def __init__(self) -> None:
+        self.pending: list[tuple[Path, Path, int]] = []  # (temporary, target, mode)
+
+    def discard(self) -> None:
+        for temporary, _, _ in self.pending:
+            with contextlib.suppress(OSError):
+                temporary.unlink()
+        self.pending.clear()
+
+    def commit(self) -> None:
+        with held_interrupt():
+            for temporary, target, mode in self.pending:
+                os.chmod(temporary, mode)
+                os.replace(temporary, target)
+            for folder in dict.fromkeys(target.parent for _, target, _ in self.pending):
+                _sync_folder(folder)
+            self.pending.clear()
+
+
+_STAGE: contextvars.ContextVar[_Stage | None] = contextvars.ContextVar("stage", default=None)
+
+
+@contextlib.contextmanager
+def held_interrupt() -> Iterator[None]:
+    """Hold Ctrl-C back until the block ends, then raise it (main thread only)."""
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    received: list[Any] = []
+    previous = signal.signal(signal.SIGINT, lambda *_: received.append(True))
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGINT, previous)
+    if received:
+        raise KeyboardInterrupt
+
+
+@contextlib.contextmanager
+def staged_outputs() -> Iterator[None]:
+    """Every ``atomic_output`` inside the block is renamed into place only when the whole block
+    succeeds; on any error or interrupt none is, and the temporary files are removed."""
+    stage = _Stage()
+    token = _STAGE.set(stage)
+    try:
+        yield
+    except BaseException:
+        stage.discard()
+        raise
+    finally:
+        _STAGE.reset(token)
+    stage.commit()
+
+
+def prepare_out_dir(out_dir: Path) -> None:
+    """Create ``out_dir`` if missing and make sure files can be written into it, before any
+    audit work is spent; a UsageError says what is wrong and what to do."""
+    out_dir = Path(out_dir)
+    if out_dir.exists() and not out_dir.is_dir():
+        raise UsageError(
+            f"--out {str(out_dir)!r} is an existing file, not a folder; give a folder name "
+            "(it is created if missing)"
+        )
+    try:
+        out_dir.mkdir(parents=True, exist_ok=True)
+        with tempfile.TemporaryFile(dir=out_dir, prefix=".regaudit-probe."):
+            pass
+    except OSError as exc:
+        raise UsageError(
+            f"cannot write into the output folder {str(out_dir)!r} "
+            f"({exc.strerror or exc}); choose a folder you can write to with --out"
+        ) from exc
+
+
 @contextlib.contextmanager
 def atomic_output(target: Path, inputs: Iterable[Path | str] = ()) -> Iterator[BinaryIO]:
     """Yield a binary handle whose content replaces ``target`` when the block ends without error.
@@ -88,6 +173,10 @@ def atomic_output(target: Path, inputs: Iterable[Path | str] = ()) -> Iterator[B
             yield handle  # type: ignore[misc]  # the wrapper behaves as a BinaryIO
             handle.flush()
             os.fsync(handle.fileno())
+        stage = _STAGE.get()
+        if stage is not None:
+            stage.pending.append((temporary, target, mode))
+            return  # renamed with the rest of the set by staged_outputs()
         os.chmod(temporary, mode)
         os.replace(temporary, target)
     except BaseException:

@@ -176,6 +176,16 @@ def sarif_document(result: AuditResult) -> dict[str, Any]:
         for finding in workbook.all_findings():
             number = rule_index.get(finding.check, -1)
             results.append(_result(finding, number, location, index, finding.identity))
+    for skipped in result.skipped:
+        notifications.append(
+            {
+                "level": "warning",
+                "message": {"text": f"not audited: {skipped.path}: {skipped.reason}"},
+                "locations": [
+                    {"physicalLocation": {"artifactLocation": artifact_location(skipped.path)}}
+                ],
+            }
+        )
     run: dict[str, Any] = {
         "tool": {
             "driver": {

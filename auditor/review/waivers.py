@@ -157,6 +157,12 @@ def apply_waivers(result: AuditResult, waivers: Iterable[Waiver]) -> list[Waiver
         waiver = by_identity.get(finding.identity)
         if waiver is not None:
             finding.waived = waiver.note
+            finding.decision = {
+                "decision": "waived",
+                "reason": waiver.reason,
+                "name": waiver.name,
+                "date": waiver.date,
+            }
             used.add(waiver.identity)
     return [waiver for identity, waiver in by_identity.items() if identity not in used]
 

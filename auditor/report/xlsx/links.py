@@ -1,15 +1,22 @@
 """Names and links of audit.xlsx: detail-sheet names, links between sheets, links to sources.
 
 Links to the source workbooks are HYPERLINK formulas rather than XlsxWriter's ``external:`` URLs:
-XlsxWriter rewrites those into Windows paths, which breaks absolute POSIX paths. They carry the
-workbook's absolute path, so they work wherever audit.xlsx is moved as long as the sources stay.
+XlsxWriter rewrites those into Windows paths, which breaks absolute POSIX paths. They are relative
+to the folder audit.xlsx is written to (``link_base``), as a spreadsheet resolves a relative link
+against the workbook's own folder: the report and its sources can move together (a shared drive,
+an archive) and the links still open. Without a known folder they carry the absolute path.
 """
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
+import os
 import re
+from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
+from urllib.parse import quote
 
 from auditor.grid import split_cell
 from auditor.model import AuditResult, RegressionResult, WorkbookResult
@@ -73,13 +80,39 @@ def plain_cell(cell: str) -> tuple[str, str]:
     return sheet.strip("'"), address.replace("$", "")
 
 
+_LINK_BASE: contextvars.ContextVar[Path | None] = contextvars.ContextVar("base", default=None)
+
+
+@contextlib.contextmanager
+def link_base(folder: Path | None) -> Iterator[None]:
+    """Source links written inside the block are relative to ``folder`` (the report's folder)."""
+    token = _LINK_BASE.set(None if folder is None else Path(folder).resolve())
+    try:
+        yield
+    finally:
+        _LINK_BASE.reset(token)
+
+
+def file_target(path: str) -> str:
+    """The workbook's address: relative to the report's folder when known, else a file URI."""
+    base = _LINK_BASE.get()
+    source = Path(path).resolve()
+    if base is not None:
+        try:
+            relative = os.path.relpath(source, base)
+        except ValueError:  # another drive on Windows: only an absolute link can reach it
+            return source.as_uri()
+        return quote(Path(relative).as_posix(), safe="/.-_~")
+    return source.as_uri()
+
+
 def source_link(path: str, cell: str) -> str | None:
     """The HYPERLINK target of a cell in a source workbook, or None when Excel cannot hold it."""
     sheet, address = plain_cell(cell)
     if not sheet or not address:
         return None
     first = address.split(":", 1)[0]
-    target = f"{Path(path).resolve().as_uri()}#{quote_sheet(sheet)}!{first}"
+    target = f"{file_target(path)}#{quote_sheet(sheet)}!{first}"
     return target if len(target) <= HYPERLINK_LIMIT else None
 
 

@@ -13,12 +13,14 @@ from auditor.report.common import (
     CAUTION,
     NO_STORED_VALUES,
     SEVERITY_MEANING,
+    TABLE_STATS,
     THREE_VALUES,
     VERDICT_MEANING,
     AnnotatedCopy,
     copy_caveat,
     status_counts,
 )
+from auditor.report.verdicts import CATEGORIES, verdict_categories
 from auditor.report.xlsx.layout import LINE_HEIGHT, print_setup, text_lines
 from auditor.report.xlsx.links import DetailRef, internal_link
 from auditor.report.xlsx.style import VERDICT_PALETTE, Styles, put
@@ -30,6 +32,9 @@ COPIES_NOTE = (
     "and a note on the first sheet's A1 saying where it came from. The original is never "
     "changed. Formulas keep their text and recalculate when the copy is opened; content the "
     "copying library cannot carry over faithfully is named below, copy by copy."
+)
+CATEGORY_TONES = dict(
+    zip(CATEGORIES, ("mismatch", "", "unverifiable", "confirmed", "unverifiable"), strict=True)
 )
 CAUTION_ROW_HEIGHT = 62  # merged cells are not fitted by Excel; this holds the paragraph
 
@@ -109,13 +114,16 @@ def _counts(out: _Cursor, result: AuditResult) -> None:
         out.line(status, count, label_format=styles.top, value_format=styles.count)
     out.line("regressions found", totals["regressions"], value_format=styles.count)
 
-    regressions, statistics = verdict_counts(result)
-    out.section("Regressions by verdict")
-    for verdict, count in regressions.items():
-        out.line(verdict, count, styles.verdict[verdict], styles.count)
+    _, statistics = verdict_counts(result)
+    regressions = [r for w in result.workbooks for r in w.regressions]
+    out.section("Regressions by outcome")
+    for category, count in verdict_categories(regressions, [k for _, k in TABLE_STATS]).items():
+        tone = CATEGORY_TONES[category]
+        out.line(category, count, styles.for_verdict(tone), styles.count)
     out.section("Reported statistics by verdict")
     for verdict, count in statistics.items():
-        out.line(verdict, count, styles.verdict[verdict], styles.count)
+        if count:  # a zero beside findings that say otherwise reads as a contradiction
+            out.line(verdict, count, styles.verdict[verdict], styles.count)
 
     out.section("Findings by severity")
     for severity in SEVERITIES:
@@ -198,6 +206,14 @@ def overview_sheet(
         out.line(workbook.path, workbook.error or "no reason was recorded", styles.wrapped)
     if not unreadable:
         out.line("none", label_format=styles.top)
+    if result.skipped:
+        out.section("Files of other formats, not audited")
+        for skipped in result.skipped:
+            out.line(skipped.path, skipped.reason, styles.wrapped)
+
+    out.section("Inputs and their SHA-256 (the content this record is about)")
+    for workbook in result.workbooks:
+        out.line(workbook.path, workbook.sha256 or "not computed: the file could not be read")
 
     _copies(out, copies)
     _guide(out, refs)

@@ -6,7 +6,6 @@ audited workbook); Findings is sorted most severe first and links back the same 
 
 from __future__ import annotations
 
-import json
 from typing import Any
 
 from xlsxwriter import Workbook
@@ -14,11 +13,11 @@ from xlsxwriter import Workbook
 from auditor.model import SEVERITY_RANK, AuditResult, Finding, RegressionResult
 from auditor.report.common import (
     TABLE_STATS,
-    format_value,
-    plain,
     reported_and_intended,
     short_paths,
 )
+from auditor.report.evidence_words import evidence_words
+from auditor.report.verdicts import row_verdict
 from auditor.report.xlsx.layout import SheetWriter, add_table, print_setup
 from auditor.report.xlsx.links import DetailRef, anchor_cell, internal_link
 from auditor.report.xlsx.style import Styles
@@ -33,22 +32,22 @@ FINDING_HEADERS: tuple[str, ...] = (
     "message",
     "evidence",
     "fix",
-    "waived",
+    "decision",
+    "reason",
+    "decided by",
+    "decided on",
 )
-WRAPPED_FINDING_WIDTHS: dict[str, float] = {"message": 60, "evidence": 40, "fix": 50}
+WRAPPED_FINDING_WIDTHS: dict[str, float] = {
+    "message": 60,
+    "evidence": 40,
+    "fix": 50,
+    "reason": 30,
+}
 
 
 def evidence_text(evidence: dict[str, Any]) -> str:
-    """Evidence as a reviewer reads it: "reported: 0.0213; two tailed: 0.0426" (audit.json keeps
-    every digit; nested values stay compact JSON)."""
-    parts = []
-    for key, value in plain(evidence).items():
-        if isinstance(value, (dict, list)):
-            text = json.dumps(value, ensure_ascii=False, separators=(", ", ": "))
-        else:
-            text = format_value(key, value)
-        parts.append(f"{key.replace('_', ' ')}: {text}")
-    return "; ".join(parts)
+    """Evidence as a reviewer reads it (``evidence_words``); audit.json keeps every digit."""
+    return evidence_words(evidence)
 
 
 def ordered_findings(result: AuditResult) -> list[tuple[Finding, str, str]]:
@@ -95,9 +94,13 @@ def findings_sheet(
         else:
             out.put(row, 5, "", styles.top)
         out.put(row, 6, finding.message, styles.wrapped, wrap=True)
-        out.put(row, 7, evidence_text(finding.evidence), styles.wrapped, wrap=True)
+        out.put(row, 7, evidence_words(finding.evidence), styles.wrapped, wrap=True)
         out.put(row, 8, finding.fix, styles.wrapped, wrap=True)
-        out.put(row, 9, finding.waived, styles.wrapped)
+        decision = finding.decision or {}
+        out.put(row, 9, decision.get("decision", "open"), styles.top)
+        out.put(row, 10, decision.get("reason", ""), styles.wrapped)
+        out.put(row, 11, decision.get("name", ""), styles.top)
+        out.put(row, 12, decision.get("date", ""), styles.top)
     fixed = {headers.index(name): width for name, width in WRAPPED_FINDING_WIDTHS.items()}
     out.apply_widths(maximum=40, fixed=fixed)
     add_table(sheet, "FindingsTable", headers, len(findings), styles)
@@ -106,11 +109,20 @@ def findings_sheet(
 
 
 def regression_headers() -> list[str]:
-    headers = ["workbook", "sheet", "regression", "detail sheet", "source cell"]
-    headers += ["x range", "y range", "found by", "n", "x columns"]
+    """What a printed page needs first (it prints only those, PRINTED_COLUMNS), then the
+    columns for working on screen."""
+    headers = ["workbook", "regression", "n"]
     for label, _ in TABLE_STATS:
         headers += [f"{label} reported", f"{label} intended"]
-    return headers + ["verdict", "worst severity", "findings"]
+    headers += ["verdict", "worst severity", "findings"]
+    return (
+        headers
+        + ["sheet", "detail sheet", "source cell", "x range", "y range", "found by"]
+        + ["x columns"]
+    )
+
+
+PRINTED_COLUMNS = 3 + 2 * len(TABLE_STATS) + 3  # workbook … findings
 
 
 def _first_column_key(regression: RegressionResult, key: str) -> str:
@@ -136,24 +148,16 @@ def regressions_sheet(
     for col, name in enumerate(headers):
         out.header(0, col, name, filtered=True, numeric=name in numeric)
     shown = short_paths(result)
+    stats = [key for _, key in TABLE_STATS]
+    at = {name: index for index, name in enumerate(headers)}
     for row, ref in enumerate(refs, start=1):
         regression = ref.regression
-        out.put(row, 0, shown.get(ref.workbook.path, ref.workbook.path), styles.top)
-        out.put(row, 1, regression.sheet, styles.top)
-        out.put(row, 2, regression.id, styles.top)
-        if ref.detailed:
-            out.link(row, 3, internal_link(ref.sheet), ref.sheet)
-        else:
-            out.put(row, 3, "none (no finding)", styles.top)
-        out.source(row, 4, ref.workbook.path, anchor_cell(regression))
-        for col, value in enumerate(
-            (regression.x_range, regression.y_range, regression.found_by), start=5
-        ):
-            out.put(row, col, value, styles.top)
-        out.put(row, 8, regression.n, styles.number)
-        out.put(row, 9, regression.x_columns, styles.number)
-        col = 10
-        for _, key in TABLE_STATS:
+        name = shown.get(ref.workbook.path, ref.workbook.path)
+        out.put(row, at["workbook"], name, styles.wrapped, wrap=True)
+        out.put(row, at["regression"], regression.id, styles.top)
+        out.put(row, at["n"], regression.n, styles.number)
+        col = at["n"] + 1
+        for key in stats:
             reported, intended, verdict = reported_and_intended(
                 regression, _first_column_key(regression, key)
             )
@@ -161,11 +165,25 @@ def regressions_sheet(
             out.num(row, col + 1, intended)
             col += 2
         worst = regression.worst_severity
-        out.put(row, col, regression.verdict, styles.for_verdict(regression.verdict))
-        out.put(row, col + 1, worst or "none", styles.for_severity(worst))
-        out.put(row, col + 2, len(regression.findings), styles.number)
+        verdict_shown = row_verdict(regression, stats)
+        tone = verdict_shown.tone
+        tone_format = styles.verdict.get(tone) or styles.for_severity(tone)
+        out.put(row, at["verdict"], verdict_shown.text, tone_format)
+        out.put(row, at["worst severity"], worst or "none", styles.for_severity(worst))
+        out.put(row, at["findings"], len(regression.findings), styles.number)
+        out.put(row, at["sheet"], regression.sheet, styles.top)
+        if ref.detailed:
+            out.link(row, at["detail sheet"], internal_link(ref.sheet), ref.sheet)
+        else:
+            out.put(row, at["detail sheet"], "none (no finding)", styles.top)
+        out.source(row, at["source cell"], ref.workbook.path, anchor_cell(regression))
+        out.put(row, at["x range"], regression.x_range, styles.top)
+        out.put(row, at["y range"], regression.y_range, styles.top)
+        out.put(row, at["found by"], regression.found_by, styles.top)
+        out.put(row, at["x columns"], regression.x_columns, styles.number)
     out.apply_widths(maximum=45)
     add_table(sheet, "RegressionsTable", headers, len(refs), styles, numeric)
-    sheet.freeze_panes(1, 3)  # the workbook, sheet and id stay in view while scrolling right
+    sheet.freeze_panes(1, 2)  # the workbook and id stay in view while scrolling right
     print_setup(sheet, "Regressions")
+    sheet.print_area(0, 0, len(refs), PRINTED_COLUMNS - 1)
     sheet.repeat_rows(0)

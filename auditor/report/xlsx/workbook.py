@@ -19,6 +19,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from datetime import UTC, datetime
+from pathlib import Path
 from typing import BinaryIO
 
 from xlsxwriter import Workbook
@@ -27,7 +28,7 @@ from auditor.model import AuditResult
 from auditor.report.common import AnnotatedCopy
 from auditor.report.xlsx.calibration import curves_sheet
 from auditor.report.xlsx.detail import detail_sheet
-from auditor.report.xlsx.links import detail_refs
+from auditor.report.xlsx.links import detail_refs, link_base
 from auditor.report.xlsx.overview import overview_sheet
 from auditor.report.xlsx.style import Styles
 from auditor.report.xlsx.tables import (
@@ -58,11 +59,21 @@ class XlsxReporter:
 
     filename = "audit.xlsx"
 
-    def __init__(self, copies: Sequence[AnnotatedCopy] = (), detail: str = "findings") -> None:
+    def __init__(
+        self,
+        copies: Sequence[AnnotatedCopy] = (),
+        detail: str = "findings",
+        folder: Path | None = None,
+    ) -> None:
         self.copies = tuple(copies)
         self.detail = detail  # "findings": a detail sheet per regression with a finding; "all"
+        self.folder = folder  # where audit.xlsx goes: source links are relative to it
 
     def write(self, result: AuditResult, handle: BinaryIO) -> None:
+        with link_base(self.folder):
+            self._write(result, handle)
+
+    def _write(self, result: AuditResult, handle: BinaryIO) -> None:
         book = Workbook(handle, {"constant_memory": False, "in_memory": True})
         book.set_properties(
             {
