@@ -16,7 +16,7 @@ from pathlib import Path
 from auditor import __version__
 from auditor.cli.outcome import outcome_line
 from auditor.cli.plan import add_plan_parser
-from auditor.cli.review import add_review_parsers, cluster_options
+from auditor.cli.review import REPORT_FILES, add_review_parsers, cluster_options
 from auditor.cli.runner import run_audit
 from auditor.errors import PolicyError, RegauditError, UsageError
 from auditor.model import SEVERITY_RANK, AuditResult
@@ -25,7 +25,8 @@ from auditor.options import RunOptions
 from auditor.pipeline.limits import default_jobs
 
 FAIL_CHOICES = ("critical", "major", "minor", "info", "never")
-FORMAT_CHOICES = (*FORMATS, "sarif")  # audit.sarif only when asked for
+DEMO_FORMATS = (*FORMATS, "html")  # the demo shows the review page too
+FORMAT_CHOICES = (*FORMATS, "sarif", "html")  # audit.sarif and review.html when asked for
 
 EPILOG = """exit codes:
   0  no finding at or above --fail-on (default: critical)
@@ -48,14 +49,8 @@ def _print_outcome(result: AuditResult, out_dir: Path, formats: tuple[str, ...])
     for skipped in result.skipped:
         print(f"skipped {skipped.path}: {skipped.reason}", file=sys.stderr)
     print(outcome_line(result))
-    names = {
-        "json": "audit.json",
-        "text": "summary.txt",
-        "xlsx": "audit.xlsx",
-        "sarif": "audit.sarif",
-    }
     for fmt in formats:
-        print(f"  wrote {out_dir / names[fmt]}")
+        print(f"  wrote {out_dir / REPORT_FILES[fmt]}")
 
 
 def exit_code(result: AuditResult, fail_on: str) -> int:
@@ -176,10 +171,14 @@ def cmd_demo(args: argparse.Namespace) -> int:
     print(f"wrote {len(demo_workbooks())} demo workbooks to {inputs}")
     out_dir = target / "audit"
     options = RunOptions(
-        policy=args.policy, jobs=args.jobs, timestamp=args.timestamp, annotate=True
+        policy=args.policy,
+        jobs=args.jobs,
+        timestamp=args.timestamp,
+        annotate=True,
+        formats=DEMO_FORMATS,
     )
     result = run_audit([str(inputs)], out_dir, options)
-    _print_outcome(result, out_dir, FORMATS)
+    _print_outcome(result, out_dir, DEMO_FORMATS)
     print(f"open {out_dir / 'audit.xlsx'} or read {out_dir / 'summary.txt'}")
     return 0
 
@@ -220,7 +219,8 @@ def build_parser() -> argparse.ArgumentParser:
         "--format",
         default=None,
         metavar="LIST",
-        help="comma-separated outputs among json,text,xlsx,sarif (default: json,text,xlsx)",
+        help="comma-separated outputs among json,text,xlsx,sarif,html (default: json,text,xlsx; "
+        "html is review.html, a page with plots per regression)",
     )
     audit.add_argument(
         "--bindings",

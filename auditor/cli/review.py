@@ -18,6 +18,7 @@ REPORT_FILES = {
     "text": "summary.txt",
     "xlsx": "audit.xlsx",
     "sarif": "audit.sarif",
+    "html": "review.html",
 }
 
 
@@ -211,7 +212,7 @@ def add_review_parsers(sub: argparse._SubParsersAction, cores: int) -> None:  # 
         "--format",
         default=None,
         metavar="LIST",
-        help="comma-separated outputs among json,text,xlsx,sarif (default: json,text,xlsx)",
+        help="comma-separated outputs among json,text,xlsx,sarif,html (default: json,text,xlsx)",
     )
     record.add_argument(
         "--timestamp", default=None, help="date shown in the reports (for reproducible output)"

@@ -4,7 +4,8 @@
     ├── JsonReporter      audit.json   (the machine contract)
     ├── TextReporter      summary.txt  (the first thing a reviewer reads)
     ├── XlsxReporter      audit.xlsx   (the reviewer's workbook)
-    └── SarifReporter     audit.sarif  (SARIF 2.1.0 for code-review tools; on request only)
+    ├── SarifReporter     audit.sarif  (SARIF 2.1.0 for code-review tools; on request only)
+    └── HtmlReporter      review.html  (a page with plots per regression; on request only)
 
 Reporters read only ``auditor.model``; they never open source workbooks nor import the reading,
 locating or fitting modules. ``write_reports`` is the one entry point for the CLI: it sends every
@@ -52,6 +53,7 @@ _CLASSES = {
     "TextReporter": ("summary.txt", "auditor.report.text"),
     "JsonReporter": ("audit.json", "auditor.report.json"),
     "SarifReporter": ("audit.sarif", "auditor.report.sarif"),
+    "HtmlReporter": ("review.html", "auditor.report.html"),
 }
 REPORTERS: dict[str, Reporter] = {
     fmt: _OnFirstUse(*_CLASSES[name], name)
@@ -60,6 +62,7 @@ REPORTERS: dict[str, Reporter] = {
         ("text", "TextReporter"),
         ("json", "JsonReporter"),
         ("sarif", "SarifReporter"),
+        ("html", "HtmlReporter"),
     )
 }
 DEFAULT_FORMATS: tuple[str, ...] = ("xlsx", "text", "json")
@@ -133,6 +136,7 @@ __all__ = [
     "JsonReporter",
     "Reporter",
     "SarifReporter",
+    "HtmlReporter",
     "TextReporter",
     "XlsxReporter",
     "audited_files",
