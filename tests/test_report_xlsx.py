@@ -64,7 +64,7 @@ def test_every_finding_is_a_row_most_severe_first(book: openpyxl.Workbook) -> No
 
 def test_formula_like_text_stays_text(book: openpyxl.Workbook) -> None:
     # A message that starts with "=" must not become a live formula in the reviewer's workbook.
-    cell = book["Findings"]["G3"]
+    cell = book["Findings"]["D3"]  # the message column
     assert cell.value == "=SLOPE(B2:B8,A2:A8) leaves out row 9 of the data table."
     assert cell.data_type == "s"
 
@@ -88,7 +88,7 @@ def test_links_open_the_detail_sheet_and_the_source_cell(book: openpyxl.Workbook
     target = (Path.cwd() / AUDITED_PATH).resolve().as_uri()
     assert source == f'=HYPERLINK("{target}#\'Calib\'!F4","Calib!F4")'
     findings = book["Findings"]
-    regression_links = [c.hyperlink.location for c in findings["E"][1:] if c.hyperlink]
+    regression_links = [c.hyperlink.location for c in findings["J"][1:] if c.hyperlink]
     assert regression_links == ["'R01 calib-1'!A1", "'R01 calib-1'!A1", "'R02 drift-1'!A1"]
 
 
@@ -133,8 +133,10 @@ def test_tables_with_filters_and_frozen_headers(book: openpyxl.Workbook) -> None
     assert regressions.tables["RegressionsTable"].autoFilter is not None
     # Regressions keeps the workbook and id in view while scrolling right.
     assert findings.freeze_panes == "A2" and regressions.freeze_panes == "C2"
-    assert findings.column_dimensions["G"].width > findings.column_dimensions["A"].width
-    assert findings["G2"].alignment.wrap_text
+    assert findings.column_dimensions["D"].width > findings.column_dimensions["A"].width
+    assert findings["D2"].alignment.wrap_text
+    # Printed: severity to decision; the filter and link columns stay on screen.
+    assert findings.print_area == "'Findings'!$A$1:$G$5"
 
 
 def _overview_text(book: openpyxl.Workbook) -> list[tuple[object, object]]:

@@ -59,9 +59,14 @@ CATEGORIES: tuple[str, ...] = (
 )
 
 
+NAMES_LISTED = 2  # more hidden statistics are counted, so the verdict stays one short line
+
+
 def _names(keys: Iterable[str]) -> str:
-    names = dict.fromkeys(SHORT_NAMES.get(stat_base(k).split("[")[0], k) for k in keys)
-    return ", ".join(names)
+    names = list(dict.fromkeys(SHORT_NAMES.get(stat_base(k).split("[")[0], k) for k in keys))
+    listed = ", ".join(names[:NAMES_LISTED])
+    more = len(names) - NAMES_LISTED
+    return listed + (f" and {more} more" if more > 0 else "")
 
 
 def row_verdict(regression: RegressionResult, shown: Iterable[str]) -> RowVerdict:

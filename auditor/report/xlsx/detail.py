@@ -15,6 +15,7 @@ from xlsxwriter import Workbook
 
 from auditor.model import RegressionResult, ReportedValue
 from auditor.report.common import finite_or_none, stat_label, stat_order
+from auditor.report.verdicts import row_verdict
 from auditor.report.xlsx.charts import insert_charts
 from auditor.report.xlsx.layout import SheetWriter, print_setup
 from auditor.report.xlsx.links import DetailRef, anchor_cell, internal_link
@@ -43,6 +44,7 @@ def _identification(ref: DetailRef) -> list[tuple[str, Any, str]]:
     """(label, value, style name) rows of the block at the top."""
     regression = ref.regression
     worst = regression.worst_severity
+    shown = row_verdict(regression, regression.reported)  # the sheet shows every statistic
     rows: list[tuple[str, Any, str]] = [
         ("workbook", ref.workbook.path, "top"),
         ("sheet", regression.sheet, "top"),
@@ -58,7 +60,7 @@ def _identification(ref: DetailRef) -> list[tuple[str, Any, str]]:
         ("points used (n)", regression.n, "number"),
         ("x columns", regression.x_columns, "number"),
         ("intercept", "fitted" if regression.intercept else "forced through zero", "top"),
-        ("verdict", regression.verdict, f"verdict:{regression.verdict}"),
+        ("verdict", shown.text, f"verdict:{shown.tone}"),
         ("worst severity", worst or "none", f"severity:{worst}"),
         ("findings", len(regression.findings), "number"),
     ]
@@ -86,7 +88,8 @@ def _conditioning_rows(conditioning: dict[str, Any]) -> list[tuple[str, Any, str
 
 def _style(styles: Styles, name: str) -> Any:
     if name.startswith("verdict:"):
-        return styles.for_verdict(name.split(":", 1)[1])
+        tone = name.split(":", 1)[1]  # a verdict, or a severity when values agree (verdicts.py)
+        return styles.verdict.get(tone) or styles.for_severity(tone)
     if name.startswith("severity:"):
         return styles.for_severity(name.split(":", 1)[1])
     return styles.count if name == "number" else styles.top  # counts sit left, beside text

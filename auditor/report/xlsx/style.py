@@ -68,8 +68,10 @@ def shown_number(value: float, digits: int = SIGNIFICANT) -> str:
 
 
 def _coloured(book: Workbook, text: str, fill: str) -> Format:
-    # The indent keeps the word clear of a right-aligned number in the cell to its left.
+    # The indent keeps the word clear of a right-aligned number in the cell to its left; a
+    # longer verdict ("mismatch (also R² and 2 more)") wraps within its column.
     properties = {"bold": True, "valign": "top", "font_color": text, "bg_color": fill}
+    properties["text_wrap"] = True
     return book.add_format(properties | {"indent": 1})
 
 

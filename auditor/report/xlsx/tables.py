@@ -23,24 +23,30 @@ from auditor.report.xlsx.links import DetailRef, anchor_cell, internal_link
 from auditor.report.xlsx.style import Styles
 
 FINDING_HEADERS: tuple[str, ...] = (
+    # Printed (PRINTED_FINDING_COLUMNS): what a signed page needs.
     "severity",
-    "check",
-    "kind",
     "workbook",
-    "regression",
     "cells",
     "message",
     "evidence",
     "fix",
     "decision",
+    # On screen only: for filtering and following links.
+    "check",
+    "kind",
+    "regression",
     "reason",
     "decided by",
     "decided on",
 )
+PRINTED_FINDING_COLUMNS = 7
+WORKBOOK_WIDTH = 24  # the workbook columns, wrapped
+VERDICT_WIDTH = 22  # the Regressions sheet's verdict, wrapped
+CELLS_WIDTH = 22  # the Findings sheet's cells: the first cells show, the rest on screen
 WRAPPED_FINDING_WIDTHS: dict[str, float] = {
-    "message": 60,
-    "evidence": 40,
-    "fix": 50,
+    "message": 55,
+    "evidence": 35,
+    "fix": 45,
     "reason": 30,
 }
 
@@ -79,32 +85,36 @@ def findings_sheet(
     detail = {(ref.workbook.path, ref.regression.id): ref.sheet for ref in refs}
     shown = short_paths(result)
     findings = ordered_findings(result)
+    at = {name: index for index, name in enumerate(headers)}
     for row, (finding, path, regression_id) in enumerate(findings, start=1):
-        out.put(row, 0, finding.severity, styles.severity[finding.severity])
-        out.put(row, 1, finding.check, styles.top)
-        out.put(row, 2, finding.kind, styles.top)
-        out.put(row, 3, shown.get(path, path), styles.top)
+        out.put(row, at["severity"], finding.severity, styles.severity[finding.severity])
+        out.put(row, at["workbook"], shown.get(path, path), styles.wrapped, wrap=True)
+        if finding.cells:
+            out.source(row, at["cells"], path, finding.cells[0], ", ".join(finding.cells))
+        else:
+            out.put(row, at["cells"], "", styles.top)
+        out.put(row, at["message"], finding.message, styles.wrapped, wrap=True)
+        out.put(row, at["evidence"], evidence_words(finding.evidence), styles.wrapped, wrap=True)
+        out.put(row, at["fix"], finding.fix, styles.wrapped, wrap=True)
+        decision = finding.decision or {}
+        out.put(row, at["decision"], decision.get("decision", "open"), styles.top)
+        out.put(row, at["check"], finding.check, styles.top)
+        out.put(row, at["kind"], finding.kind, styles.top)
         target = detail.get((path, regression_id))
         if target:
-            out.link(row, 4, internal_link(target), regression_id)
+            out.link(row, at["regression"], internal_link(target), regression_id)
         else:
-            out.put(row, 4, regression_id, styles.top)
-        if finding.cells:
-            out.source(row, 5, path, finding.cells[0], ", ".join(finding.cells))
-        else:
-            out.put(row, 5, "", styles.top)
-        out.put(row, 6, finding.message, styles.wrapped, wrap=True)
-        out.put(row, 7, evidence_words(finding.evidence), styles.wrapped, wrap=True)
-        out.put(row, 8, finding.fix, styles.wrapped, wrap=True)
-        decision = finding.decision or {}
-        out.put(row, 9, decision.get("decision", "open"), styles.top)
-        out.put(row, 10, decision.get("reason", ""), styles.wrapped)
-        out.put(row, 11, decision.get("name", ""), styles.top)
-        out.put(row, 12, decision.get("date", ""), styles.top)
+            out.put(row, at["regression"], regression_id, styles.top)
+        out.put(row, at["reason"], decision.get("reason", ""), styles.wrapped)
+        out.put(row, at["decided by"], decision.get("name", ""), styles.top)
+        out.put(row, at["decided on"], decision.get("date", ""), styles.top)
     fixed = {headers.index(name): width for name, width in WRAPPED_FINDING_WIDTHS.items()}
+    fixed[headers.index("workbook")] = WORKBOOK_WIDTH
+    fixed[headers.index("cells")] = CELLS_WIDTH
     out.apply_widths(maximum=40, fixed=fixed)
     add_table(sheet, "FindingsTable", headers, len(findings), styles)
     print_setup(sheet, "Findings")
+    sheet.print_area(0, 0, len(findings), PRINTED_FINDING_COLUMNS - 1)
     sheet.repeat_rows(0)
 
 
@@ -168,7 +178,7 @@ def regressions_sheet(
         verdict_shown = row_verdict(regression, stats)
         tone = verdict_shown.tone
         tone_format = styles.verdict.get(tone) or styles.for_severity(tone)
-        out.put(row, at["verdict"], verdict_shown.text, tone_format)
+        out.put(row, at["verdict"], verdict_shown.text, tone_format, wrap=True)
         out.put(row, at["worst severity"], worst or "none", styles.for_severity(worst))
         out.put(row, at["findings"], len(regression.findings), styles.number)
         out.put(row, at["sheet"], regression.sheet, styles.top)
@@ -181,7 +191,9 @@ def regressions_sheet(
         out.put(row, at["y range"], regression.y_range, styles.top)
         out.put(row, at["found by"], regression.found_by, styles.top)
         out.put(row, at["x columns"], regression.x_columns, styles.number)
-    out.apply_widths(maximum=45)
+    # A long file name wraps rather than pushing the printed columns off the page.
+    fixed = {at["workbook"]: WORKBOOK_WIDTH, at["verdict"]: VERDICT_WIDTH}
+    out.apply_widths(maximum=45, fixed=fixed)
     add_table(sheet, "RegressionsTable", headers, len(refs), styles, numeric)
     sheet.freeze_panes(1, 2)  # the workbook and id stay in view while scrolling right
     print_setup(sheet, "Regressions")
