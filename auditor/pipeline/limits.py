@@ -108,15 +108,17 @@ class _Pool(Generic[T, R]):
         process = self.context.Process(
             target=_serve, args=(self.fn, child, self.limits.memory_bytes), daemon=True
         )
-        # Blocked, not ignored: a Ctrl-C during the start waits for the parent, never lost.
+        # Blocked, not ignored: a Ctrl-C during the start waits for the parent, never lost; and
+        # the worker is on the list before it can arrive, so close() stops it (an unlisted one
+        # outlives the run, holding the console open).
         blocked = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
         try:
             process.start()
+            child.close()
+            worker = _Worker(process, parent)
+            self.workers.append(worker)
         finally:
             signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
-        child.close()
-        worker = _Worker(process, parent)
-        self.workers.append(worker)
         return worker
 
     def give(self, worker: _Worker, index: int, task: T) -> None:
