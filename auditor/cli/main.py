@@ -179,7 +179,10 @@ def cmd_demo(args: argparse.Namespace) -> int:
     )
     result = run_audit([str(inputs)], out_dir, options)
     _print_outcome(result, out_dir, DEMO_FORMATS)
-    print(f"open {out_dir / 'audit.xlsx'} or read {out_dir / 'summary.txt'}")
+    print(
+        f"open {out_dir / 'review.html'} in a browser or {out_dir / 'audit.xlsx'}, "
+        f"or read {out_dir / 'summary.txt'}"
+    )
     return 0
 
 
