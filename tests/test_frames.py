@@ -29,7 +29,22 @@ def audited(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, Path]:
     for name in BOOKS:
         shutil.copyfile(FIXTURES / "workbooks" / name, folder / name)
     ledger = root / "ledger.sqlite"
-    main(["audit", str(folder), "--out", str(root / "out"), "--ledger", str(ledger), "--jobs", "0"])
+    out = str(root / "out")
+    # The general policy: the manifest's "clean" is declared under it.
+    main(
+        [
+            "audit",
+            str(folder),
+            "--out",
+            out,
+            "--ledger",
+            str(ledger),
+            "--jobs",
+            "0",
+            "--policy",
+            "general",
+        ]
+    )
     return root / "out", ledger
 
 

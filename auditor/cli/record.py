@@ -14,9 +14,10 @@ import dataclasses
 from pathlib import Path
 
 from auditor import __version__
-from auditor.cli.runner import FORMATS, load_bindings, timestamp_text
+from auditor.cli.runner import load_bindings, timestamp_text
 from auditor.errors import UsageError
 from auditor.model import AuditResult, WorkbookResult
+from auditor.options import DEFAULT_FORMATS as FORMATS
 from auditor.pipeline.inputs import scan_inputs
 from auditor.pipeline.ledger import (
     AuditKey,
@@ -53,7 +54,7 @@ def results_from_ledger(
 def write_record(
     inputs: list[str],
     out_dir: Path,
-    policy_name: str = "general",
+    policy_name: str = "auto",
     formats: tuple[str, ...] = FORMATS,
     bindings_file: str | None = None,
     waivers_file: str | None = None,

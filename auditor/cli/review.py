@@ -194,7 +194,7 @@ def add_review_parsers(sub: argparse._SubParsersAction, cores: int) -> None:  # 
     record.add_argument("paths", nargs="+", metavar="PATH", help=".xlsx/.xlsm files or folders")
     record.add_argument("--out", required=True, metavar="DIR", help="folder for the reports")
     record.add_argument(
-        "--policy", default="general", help="policy the files were audited under (default: general)"
+        "--policy", default="auto", help="policy the files were audited under (default: auto)"
     )
     record.add_argument(
         "--bindings", default=None, metavar="FILE", help="bindings file the audit used, if any"
