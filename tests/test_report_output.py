@@ -111,7 +111,7 @@ def test_refuses_a_hard_link_to_an_input(tmp_path: Path) -> None:
 
 def test_unknown_format_is_a_usage_error(tmp_path: Path) -> None:
     with pytest.raises(
-        UsageError, match="unknown report format 'pdf'; choose from json, sarif, text, xlsx"
+        UsageError, match="unknown report format 'pdf'; choose from html, json, sarif, text, xlsx"
     ):
         write_reports(sample_result(), tmp_path / "out", ["json", "pdf"])
     assert not (tmp_path / "out").exists()
