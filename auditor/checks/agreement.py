@@ -113,10 +113,15 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
                 else " The sign of the slope is reversed"
             ) + "."
         shown, recomputed = fmt_pair(value.value, value.intended)
+        judged = (  # "the same to 9 significant digits", or an allowance with its reason
+            f"they should be {value.tolerance}"
+            if value.tolerance.startswith("the same")
+            else f"the difference allowed is {value.tolerance}"
+        )
         message = (
             f"The reported {describe(value.key)} is {shown}, but the "
             f"{context.data.n} points of {context.data.intended_y_range} give "
-            f"{recomputed}; they should be {value.tolerance}.{consequence}"
+            f"{recomputed}; {judged}.{consequence}"
         )
         evidence: dict[str, object] = {
             "key": value.key,
