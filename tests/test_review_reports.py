@@ -158,3 +158,25 @@ def test_links_are_relative_to_the_report(tmp_path: Path) -> None:
     assert any(
         "not audited" in n["message"]["text"] and "old.ods" in n["message"]["text"] for n in notes
     )
+
+
+def test_repeated_minor_findings_are_brief_and_major_ones_in_full() -> None:
+    def finding(severity: str, cell: str) -> Finding:
+        return Finding(
+            check="ranges-disagree", severity=severity, cells=[cell],  # type: ignore[arg-type]
+            message=f"The x range of {cell} ends a row early. Its y range does not.",
+            fix="Extend the range to the table's last row.",
+        )  # fmt: skip
+
+    findings = [finding("minor", "S!E4"), finding("minor", "S!E5"), finding("major", "S!E6")]
+    findings.append(finding("major", "S!E7"))
+    result = AuditResult(
+        "0.1.0", "general", [WorkbookResult("a.xlsx", "e" * 64, "audited", findings=findings)]
+    )
+    text = render_text(result)
+    assert text.count("fix: Extend the range to the table's last row.") == 3  # 1 minor, 2 major
+    assert (
+        "[MINOR] ranges-disagree S!E5\n    The x range of S!E5 ends a row early. (fix as above)\n"
+        in text
+    )
+    assert text.count("Its y range does not.") == 3

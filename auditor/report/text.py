@@ -31,6 +31,7 @@ from auditor.report.verdicts import row_verdict
 WIDTH = 100
 INDENT = "    "
 MISMATCH_MARK = "*"
+BRIEF_SEVERITIES = ("minor", "info")  # repeats of these are shortened; major ones never
 ADVICE_MIN_LENGTH = 60  # shorter recurring sentences are cheaper to repeat than to look up
 
 
@@ -150,6 +151,15 @@ def shared_advice(findings: list[Finding]) -> dict[str, int]:
     return {sentence: number for number, sentence in enumerate(recurring, start=1)}
 
 
+def brief_block(finding: Finding) -> list[str]:
+    """A repeat of a minor or info finding already shown in full: its cells and first sentence."""
+    title = f"[{finding.severity.upper()}] {finding.check}"
+    if finding.cells:
+        title += " " + ", ".join(finding.cells)
+    first = _SENTENCE_END.split(finding.message.strip())[0]
+    return [title, *_wrap(f"{first} (fix as above)", INDENT)]
+
+
 def finding_block(finding: Finding, advice: dict[str, int] | None = None) -> list[str]:
     """``[MAJOR] check-id (kind) Sheet!E6`` then the message and the fix, indented."""
     title = f"[{finding.severity.upper()}] {finding.check}"
@@ -198,8 +208,14 @@ def _workbook_section(
         lines += _wrap("No regression was found in this workbook.", INDENT)
     if findings:
         lines.append("")
+    seen: set[tuple[str, str, str | None]] = set()
     for finding in findings:
-        lines += finding_block(finding, advice)
+        family = (finding.severity, finding.check, finding.kind)
+        if finding.severity in BRIEF_SEVERITIES and family in seen and not finding.waived:
+            lines += brief_block(finding)  # the same minor finding again: where and what only
+        else:
+            lines += finding_block(finding, advice)
+        seen.add(family)
     return lines
 
 
