@@ -50,9 +50,10 @@ def agree_stored(
     reported: float, true: float, rel: float = 1e-9, scale: float | None = None
 ) -> Agreement:
     """A formula's stored value: |reported − true| ≤ rel · max(|true|, scale)."""
-    tolerance = stored_tolerance_words(rel, scale)
     if not (_finite(reported) and _finite(true)):
         return Agreement(None, "no number to compare", None)
+    # The floor is named only where it decides: for a value nearer zero than the floor.
+    tolerance = stored_tolerance_words(rel, scale if scale and abs(true) < scale else None)
     # The floor keeps a value that should be near 0 (an intercept through the origin) judgeable.
     allowed = rel * max(abs(true), scale or 0.0)
     return Agreement(abs(reported - true) <= allowed, tolerance, allowed)
