@@ -5,7 +5,8 @@ from __future__ import annotations
 import resource
 import time
 
-from auditor.pipeline.limits import Failure, FileLimits, run_in_process
+from auditor.pipeline.in_process import run_in_process
+from auditor.pipeline.limits import Failure, FileLimits
 
 
 def _sleep_forever(task: str) -> str:

@@ -14,6 +14,7 @@ from importlib import resources
 from pathlib import Path
 
 from auditor import __version__
+from auditor.cli.listings import cmd_history, cmd_rules
 from auditor.cli.outcome import outcome_line
 from auditor.cli.plan import add_plan_parser
 from auditor.cli.review import REPORT_FILES, add_review_parsers, cluster_options
@@ -97,64 +98,6 @@ def cmd_audit(args: argparse.Namespace) -> int:
     _print_outcome(result, Path(args.out), formats)
     print(f"  in {time.perf_counter() - started:.1f} s")
     return exit_code(result, args.fail_on)
-
-
-def cmd_rules(args: argparse.Namespace) -> int:
-    from tabulate import tabulate  # here, not at start-up: an audit does not need it
-
-    from auditor.checks import REGISTRY
-    from auditor.policy import load_policy
-
-    rows = [(c.id, c.family, c.summary, ", ".join(c.thresholds)) for c in REGISTRY.values()]
-    headers = ["check", "family", "what it finds", "thresholds it reads"]
-    print(tabulate(rows, headers=headers, tablefmt="simple"))
-    policy = load_policy(args.policy)
-    print(f"\npolicy {policy.name!r}: {policy.description}")
-    rows2 = [(k, f"{t.value:g}", t.source) for k, t in policy.thresholds.items()]
-    print(tabulate(rows2, headers=["threshold", "value", "source"], tablefmt="simple"))
-    return 0
-
-
-def cmd_history(args: argparse.Namespace) -> int:
-    from tabulate import tabulate
-
-    from auditor.pipeline.ledger import Ledger, default_ledger_path
-
-    path = Path(args.ledger) if args.ledger else default_ledger_path()
-    if not path.exists():
-        raise UsageError(f"no ledger at {str(path)!r}: run an audit first, or give --ledger")
-    with Ledger(path) as ledger:
-        entries = ledger.history(args.file)
-    if not entries:
-        print(f"{args.file}: no audits recorded in {path}")
-        return 0
-    rows = [
-        (
-            e.audited_at,
-            e.sha256[:12],
-            f"{e.size:,}",
-            e.policy,
-            e.version,
-            e.status,
-            e.regressions,
-            ", ".join(f"{n} {s}" for s, n in e.findings.items()) or "none",
-            f"{e.seconds:.2f} s",
-        )
-        for e in entries
-    ]
-    headers = [
-        "audited (UTC)",
-        "sha256",
-        "bytes",
-        "policy",
-        "version",
-        "status",
-        "regressions",
-        "findings",
-        "time",
-    ]
-    print(tabulate(rows, headers=headers))
-    return 0
 
 
 def demo_workbooks() -> list[Path]:

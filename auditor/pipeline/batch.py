@@ -17,7 +17,8 @@ from typing import TYPE_CHECKING, Any
 from auditor import __version__
 from auditor.errors import RegauditError
 from auditor.model import WorkbookResult
-from auditor.pipeline.limits import Failure, FileLimits, default_jobs, run_in_process, run_limited
+from auditor.pipeline.in_process import run_in_process
+from auditor.pipeline.limits import Failure, FileLimits, default_jobs, run_limited
 from auditor.policy import Policy
 from auditor.read.open import sha256_of
 
