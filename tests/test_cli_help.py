@@ -32,3 +32,19 @@ def test_the_walk_reaches_nested_subcommands() -> None:
     # The test above proves nothing unless it sees the nested parsers too.
     wanted = {"regaudit audit", "regaudit demo", "regaudit rules", "regaudit baseline create"}
     assert wanted <= trails
+
+
+def test_a_closed_pipe_ends_a_listing_quietly() -> None:
+    """`regaudit rules | head -1`: no traceback when the reader stops early."""
+    import subprocess
+    import sys
+
+    done = subprocess.run(
+        f"{sys.executable} -m auditor rules | head -1",
+        shell=True,
+        capture_output=True,
+        text=True,
+        check=False,
+    )
+    assert done.stdout.startswith("check")
+    assert "Traceback" not in done.stderr

@@ -7,6 +7,7 @@ input could be read.
 from __future__ import annotations
 
 import argparse
+import os
 import shutil
 import sys
 import time
@@ -283,3 +284,8 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print(INTERRUPTED, file=sys.stderr)
         return 130  # 128 + SIGINT, as shells report it
+    except BrokenPipeError:
+        # The reader of our output went away (`regaudit rules | head`): stop quietly, and keep
+        # Python from complaining again when it flushes stdout at exit.
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
