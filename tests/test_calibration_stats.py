@@ -12,16 +12,14 @@ import statsmodels.api as sm
 from auditor.fit.calibration import (
     back_calculate,
     coefficient_test,
-    curvature,
     detection_limits,
     deviation_percent,
     fit_line,
     judge_standards,
     read_off,
-    residual_runs,
     residuals_of,
-    spread_growth,
 )
+from auditor.fit.calibration_shape import curvature, residual_runs, spread_growth
 from auditor.fit.weights import recognise_scheme, scheme_weights, weighting_effect
 
 # Worked example: Miller & Miller, Statistics and Chemometrics for Analytical Chemistry, sections

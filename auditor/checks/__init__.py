@@ -6,6 +6,7 @@ from auditor.checks import (
     agreement,
     calibration,
     calibration_results,
+    calibration_shape,
     coefficients,
     data,
     design,
@@ -25,6 +26,7 @@ from auditor.model import CheckInfo, Finding
 FAMILIES = (
     agreement,
     calibration,
+    calibration_shape,
     calibration_results,
     coefficients,
     data,

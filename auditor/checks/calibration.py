@@ -2,8 +2,9 @@
 
 They run only under a policy that judges calibrations (one that sets ``standards_tolerance``:
 ``calibration``, or ``auto`` for a curve recognised by its words); under ``general`` they are off.
-The arithmetic is in :mod:`auditor.design.calibration`; this module words the findings. They check
-arithmetic and design against a policy, and defer to the laboratory's own procedures.
+The arithmetic is in :mod:`auditor.design.calibration_review`; this module words the findings
+(the residual-shape check is in :mod:`auditor.checks.calibration_shape`). They check arithmetic
+and design against a policy, and defer to the laboratory's own procedures.
 """
 
 from __future__ import annotations
@@ -14,12 +15,8 @@ import numpy as np
 
 from auditor.checks.base import check
 from auditor.context import RegressionContext
-from auditor.design.calibration import (
-    CalibrationInputs,
-    CurveReview,
-    judges_calibration,
-    review_curve,
-)
+from auditor.design.calibration import CalibrationInputs, CurveReview, judges_calibration
+from auditor.design.calibration_review import review_curve
 from auditor.grid import column_letter
 from auditor.model import Finding
 
@@ -30,15 +27,6 @@ def _reviewed(context: RegressionContext) -> tuple[CalibrationInputs, CurveRevie
         return None
     review = review_curve(inputs, context.policy)
     return None if review is None else (inputs, review)
-
-
-def _lack_of_fit_named(context: RegressionContext) -> bool:
-    """Whether the lack-of-fit F test against pure error (replicated levels) rejects the line."""
-    if context.fit.status != "ok" or context.spec.x_columns != 1:
-        return False
-    lack = context.design_metrics().lack
-    alpha = context.policy.get("lack_of_fit_alpha")
-    return lack is not None and math.isfinite(lack.p) and lack.p < alpha
 
 
 def _g(value: float, digits: int = 4) -> str:
@@ -261,70 +249,3 @@ def weighted_fit_recomputed(context: RegressionContext) -> list[Finding]:
             )
         )
     return findings
-
-
-@check(
-    "residual-shape",
-    "The residuals bend: a significant quadratic term, or too few runs of residual signs.",
-    thresholds=("shape_alpha", "spread_alpha", "curvature_sd_ratio", "lack_of_fit_alpha"),
-)
-def residual_shape(context: RegressionContext) -> list[Finding]:
-    """A straight line over a curve leaves its residuals in long runs of one sign.
-
-    Failing: detector saturation: residuals − + + + − over 10 levels (3 runs), quadratic term
-    t = −233, residual SD 4776 for the line and 58 for the quadratic (major: the bend dominates
-    the scatter). Passing: residual signs alternate at random and the quadratic term has p = 0.62.
-    A bend that the lack-of-fit test against replicates already names is shown as info.
-    """
-    reviewed = _reviewed(context)
-    if reviewed is None:
-        return []
-    _, review = reviewed
-    alpha = context.policy.get("shape_alpha")
-    bend, runs = review.bend, review.runs
-    bent = bend is not None and bend.p_value < alpha
-    clustered = runs is not None and runs.p_value < alpha
-    if not bent and not clustered:
-        return []
-    parts = []
-    if bend is not None:
-        parts.append(
-            f"quadratic term {bend.quadratic:.4g} (t = {bend.t:.3g}, p = {bend.p_value:.3g}); "
-            f"residual SD {bend.s_line:.4g} for the line, {bend.s_quadratic:.4g} for the "
-            "quadratic"
-        )
-    if runs is not None:
-        parts.append(
-            f"{runs.runs} runs of residual signs over the levels where {runs.expected:.1f} are "
-            f"expected (p = {runs.p_value:.3g})"
-        )
-    spread = review.spread
-    uneven = spread is not None and spread.p_value < context.policy.get("spread_alpha")
-    if uneven and review.curve.weights is None:
-        parts.append("the scatter grows with concentration, so these unweighted tests are rough")
-    # Major only when the bend dominates the scatter; a bend that the lack-of-fit test against
-    # pure error already names (line-lacks-fit) is shown as info (one finding per mistake).
-    dominant = (
-        bend is not None
-        and bend.s_line >= context.policy.get("curvature_sd_ratio") * bend.s_quadratic
-    )
-    severity = "major" if bent and dominant and not uneven else "minor"
-    if _lack_of_fit_named(context):
-        severity = "info"
-        parts.append("the lack-of-fit test against the replicates says the same")
-    return [
-        Finding(
-            "residual-shape",
-            severity,  # type: ignore[arg-type]
-            "The residuals do not scatter at random about the line: " + "; ".join(parts) + ".",
-            kind="lack-of-fit",
-            cells=[context.spec.y.address],
-            evidence={
-                "quadratic_p": bend.p_value if bend else None,
-                "runs": runs.runs if runs else None,
-                "runs_p": runs.p_value if runs else None,
-            },
-            fix="Narrow the working range to the linear part, or fit the curve the procedure "
-            "allows; see the residual plot on the detail sheet.",
-        )
-    ]

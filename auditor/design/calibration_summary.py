@@ -9,7 +9,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from auditor.design.calibration import CalibrationInputs, judges_calibration, review_curve
+from auditor.design.calibration import CalibrationInputs, judges_calibration
+from auditor.design.calibration_review import review_curve
 from auditor.grid import column_letter
 from auditor.locate.spec import RegressionSpec
 from auditor.model import SEVERITY_RANK, Finding

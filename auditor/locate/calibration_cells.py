@@ -8,11 +8,11 @@ ranges) this module finds every formula of the shape (y − b0)/b1:
   give the % deviation or the recovery are found beside it, classified by reproduction;
 * elsewhere, a **sample result**: its response (a cell, or AVERAGE over m replicate readings), the
   dilution factor it is multiplied by, and the value the author shows;
-* and the **tests the author claims** of a coefficient against a target: a cell computing
-  (b1 − 1)/SE(b1) or (b0 − 0)/SE(b0) from the statistic cells, and a p-value taken from it.
+* the **tests the author claims** of a coefficient against a target are found over the same
+  reader by :mod:`auditor.locate.calibration_targets`.
 
-Only this module and :mod:`auditor.locate.calibration_labels` read the workbook for the calibration
-checks; the checks see the plain records they return.
+Only these modules and :mod:`auditor.locate.calibration_labels` read the workbook for the
+calibration checks; the checks see the plain records they return.
 """
 
 from __future__ import annotations
@@ -27,7 +27,6 @@ from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Fault, RangeValue, Unsupported
 from auditor.formula.syntax import Binary, Call, Node, Number, RefNode, walk
 from auditor.grid import column_letter
-from auditor.locate.roles import role_from_shape
 from auditor.locate.spec import RegressionSpec, overlaps
 from auditor.read.workbook import Cell, Workbook
 
@@ -55,20 +54,12 @@ class SampleReading:
     formula: str
 
 
-@dataclass(frozen=True)
-class TargetTest:
-    cell: str
-    coefficient: str  # "slope" | "intercept"
-    target: float
-    statistic: str  # "t" | "p"
-    reported: float
-
-
 def _key(cell: Cell) -> CellKey:
     return (cell.sheet.lower(), cell.row, cell.col)
 
 
-def _address(key: tuple[str, int, int], workbook: Workbook) -> str:
+def cell_address(key: tuple[str, int, int], workbook: Workbook) -> str:
+    """A cell key as the address a reader sees (the sheet's own spelling)."""
     sheet = workbook.sheet(key[0])
     name = sheet.name if sheet is not None else key[0]
     return f"{name}!{column_letter(key[2])}{key[1]}"
@@ -81,7 +72,7 @@ def _number(value: object) -> float | None:
 
 
 class CurveReader:
-    """Finds the read-backs, sample results and target tests of one regression."""
+    """Reads the cells of one regression: its coefficients, read-backs and sample results."""
 
     def __init__(
         self,
@@ -214,7 +205,7 @@ class CurveReader:
             if dilution_node is not None:
                 return None  # two factors: not a plain read-off
             dilution_node = inner_factor
-        address = _address(key, self.workbook)
+        address = cell_address(key, self.workbook)
         reported = self.value_of(key)
         y = self.spec.y
         if (
@@ -274,62 +265,7 @@ class CurveReader:
                 continue
             kind = _deviation_kind(reported, back.reported, nominal)
             if kind is not None:
-                yield ReadBack(_address(key, self.workbook), back.row, kind, reported)
-
-    # -- tests against a target ------------------------------------------------------------------
-    def target_tests(self) -> list[TargetTest]:
-        """Cells testing slope = 1 (and intercept = 0 where it is not a located statistic), by
-        the target their value implies: target = b − t·SE, from the author's own cells."""
-        found: list[TargetTest] = []
-        stat_cells = {k for keys in self.cells.values() for k in keys}
-        inputs = set().union(
-            *(self.cells.get(k, set()) for k in ("slope", "intercept", "se_slope", "se_intercept"))
-        )
-        t_cells: dict[CellKey, TargetTest] = {}
-        for key, node in self.parsed.items():
-            lowered = (key[0].lower(), key[1], key[2])
-            if lowered in inputs:
-                continue
-            refs = {
-                (n.ref.sheet.lower(), n.ref.r1, n.ref.c1)
-                for n in walk(node)
-                if isinstance(n, RefNode) and n.ref.is_cell
-            }
-            test = self._target_t(lowered, refs, lowered in stat_cells)
-            if test is not None:
-                found.append(test)
-                t_cells[lowered] = test
-        for key, node in self.parsed.items():
-            if role_from_shape(node) != "p":
-                continue
-            for sub in walk(node):
-                if isinstance(sub, RefNode) and sub.ref.is_cell:
-                    source = t_cells.get((sub.ref.sheet.lower(), sub.ref.r1, sub.ref.c1))
-                    p = self.value_of((key[0].lower(), key[1], key[2]))
-                    if source is not None and p is not None:
-                        address = _address(key, self.workbook)
-                        found.append(TargetTest(address, source.coefficient, source.target, "p", p))
-                        break
-        return found
-
-    def _target_t(self, key: CellKey, refs: set[CellKey], located: bool) -> TargetTest | None:
-        for coefficient, se_key, targets in (
-            ("slope", "se_slope", (1.0,)),
-            ("intercept", "se_intercept", () if located else (0.0,)),
-        ):
-            coef_cells, se_cells = self.cells.get(coefficient, set()), self.cells.get(se_key)
-            if not targets or not se_cells or not refs & coef_cells or not refs & se_cells:
-                continue
-            t = self.value_of(key)
-            b = self.value_of(next(iter(refs & coef_cells)))
-            se = self.value_of(next(iter(refs & se_cells)))
-            if t is None or b is None or not se:
-                continue
-            implied = b - t * se
-            for target in targets:
-                if abs(implied - target) <= 1e-6 * (abs(b) + abs(se)):
-                    return TargetTest(_address(key, self.workbook), coefficient, target, "t", t)
-        return None
+                yield ReadBack(cell_address(key, self.workbook), back.row, kind, reported)
 
 
 def _address_key(address: str) -> CellKey:
