@@ -417,7 +417,7 @@ def _series_table(spec: RegressionSpec) -> Extracted:
     """A chart trendline's data: the series' points exactly as the chart plots them (paired by
     position, against 1..n for a series plotted by position); no rows added below its range and
     no total row left out, since a trendline fits what the chart draws and nothing else."""
-    use = spec.trendlines[0]  # auditor.locate.trendlines.TrendlineUse
+    use = spec.trendlines[0]  # auditor.locate.trendline_series.TrendlineUse
     points: list[DataPoint] = []
     dropped: list[tuple[str, str]] = []
     xs: list[float] = []

@@ -7,8 +7,8 @@ from typing import Any
 
 from auditor.checks.base import check
 from auditor.context import RegressionContext, WorkbookContext
-from auditor.locate.trendline_copies import figures
-from auditor.locate.trendlines import TrendlineUse, survey
+from auditor.locate.trendline_figures import figures
+from auditor.locate.trendline_series import TrendlineUse, survey
 from auditor.model import Finding
 
 SHOWN_EXTRA = 6  # extra cells named in a finding's cells

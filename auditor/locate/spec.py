@@ -49,7 +49,7 @@ class RegressionSpec:
     label: str = ""
 
     x_headers: list[str] = field(default_factory=list)  # header text of each x column
-    # Chart series whose trendline fits this regression (auditor.locate_trendlines.TrendlineUse)
+    # Chart series whose trendline fits this regression (trendline_series.TrendlineUse)
     trendlines: list[Any] = field(default_factory=list)
     range_texts: tuple[str, str] | None = None  # x and y ranges in words, when not plain blocks
     # The x and y ranges of the other regressions of the workbook: rows they hold are theirs,
