@@ -43,8 +43,9 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
+from auditor.locate.pasted_record import PastedTable  # noqa: E402
 from auditor.locate.pasted_source import DataIndex, find_source  # noqa: E402
-from auditor.locate.pasted_tables import PastedTable, find_tables  # noqa: E402
+from auditor.locate.pasted_tables import find_tables  # noqa: E402
 from auditor.read.open import read_workbook  # noqa: E402
 from auditor.read.workbook import Cell, Sheet, Workbook  # noqa: E402
 from fixtures.pasted_layouts import Data, Scene, Table, write_scene  # noqa: E402

@@ -17,7 +17,7 @@ import statsmodels.api as sm
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from auditor.locate.pasted_parts import solve_df
+from auditor.locate.pasted_degrees import solve_df
 from auditor.locate.pasted_source import DataIndex, find_source
 from auditor.locate.pasted_tables import find_tables
 from auditor.model import RegressionResult, WorkbookResult
@@ -257,7 +257,7 @@ def test_sparse_sheets_go_cell_by_cell_with_the_same_result(
 ) -> None:
     """Above the dense-copy limit (a sheet with a far-away cell), recognition and the data
     index go cell by cell; both paths give the same tables and the same source."""
-    from auditor.locate import pasted_data, pasted_parts, pasted_source
+    from auditor.locate import pasted_anchors, pasted_data, pasted_source
 
     rng = np.random.default_rng(17)
     data = _data(rng, 16, 2, "Data", 0, 0)
@@ -270,7 +270,7 @@ def test_sparse_sheets_go_cell_by_cell_with_the_same_result(
         (r.sheet, r.by_rows, r.line, r.start, tuple(r.values))
         for r in pasted_source.DataIndex.build(workbook, find_tables(workbook)).runs
     }
-    monkeypatch.setattr(pasted_parts, "MAX_DENSE_CELLS", 0)
+    monkeypatch.setattr(pasted_anchors, "MAX_DENSE_CELLS", 0)
     monkeypatch.setattr(pasted_data, "MAX_DENSE_CELLS", 0)
     tables = find_tables(workbook)
     assert [(t.anchor.address, t.n, t.k) for t in tables] == dense

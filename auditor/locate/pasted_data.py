@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from auditor.formula.syntax import Ref
-from auditor.locate.pasted_tables import PastedTable
+from auditor.locate.pasted_record import PastedTable
 from auditor.read.workbook import Workbook
 
 MIN_RUN = 3

@@ -15,7 +15,7 @@ import numpy as np
 
 from auditor.formula.syntax import Ref
 from auditor.locate.pasted_data import DataIndex, Run, Source, Windows, block_ref
-from auditor.locate.pasted_tables import PastedTable
+from auditor.locate.pasted_record import PastedTable
 from auditor.read.workbook import Workbook
 
 

@@ -3,8 +3,8 @@
 A coefficients row satisfies t = b / SE and p = 2·P(T_df > |t|) for one integer df, and its
 bounds lie symmetric about b at the t quantile of their level; an analysis of variance satisfies
 df₁ + df₂ = df_total, SSR + SSE = SST, MS = SS/df and F = MSR/MSE; a statistics block satisfies
-R² = R·R. Candidates are found on a dense copy of the sheet with numpy (loosely), then each is
-verified exactly. A part with one number typed over after pasting is still placed by the counts
+R² = R·R. Candidates are found loosely (:mod:`auditor.locate.pasted_anchors`), then each is
+verified exactly here. A part with one number typed over after pasting is still placed by the counts
 the rest of the table fixes (k, the residual df, n), so the edited number is compared, not lost.
 """
 
@@ -13,13 +13,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-import numpy as np
-
-from auditor.fit.distributions import t_ppf, t_sf
 from auditor.read.workbook import Sheet
 
 IDENTITY_RELATIVE = 1e-6  # pasted doubles satisfy their identities far tighter than this
-MAX_DF = 10**8
 MAX_X_COLUMNS = 16  # the add-ins accept at most 16 x columns (from memory)
 MAX_GAP_ROWS = 40  # how far above its coefficients an analysis of variance or statistics sits
 
@@ -29,31 +25,6 @@ Grid = dict[tuple[int, int], float]
 
 def close(a: float, b: float, rel: float = IDENTITY_RELATIVE, floor: float = 0.0) -> bool:
     return abs(a - b) <= rel * max(abs(a), abs(b)) + floor
-
-
-def two_sided_p(t: float, df: int) -> float:
-    return float(2.0 * t_sf(abs(t), df))
-
-
-def solve_df(t: float, p: float) -> int | None:
-    """The integer df whose two-sided p for ``t`` is ``p`` (p falls as df grows), if one is."""
-    if not (0.0 < p < 1.0) or not math.isfinite(t) or t == 0.0:
-        return None
-    low, high = 1, MAX_DF
-    if two_sided_p(t, high) > p * (1 + IDENTITY_RELATIVE) or two_sided_p(t, low) < p * (
-        1 - IDENTITY_RELATIVE
-    ):
-        return None
-    while high - low > 1:
-        middle = (low + high) // 2
-        if two_sided_p(t, middle) > p:
-            low = middle
-        else:
-            high = middle
-    for df in (low, high):
-        if close(two_sided_p(t, df), p, rel=1e-5):
-            return df
-    return None
 
 
 @dataclass
@@ -216,43 +187,6 @@ def coefficient_tables(grid: Grid, anchors: list[tuple[int, int]]) -> list[list[
     return tables
 
 
-MAX_DENSE_CELLS = 20_000_000  # above this bounding box, every cell is tried one by one
-
-
-def anchors(
-    grid: Grid,
-) -> tuple[list[tuple[int, int]], list[tuple[int, int]], list[tuple[int, int]]]:
-    """Cells where a coefficient row, an analysis of variance or a statistics block may start:
-    the identities tested on the whole sheet at once (numpy), loosely; each anchor is then
-    verified exactly. Keeps recognition O(cells) in C on sheets of data."""
-    keys = list(grid)
-    rows = np.fromiter((k[0] for k in keys), dtype=np.int64, count=len(keys))
-    cols = np.fromiter((k[1] for k in keys), dtype=np.int64, count=len(keys))
-    top, left = int(rows.min()), int(cols.min())
-    height, width = int(rows.max()) - top + 6, int(cols.max()) - left + 6
-    if height * width > MAX_DENSE_CELLS:
-        return keys, keys, keys
-    dense = np.full((height, width), np.nan)
-    dense[rows - top, cols - left] = np.fromiter(grid.values(), dtype=float, count=len(keys))
-    loose = 1e-5
-    with np.errstate(invalid="ignore", over="ignore"):
-        b, se, t, p = dense[:, :-3], dense[:, 1:-2], dense[:, 2:-1], dense[:, 3:]
-        coefficient = (se > 0) & (p >= 0) & (p <= 1) & (np.abs(t * se - b) <= loose * np.abs(b))
-        d1, d2, d3 = dense[:-2], dense[1:-1], dense[2:]
-        anova = (
-            (d1 >= 1) & (d2 >= 1) & (d1 == np.round(d1)) & (d2 == np.round(d2)) & (d1 + d2 == d3)
-        )
-        r, r2, n = dense[:-4], dense[1:-3], dense[4:]
-        stats = (r >= 0) & (r2 >= 0) & (r2 <= 1) & (n >= 3) & (n == np.round(n))
-        stats &= np.abs(r * r - r2) <= loose * r2 + 1e-15
-
-    def places(mask: np.ndarray) -> list[tuple[int, int]]:
-        found_r, found_c = np.nonzero(mask)
-        return list(zip((found_r + top).tolist(), (found_c + left).tolist(), strict=True))
-
-    return places(coefficient), places(anova), places(stats)
-
-
 def edited_anova(grid: Grid, top: int, col: int, k: int, df: int, n: int) -> Anova | None:
     """An analysis of variance whose numbers no longer agree (one typed over), found by its df
     column, which the coefficients fix (k, the residual df, the total): its cells are compared,
@@ -283,37 +217,3 @@ def edited_stats(grid: Grid, top: int, col: int, n: int) -> tuple[int, int] | No
 
 def anova_r2(anova: Anova) -> float:
     return anova.ss_regression / anova.ss_total if anova.ss_total > 0 else math.nan
-
-
-def residual_df(run: list[CoefficientRow], anova: Anova | None) -> int | None:
-    """The residual df the p-values imply, agreeing with the analysis of variance if any."""
-    trusted = [row for row in run if row.consistent]
-    solved = [d for row in trusted if (d := solve_df(row.t, row.p)) is not None]
-    df = anova.df_residual if anova is not None else (solved[0] if solved else None)
-    if df is None:
-        return None
-    for row in trusted:
-        if 1e-250 < row.p < 1.0 and not close(two_sided_p(row.t, df), row.p, rel=1e-5):
-            return None
-    return df
-
-
-def confidence_levels(run: list[CoefficientRow], df: int) -> list[float] | None:
-    """The confidence level of each pair of bounds, from its half-width in standard errors."""
-    trusted = [row for row in run if row.consistent]
-    pairs = min(len(row.bounds) for row in trusted)
-    levels = []
-    for index in range(pairs):
-        row = trusted[0]
-        low, high = row.bounds[index]
-        multiplier = (high - low) / (2.0 * row.se)
-        level = 1.0 - 2.0 * float(t_sf(multiplier, df))
-        rounded = round(level, 4)  # levels are typed as whole or tenths of a percent
-        if not close(float(t_ppf(0.5 + rounded / 2, df)), multiplier, rel=1e-5):
-            return None
-        levels.append(rounded)
-    if any(len(row.bounds) < pairs for row in run):
-        return None  # an edited row without the bounds its table shows
-    for row in run:
-        del row.bounds[pairs:]
-    return levels

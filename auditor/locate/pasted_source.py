@@ -41,7 +41,7 @@ from auditor.locate.pasted_data import (
     windows_of,
 )
 from auditor.locate.pasted_near import near_match
-from auditor.locate.pasted_tables import PastedTable
+from auditor.locate.pasted_record import PastedTable
 from auditor.read.workbook import Workbook
 
 __all__ = ["DataIndex", "PastedOrigin", "Source", "find_source"]

@@ -22,8 +22,9 @@ from auditor.fit.distributions import t_ppf
 from auditor.fit.ols import FitResult
 from auditor.formula.syntax import Ref
 from auditor.locate.formulas import FormulaLocator
+from auditor.locate.pasted_record import PastedTable
 from auditor.locate.pasted_source import DataIndex, PastedOrigin, find_source
-from auditor.locate.pasted_tables import PastedTable, find_tables
+from auditor.locate.pasted_tables import find_tables
 from auditor.locate.spec import RegressionSpec, StatCell
 from auditor.model import RegressionResult, ReportedValue
 from auditor.read.workbook import Workbook

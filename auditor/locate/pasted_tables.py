@@ -13,77 +13,40 @@ Words are read only to name things (the x labels beside the coefficient rows, th
 residual output's header, the levels written above the bounds).
 
 The parts (:mod:`auditor.locate.pasted_parts`) are found on their own and joined into one
-:class:`PastedTable` by the numbers they share (residual df, k, n, R²) and by nearness, so a
-grid of blocks on one sheet pairs each coefficients table with its own analysis of variance.
-Only constant cells count: a table with formulas is found by the formula recognisers.
+:class:`~auditor.locate.pasted_record.PastedTable` by the numbers they share (residual df, k, n,
+R²) and by nearness, so a grid of blocks on one sheet pairs each coefficients table with its own
+analysis of variance. Only constant cells count: a table with formulas is found by the formula
+recognisers.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-
+from auditor.locate.pasted_anchors import anchors
+from auditor.locate.pasted_degrees import confidence_levels, residual_df
 from auditor.locate.pasted_parts import (
     MAX_GAP_ROWS,
     Anova,
     CoefficientRow,
     Grid,
-    ResidualOutput,
     StatsBlock,
-    anchors,
     anova_at,
     anova_r2,
     close,
     coefficient_tables,
-    confidence_levels,
     constant_numbers,
     edited_anova,
     edited_stats,
-    residual_df,
     stats_at,
 )
-from auditor.read.workbook import Cell, Sheet, Workbook
-
-RESIDUAL_GAP_ROWS = 12  # how far below its coefficients the residual output starts
-
-
-@dataclass
-class PastedTable:
-    """One pasted regression: its cells by statistic key and what its numbers say."""
-
-    sheet: str
-    k: int
-    intercept: bool
-    df: int
-    n: int
-    coefficients: list[float]  # intercept first (0 when forced through the origin), then slopes
-    standard_errors: list[float]
-    levels: list[float]  # confidence level of each pair of bounds
-    cells: dict[str, Cell] = field(default_factory=dict)
-    x_labels: list[str] = field(default_factory=list)
-    y_label: str = ""
-    ss_total: float | None = None
-    ss_residual: float | None = None
-    r_squared: float | None = None
-    residual_output: ResidualOutput | None = None
-    footprint: set[tuple[int, int]] = field(default_factory=set)  # (row, col) on ``sheet``
-    consistent: list[bool] = field(default_factory=list)  # per coefficient: not edited since
-
-    @property
-    def slopes(self) -> list[float]:
-        return self.coefficients[1:]
-
-    @property
-    def mse(self) -> float | None:
-        return None if self.ss_residual is None or self.df <= 0 else self.ss_residual / self.df
-
-    @property
-    def anchor(self) -> Cell:
-        return min(self.cells.values(), key=lambda c: (c.row, c.col))
-
-
-def _text(sheet: Sheet, r: int, c: int) -> str:
-    value = sheet.value(r, c)
-    return value.strip() if isinstance(value, str) else ""
+from auditor.locate.pasted_record import (
+    PastedTable,
+    put,
+    put_anova_cells,
+    put_coefficient_cells,
+    put_stats_cells,
+)
+from auditor.locate.pasted_residuals import residual_output
+from auditor.read.workbook import Sheet, Workbook
 
 
 def _forced_origin_row(sheet: Sheet, r: int, c: int) -> bool:
@@ -177,133 +140,16 @@ def _assemble(
         levels=levels,
         consistent=([] if intercept else [True]) + [r.consistent for r in run],
     )
-    _put_coefficient_cells(sheet, table, run)
+    put_coefficient_cells(sheet, table, run)
     if anova is not None:
-        _put_anova_cells(sheet, table, anova)
+        put_anova_cells(sheet, table, anova)
     elif (edited := edited_anova(grid, top, col, k, df, n)) is not None:
-        _put_anova_cells(sheet, table, edited, trusted=False)
+        put_anova_cells(sheet, table, edited, trusted=False)
     if block is not None:
-        _put_stats_cells(sheet, table, block)
+        put_stats_cells(sheet, table, block)
     elif (place := edited_stats(grid, top, col, n)) is not None:
         keys = ("multiple_r", "r_squared", "adj_r_squared", "residual_sd", "n")
         for offset, key in enumerate(keys):
-            _put(table, sheet, key, place[0] + offset, place[1])
-    table.residual_output = _residual_output(sheet, grid, table, top + len(run))
+            put(table, sheet, key, place[0] + offset, place[1])
+    table.residual_output = residual_output(sheet, grid, table, top + len(run))
     return table
-
-
-def _cell(sheet: Sheet, r: int, c: int) -> Cell:
-    found = sheet.get(r, c)
-    return found if found is not None else Cell(sheet.name, r, c, None)
-
-
-def _put(table: PastedTable, sheet: Sheet, key: str, r: int, c: int) -> None:
-    table.cells[key] = _cell(sheet, r, c)
-    table.footprint.add((r, c))
-
-
-def _put_coefficient_cells(sheet: Sheet, table: PastedTable, run: list[CoefficientRow]) -> None:
-    for index, row in enumerate(run):
-        is_intercept = table.intercept and index == 0
-        j = index if table.intercept else index + 1
-        suffix = "" if table.k == 1 else f"[{j}]"
-        what = "intercept" if is_intercept else "slope"
-        names = [what, f"se_{what}", f"t_{what}", f"p_{what}"]
-        for offset, name in enumerate(names):
-            _put(table, sheet, name + ("" if is_intercept else suffix), row.row, row.col + offset)
-        for pair, level in enumerate(table.levels):
-            tag = "" if pair == 0 else f"@{level * 100:g}%"
-            base = "" if is_intercept else suffix
-            c = row.col + 4 + 2 * pair
-            _put(table, sheet, f"ci_{what}_low{base}{tag}", row.row, c)
-            _put(table, sheet, f"ci_{what}_high{base}{tag}", row.row, c + 1)
-        if not is_intercept:
-            table.x_labels.append(_text(sheet, row.row, row.col - 1))
-        table.footprint.add((row.row, row.col - 1))
-    for c in range(run[0].col - 1, run[0].col + 4 + 2 * len(table.levels)):
-        table.footprint.add((run[0].row - 1, c))
-
-
-def _put_anova_cells(sheet: Sheet, table: PastedTable, anova: Anova, trusted: bool = True) -> None:
-    r, c = anova.row, anova.col
-    layout = {
-        "df_regression": (r, c),
-        "ss_regression": (r, c + 1),
-        "ms_regression": (r, c + 2),
-        "f": (r, c + 3),
-        "df": (r + 1, c),
-        "ss_residual": (r + 1, c + 1),
-        "ms_residual": (r + 1, c + 2),
-        "df_total": (r + 2, c),
-        "ss_total": (r + 2, c + 1),
-    }
-    if anova.has_significance:
-        layout["f_p"] = (r, c + 4)
-    for key, (row, col) in layout.items():
-        _put(table, sheet, key, row, col)
-    if not trusted:
-        return  # an edited number would mislead the search: its cells are only compared
-    table.ss_total, table.ss_residual = anova.ss_total, anova.ss_residual
-    table.r_squared = anova_r2(anova)
-
-
-def _put_stats_cells(sheet: Sheet, table: PastedTable, block: StatsBlock) -> None:
-    keys = ("multiple_r", "r_squared", "adj_r_squared", "residual_sd", "n")
-    for offset, key in enumerate(keys):
-        _put(table, sheet, key, block.row + offset, block.col)
-    table.r_squared = block.r_squared
-    if table.ss_residual is None:
-        table.ss_residual = block.residual_sd**2 * table.df
-    if table.ss_total is None and block.r_squared < 1.0:
-        table.ss_total = table.ss_residual / (1.0 - block.r_squared)
-
-
-def _residual_output(
-    sheet: Sheet, grid: Grid, table: PastedTable, below: int
-) -> ResidualOutput | None:
-    """Observation numbers 1…n with predicted values and residuals beside them: the next numbers
-    below the table (another table's numbers in between mean the output is not this one's)."""
-    n = table.n
-    columns = range(max(1, table.anchor.col - 3), table.anchor.col + 9)
-    for r in range(below, below + RESIDUAL_GAP_ROWS):
-        if any((r - 1, c) in grid for c in columns if r > below):
-            return None
-        for c in range(max(1, table.anchor.col - 3), table.anchor.col + 3):
-            if grid.get((r, c)) != 1.0 or grid.get((r + n - 1, c)) != float(n):
-                continue
-            if any(grid.get((r + i, c)) != float(i + 1) for i in range(n)):
-                continue
-            predicted = [grid.get((r + i, c + 1)) for i in range(n)]
-            residuals = [grid.get((r + i, c + 2)) for i in range(n)]
-            if any(v is None for v in predicted) or any(v is None for v in residuals):
-                continue
-            output = ResidualOutput(
-                r,
-                c,
-                [float(v) for v in predicted],  # type: ignore[arg-type]
-                [float(v) for v in residuals],  # type: ignore[arg-type]
-                None,
-            )
-            if all((r + i, c + 3) in grid for i in range(n)):
-                output.standard = [grid[(r + i, c + 3)] for i in range(n)]
-            output.probability_col = _probability_col(grid, r, c + 3, n)
-            if output.probability_col is not None:
-                output.sorted_y = [grid[(r + i, output.probability_col + 1)] for i in range(n)]
-            width = 4 if output.standard is not None else 3
-            last = output.probability_col + 1 if output.probability_col else c + width - 1
-            for i in range(-1, n):
-                for cc in range(c, last + 1):
-                    table.footprint.add((r + i, cc))
-            header = _text(sheet, r - 1, c + 1)
-            table.y_label = header.split(" ", 1)[1].strip() if " " in header else ""
-            return output
-    return None
-
-
-def _probability_col(grid: Grid, r: int, start: int, n: int) -> int | None:
-    """Percentiles 100·(i − ½)/n in one column, the sorted y values in the next."""
-    for c in range(start, start + 4):
-        if all(close(grid.get((r + i, c), -1.0), 100.0 * (i + 0.5) / n) for i in range(n)):
-            if all((r + i, c + 1) in grid for i in range(n)):
-                return c
-    return None
