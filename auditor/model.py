@@ -22,25 +22,10 @@ JSON_FORMAT = 1
 
 # Statistic keys of the JSON contract, in the order reports show them.
 STAT_KEYS: tuple[str, ...] = (
-    "slope",
-    "intercept",
-    "se_slope",
-    "se_intercept",
-    "t_slope",
-    "t_intercept",
-    "p_slope",
-    "p_intercept",
-    "df",
-    "n",
-    "residual_sd",
-    "r_squared",
-    "r",
-    "f",
-    "ss_regression",
-    "ss_residual",
-    "ci_slope_low",
-    "ci_slope_high",
-)
+    "slope", "intercept", "se_slope", "se_intercept", "t_slope", "t_intercept", "p_slope",
+    "p_intercept", "df", "n", "residual_sd", "r_squared", "r", "f", "ss_regression",
+    "ss_residual", "ci_slope_low", "ci_slope_high",
+)  # fmt: skip
 
 
 def stat_base(key: str) -> str:
