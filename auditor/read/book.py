@@ -7,20 +7,35 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from auditor.errors import UnreadableWorkbook
-from auditor.grid import column_index
+from auditor.grid import MAX_COL, column_index
 from auditor.read.parts import plain_text
 
 MAX_ARRAY_CELLS = 1_000_000  # cells covered by array-formula blocks, per workbook
 
 
-def _bounds(ref: str) -> tuple[int, int, int, int]:
-    """``B2:D9`` -> (2, 2, 9, 4), corners sorted."""
+COLUMN_CACHE: dict[str, int] = {}  # valid column letters only: at most MAX_COL entries
+
+
+def column_number(letters: str) -> int:
+    index = COLUMN_CACHE.get(letters)
+    if index is None:
+        if not letters.isalpha() or not letters.isascii() or not letters.isupper():
+            raise ValueError(f"bad column letters {letters!r}")
+        index = column_index(letters)
+        if not 1 <= index <= MAX_COL:
+            raise ValueError(f"column {letters!r} is beyond the last column XFD")
+        COLUMN_CACHE[letters] = index
+    return index
+
+
+def cell_bounds(ref: str) -> tuple[int, int, int, int]:
+    """``B2:D9`` -> (2, 2, 9, 4), corners sorted; ValueError for letters beyond the grid."""
     first, _, last = ref.partition(":")
     letters = first.rstrip("0123456789")
-    r1, c1 = int(first[len(letters) :]), column_index(letters)
+    r1, c1 = int(first[len(letters) :]), column_number(letters)
     last = last or first
     letters = last.rstrip("0123456789")
-    r2, c2 = int(last[len(letters) :]), column_index(letters)
+    r2, c2 = int(last[len(letters) :]), column_number(letters)
     return min(r1, r2), min(c1, c2), max(r1, r2), max(c1, c2)
 
 
@@ -57,7 +72,7 @@ class BookState:
         return plain_text(element, self.ns)
 
     def add_array(self, sheet: str, ref: str) -> None:
-        bounds = _bounds(ref)
+        bounds = cell_bounds(ref)
         r1, c1, r2, c2 = bounds
         if len(self.arrays) + (r2 - r1 + 1) * (c2 - c1 + 1) > MAX_ARRAY_CELLS:
             raise UnreadableWorkbook(

@@ -14,8 +14,8 @@ from openpyxl.formula.translate import Translator
 from openpyxl.utils.datetime import from_ISO8601, to_excel
 
 from auditor.errors import UnreadableWorkbook
-from auditor.grid import MAX_COL, column_index, column_letter
-from auditor.read.book import BookState
+from auditor.grid import column_letter
+from auditor.read.book import COLUMN_CACHE, BookState, cell_bounds, column_number
 from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet
 from auditor.read.xmlsafe import iter_part, prune
 
@@ -23,7 +23,6 @@ NOT_A_NUMBER = ErrorValue("#NUM!")
 MAX_CELLS = 10_000_000  # per workbook; about 2 GB as cell objects, beyond any real review file
 PRUNE_EVERY = 512  # rows between drops of parsed rows from the tree (memory stays flat)
 
-_COLUMNS: dict[str, int] = {}  # valid column letters only: at most MAX_COL entries
 _new_cell = object.__new__
 # Cell is a frozen dataclass with slots; filling the slots directly skips the frozen
 # __setattr__ path, about half the cost of building a cell, which matters at millions of cells.
@@ -31,18 +30,6 @@ _SET_SHEET, _SET_ROW, _SET_COL, _SET_VALUE, _SET_FORMULA, _SET_FORMAT, _SET_ARRA
     Cell.__dict__[name].__set__
     for name in ("sheet", "row", "col", "value", "formula", "number_format", "array_ref")
 )
-
-
-def _column(letters: str) -> int:
-    index = _COLUMNS.get(letters)
-    if index is None:
-        if not letters.isalpha() or not letters.isascii() or not letters.isupper():
-            raise ValueError(f"bad column letters {letters!r}")
-        index = column_index(letters)
-        if not 1 <= index <= MAX_COL:
-            raise ValueError(f"column {letters!r} is beyond the last column XFD")
-        _COLUMNS[letters] = index
-    return index
 
 
 def _row_number(text: str) -> int:
@@ -54,16 +41,6 @@ def _row_number(text: str) -> int:
         if not number.is_integer():
             raise ValueError(f"{text!r} is not a row number") from None
         return int(number)
-
-
-def _bounds(ref: str) -> tuple[int, int, int, int]:
-    first, _, last = ref.partition(":")
-    letters = first.rstrip("0123456789")
-    r1, c1 = int(first[len(letters) :]), _column(letters)
-    last = last or first
-    letters = last.rstrip("0123456789")
-    r2, c2 = int(last[len(letters) :]), _column(letters)
-    return min(r1, r2), min(c1, c2), max(r1, r2), max(c1, c2)
 
 
 class SheetReader:
@@ -83,7 +60,7 @@ class SheetReader:
         cells = self.sheet.cells
         strings, dates, styles = book.strings, book.dates, book.styles
         style_of = book.style_of
-        columns = _COLUMNS
+        columns = COLUMN_CACHE
         row_number = max_row = max_col = seen = 0
         ref: str | None = None
         where = f"{book.label}: sheet {name!r}"
@@ -113,7 +90,7 @@ class SheetReader:
                             row, col = row_number, known
                         else:
                             letters = ref.rstrip("0123456789")
-                            row, col = int(ref[len(letters) :]), _column(letters)
+                            row, col = int(ref[len(letters) :]), column_number(letters)
                         col_number = col
                     t = c.get("t")
                     s = c.get("s")
@@ -241,7 +218,7 @@ class SheetReader:
         cells = self.sheet.cells
         for ref in self.merges:
             try:
-                r1, c1, r2, c2 = _bounds(ref)
+                r1, c1, r2, c2 = cell_bounds(ref)
             except ValueError:
                 continue
             area = (r2 - r1 + 1) * (c2 - c1 + 1)
