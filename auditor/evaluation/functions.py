@@ -7,7 +7,7 @@ reference); lazy functions take the argument nodes (IF evaluates one branch only
 
 from __future__ import annotations
 
-from auditor.evaluation import distributions, logic, maths, regression, summaries
+from auditor.evaluation import covariance, distributions, logic, maths, regression, summaries
 from auditor.evaluation.values import LazyFn, RangedFn, ScalarFn
 
 _SCALAR: dict[str, tuple[ScalarFn, int, int]] = {**maths.SCALAR, **distributions.SCALAR}
@@ -15,6 +15,7 @@ _RANGED: dict[str, tuple[RangedFn, int, int]] = {
     **summaries.RANGED,
     **regression.RANGED,
     **logic.RANGED,
+    **covariance.RANGED,
 }
 _LAZY: dict[str, tuple[LazyFn, int, int]] = {**logic.LAZY, **summaries.LAZY}
 
