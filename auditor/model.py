@@ -16,7 +16,9 @@ SEVERITY_RANK: dict[str, int] = {name: rank for rank, name in enumerate(SEVERITI
 
 Verdict = Literal["confirmed", "mismatch", "unverifiable"]
 WorkbookStatus = Literal["audited", "unreadable", "no-regressions"]
-FoundBy = Literal["names", "formulas", "bindings", "labels", "trendline", "pasted-table"]
+FoundBy = Literal[
+    "names", "formulas", "bindings", "labels", "trendline", "pasted-table", "hand-built"
+]
 
 JSON_FORMAT = 1
 

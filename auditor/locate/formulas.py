@@ -13,6 +13,7 @@ from auditor.locate.roles import (
     linest_index_role,
     role_from_label,
     role_from_shape,
+    single_cell_linest_role,
 )
 from auditor.locate.spec import (
     MAX_FOLLOW_ROUNDS,
@@ -115,7 +116,11 @@ class FormulaLocator:
             if use.function == "LINEST" and cell.array_ref:
                 self._assign_block(spec, cell, k, use.intercept)
                 continue
-            role = linest_index_role(node, k, use.intercept) or role_from_shape(node)
+            role = (
+                linest_index_role(node, k, use.intercept)
+                or role_from_shape(node)
+                or single_cell_linest_role(node, k, use.intercept)
+            )
             if role in (None, "p", "t_critical_or_ci"):
                 role = self._role_of_dependent(spec, cell, node)
             self._put(spec, role, StatCell(role or "", cell, "formula"))

@@ -150,6 +150,16 @@ def linest_index_role(node: Node, k: int, intercept: bool) -> str | None:
     return linest_block_role(row, col, k, intercept)
 
 
+def single_cell_linest_role(node: Node, k: int, intercept: bool) -> str | None:
+    """``=LINEST(y, x)`` typed into one cell (no array): the cell shows the block's top-left
+    element, the coefficient of the last x column (the slope when there is one x)."""
+    while isinstance(node, Call) and node.name in ("IFERROR", "ROUND") and node.args:
+        node = node.args[0]
+    if isinstance(node, Call) and node.name == "LINEST":
+        return linest_block_role(1, 1, k, intercept)
+    return None
+
+
 def _literal_int(node: Node) -> int | None:
     if isinstance(node, Number):
         return int(float(node.value))

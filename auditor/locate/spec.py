@@ -23,6 +23,7 @@ class StatCell:
     label: str = ""  # the author's words beside the cell ("t (analyte)")
     column_header: str = ""  # for a LINEST block cell: the text above its column of the block
     typed_value: float | None = None  # a constant typed inside the cell's formula (=1.49*B2+2.1)
+    computes: dict[str, Any] = field(default_factory=dict)  # what a recogniser found it computes
 
 
 @dataclass

@@ -142,7 +142,7 @@ def audit_workbook(
         return WorkbookResult(str(path), digest, "unreadable", error=str(exc))
     evaluator = Evaluator(workbook)
     locator = Locator(workbook, bindings)
-    specs = locate(workbook, bindings, locator)
+    specs = locate(workbook, bindings, locator, evaluator)
     reader = DesignInputReader(workbook, evaluator, locator.parsed)
     audited = [
         guarded(

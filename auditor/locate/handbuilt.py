@@ -1,0 +1,426 @@
+"""Hand-built slopes and intercepts, recognised by what they compute, not by how they are spelt.
+
+A formula cell is a **slope** when, followed through the single cells it references (and the
+cells of a filled column it averages), it reads two ranges of the same length and shape, and its
+value — stored, or evaluated when the file holds none — is the least-squares slope of one range
+on the other, or would be but for a mistake people make when building it by hand:
+
+* ``least-squares``: COVARIANCE.S/VAR.S, COVAR/VARP, CORREL·STDEV(y)/STDEV(x), SUMPRODUCT sums
+  of centred products, ``(n·Σxy − Σx·Σy)/(n·Σx² − (Σx)²)``, any wrapper (IFERROR, ROUND of no
+  digits lost), all give the same number;
+* ``population-sample-mix``: a population covariance over a sample variance (or the reverse)
+  gives the slope times (n − 1)/n (or n/(n − 1));
+* ``rows-differ``: the covariance pairs only the rows where both cells are numbers, but the
+  variance keeps every number of its one range, so text such as "n/a" on the y side drops a row
+  from the numerator only.
+
+A cell is an **intercept** when its value is ȳ − b·x̄ for such a pair, with b the fitted slope
+or the value of a cell the formula reads (a hand-built slope, or another block's slope: the
+diagnosis says which).
+
+Nothing here lists spellings: the test is the number. A match is judged at 1e-9 relative (a
+stored value carries 15 significant digits), so a coincidence would need ten matching digits.
+Correlations, lagged autocorrelations, models from typed constants and ratio columns compute
+other numbers and are left alone.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from itertools import permutations
+from typing import Any
+
+import numpy as np
+
+from auditor.evaluation.evaluator import Evaluator, Unsupported
+from auditor.formula.syntax import Node, Ref, RefNode, Unary, calls, references
+from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
+from auditor.read.workbook import Cell, ErrorValue, Workbook
+
+Key = tuple[str, int, int]
+MIN_PAIRS = 3
+MAX_DEPTH = 3  # M2 = K2/J2, K2 = COVARIANCE.P(…): two levels; three is generous
+MAX_VECTORS = 8  # ranges one formula reads, at most: beyond that it is a table, not a slope
+RELATIVE = 1e-9
+# Cells calling these are regressions the formula recogniser finds already.
+REGRESSION_FUNCTIONS = frozenset(
+    {"SLOPE", "INTERCEPT", "LINEST", "LOGEST", "TREND", "FORECAST", "FORECAST.LINEAR", "STEYX"}
+)
+
+
+def same_number(a: float, b: float) -> bool:
+    return math.isfinite(a) and math.isfinite(b) and abs(a - b) <= RELATIVE * max(abs(a), abs(b))
+
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool)
+
+
+@dataclass(frozen=True)
+class Moments:
+    """Sums of y on x as the spreadsheet's functions see two ranges: the pair functions
+    (COVARIANCE, SLOPE, CORREL) keep rows where both cells are numbers; VAR and AVERAGE keep
+    every number of their own range."""
+
+    n: int
+    x_mean: float
+    y_mean: float
+    sxx: float
+    sxy: float
+    n_x: int  # numbers in the x range, paired or not
+    sxx_all: float
+    x_mean_all: float
+    y_mean_all: float
+
+    @property
+    def slope(self) -> float:
+        return self.sxy / self.sxx
+
+    @property
+    def intercept(self) -> float:
+        return self.y_mean - self.slope * self.x_mean
+
+    def slope_readings(self) -> Iterator[tuple[str, float, dict[str, Any]]]:
+        n = self.n
+        yield "least-squares", self.slope, {}
+        yield "population-sample-mix", self.slope * (n - 1) / n, {"factor": f"({n}-1)/{n}"}
+        yield "population-sample-mix", self.slope * n / (n - 1), {"factor": f"{n}/({n}-1)"}
+        if self.n_x != n and self.n_x > 1 and self.sxx_all > 0:
+            for cov_ddof in (1, 0):
+                for var_ddof in (1, 0):
+                    value = (self.sxy / (n - cov_ddof)) / (self.sxx_all / (self.n_x - var_ddof))
+                    yield "rows-differ", value, {"pairs": n, "x_numbers": self.n_x}
+
+    def intercept_readings(
+        self, slope_cells: list[tuple[str, float]]
+    ) -> Iterator[tuple[str, float, dict[str, Any]]]:
+        yield "least-squares", self.intercept, {}
+        for address, slope in slope_cells:
+            evidence = {"slope_cell": address, "slope_value": slope}
+            yield "slope-cell", self.y_mean - slope * self.x_mean, evidence
+            yield "slope-cell", self.y_mean_all - slope * self.x_mean_all, evidence
+
+
+def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None:
+    """None when either range holds an error value (the functions would show it) or fewer
+    than three pairs, or x does not vary."""
+    if any(isinstance(v, ErrorValue) for v in (*y_values, *x_values)):
+        return None
+    pairs = [
+        (float(y), float(x))  # type: ignore[arg-type]
+        for y, x in zip(y_values, x_values, strict=True)
+        if _is_number(y) and _is_number(x)
+    ]
+    if len(pairs) < MIN_PAIRS:
+        return None
+    ys, xs = np.array([p[0] for p in pairs]), np.array([p[1] for p in pairs])
+    if np.array_equal(ys, xs):
+        return None  # a column against itself (or its copy): slope 1 by construction
+    dx, dy = xs - xs.mean(), ys - ys.mean()
+    sxx = float(dx @ dx)
+    if sxx <= 0:
+        return None
+    x_all = np.array([float(v) for v in x_values if _is_number(v)])  # type: ignore[arg-type]
+    y_all = np.array([float(v) for v in y_values if _is_number(v)])  # type: ignore[arg-type]
+    dx_all = x_all - x_all.mean()
+    return Moments(
+        n=len(pairs),
+        x_mean=float(xs.mean()),
+        y_mean=float(ys.mean()),
+        sxx=sxx,
+        sxy=float(dx @ dy),
+        n_x=int(x_all.size),
+        sxx_all=float(dx_all @ dx_all),
+        x_mean_all=float(x_all.mean()),
+        y_mean_all=float(y_all.mean()),
+    )
+
+
+@dataclass
+class Reach:
+    """What a formula reads: ranges of one row or one column (vectors) and the formula cells
+    it reaches through single-cell references."""
+
+    vectors: list[Ref] = field(default_factory=list)
+    cells: list[Key] = field(default_factory=list)
+
+    def add_vector(self, ref: Ref) -> None:
+        if ref not in self.vectors:
+            self.vectors.append(ref)
+
+    def add(self, other: Reach) -> None:
+        for ref in other.vectors:
+            self.add_vector(ref)
+        for key in other.cells:
+            if key not in self.cells:
+                self.cells.append(key)
+
+
+def _is_vector(ref: Ref) -> bool:
+    return (
+        ref.external is None
+        and not ref.whole_column
+        and not ref.whole_row
+        and (ref.rows == 1 or ref.cols == 1)
+        and max(ref.rows, ref.cols) >= MIN_PAIRS
+    )
+
+
+@dataclass(frozen=True)
+class Recognised:
+    """One cell found to compute a slope or an intercept of y on x."""
+
+    cell: Cell
+    role: str  # "slope" or "intercept"
+    y: Ref
+    x: Ref
+    reading: str  # least-squares, population-sample-mix, rows-differ, slope-cell
+    value: float
+    evidence: dict[str, Any]
+
+
+class HandbuiltFinder:
+    """Tests every formula cell that reads two equal ranges against the slope and intercept of
+    one on the other. Range values and sums are computed once per range and per pair."""
+
+    def __init__(self, workbook: Workbook, evaluator: Evaluator, parsed: dict[Key, Node]):
+        self.workbook = workbook
+        self.evaluator = evaluator
+        self.parsed = parsed
+        self._reach: dict[Key, Reach] = {}
+        self._values: dict[Ref, list[object] | None] = {}
+        self._moments: dict[tuple[Ref, Ref], Moments | None] = {}
+
+    # -- what a formula reads ---------------------------------------------------------------
+    def reach(self, key: Key, depth: int = 0) -> Reach:
+        found = self._reach.get(key)
+        if found is not None:
+            return found
+        out = Reach()
+        self._reach[key] = out  # a cycle meets an empty reach, not a loop
+        node = self.parsed.get(key)
+        if node is None or depth > MAX_DEPTH:
+            return out
+        for ref in references(node):
+            if ref.external is not None:
+                continue
+            if ref.is_cell:
+                target = self._key(ref.sheet, ref.r1, ref.c1)
+                if target is not None and target in self.parsed:
+                    out.cells.append(target)
+                    out.add(self.reach(target, depth + 1))
+            elif _is_vector(ref):
+                out.add_vector(ref)
+                self._lift(ref, out, depth)
+        return out
+
+    def _lift(self, ref: Ref, out: Reach, depth: int) -> None:
+        """A filled column of formulas (``=D4-B4*$F$4`` down E4:E14) reads, row by row, the
+        ranges its first and last cells span: D4:D14, B4:B14, and the fixed cell F4."""
+        first = self._key(ref.sheet, ref.r1, ref.c1)
+        last = self._key(ref.sheet, ref.r2, ref.c2)
+        if first is None or last is None or first not in self.parsed or last not in self.parsed:
+            return
+        head, tail = references(self.parsed[first]), references(self.parsed[last])
+        if len(head) != len(tail):
+            return
+        span = (ref.r2 - ref.r1, ref.c2 - ref.c1)
+        for a, b in zip(head, tail, strict=True):
+            if not (a.is_cell and b.is_cell) or a.sheet != b.sheet or a.external is not None:
+                continue
+            if a == b:
+                target = self._key(a.sheet, a.r1, a.c1)
+                if target is not None and target in self.parsed:
+                    out.cells.append(target)
+                    out.add(self.reach(target, depth + 1))
+            elif (b.r1 - a.r1, b.c1 - a.c1) == span:
+                out.add_vector(Ref(a.sheet, a.r1, a.c1, b.r1, b.c1))
+
+    def _key(self, sheet: str, row: int, col: int) -> Key | None:
+        found = self.workbook.sheet(sheet)
+        return (found.name, row, col) if found is not None else None
+
+    # -- values -----------------------------------------------------------------------------
+    def values(self, ref: Ref) -> list[object] | None:
+        if ref not in self._values:
+            try:
+                block = self.evaluator.range_values(ref)
+                self._values[ref] = list(block.reshape(-1))
+            except Unsupported:
+                self._values[ref] = None
+        return self._values[ref]
+
+    def moments(self, y: Ref, x: Ref) -> Moments | None:
+        if (y, x) not in self._moments:
+            y_values, x_values = self.values(y), self.values(x)
+            ok = y_values is not None and x_values is not None and len(y_values) == len(x_values)
+            self._moments[(y, x)] = moments_of(y_values, x_values) if ok else None  # type: ignore[arg-type]
+        return self._moments[(y, x)]
+
+    def cell_numbers(self, cell: Cell) -> list[float]:
+        """The value the author saw (stored), then the one the formula gives now."""
+        out = []
+        if self.workbook.stored_values and _is_number(cell.value):
+            out.append(float(cell.value))  # type: ignore[arg-type]
+        try:
+            evaluated = self.evaluator.cell_value(cell.sheet, cell.row, cell.col)
+        except Unsupported:
+            evaluated = None
+        if _is_number(evaluated) and float(evaluated) not in out:  # type: ignore[arg-type]
+            out.append(float(evaluated))  # type: ignore[arg-type]
+        return [v for v in out if v != 0 and math.isfinite(v)]
+
+    # -- the test ---------------------------------------------------------------------------
+    def candidate_pairs(self, reach: Reach) -> list[tuple[Ref, Ref]]:
+        vectors = reach.vectors[:MAX_VECTORS]
+        out = []
+        for y, x in permutations(vectors, 2):
+            same_shape = (y.rows, y.cols) == (x.rows, x.cols)
+            if same_shape and not overlaps(y, x) and not self.derived(y, x):
+                out.append((y, x))
+        return out
+
+    def derived(self, y: Ref, x: Ref) -> bool:
+        """y computed from x (fitted values, residuals, offsets y − b·x), or x from y: such a
+        column regressed on the other gives R² or the intercept again, by algebra."""
+        return self._reads(y, x) or self._reads(x, y)
+
+    def _reads(self, column: Ref, other: Ref) -> bool:
+        first = self._key(column.sheet, column.r1, column.c1)
+        node = self.parsed.get(first) if first is not None else None
+        if first is None or node is None:
+            return False
+        direct = [r for r in references(node) if r.external is None]
+        reached = self.reach(first).vectors
+        return any(overlaps(r, other) for r in [*direct, *reached])
+
+    def skipped(self, node: Node) -> bool:
+        """A plain link (=+Weekly!D4) or a cell the formula recogniser owns."""
+        while isinstance(node, Unary):
+            node = node.operand
+        if isinstance(node, RefNode):
+            return True
+        return any(c.name in REGRESSION_FUNCTIONS for c in calls(node))
+
+    def recognise(self, key: Key) -> Recognised | None:
+        cell = self.workbook.cell(*key)
+        if cell is None or self.skipped(self.parsed[key]):
+            return None
+        reach = self.reach(key)
+        pairs = self.candidate_pairs(reach)
+        if not pairs:
+            return None
+        numbers = self.cell_numbers(cell)
+        if not numbers:
+            return None
+        slope_cells = self._slope_cells(reach)
+        for value in numbers:
+            for y, x in pairs:
+                moments = self.moments(y, x)
+                if moments is None:
+                    continue
+                for reading, number, evidence in moments.slope_readings():
+                    if same_number(value, number):
+                        return Recognised(cell, "slope", y, x, reading, value, evidence)
+                for reading, number, evidence in moments.intercept_readings(slope_cells):
+                    if same_number(value, number):
+                        return Recognised(cell, "intercept", y, x, reading, value, evidence)
+        return None
+
+    def _slope_cells(self, reach: Reach) -> list[tuple[str, float]]:
+        out = []
+        for key in reach.cells:
+            cell = self.workbook.cell(*key)
+            if cell is None:
+                continue
+            for number in self.cell_numbers(cell)[:1]:
+                out.append((cell.address, number))
+        return out
+
+    def find(self) -> list[Recognised]:
+        found = []
+        for key in self.parsed:
+            recognised = self.recognise(key)
+            if recognised is not None:
+                found.append(recognised)
+        return found
+
+
+def _data_signature(finder: HandbuiltFinder, spec: RegressionSpec) -> tuple[Any, ...] | None:
+    """The numbers of a regression: a copy of its block beside it on the same sheet has the
+    same (copies on other sheets are kept apart: a second instrument may read the same)."""
+    x, y = finder.values(spec.x), finder.values(spec.y)
+    if x is None or y is None:
+        return None
+    return tuple(map(repr, x)), tuple(map(repr, y))
+
+
+def attach(spec: RegressionSpec, role: str, stat: StatCell) -> bool:
+    """Add a statistic cell to a regression (``role@A1`` for a second cell of one role)."""
+    if any(s.cell.address == stat.cell.address for s in spec.stats.values()):
+        return False
+    key = f"{role}@{stat.cell.coord}" if role in spec.stats else role
+    stat.key = key
+    spec.stats[key] = stat
+    return True
+
+
+def _put(spec: RegressionSpec, found: Recognised) -> None:
+    computes = {"reading": found.reading, "value": found.value} | found.evidence
+    stat = StatCell(found.role, found.cell, "hand-built", computes=computes)
+    if attach(spec, found.role, stat) and found.role == "slope":
+        spec.uses.append(PairUse(found.cell, "hand-built", found.y, found.x))
+
+
+def join(found: list[RegressionSpec], other: RegressionSpec) -> bool:
+    """Give a regression found otherwise (same data) the statistic cells of a hand-built one."""
+    for spec in found:
+        same = overlaps(spec.x, other.x) and overlaps(spec.y, other.y)
+        if same and spec.x_columns == 1:
+            for stat in other.stats.values():
+                attach(spec, stat.key.split("@")[0], stat)
+            return True
+    return False
+
+
+def handbuilt_specs(
+    workbook: Workbook, evaluator: Evaluator, parsed: dict[Key, Node]
+) -> tuple[list[RegressionSpec], list[RegressionSpec]]:
+    """(regressions with a hand-built slope or intercept, intercepts built from a slope cell
+    that only join a regression found otherwise). A block copied elsewhere with the very same
+    numbers is one regression, its second slope cell a second reported cell."""
+    finder = HandbuiltFinder(workbook, evaluator, parsed)
+    found = finder.find()  # in formula order: sheet by sheet, row by row
+    specs: dict[tuple[Ref, Ref], RegressionSpec] = {}
+    attach_only: dict[tuple[Ref, Ref], RegressionSpec] = {}
+    for item in found:
+        standalone = item.reading != "slope-cell"
+        table = specs if standalone or (item.y, item.x) in specs else attach_only
+        spec = table.get((item.y, item.x))
+        if spec is None:
+            spec = RegressionSpec(
+                id=f"{item.cell.sheet}/{item.cell.coord}",
+                sheet=item.cell.sheet,
+                x=item.x,
+                y=item.y,
+                intercept=True,
+                found_by="hand-built",
+            )
+            table[(item.y, item.x)] = spec
+        _put(spec, item)
+    merged: list[RegressionSpec] = []
+    signatures: dict[tuple[Any, ...], RegressionSpec] = {}
+    for spec in specs.values():
+        signature = _data_signature(finder, spec)
+        signature = (spec.sheet, signature) if signature is not None else None
+        twin = signatures.get(signature) if signature is not None else None
+        if twin is None:
+            if signature is not None:
+                signatures[signature] = spec
+            merged.append(spec)
+            continue
+        for stat in spec.stats.values():  # a copy of the block: its cells, not its ranges
+            attach(twin, stat.key.split("@")[0], stat)
+    return merged, list(attach_only.values())
