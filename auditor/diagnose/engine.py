@@ -33,6 +33,7 @@ from auditor.diagnose.mistakes import (
     stat_name,
     two_sided,
 )
+from auditor.diagnose.handbuilt import handbuilt_candidates
 from auditor.diagnose.rows import FORMULAS, stale_fallback, subset_candidate
 from auditor.diagnose.rowsearch import (
     MAX_END_DROP,
@@ -131,7 +132,7 @@ def _explain(value: ReportedValue, context: RegressionContext, depth: int) -> li
             evidence = c.evidence | {"reported": reported, "reproduced": number}
             found[c.kind] = Explanation(c.kind, number, c.message + ending, c.fix, evidence)
 
-    for candidate in _formula_candidates(basis):
+    for candidate in _formula_candidates(basis) + handbuilt_candidates(value, context):
         if judge(candidate.value).agrees:
             keep(candidate)
     for candidate in _subset_candidates(value, context, basis, key, judge, reported):

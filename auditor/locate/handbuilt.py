@@ -94,11 +94,13 @@ class Moments:
                     yield "rows-differ", value, {"pairs": n, "x_numbers": self.n_x}
 
     def intercept_readings(
-        self, slope_cells: list[tuple[str, float]]
+        self, slope_cells: list[tuple[str, float, str | None]]
     ) -> Iterator[tuple[str, float, dict[str, Any]]]:
         yield "least-squares", self.intercept, {}
-        for address, slope in slope_cells:
-            evidence = {"slope_cell": address, "slope_value": slope}
+        for address, slope, read_by in slope_cells:
+            evidence: dict[str, Any] = {"slope_cell": address, "slope_value": slope}
+            if read_by:
+                evidence["read_by"] = read_by
             yield "slope-cell", self.y_mean - slope * self.x_mean, evidence
             yield "slope-cell", self.y_mean_all - slope * self.x_mean_all, evidence
 
@@ -145,6 +147,7 @@ class Reach:
 
     vectors: list[Ref] = field(default_factory=list)
     cells: list[Key] = field(default_factory=list)
+    read_by: dict[Key, Ref] = field(default_factory=dict)  # fixed cell -> the column reading it
 
     def add_vector(self, ref: Ref) -> None:
         if ref not in self.vectors:
@@ -156,6 +159,8 @@ class Reach:
         for key in other.cells:
             if key not in self.cells:
                 self.cells.append(key)
+        for key, ref in other.read_by.items():
+            self.read_by.setdefault(key, ref)
 
 
 def _is_vector(ref: Ref) -> bool:
@@ -234,6 +239,7 @@ class HandbuiltFinder:
                 target = self._key(a.sheet, a.r1, a.c1)
                 if target is not None and target in self.parsed:
                     out.cells.append(target)
+                    out.read_by.setdefault(target, ref)
                     out.add(self.reach(target, depth + 1))
             elif (b.r1 - a.r1, b.c1 - a.c1) == span:
                 out.add_vector(Ref(a.sheet, a.r1, a.c1, b.r1, b.c1))
@@ -329,14 +335,15 @@ class HandbuiltFinder:
                         return Recognised(cell, "intercept", y, x, reading, value, evidence)
         return None
 
-    def _slope_cells(self, reach: Reach) -> list[tuple[str, float]]:
+    def _slope_cells(self, reach: Reach) -> list[tuple[str, float, str | None]]:
         out = []
         for key in reach.cells:
             cell = self.workbook.cell(*key)
             if cell is None:
                 continue
+            through = reach.read_by.get(key)
             for number in self.cell_numbers(cell)[:1]:
-                out.append((cell.address, number))
+                out.append((cell.address, number, through.address if through else None))
         return out
 
     def find(self) -> list[Recognised]:
