@@ -25,6 +25,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from auditor.compare.precision import agree_stored, agree_text, agree_typed, parse_text_number
+from auditor.diagnose.handbuilt import handbuilt_candidates
 from auditor.diagnose.mistakes import (
     MISTAKES,
     PER_SLOPE,
@@ -33,7 +34,6 @@ from auditor.diagnose.mistakes import (
     stat_name,
     two_sided,
 )
-from auditor.diagnose.handbuilt import handbuilt_candidates
 from auditor.diagnose.rows import FORMULAS, stale_fallback, subset_candidate
 from auditor.diagnose.rowsearch import (
     MAX_END_DROP,

@@ -8,17 +8,14 @@ text therefore divides sums over different rows (see :mod:`auditor.mistakes_hand
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 from auditor.evaluation.regression import _pairs
-from auditor.evaluation.values import _DIV0, Fault, RangedFn, _Ctx
-
-if TYPE_CHECKING:
-    from auditor.evaluation.expressions import ExpressionEvaluator
+from auditor.evaluation.values import _DIV0, Fault, NodeEvaluator, RangedFn, _Ctx
 
 
 def _covariance(ddof: int) -> RangedFn:
-    def compute(ev: ExpressionEvaluator, args: list[Any], ctx: _Ctx) -> float:
+    def compute(ev: NodeEvaluator, args: list[Any], ctx: _Ctx) -> float:
         first, second = _pairs(args[0], args[1])
         if first.size <= ddof or first.size == 0:
             raise Fault(_DIV0)
