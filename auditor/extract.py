@@ -319,6 +319,8 @@ def _extract(
     workbook: Workbook, evaluator: Reader, spec: RegressionSpec, *, cell_by_cell: bool = False
 ) -> Extracted:
     x_ref, y_ref = spec.x, spec.y
+    if spec.in_rows:
+        return _paired(workbook, evaluator, spec)
     k = x_ref.c2 - x_ref.c1 + 1
     x_cols = list(range(x_ref.c1, x_ref.c2 + 1))
     same_frame = x_ref.sheet.lower() == y_ref.sheet.lower()
@@ -381,6 +383,8 @@ def _extract(
 def _paired(workbook: Workbook, evaluator: Reader, spec: RegressionSpec) -> Extracted:
     """Ranges on different sheets or rows: pair them position by position, no extension."""
     x_values = evaluator.range_values(spec.x)
+    if spec.in_rows:
+        x_values = x_values.reshape(-1, 1)  # one x row: each column is a point
     y_values = evaluator.range_values(spec.y).reshape(-1)
     k = x_values.shape[1] if x_values.ndim == 2 else 1
     n = min(len(y_values), x_values.shape[0])
@@ -395,9 +399,8 @@ def _paired(workbook: Workbook, evaluator: Reader, spec: RegressionSpec) -> Extr
             xs_used.append(xs)
             ys_used.append(y)
         else:
-            dropped.append(
-                (f"{spec.y.sheet}!{column_letter(spec.y.c1)}{spec.y.r1 + i}", "not numeric")
-            )
+            r, c = (spec.y.r1, spec.y.c1 + i) if spec.in_rows else (spec.y.r1 + i, spec.y.c1)
+            dropped.append((f"{spec.y.sheet}!{column_letter(c)}{r}", "not numeric"))
     return Extracted(
         x=np.array(xs_used, dtype=float).reshape(-1, k),
         y=np.array(ys_used, dtype=float),

@@ -30,16 +30,28 @@ if TYPE_CHECKING:  # only annotations: the checks package imports the diagnosis 
 
 def _as_written(context: RegressionContext) -> tuple[np.ndarray, np.ndarray, list[float]]:
     """(x, y) of the rows the formulas pair, and every number of the x range as written."""
-    spec, xs, ys, x_all = context.spec, [], [], []
+    x_all, _ = _all_numbers(context)
+    xs, ys = [], []
+    for point in context.data.points:
+        x = point.x[0] if point.x else None
+        if point.used_as_written and x is not None and point.y is not None:
+            xs.append(float(x))
+            ys.append(float(point.y))
+    return np.array(xs), np.array(ys), x_all
+
+
+def _all_numbers(context: RegressionContext) -> tuple[list[float], list[float]]:
+    """Every number of the x range and of the y range as written, paired or not (what VAR,
+    STDEV and AVERAGE of one range see)."""
+    spec, x_all, y_all = context.spec, [], []
     for point in context.data.points:
         inside = spec.x.r1 <= point.row <= spec.x.r2 if spec.x.cols == 1 else True
         x = point.x[0] if point.x else None
         if inside and x is not None:
             x_all.append(float(x))
-        if point.used_as_written and x is not None and point.y is not None:
-            xs.append(float(x))
-            ys.append(float(point.y))
-    return np.array(xs), np.array(ys), x_all
+        if inside and point.y is not None:
+            y_all.append(float(point.y))
+    return x_all, y_all
 
 
 def _rows_note(context: RegressionContext, n: int) -> str:
@@ -96,8 +108,9 @@ def rows_differ(value: ReportedValue, context: RegressionContext) -> list[Candid
     if stat_base(value.key) != "slope" or context.fit.k != 1:
         return []
     x, y, x_all = _as_written(context)
+    y_all = _all_numbers(context)[1]
     n, m = int(x.size), len(x_all)
-    if n < 3 or m <= n:
+    if n < 3 or (m <= n and len(y_all) <= n):
         return []
     dx = x - x.mean()
     sxy, sxx = float(dx @ (y - y.mean())), float(dx @ dx)
@@ -121,6 +134,21 @@ def rows_differ(value: ReportedValue, context: RegressionContext) -> list[Candid
             "empty where y has no value"
         )
         evidence: Evidence = {"pairs": n, "x_numbers": m, "slope_of_pairs": slope}
+        out.append(Candidate("rows-differ", wrong, message, fix, evidence))
+    dy = y - y.mean()
+    syy, k = float(dy @ dy), len(y_all)
+    if syy > 0 and k > 1 and m > 1:
+        spread_y = np.array(y_all) - float(np.mean(y_all))
+        ratio = math.sqrt((float(spread_y @ spread_y) / (k - 1)) / (sxx_all / (m - 1)))
+        wrong = sxy / math.sqrt(sxx * syy) * ratio
+        shown, right = pair(wrong, slope)
+        message = (
+            f"the correlation pairs only the {n} rows where both y and x are numbers, but the "
+            f"standard deviations take every number of their own range ({k} in y, {m} in x): "
+            f"r·s_y/s_x is {shown}, while the slope of the {n} paired rows is {right}"
+        )
+        fix = "use SLOPE(y, x), which pairs the rows itself"
+        evidence = {"pairs": n, "x_numbers": m, "y_numbers": k, "slope_of_pairs": slope}
         out.append(Candidate("rows-differ", wrong, message, fix, evidence))
     return out
 

@@ -69,8 +69,11 @@ class Moments:
     y_mean: float
     sxx: float
     sxy: float
+    syy: float
     n_x: int  # numbers in the x range, paired or not
     sxx_all: float
+    n_y: int
+    syy_all: float
     x_mean_all: float
     y_mean_all: float
 
@@ -92,6 +95,11 @@ class Moments:
                 for var_ddof in (1, 0):
                     value = (self.sxy / (n - cov_ddof)) / (self.sxx_all / (self.n_x - var_ddof))
                     yield "rows-differ", value, {"pairs": n, "x_numbers": self.n_x}
+        if (self.n_x != n or self.n_y != n) and self.syy > 0 and self.n_y > 1:
+            # CORREL over the pairs times STDEV(y)/STDEV(x) over every number of each range.
+            r = self.sxy / math.sqrt(self.sxx * self.syy)
+            ratio = math.sqrt((self.syy_all / (self.n_y - 1)) / (self.sxx_all / (self.n_x - 1)))
+            yield "rows-differ", r * ratio, {"pairs": n, "x_numbers": self.n_x}
 
     def intercept_readings(
         self, slope_cells: list[tuple[str, float, str | None]]
@@ -126,15 +134,18 @@ def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None
         return None
     x_all = np.array([float(v) for v in x_values if _is_number(v)])  # type: ignore[arg-type]
     y_all = np.array([float(v) for v in y_values if _is_number(v)])  # type: ignore[arg-type]
-    dx_all = x_all - x_all.mean()
+    dx_all, dy_all = x_all - x_all.mean(), y_all - y_all.mean()
     return Moments(
         n=len(pairs),
         x_mean=float(xs.mean()),
         y_mean=float(ys.mean()),
         sxx=sxx,
         sxy=float(dx @ dy),
+        syy=float(dy @ dy),
         n_x=int(x_all.size),
         sxx_all=float(dx_all @ dx_all),
+        n_y=int(y_all.size),
+        syy_all=float(dy_all @ dy_all),
         x_mean_all=float(x_all.mean()),
         y_mean_all=float(y_all.mean()),
     )

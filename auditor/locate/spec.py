@@ -59,9 +59,16 @@ class RegressionSpec:
     pasted: PastedOrigin | None = None  # the pasted table this regression was read from
 
     @property
+    def in_rows(self) -> bool:
+        """Data laid out in rows: x in one row, y in another of the same length."""
+        return self.x.rows == 1 and self.y.rows == 1 and self.x.cols == self.y.cols > 1
+
+    @property
     def x_columns(self) -> int:
         if self.pasted is not None:
             return self.pasted.table.k  # its data may lie in rows
+        if self.in_rows:
+            return 1
         return self.x.c2 - self.x.c1 + 1
 
 
