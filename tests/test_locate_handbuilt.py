@@ -371,3 +371,22 @@ def test_stored_values_from_libreoffice(tmp_path: Path) -> None:
     assert slope_cells["Plots!F3"].value == pytest.approx(expected_r, rel=1e-9)
     kinds = {f.kind for f in found.findings if f.check == "stat-recompute"}
     assert kinds == {"rows-differ"}
+
+
+def test_a_slope_typed_into_formulas_is_checked_at_its_precision(tmp_path: Path) -> None:
+    # A required-return column =rf + beta·(premium) with the beta typed in: 2 decimals that
+    # agree with the slope are a right copy; a copy from an older run is flagged.
+    x, y = _data(120, 10)
+    slope = float(np.polyfit(x, y, 1)[0])  # outside reference: numpy
+    right, stale = round(slope, 2), round(slope * 1.006, 3)
+    formulas = {"F2": "_xlfn.COVARIANCE.S(C2:C11,B2:B11)/_xlfn.VAR.S(B2:B11)"}
+    for r in range(2, 12):
+        formulas[f"G{r}"] = f"0.5+{right}*B{r}"
+        formulas[f"H{r}"] = f"0.5+{stale}*(B{r}-0.1)"
+        formulas[f"I{r}"] = f"1.5*B{r}"  # a whole-number factor: a unit, not a slope
+    _write_columns(tmp_path / "typed.xlsx", x, y, formulas)
+    (found,) = _handbuilt(_audit(tmp_path / "typed.xlsx"))
+    typed = {v.cell: v for v in found.reported.values() if v.source == "typed"}
+    assert set(typed) == {"Plots!G2", "Plots!H2"}
+    assert typed["Plots!G2"].value == right and typed["Plots!G2"].verdict == "confirmed"
+    assert typed["Plots!H2"].value == stale and typed["Plots!H2"].verdict == "mismatch"
