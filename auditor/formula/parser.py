@@ -29,6 +29,7 @@ from auditor.formula.nodes import (
     Text,
     Unary,
 )
+from auditor.formula.structured import resolve_structured
 from auditor.formula.tokens import (
     _INFIX,
     _PERCENT_BP,
@@ -121,8 +122,11 @@ def _reference(ctx: _Context, text: str) -> Node:
 def _name(ctx: _Context, name: str, sheet: str | None, external: str | None) -> Node:
     if external is not None:
         return NameNode(name, external)
-    if "[" in name or ctx.workbook is None:
-        return NameNode(name)  # structured table references are left to the caller
+    if ctx.workbook is None:
+        return NameNode(name)
+    if "[" in name:  # a structured table reference
+        block = resolve_structured(ctx.workbook, name)
+        return RefNode(block) if block is not None else NameNode(name)
     scope = sheet if sheet is not None else ctx.sheet
     refers_to = ctx.workbook.resolve_name(name, scope)
     if refers_to is None or ctx.depth >= _NAME_DEPTH_LIMIT:

@@ -29,7 +29,8 @@ from auditor.read.charts import read_charts
 from auditor.read.links import external_links
 from auditor.read.parts import read_book, read_number_formats, read_shared_strings, workbook_part
 from auditor.read.sheet import SheetReader
-from auditor.read.workbook import DefinedName, Sheet, Workbook
+from auditor.read.tables import read_tables
+from auditor.read.workbook import DefinedName, Sheet, Table, Workbook
 
 # What zipfile raises on a damaged container: a bad header or checksum, a deflate stream that
 # breaks off, a seek past the end, a member name that is not the UTF-8 its flag promises.
@@ -57,6 +58,7 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
         dates=frozenset(str(i) for i in date_styles),
     )
     sheets: dict[str, Sheet] = {}
+    tables: dict[str, Table] = {}
     titles: list[str] = []
     for entry in parts.sheets:
         titles.append(entry.name)
@@ -67,6 +69,8 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
                 f"{label}: two sheets are named {entry.name!r}; the file is damaged"
             )
         sheets[entry.name] = SheetReader(book, entry.name).read(entry.part)
+        for table in read_tables(archive, entry.name, entry.part, label):
+            tables.setdefault(table.name.upper(), table)
     names = [
         DefinedName(name, text, scope=None if index is None else titles[index])
         for name, text, index in parts.names
@@ -81,6 +85,7 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
         array_anchors=book.arrays,
         charts=read_charts(archive, parts.sheets, label),
         external_links=external_links(archive, book_part, label),
+        tables=tables,
     )
 
 

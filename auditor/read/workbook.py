@@ -94,6 +94,21 @@ class DefinedName:
     scope: str | None = None  # sheet name for a sheet-scoped name, None for workbook scope
 
 
+@dataclass(frozen=True)
+class Table:
+    """A table (list object) of a sheet: its whole block, header and totals rows, columns."""
+
+    name: str
+    sheet: str
+    r1: int
+    c1: int
+    r2: int
+    c2: int
+    columns: tuple[str, ...]
+    header_rows: int = 1
+    totals_rows: int = 0
+
+
 @dataclass(eq=False)  # compared and hashed by identity: a parsed workbook is one object
 class Workbook:
     path: str
@@ -106,6 +121,7 @@ class Workbook:
     )  # (sheet, row, col) of every cell in an array block -> (r1, c1, r2, c2) of the block
     charts: list[Chart] = field(default_factory=list)  # auditor.read.charts, in sheet order
     external_links: dict[str, str] = field(default_factory=dict)  # "[1]" -> linked file's name
+    tables: dict[str, Table] = field(default_factory=dict)  # by upper-case name
 
     def sheet(self, name: str) -> Sheet | None:
         if name in self.sheets:
