@@ -250,7 +250,7 @@ def test_intercept_built_with_another_blocks_slope(tmp_path: Path) -> None:
     assert second.reported["intercept"].as_written == pytest.approx(wrong, rel=RELATIVE)
     (finding,) = [f for f in second.findings if f.check == "stat-recompute"]
     assert finding.kind == "copied-block"
-    assert finding.cells == ["Gauges!E14"]
+    assert finding.cells == ["Gauges!E14", "Gauges!E15:E22"]
     assert "Gauges!F3" in finding.message and "Gauges!E15:E22" in finding.message
     assert finding.evidence["reproduced"] == pytest.approx(wrong, rel=RELATIVE)
 

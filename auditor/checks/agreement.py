@@ -146,6 +146,7 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
                 f"({context.data.intended_y_range})."
             )
         kind = None
+        involved: list[str] = []  # cells the cause names beside this one (the copied offsets)
         explanations = explain(value, context)
         if explanations:
             # The simplest mistake that reproduces the reported number names the cause.
@@ -156,6 +157,8 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
             message += f" Cause: {cause.message.rstrip('. ')}."
             evidence["reproduced_by"] = cause.kind
             evidence["reproduced"] = cause.reproduced
+            if isinstance(cause.evidence.get("read_by"), str):
+                involved.append(str(cause.evidence["read_by"]))
             if len(explanations) > 1:
                 evidence["also_reproduced_by"] = ", ".join(e.kind for e in explanations[1:4])
         findings.append(
@@ -163,7 +166,7 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
                 check="stat-recompute",
                 kind=kind,
                 severity=severity,
-                cells=[value.cell],
+                cells=[value.cell, *involved],
                 message=message,
                 evidence=evidence,
                 fix=fix,

@@ -75,11 +75,10 @@ def regression_cell_error(context: WorkbookContext) -> list[Finding]:
     if workbook is None or not context.stored_values:
         return []
     findings = []
-    located = {s.cell.address for spec in context.specs for s in spec.stats.values()}
     for (sheet, row, col), node in context.parsed.items():
         cell = workbook.cell(sheet, row, col)
-        if cell is None or not isinstance(cell.value, ErrorValue) or cell.address in located:
-            continue  # a located statistic's error is compared with the refit instead
+        if cell is None or not isinstance(cell.value, ErrorValue):
+            continue
         failed = [c for c in calls(node) if c.name in REGRESSION_CALLS]
         if not failed:
             continue
@@ -92,8 +91,7 @@ def regression_cell_error(context: WorkbookContext) -> list[Finding]:
                 cells=[cell.address],
                 message=(
                     f"{cell.address} ({cell.formula}) shows {cell.value.code} instead of a "
-                    f"result: {why or 'the function fails on the ranges it reads'}. The "
-                    "regression it was meant to compute is not reported."
+                    f"result: {why or 'the function fails on the ranges it reads'}."
                 ),
                 evidence={"formula": cell.formula or "", "shows": cell.value.code},
                 fix=f"Give {failed[0].name} numeric ranges of equal length: y first, then x, "

@@ -170,10 +170,12 @@ def audit_workbook(
             partial(one_per_mistake, result.findings, partial(_reach, spec, locator=locator)),
             partial(_as_they_are, result.findings),
         )
+    # A regression formula that fails (#VALUE!) is a regression all the same, and audited.
+    broken = any(f.check == "regression-cell-error" for f in kept)
     outcome = WorkbookResult(
         path=str(path),
         sha256=workbook.sha256,
-        status="audited" if regressions else "no-regressions",
+        status="audited" if regressions or broken else "no-regressions",
         stored_values=workbook.stored_values,
         regressions=regressions,
         findings=kept,
