@@ -52,6 +52,8 @@ class Prediction:
     cell: str  # "Sheet!A1"
     x: float  # the x the line is used at
     how: str  # "FORECAST", "TREND", "b0 + b1·x", "(y − b0)/b1"
+    shown: float | None = None  # the stored value of a cell that is the bare FORECAST/TREND call
+    reads: tuple[str, str] | None = None  # (y, x) ranges that call fits
 
 
 @dataclass
@@ -194,8 +196,25 @@ class DesignInputReader:
             if (key[0].lower(), key[1], key[2]) in own:
                 continue
             address = f"{key[0]}!{_coord(key[1], key[2])}"
-            for x, how in self._predictions_in(node, key[0], spec, slope_cells, intercept_cells):
-                yield Prediction(address, x, how)
+            found = list(self._predictions_in(node, key[0], spec, slope_cells, intercept_cells))
+            shown, reads = self._bare_call(key, node) if len(found) == 1 else (None, None)
+            for x, how in found:
+                yield Prediction(address, x, how, shown, reads)
+
+    def _bare_call(
+        self, key: tuple[str, int, int], node: Node
+    ) -> tuple[float | None, tuple[str, str] | None]:
+        """The value a FORECAST or TREND cell shows, and the ranges its line is fitted to."""
+        if not isinstance(node, Call) or node.name not in ("FORECAST", "FORECAST.LINEAR", "TREND"):
+            return None, None
+        y_node, x_node = node.args[1:3] if node.name != "TREND" else node.args[0:2]
+        cell = self.workbook.cell(*key)
+        value = cell.value if cell is not None and self.workbook.stored_values else None
+        if not isinstance(y_node, RefNode) or not isinstance(x_node, RefNode):
+            return None, None
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            return None, None
+        return float(value), (y_node.ref.address, x_node.ref.address)
 
     def _predictions_in(
         self,
