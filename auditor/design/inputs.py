@@ -99,6 +99,7 @@ class DesignInputReader:
                 except FormulaError:
                     continue  # reported by the formula checks; nothing to predict from here
         self.parsed = parsed
+        self._shape_cache: dict[tuple[str, int, int], list[Node]] = {}
 
     def read(self, spec: RegressionSpec) -> DesignInputs:
         inputs = DesignInputs()
@@ -196,10 +197,27 @@ class DesignInputReader:
             if (key[0].lower(), key[1], key[2]) in own:
                 continue
             address = f"{key[0]}!{_coord(key[1], key[2])}"
-            found = list(self._predictions_in(node, key[0], spec, slope_cells, intercept_cells))
+            found = list(
+                self._predictions_in(
+                    node, key[0], spec, slope_cells, intercept_cells, self._shapes(key, node)
+                )
+            )
             shown, reads = self._bare_call(key, node) if len(found) == 1 else (None, None)
             for x, how in found:
                 yield Prediction(address, x, how, shown, reads)
+
+    def _shapes(self, key: tuple[str, int, int], node: Node) -> list[Node]:
+        """The sub-formulas a prediction can be (calls, products, quotients), found once per
+        cell rather than once per regression: long formulas (LET) cost a walk each."""
+        found = self._shape_cache.get(key)
+        if found is None:
+            found = [
+                sub
+                for sub in walk(node)
+                if isinstance(sub, Call) or (isinstance(sub, Binary) and sub.op in ("*", "/"))
+            ]
+            self._shape_cache[key] = found
+        return found
 
     def _bare_call(
         self, key: tuple[str, int, int], node: Node
@@ -223,8 +241,9 @@ class DesignInputReader:
         spec: RegressionSpec,
         slope_cells: set[tuple[str, int, int]],
         intercept_cells: set[tuple[str, int, int]],
+        shapes: list[Node] | None = None,
     ) -> Iterator[tuple[float, str]]:
-        for sub in walk(node):
+        for sub in walk(node) if shapes is None else shapes:
             if isinstance(sub, Call) and sub.name in ("FORECAST", "FORECAST.LINEAR"):
                 if len(sub.args) == 3 and self._known(sub.args[1], sub.args[2], spec):
                     for x in self._evaluate(sub.args[0], sheet):

@@ -206,22 +206,29 @@ class HandbuiltFinder:
         self.evaluator = evaluator
         self.parsed = parsed
         self._reach: dict[Key, Reach] = {}
+        self._refs: dict[Key, list[Ref]] = {}
         self._values: dict[Ref, list[object] | None] = {}
         self._moments: dict[tuple[Ref, Ref], Moments | None] = {}
 
     # -- what a formula reads ---------------------------------------------------------------
+    def refs(self, key: Key) -> list[Ref]:
+        """The references of a formula cell, found once (long formulas cost a walk each)."""
+        found = self._refs.get(key)
+        if found is None:
+            node = self.parsed.get(key)
+            found = [] if node is None else [r for r in references(node) if r.external is None]
+            self._refs[key] = found
+        return found
+
     def reach(self, key: Key, depth: int = 0) -> Reach:
         found = self._reach.get(key)
         if found is not None:
             return found
         out = Reach()
         self._reach[key] = out  # a cycle meets an empty reach, not a loop
-        node = self.parsed.get(key)
-        if node is None or depth > MAX_DEPTH:
+        if key not in self.parsed or depth > MAX_DEPTH:
             return out
-        for ref in references(node):
-            if ref.external is not None:
-                continue
+        for ref in self.refs(key):
             if ref.is_cell:
                 target = self._key(ref.sheet, ref.r1, ref.c1)
                 if target is not None and target in self.parsed:
@@ -239,12 +246,12 @@ class HandbuiltFinder:
         last = self._key(ref.sheet, ref.r2, ref.c2)
         if first is None or last is None or first not in self.parsed or last not in self.parsed:
             return
-        head, tail = references(self.parsed[first]), references(self.parsed[last])
+        head, tail = self.refs(first), self.refs(last)
         if len(head) != len(tail):
             return
         span = (ref.r2 - ref.r1, ref.c2 - ref.c1)
         for a, b in zip(head, tail, strict=True):
-            if not (a.is_cell and b.is_cell) or a.sheet != b.sheet or a.external is not None:
+            if not (a.is_cell and b.is_cell) or a.sheet != b.sheet:
                 continue
             if a == b:
                 target = self._key(a.sheet, a.r1, a.c1)
@@ -306,10 +313,9 @@ class HandbuiltFinder:
 
     def _reads(self, column: Ref, other: Ref) -> bool:
         first = self._key(column.sheet, column.r1, column.c1)
-        node = self.parsed.get(first) if first is not None else None
-        if first is None or node is None:
+        if first is None or first not in self.parsed:
             return False
-        direct = [r for r in references(node) if r.external is None]
+        direct = self.refs(first)
         reached = self.reach(first).vectors
         return any(overlaps(r, other) for r in [*direct, *reached])
 
@@ -323,11 +329,11 @@ class HandbuiltFinder:
 
     def recognise(self, key: Key) -> Recognised | None:
         cell = self.workbook.cell(*key)
-        if cell is None or self.skipped(self.parsed[key]):
+        if cell is None:
             return None
         reach = self.reach(key)
-        pairs = self.candidate_pairs(reach)
-        if not pairs:
+        pairs = self.candidate_pairs(reach) if len(reach.vectors) >= 2 else []
+        if not pairs or self.skipped(self.parsed[key]):
             return None
         numbers = self.cell_numbers(cell)
         if not numbers:

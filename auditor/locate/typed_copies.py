@@ -67,6 +67,7 @@ def attach_typed_copies(
     workbook: Workbook, parsed: dict[Key, Node], specs: list[RegressionSpec]
 ) -> None:
     """Attach to each one-x regression the first cell typing each copy of its slope."""
+    cache: dict[Key, list[float]] = {}  # factors of each formula, found once for all specs
     for spec in specs:
         slopes = _slope_values(spec, workbook.stored_values)
         if spec.x_columns != 1 or spec.in_rows or not slopes:
@@ -75,9 +76,12 @@ def attach_typed_copies(
         for (sheet, row, col), node in parsed.items():
             if sheet.lower() != spec.y.sheet.lower() or not spec.y.r1 <= row <= spec.y.r2:
                 continue
+            factors = cache.get((sheet, row, col))
+            if factors is None:
+                factors = cache[(sheet, row, col)] = _factors(node)
             copies = [
                 f
-                for f in _factors(node)
+                for f in factors
                 if f not in seen and any(abs(f - s) <= NEAR * abs(s) for s in slopes)
             ]
             if not copies or not _reads_data(spec, node, parsed):
