@@ -25,7 +25,7 @@ import xlsxwriter
 from auditor.model import RegressionResult, WorkbookResult
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
-from auditor.read.workbook import column_letter
+from auditor.grid import column_letter
 
 RELATIVE = 1e-9
 

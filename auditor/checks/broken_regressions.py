@@ -7,7 +7,7 @@ meant one, and a reviewer must hear what went wrong rather than "no regressions"
 from __future__ import annotations
 
 from auditor.checks.base import check
-from auditor.checks.workbook_level import WorkbookContext
+from auditor.context import WorkbookContext
 from auditor.formula.syntax import Call, Node, RefNode, calls
 from auditor.model import Finding
 from auditor.read.workbook import ErrorValue, Workbook

@@ -11,8 +11,9 @@ from __future__ import annotations
 
 import math
 
-from auditor.checks.base import RegressionContext, check
+from auditor.checks.base import check
 from auditor.compare.precision import agree_stored
+from auditor.context import RegressionContext
 from auditor.model import Finding
 
 CHECK = "prediction-off-the-line"

@@ -25,7 +25,7 @@ from auditor.diagnose.basis import Candidate, Evidence, g, pair
 from auditor.model import ReportedValue, stat_base
 
 if TYPE_CHECKING:  # only annotations: the checks package imports the diagnosis (no cycle)
-    from auditor.checks.base import RegressionContext
+    from auditor.context import RegressionContext
 
 
 def _as_written(context: RegressionContext) -> tuple[np.ndarray, np.ndarray, list[float]]:

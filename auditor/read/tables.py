@@ -11,8 +11,9 @@ from __future__ import annotations
 import zipfile
 
 from auditor.errors import UnreadableWorkbook
+from auditor.grid import parse_cell
 from auditor.read.parts import read_relationships
-from auditor.read.workbook import Table, parse_cell
+from auditor.read.workbook import Table
 from auditor.read.xmlsafe import parse_part
 
 
