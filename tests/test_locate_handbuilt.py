@@ -22,10 +22,10 @@ import pytest
 import statsmodels.api as sm
 import xlsxwriter
 
+from auditor.grid import column_letter
 from auditor.model import RegressionResult, WorkbookResult
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
-from auditor.grid import column_letter
 
 RELATIVE = 1e-9
 
