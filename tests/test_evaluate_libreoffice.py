@@ -78,6 +78,13 @@ SCALAR_FORMULAS: dict[str, str] = {
     "pearson": f"=PEARSON({XS},{YS})",
     "forecast": f"=FORECAST(15,{YS},{XS})",
     "forecast.linear": f"=_xlfn.FORECAST.LINEAR(15,{YS},{XS})",
+    "covar": f"=COVAR({YS},{XS})",
+    "covariance.p": f"=_xlfn.COVARIANCE.P({XS},{YS})",
+    "covariance.s": f"=_xlfn.COVARIANCE.S({YS},{XS})",
+    "covariance.s skips text, blank": f"=_xlfn.COVARIANCE.S(Data!$C$2:$C$13,{XS})",
+    "hand-built slope over rows that differ": (
+        f"=_xlfn.COVARIANCE.S(Data!$C$2:$C$13,{XS})/_xlfn.VAR.S({XS})"
+    ),
     "slope skips text, blank, logical": f"=SLOPE(Data!$C$2:$C$13,{XS})",
     "intercept skips": f"=INTERCEPT(Data!$C$2:$C$13,{XS})",
     "steyx skips": f"=STEYX(Data!$C$2:$C$13,{XS})",

@@ -149,3 +149,23 @@ def test_structured_forms(text: str, block: tuple[int, int, int, int]) -> None:
 def test_structured_forms_left_unresolved(text: str) -> None:
     workbook = Workbook("t.xlsx", "", {}, [], True, tables={"RUNS": TABLE})
     assert resolve_structured(workbook, text) is None
+
+
+def test_formulas_over_data_in_rows(tmp_path: Path) -> None:
+    path = tmp_path / "rows.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    sheet = book.add_worksheet("Лист1")  # no labels, a Cyrillic sheet name
+    sheet.write_row(0, 0, list(map(float, X)))
+    sheet.write_row(1, 0, list(map(float, Y)))
+    sheet.write_formula("B4", "=SLOPE(A2:L2,A1:L1)")
+    sheet.write_array_formula("B6:C8", "{=LINEST(A2:L2,A1:L1,TRUE,TRUE)}")
+    book.close()
+    (regression,) = audit_workbook(path, load_policy("general")).regressions
+    assert (regression.x_range, regression.y_range, regression.n) == (
+        "Лист1!A1:L1",
+        "Лист1!A2:L2",
+        12,
+    )
+    assert regression.intended["slope"] == pytest.approx(SLOPE, rel=1e-9)
+    assert regression.reported["intercept"].cell == "Лист1!C6"
+    assert {v.verdict for v in regression.reported.values()} == {"confirmed"}
