@@ -319,6 +319,14 @@ class HandbuiltFinder:
         reached = self.reach(first).vectors
         return any(overlaps(r, other) for r in [*direct, *reached])
 
+    def row_formula(self, key: Key, reach: Reach) -> bool:
+        """A formula reading one cell of the data (a fitted value ``=$B$1+$B$2*A7``, a residual)
+        works row by row: it is not a summary of the columns."""
+        return any(
+            ref.is_cell and any(overlaps(ref, vector) for vector in reach.vectors)
+            for ref in self.refs(key)
+        )
+
     def skipped(self, node: Node) -> bool:
         """A plain link (=+Weekly!D4) or a cell the formula recogniser owns."""
         while isinstance(node, Unary):
@@ -333,7 +341,7 @@ class HandbuiltFinder:
             return None
         reach = self.reach(key)
         pairs = self.candidate_pairs(reach) if len(reach.vectors) >= 2 else []
-        if not pairs or self.skipped(self.parsed[key]):
+        if not pairs or self.skipped(self.parsed[key]) or self.row_formula(key, reach):
             return None
         numbers = self.cell_numbers(cell)
         if not numbers:
