@@ -390,3 +390,15 @@ def test_a_slope_typed_into_formulas_is_checked_at_its_precision(tmp_path: Path)
     assert set(typed) == {"Plots!G2", "Plots!H2"}
     assert typed["Plots!G2"].value == right and typed["Plots!G2"].verdict == "confirmed"
     assert typed["Plots!H2"].value == stale and typed["Plots!H2"].verdict == "mismatch"
+
+
+def test_a_slope_through_the_origin_is_found_without_intercept(tmp_path: Path) -> None:
+    x, y = _data(130, 9)
+    formulas = {"F2": "SUMPRODUCT(B2:B10,C2:C10)/SUMSQ(B2:B10)", "F3": "SUM(C2:C10)/SUM(B2:B10)"}
+    _write_columns(tmp_path / "origin.xlsx", x, y, formulas)
+    (found,) = _handbuilt(_audit(tmp_path / "origin.xlsx"))
+    assert found.intercept is False
+    ols = sm.OLS(y, x).fit()  # outside reference: statsmodels, no constant
+    assert found.intended["slope"] == pytest.approx(ols.params[0], rel=RELATIVE)
+    assert found.intended["se_slope"] == pytest.approx(ols.bse[0], rel=1e-8)
+    assert [v.cell for v in found.reported.values()] == ["Plots!F2"]  # a ratio of sums is not

@@ -64,7 +64,7 @@ def _rows_note(context: RegressionContext, n: int) -> str:
 
 
 def population_sample_mix(value: ReportedValue, context: RegressionContext) -> list[Candidate]:
-    if stat_base(value.key) != "slope" or context.fit.k != 1:
+    if stat_base(value.key) != "slope" or context.fit.k != 1 or not context.fit.intercept:
         return []
     x, y, _ = _as_written(context)
     n = int(x.size)
@@ -105,7 +105,7 @@ def population_sample_mix(value: ReportedValue, context: RegressionContext) -> l
 
 
 def rows_differ(value: ReportedValue, context: RegressionContext) -> list[Candidate]:
-    if stat_base(value.key) != "slope" or context.fit.k != 1:
+    if stat_base(value.key) != "slope" or context.fit.k != 1 or not context.fit.intercept:
         return []
     x, y, x_all = _as_written(context)
     y_all = _all_numbers(context)[1]

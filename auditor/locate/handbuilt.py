@@ -76,6 +76,8 @@ class Moments:
     syy_all: float
     x_mean_all: float
     y_mean_all: float
+    sxy_raw: float = 0.0  # Σxy and Σx² of the pairs: the line through the origin
+    sxx_raw: float = 0.0
 
     @property
     def slope(self) -> float:
@@ -88,6 +90,8 @@ class Moments:
     def slope_readings(self) -> Iterator[tuple[str, float, dict[str, Any]]]:
         n = self.n
         yield "least-squares", self.slope, {}
+        if self.sxx_raw > 0:  # SUMPRODUCT(x, y)/SUMSQ(x): the least-squares line through 0
+            yield "through-origin", self.sxy_raw / self.sxx_raw, {}
         yield "population-sample-mix", self.slope * (n - 1) / n, {"factor": f"({n}-1)/{n}"}
         yield "population-sample-mix", self.slope * n / (n - 1), {"factor": f"{n}/({n}-1)"}
         if self.n_x != n and self.n_x > 1 and self.sxx_all > 0:
@@ -148,6 +152,8 @@ def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None
         syy_all=float(dy_all @ dy_all),
         x_mean_all=float(x_all.mean()),
         y_mean_all=float(y_all.mean()),
+        sxy_raw=float(xs @ ys),
+        sxx_raw=float(xs @ xs),
     )
 
 
@@ -410,7 +416,7 @@ def join(found: list[RegressionSpec], other: RegressionSpec) -> bool:
     """Give a regression found otherwise (same data) the statistic cells of a hand-built one."""
     for spec in found:
         same = overlaps(spec.x, other.x) and overlaps(spec.y, other.y)
-        if same and spec.x_columns == 1:
+        if same and spec.x_columns == 1 and spec.intercept == other.intercept:
             for stat in other.stats.values():
                 attach(spec, stat.key.split("@")[0], stat)
             return True
@@ -425,22 +431,23 @@ def handbuilt_specs(
     numbers is one regression, its second slope cell a second reported cell."""
     finder = HandbuiltFinder(workbook, evaluator, parsed)
     found = finder.find()  # in formula order: sheet by sheet, row by row
-    specs: dict[tuple[Ref, Ref], RegressionSpec] = {}
-    attach_only: dict[tuple[Ref, Ref], RegressionSpec] = {}
+    specs: dict[tuple[Ref, Ref, bool], RegressionSpec] = {}
+    attach_only: dict[tuple[Ref, Ref, bool], RegressionSpec] = {}
     for item in found:
         standalone = item.reading != "slope-cell"
-        table = specs if standalone or (item.y, item.x) in specs else attach_only
-        spec = table.get((item.y, item.x))
+        key = (item.y, item.x, item.reading != "through-origin")
+        table = specs if standalone or key in specs else attach_only
+        spec = table.get(key)
         if spec is None:
             spec = RegressionSpec(
                 id=f"{item.cell.sheet}/{item.cell.coord}",
                 sheet=item.cell.sheet,
                 x=item.x,
                 y=item.y,
-                intercept=True,
+                intercept=key[2],
                 found_by="hand-built",
             )
-            table[(item.y, item.x)] = spec
+            table[key] = spec
         _put(spec, item)
     merged: list[RegressionSpec] = []
     signatures: dict[tuple[Any, ...], RegressionSpec] = {}
