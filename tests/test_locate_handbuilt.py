@@ -402,3 +402,13 @@ def test_a_slope_through_the_origin_is_found_without_intercept(tmp_path: Path) -
     assert found.intended["slope"] == pytest.approx(ols.params[0], rel=RELATIVE)
     assert found.intended["se_slope"] == pytest.approx(ols.bse[0], rel=1e-8)
     assert [v.cell for v in found.reported.values()] == ["Plots!F2"]  # a ratio of sums is not
+
+
+def test_whole_columns_with_their_headers(tmp_path: Path) -> None:
+    x, y = _data(140, 11)
+    formulas = {"F2": "_xlfn.COVARIANCE.S(C:C,B:B)/_xlfn.VAR.S(B:B)"}
+    _write_columns(tmp_path / "columns.xlsx", x, y, formulas)
+    (found,) = _handbuilt(_audit(tmp_path / "columns.xlsx"))
+    assert found.intended["slope"] == pytest.approx(np.polyfit(x, y, 1)[0], rel=RELATIVE)
+    assert found.n == 11
+    assert found.reported["slope"].verdict == "confirmed"

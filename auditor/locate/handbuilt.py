@@ -181,9 +181,9 @@ class Reach:
 
 
 def _is_vector(ref: Ref) -> bool:
+    """One column (whole columns too: B:B reads the sheet's used rows) or one row."""
     return (
         ref.external is None
-        and not ref.whole_column
         and not ref.whole_row
         and (ref.rows == 1 or ref.cols == 1)
         and max(ref.rows, ref.cols) >= MIN_PAIRS
