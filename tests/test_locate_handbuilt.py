@@ -75,6 +75,7 @@ def _write_columns(
     formulas: dict[str, str],
     y_first: bool = False,
     y_values: list[object] | None = None,
+    labels: dict[str, str] | None = None,
 ) -> tuple[str, str]:
     """Plot, irrigation (x) and yield (y) from row 2; formulas at the given cells. Returns the
     x and y ranges as the audit writes them."""
@@ -94,6 +95,8 @@ def _write_columns(
             sheet.write_number(i + 1, y_col, float(yv))  # type: ignore[arg-type]
     for cell, formula in formulas.items():
         sheet.write_formula(cell, "=" + formula)
+    for cell, text in (labels or {}).items():
+        sheet.write_string(cell, text)
     book.close()
     last = len(x) + 1
     xl, yl = column_letter(x_col + 1), column_letter(y_col + 1)
@@ -412,3 +415,27 @@ def test_whole_columns_with_their_headers(tmp_path: Path) -> None:
     assert found.intended["slope"] == pytest.approx(np.polyfit(x, y, 1)[0], rel=RELATIVE)
     assert found.n == 11
     assert found.reported["slope"].verdict == "confirmed"
+
+
+def test_statistics_built_on_a_hand_built_slope_are_attached(tmp_path: Path) -> None:
+    x, y = _data(150, 10)
+    formulas = {
+        "F2": "_xlfn.COVARIANCE.S(C2:C11,B2:B11)/_xlfn.VAR.S(B2:B11)",
+        "F3": "SQRT((DEVSQ(C2:C11)-F2^2*DEVSQ(B2:B11))/(COUNT(B2:B11)-2)/DEVSQ(B2:B11))",
+        "F4": "F2/F3",
+        "F5": "T.DIST.2T(ABS(F4),COUNT(B2:B11)-2)",
+    }
+    labels = {"E2": "Slope", "E3": "SE of slope", "E4": "t", "E5": "p-value"}
+    _write_columns(tmp_path / "deps.xlsx", x, y, formulas, labels=labels)
+    (found,) = _handbuilt(_audit(tmp_path / "deps.xlsx"))
+    ols = sm.OLS(y, sm.add_constant(x)).fit()  # outside reference: statsmodels
+    cells = {key: value.cell for key, value in found.reported.items()}
+    assert cells == {
+        "slope": "Plots!F2",
+        "se_slope": "Plots!F3",
+        "t_slope": "Plots!F4",
+        "p_slope": "Plots!F5",
+    }
+    assert found.reported["se_slope"].as_written == pytest.approx(ols.bse[1], rel=1e-9)
+    assert found.reported["p_slope"].as_written == pytest.approx(ols.pvalues[1], rel=1e-7)
+    assert {v.verdict for v in found.reported.values()} == {"confirmed"}

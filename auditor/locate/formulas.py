@@ -281,6 +281,10 @@ class FormulaLocator:
             found |= readers.get(address, set())
         return found
 
+    def follow_dependents(self, spec: RegressionSpec) -> None:
+        """Attach the cells built on a regression's statistics (t, p, SE, df, limits)."""
+        self._follow_dependents(spec)
+
     def _follow_dependents(self, spec: RegressionSpec) -> None:
         data = [spec.x, spec.y]  # not the stray calls' ranges: those belong to a neighbour
         taken = {(s.cell.sheet, s.cell.row, s.cell.col) for s in spec.stats.values()}
