@@ -6,6 +6,7 @@ import re
 from typing import Any
 
 from auditor.errors import FormulaError
+from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Binary, Call, Node, Ref, RefNode, parse, references, walk
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
 from auditor.locate.roles import (
@@ -37,6 +38,7 @@ class FormulaLocator:
     def __init__(self, workbook: Workbook, bindings: list[dict[str, Any]] | None = None):
         self.workbook = workbook
         self.bindings = bindings or []
+        self.evaluator: Evaluator | None = None  # set by the audit; made on demand otherwise
         self.parsed: dict[Key, Node] = {}
         self.parse_errors: list[tuple[Cell, str]] = []
         self._refs_by_key: dict[Key, list[Ref]] = {}

@@ -36,6 +36,7 @@ import numpy as np
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.formula.syntax import Node, Ref, RefNode, Unary, calls, references
+from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Cell, ErrorValue, Workbook
 
@@ -413,14 +414,27 @@ def _put(spec: RegressionSpec, found: Recognised) -> None:
 
 
 def join(found: list[RegressionSpec], other: RegressionSpec) -> bool:
-    """Give a regression found otherwise (same data) the statistic cells of a hand-built one."""
+    """Give a regression found otherwise (same data) the recognised cells of a hand-built one;
+    an intercept built from a slope cell never stands alone. True: ``other`` is consumed."""
     for spec in found:
         same = overlaps(spec.x, other.x) and overlaps(spec.y, other.y)
         if same and spec.x_columns == 1 and spec.intercept == other.intercept:
             for stat in other.stats.values():
-                attach(spec, stat.key.split("@")[0], stat)
+                if stat.how == "hand-built":  # its followed dependents are the other's own
+                    attach(spec, stat.key.split("@")[0], stat)
             return True
-    return False
+    return all(s.computes.get("reading") == "slope-cell" for s in other.stats.values())
+
+
+def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
+    """The recogniser: hand-built regressions, with the statistics built on them attached."""
+    if locator.evaluator is None:
+        locator.evaluator = Evaluator(locator.workbook)
+    handbuilt, attach_only = handbuilt_specs(locator.workbook, locator.evaluator, locator.parsed)
+    if hasattr(locator, "anchor_cells"):  # the formula recogniser ran: its cells are known
+        for spec in handbuilt:
+            locator.follow_dependents(spec)
+    return handbuilt + attach_only
 
 
 def handbuilt_specs(

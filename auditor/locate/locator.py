@@ -9,6 +9,9 @@ the order of :data:`RECOGNISERS`:
   a later regression over the same data merges into a declared one;
 * **formulas** — SLOPE/INTERCEPT/STEYX/RSQ/LINEST calls name a (y, x) pair; cells built on them
   (t, p, df, n, SE, limits) are attached by following references;
+* **hand-built** — slopes and intercepts recognised by the number they compute (COVARIANCE/VAR,
+  SUMPRODUCT sums, ȳ − b·x̄); over the data of a regression found earlier they join it;
+* then typed copies of a slope inside formulas are attached (:mod:`auditor.locate.typed_copies`);
 * then typed numbers beside statistic labels are attached to every regression found so far;
 * *late* recognisers see the cells bound so far and never take one twice: **labels** (a typed
   slope beside a two-column table), **pasted tables** (an analysis add-in's output pasted as
@@ -25,7 +28,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from auditor.locate import declared, labels, pasted_spec, trendlines
+from auditor.locate import declared, handbuilt, labels, pasted_spec, trendlines, typed_copies
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PAIR_FUNCS, PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
@@ -55,6 +58,8 @@ class Recogniser:
     # runs once all have found theirs, over the whole list (joins, completes, may drop its own)
     labelled: bool = True  # typed numbers beside statistic labels near its blocks are attached
     finish: Callable[[FormulaLocator, list[RegressionSpec]], list[RegressionSpec]] | None = None
+    # Gives a regression found earlier over the same data this one's cells (True: consumed).
+    join: Callable[[list[RegressionSpec], RegressionSpec], bool] | None = None
 
 
 def _formulas(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
@@ -65,6 +70,7 @@ RECOGNISERS: tuple[Recogniser, ...] = (
     Recogniser("bindings", declared.from_bindings, absorbs=True),
     Recogniser("names", declared.from_names, absorbs=True),
     Recogniser("formulas", _formulas),
+    Recogniser("hand-built", handbuilt.find, join=handbuilt.join),
     Recogniser("labels", labels.from_labels, late=True),
     # a pasted table is complete: its own layout names every number it holds; before the
     # trendlines, so that a chart of the same data joins the table's regression
@@ -96,6 +102,8 @@ def locate(
     absorbing: list[RegressionSpec] = []
     for recogniser in (r for r in recognisers if not r.late):
         for spec in recogniser.find(locator, _taken(specs)):
+            if recogniser.join is not None and recogniser.join(specs, spec):
+                continue
             target = next(
                 (s for s in absorbing if overlaps(s.x, spec.x) and overlaps(s.y, spec.y)), None
             )
@@ -105,6 +113,7 @@ def locate(
             specs.append(spec)
             if recogniser.absorbs:
                 absorbing.append(spec)
+    typed_copies.attach_typed_copies(locator.workbook, locator.parsed, specs)
     for spec in specs:
         labels.attach_labelled_constants(locator, spec)
     for recogniser in (r for r in recognisers if r.late):

@@ -142,7 +142,8 @@ def audit_workbook(
         return WorkbookResult(str(path), digest, "unreadable", error=str(exc))
     evaluator = Evaluator(workbook)
     locator = Locator(workbook, bindings)
-    specs = locate(workbook, bindings, locator, evaluator)
+    locator.evaluator = evaluator  # recognisers that test what a formula computes share it
+    specs = locate(workbook, bindings, locator)
     reader = DesignInputReader(workbook, evaluator, locator.parsed)
     audited = [
         guarded(
