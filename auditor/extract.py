@@ -381,25 +381,40 @@ def _extract(
 
 
 def _paired(workbook: Workbook, evaluator: Reader, spec: RegressionSpec) -> Extracted:
-    """Ranges on different sheets or rows: pair them position by position, no extension."""
+    """Ranges on different sheets, unrelated rows, or data laid out in rows: pair them position
+    by position, no extension. A number stored as text is parsed for the intended fit and left
+    out of the as-written pairs, as SLOPE leaves it out."""
     x_values = evaluator.range_values(spec.x)
     if spec.in_rows:
         x_values = x_values.reshape(-1, 1)  # one x row: each column is a point
     y_values = evaluator.range_values(spec.y).reshape(-1)
     k = x_values.shape[1] if x_values.ndim == 2 else 1
     n = min(len(y_values), x_values.shape[0])
-    xs_used, ys_used, points = [], [], []
+    xs_used: list[list[float | None]] = []
+    ys_used: list[float | None] = []
+    points: list[DataPoint] = []
     dropped: list[tuple[str, str]] = []
+    parsed: list[tuple[str, str]] = []
+    as_written = 0
     for i in range(n):
-        xs = [_number(v)[0] for v in x_values[i]]
-        y = _number(y_values[i])[0]
+        r, c = (spec.y.r1, spec.y.c1 + i) if spec.in_rows else (spec.y.r1 + i, spec.y.c1)
+        x_notes = [_number(v) for v in x_values[i]]
+        xs = [number for number, _ in x_notes]
+        y, y_note = _number(y_values[i])
         used = all(v is not None for v in xs) and y is not None
-        points.append(DataPoint(spec.y.r1 + i, xs, y, used, used, "" if used else "not numeric"))
+        raw = [*x_values[i], y_values[i]]
+        numbers = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw)
+        reason = "" if used else "not numeric"
+        if used and not numbers:
+            texts = [note for _, note in x_notes if note] + ([y_note] if y_note else [])
+            reason = "; ".join(texts) + " (parsed)"
+            parsed.append((f"{spec.y.sheet}!{column_letter(c)}{r}", "; ".join(texts)))
+        as_written += used and numbers
+        points.append(DataPoint(spec.y.r1 + i, xs, y, used, used and numbers, reason))
         if used:
             xs_used.append(xs)
             ys_used.append(y)
         else:
-            r, c = (spec.y.r1, spec.y.c1 + i) if spec.in_rows else (spec.y.r1 + i, spec.y.c1)
             dropped.append((f"{spec.y.sheet}!{column_letter(c)}{r}", "not numeric"))
     return Extracted(
         x=np.array(xs_used, dtype=float).reshape(-1, k),
@@ -408,7 +423,8 @@ def _paired(workbook: Workbook, evaluator: Reader, spec: RegressionSpec) -> Extr
         intended_x_range=spec.x.address,
         intended_y_range=spec.y.address,
         dropped=dropped,
-        n_as_written=len(ys_used),
+        parsed=parsed,
+        n_as_written=as_written,
     )
 
 
