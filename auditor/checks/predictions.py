@@ -23,7 +23,11 @@ def _g(value: float) -> str:
     return f"{value:.6g}"
 
 
-@check(CHECK, "A FORECAST or TREND value differs from the recomputed line's prediction.")
+@check(
+    CHECK,
+    "A FORECAST or TREND value differs from the recomputed line's prediction.",
+    thresholds=("stored_relative_tolerance",),
+)
 def prediction_off_the_line(context: RegressionContext) -> list[Finding]:
     """Check each bare FORECAST/TREND cell of the regression against b0 + b1·x of the fit.
 
