@@ -294,6 +294,35 @@ def test_other_computations_are_not_slopes(tmp_path: Path, name: str) -> None:
     assert _handbuilt(_audit(tmp_path / "other.xlsx")) == []
 
 
+def test_group_proportions_of_indicator_data_are_not_slopes(tmp_path: Path) -> None:
+    # With 0/1 columns a least-squares slope is a difference of two proportions and the
+    # intercept a proportion (by algebra): COUNTIFS ratios are group shares, not a line. The
+    # stored values are those a saved file carries (numpy counts; COUNTIFS is not evaluated).
+    rng = np.random.default_rng(160)
+    x = rng.integers(0, 2, 20).astype(float)
+    y = np.where(rng.random(20) < 0.3 + 0.4 * x, 1.0, 0.0)
+    slope, intercept = np.polyfit(x, y, 1)  # numpy: the identity the test relies on
+    shares = y[x == 1].mean() - y[x == 0].mean(), y[x == 0].mean()
+    assert (slope, intercept) == pytest.approx(shares, rel=1e-9)
+    counts = {
+        "F2": ("COUNTIFS(B2:B21,1,C2:C21,1)", float(np.sum((x == 1) & (y == 1)))),
+        "F3": ("COUNTIFS(B2:B21,1,C2:C21,0)", float(np.sum((x == 1) & (y == 0)))),
+        "F4": ("COUNTIFS(B2:B21,0,C2:C21,1)", float(np.sum((x == 0) & (y == 1)))),
+        "F5": ("COUNTIFS(B2:B21,0,C2:C21,0)", float(np.sum((x == 0) & (y == 0)))),
+        "G2": ("F2/(F2+F3)-F4/(F4+F5)", float(shares[0])),
+        "G3": ("F4/(F4+F5)", float(shares[1])),
+    }
+    path = tmp_path / "shares.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    sheet = book.add_worksheet("Plots")
+    for i in range(20):
+        sheet.write_row(i + 1, 1, [float(x[i]), float(y[i])])
+    for cell, (formula, value) in counts.items():
+        sheet.write_formula(cell, "=" + formula, None, value)
+    book.close()
+    assert _handbuilt(_audit(path)) == []
+
+
 def test_goodness_of_fit_from_fitted_values_is_not_a_slope(tmp_path: Path) -> None:
     # R² = SSR/(SSR + SSE) from fitted-value columns equals, by algebra, the slope of the
     # centred fitted values on y: a column computed from x is not data.

@@ -42,6 +42,7 @@ from auditor.read.workbook import Cell, ErrorValue, Workbook
 
 Key = tuple[str, int, int]
 MIN_PAIRS = 3
+MIN_LEVELS = 3  # distinct x values a line needs before its slope is more than two group means
 MAX_DEPTH = 3  # M2 = K2/J2, K2 = COVARIANCE.P(…): two levels; three is generous
 MAX_VECTORS = 8  # ranges one formula reads, at most: beyond that it is a table, not a slope
 RELATIVE = 1e-9
@@ -133,6 +134,10 @@ def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None
     ys, xs = np.array([p[0] for p in pairs]), np.array([p[1] for p in pairs])
     if np.array_equal(ys, xs):
         return None  # a column against itself (or its copy): slope 1 by construction
+    if np.unique(xs).size < MIN_LEVELS:
+        # Two x levels: the "slope" is a difference of two group means and the "intercept" a
+        # group mean (with 0/1 data, proportions from COUNTIFS): equal by algebra, no line.
+        return None
     dx, dy = xs - xs.mean(), ys - ys.mean()
     sxx = float(dx @ dx)
     if sxx <= 0:
