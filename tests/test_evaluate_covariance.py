@@ -1,5 +1,4 @@
-"""COVAR, COVARIANCE.P and COVARIANCE.S in the evaluator, against numpy.cov (outside reference),
-and a precedent the evaluator cannot compute read as its stored value.
+"""COVAR, COVARIANCE.P and COVARIANCE.S in the evaluator, against numpy.cov (outside reference).
 
 The LibreOffice comparison of the same functions is in tests/test_evaluate_libreoffice.py.
 """
@@ -12,7 +11,7 @@ import numpy as np
 import pytest
 import xlsxwriter
 
-from auditor.evaluation.evaluator import Evaluator, Unsupported
+from auditor.evaluation.evaluator import Evaluator
 from auditor.read.open import read_workbook
 
 X = [1.5, 2.0, 3.25, 4.0, 5.5, 6.0, 7.75, 8.0]
@@ -56,20 +55,3 @@ def test_a_pair_with_text_or_a_blank_is_dropped(tmp_path: Path) -> None:
     keep = [i for i in range(8) if i not in (2, 5)]
     expected = float(np.cov([X[i] for i in keep], [Y[i] for i in keep], ddof=1)[0, 1])
     assert evaluator.cell_value("Bench", 1, 4) == pytest.approx(expected, rel=1e-12)
-
-
-def test_unsupported_precedent_reads_as_its_stored_value(tmp_path: Path) -> None:
-    # B holds a function the evaluator does not know, with the value a spreadsheet stored;
-    # the slope over it uses those stored numbers, while B itself is still not evaluated.
-    path = tmp_path / "stored.xlsx"
-    book = xlsxwriter.Workbook(str(path))
-    sheet = book.add_worksheet("Bench")
-    for i, (x, y) in enumerate(zip(X, Y, strict=True)):
-        sheet.write_number(i, 0, x)
-        sheet.write_formula(i, 1, f"=_xlfn.NOSUCHFUNCTION({y})", None, y)
-    sheet.write_formula("D1", "=SLOPE(B1:B8,A1:A8)", None, 0.5)
-    book.close()
-    evaluator = Evaluator(read_workbook(path))
-    assert evaluator.cell_value("Bench", 1, 4) == pytest.approx(np.polyfit(X, Y, 1)[0], rel=1e-12)
-    with pytest.raises(Unsupported):
-        evaluator.cell_value("Bench", 1, 2)

@@ -171,7 +171,13 @@ def build_reported(
             verdict = "unverifiable"
         else:
             verdict = "confirmed" if agreement.agrees else "mismatch"
-        if verdict == "mismatch" and cell.formula and note.startswith("not evaluated"):
+        known = bool(stat.computes.get("reading"))  # a recogniser reproduced what it computes
+        if (
+            verdict == "mismatch"
+            and cell.formula
+            and note.startswith("not evaluated")
+            and not known
+        ):
             # What the formula computes is unknown (=PRODUCT(SLOPE(…),100) is a slope per 100):
             # a value that differs from the statistic is no evidence of a mistake.
             verdict = "unverifiable"

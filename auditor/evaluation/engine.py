@@ -43,13 +43,9 @@ class _Defer(Exception):
 
 @dataclass(frozen=True)
 class _Failed:
-    """A cell whose formula could not be evaluated; reading it re-raises, except where another
-    formula or a range reads it as data and the file holds the value the author saw (``stored``):
-    a precedent with a function regaudit does not evaluate (LET, STOCKHISTORY) still gives its
-    dependants the number the spreadsheet showed."""
+    """A cell whose formula could not be evaluated; reading it re-raises."""
 
     error: Exception
-    stored: Any = None
 
 
 class Evaluator(ExpressionEvaluator):
@@ -78,7 +74,7 @@ class Evaluator(ExpressionEvaluator):
         found = self.workbook.sheet(sheet)
         if found is None:
             return ErrorValue(_REF)
-        value: Value = self._cell(found.name, row, col, strict=True)
+        value: Value = self._cell(found.name, row, col)
         return value
 
     def evaluate(self, node_or_text: Node | str, sheet: str) -> Value:
@@ -152,7 +148,7 @@ class Evaluator(ExpressionEvaluator):
 
     # --- cells and dependencies -----------------------------------------------------------------
 
-    def _cell(self, sheet: str, row: int, col: int, strict: bool = False) -> Any:
+    def _cell(self, sheet: str, row: int, col: int) -> Any:
         block = self._members.get((sheet, row, col))
         if block is not None:
             table = self._formula_result((sheet, block[0], block[1]))
@@ -164,10 +160,10 @@ class Evaluator(ExpressionEvaluator):
             return None
         if not cell.formula:
             return _constant(cell.value)
-        value = self._formula_result((sheet, row, col), strict)
+        value = self._formula_result((sheet, row, col))
         return value
 
-    def _formula_result(self, key: _Key, strict: bool = False) -> Any:
+    def _formula_result(self, key: _Key) -> Any:
         if key not in self._values:
             if key in self._open:
                 self._open_cells_met += 1
@@ -177,8 +173,6 @@ class Evaluator(ExpressionEvaluator):
             self._compute(key)
         value = self._values[key]
         if isinstance(value, _Failed):
-            if value.stored is not None and not strict:
-                return value.stored
             sheet, row, col = key
             where = f"{sheet}!{column_letter(col)}{row}"
             kind = Unverifiable if isinstance(value.error, Unverifiable) else Unsupported
@@ -255,15 +249,7 @@ class Evaluator(ExpressionEvaluator):
                     ctx = _Ctx(sheet, row, col)
                     value = self._final(self._eval(node, ctx), ctx)
         except (Unsupported, FormulaError) as exc:
-            stored = None
-            if (
-                self.workbook.stored_values
-                and cell is not None
-                and not isinstance(exc, Unverifiable)
-                and (row, col) not in self._blocks.get(sheet, {})
-            ):
-                stored = _constant(cell.value)
-            value = _Failed(exc, stored)
+            value = _Failed(exc)
         except RecursionError:
             where = f"{sheet}!{column_letter(col)}{row}"
             value = _Failed(Unsupported(f"the formula in {where} nests too deeply to evaluate"))

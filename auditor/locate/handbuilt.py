@@ -35,6 +35,7 @@ from typing import Any
 import numpy as np
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported
+from auditor.extract_fallback import StoredFallback
 from auditor.formula.syntax import Node, Ref, RefNode, Unary, calls, references
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
@@ -217,6 +218,7 @@ class HandbuiltFinder:
         self.workbook = workbook
         self.evaluator = evaluator
         self.parsed = parsed
+        self.reader = StoredFallback(evaluator, workbook)
         self._reach: dict[Key, Reach] = {}
         self._refs: dict[Key, list[Ref]] = {}
         self._values: dict[Ref, list[object] | None] = {}
@@ -280,9 +282,11 @@ class HandbuiltFinder:
 
     # -- values -----------------------------------------------------------------------------
     def values(self, ref: Ref) -> list[object] | None:
+        """A range's values; a cell the evaluator cannot compute (LET, STOCKHISTORY) reads as
+        the value the file stored, as the intended table reads it (auditor.extract_fallback)."""
         if ref not in self._values:
             try:
-                block = self.evaluator.range_values(ref)
+                block = self.reader.range_values(ref)
                 self._values[ref] = list(block.reshape(-1))
             except Unsupported:
                 self._values[ref] = None
