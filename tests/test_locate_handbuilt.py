@@ -470,3 +470,30 @@ def test_statistics_built_on_a_hand_built_slope_are_attached(tmp_path: Path) -> 
     assert found.reported["se_slope"].as_written == pytest.approx(ols.bse[1], rel=1e-9)
     assert found.reported["p_slope"].as_written == pytest.approx(ols.pvalues[1], rel=1e-7)
     assert {v.verdict for v in found.reported.values()} == {"confirmed"}
+
+
+def test_a_beta_over_data_the_tool_cannot_recompute_is_judged_from_stored_values(
+    tmp_path: Path,
+) -> None:
+    # Returns come from a function regaudit does not evaluate; the file stores what the author
+    # saw (numbers, and "n/a" where a price is missing). The beta's value reproduces the
+    # rows-differ computation over those stored values, so its mismatch is evidence.
+    x, y = _data(170, 12)
+    missing = [3, 9]
+    keep = np.array([i not in missing for i in range(12)])
+    beta = float(np.cov(x[keep], y[keep], ddof=1)[0, 1] / np.var(x, ddof=1))  # numpy
+    path = tmp_path / "stored.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    sheet = book.add_worksheet("Plots")
+    for i in range(12):
+        sheet.write_number(i + 1, 1, float(x[i]))
+        shown: float | str = "n/a" if i in missing else float(y[i])
+        sheet.write_formula(i + 1, 2, f"=_xlfn.NOTEVALUATED({i})", None, shown)
+    formula = "=_xlfn.COVARIANCE.S(C2:C13,B2:B13)/_xlfn.VAR.S(B2:B13)"
+    sheet.write_formula("F2", formula, None, beta)
+    book.close()
+    (found,) = _handbuilt(_audit(path))
+    assert found.reported["slope"].verdict == "mismatch"
+    (finding,) = [f for f in found.findings if f.check == "stat-recompute"]
+    assert finding.kind == "rows-differ"
+    assert finding.evidence["reproduced"] == pytest.approx(beta, rel=RELATIVE)
