@@ -27,141 +27,25 @@ other numbers and are left alone.
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator
 from dataclasses import dataclass, field
 from itertools import permutations
 from typing import Any
-
-import numpy as np
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.extract_fallback import StoredFallback
 from auditor.formula.syntax import Node, Ref, RefNode, Unary, calls, references
 from auditor.locate.formulas import FormulaLocator
+from auditor.locate.handbuilt_sums import MIN_PAIRS, Moments, is_number, moments_of, same_number
 from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
-from auditor.read.workbook import Cell, ErrorValue, Workbook
+from auditor.read.workbook import Cell, Workbook
 
 Key = tuple[str, int, int]
-MIN_PAIRS = 3
-MIN_LEVELS = 3  # distinct x values a line needs before its slope is more than two group means
 MAX_DEPTH = 3  # M2 = K2/J2, K2 = COVARIANCE.P(…): two levels; three is generous
 MAX_VECTORS = 8  # ranges one formula reads, at most: beyond that it is a table, not a slope
-RELATIVE = 1e-9
 # Cells calling these are regressions the formula recogniser finds already.
 REGRESSION_FUNCTIONS = frozenset(
     {"SLOPE", "INTERCEPT", "LINEST", "LOGEST", "TREND", "FORECAST", "FORECAST.LINEAR", "STEYX"}
 )
-
-
-def same_number(a: float, b: float) -> bool:
-    return math.isfinite(a) and math.isfinite(b) and abs(a - b) <= RELATIVE * max(abs(a), abs(b))
-
-
-def _is_number(value: object) -> bool:
-    return isinstance(value, (int, float)) and not isinstance(value, bool)
-
-
-@dataclass(frozen=True)
-class Moments:
-    """Sums of y on x as the spreadsheet's functions see two ranges: the pair functions
-    (COVARIANCE, SLOPE, CORREL) keep rows where both cells are numbers; VAR and AVERAGE keep
-    every number of their own range."""
-
-    n: int
-    x_mean: float
-    y_mean: float
-    sxx: float
-    sxy: float
-    syy: float
-    n_x: int  # numbers in the x range, paired or not
-    sxx_all: float
-    n_y: int
-    syy_all: float
-    x_mean_all: float
-    y_mean_all: float
-    sxy_raw: float = 0.0  # Σxy and Σx² of the pairs: the line through the origin
-    sxx_raw: float = 0.0
-
-    @property
-    def slope(self) -> float:
-        return self.sxy / self.sxx
-
-    @property
-    def intercept(self) -> float:
-        return self.y_mean - self.slope * self.x_mean
-
-    def slope_readings(self) -> Iterator[tuple[str, float, dict[str, Any]]]:
-        n = self.n
-        yield "least-squares", self.slope, {}
-        if self.sxx_raw > 0:  # SUMPRODUCT(x, y)/SUMSQ(x): the least-squares line through 0
-            yield "through-origin", self.sxy_raw / self.sxx_raw, {}
-        yield "population-sample-mix", self.slope * (n - 1) / n, {"factor": f"({n}-1)/{n}"}
-        yield "population-sample-mix", self.slope * n / (n - 1), {"factor": f"{n}/({n}-1)"}
-        if self.n_x != n and self.n_x > 1 and self.sxx_all > 0:
-            for cov_ddof in (1, 0):
-                for var_ddof in (1, 0):
-                    value = (self.sxy / (n - cov_ddof)) / (self.sxx_all / (self.n_x - var_ddof))
-                    yield "rows-differ", value, {"pairs": n, "x_numbers": self.n_x}
-        if (self.n_x != n or self.n_y != n) and self.syy > 0 and self.n_y > 1:
-            # CORREL over the pairs times STDEV(y)/STDEV(x) over every number of each range.
-            r = self.sxy / math.sqrt(self.sxx * self.syy)
-            ratio = math.sqrt((self.syy_all / (self.n_y - 1)) / (self.sxx_all / (self.n_x - 1)))
-            yield "rows-differ", r * ratio, {"pairs": n, "x_numbers": self.n_x}
-
-    def intercept_readings(
-        self, slope_cells: list[tuple[str, float, str | None]]
-    ) -> Iterator[tuple[str, float, dict[str, Any]]]:
-        yield "least-squares", self.intercept, {}
-        for address, slope, read_by in slope_cells:
-            evidence: dict[str, Any] = {"slope_cell": address, "slope_value": slope}
-            if read_by:
-                evidence["read_by"] = read_by
-            yield "slope-cell", self.y_mean - slope * self.x_mean, evidence
-            yield "slope-cell", self.y_mean_all - slope * self.x_mean_all, evidence
-
-
-def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None:
-    """None when either range holds an error value (the functions would show it) or fewer
-    than three pairs, or x does not vary."""
-    if any(isinstance(v, ErrorValue) for v in (*y_values, *x_values)):
-        return None
-    pairs = [
-        (float(y), float(x))  # type: ignore[arg-type]
-        for y, x in zip(y_values, x_values, strict=True)
-        if _is_number(y) and _is_number(x)
-    ]
-    if len(pairs) < MIN_PAIRS:
-        return None
-    ys, xs = np.array([p[0] for p in pairs]), np.array([p[1] for p in pairs])
-    if np.array_equal(ys, xs):
-        return None  # a column against itself (or its copy): slope 1 by construction
-    if np.unique(xs).size < MIN_LEVELS:
-        # Two x levels: the "slope" is a difference of two group means and the "intercept" a
-        # group mean (with 0/1 data, proportions from COUNTIFS): equal by algebra, no line.
-        return None
-    dx, dy = xs - xs.mean(), ys - ys.mean()
-    sxx = float(dx @ dx)
-    if sxx <= 0:
-        return None
-    x_all = np.array([float(v) for v in x_values if _is_number(v)])  # type: ignore[arg-type]
-    y_all = np.array([float(v) for v in y_values if _is_number(v)])  # type: ignore[arg-type]
-    dx_all, dy_all = x_all - x_all.mean(), y_all - y_all.mean()
-    return Moments(
-        n=len(pairs),
-        x_mean=float(xs.mean()),
-        y_mean=float(ys.mean()),
-        sxx=sxx,
-        sxy=float(dx @ dy),
-        syy=float(dy @ dy),
-        n_x=int(x_all.size),
-        sxx_all=float(dx_all @ dx_all),
-        n_y=int(y_all.size),
-        syy_all=float(dy_all @ dy_all),
-        x_mean_all=float(x_all.mean()),
-        y_mean_all=float(y_all.mean()),
-        sxy_raw=float(xs @ ys),
-        sxx_raw=float(xs @ xs),
-    )
 
 
 @dataclass
@@ -302,13 +186,13 @@ class HandbuiltFinder:
     def cell_numbers(self, cell: Cell) -> list[float]:
         """The value the author saw (stored), then the one the formula gives now."""
         out = []
-        if self.workbook.stored_values and _is_number(cell.value):
+        if self.workbook.stored_values and is_number(cell.value):
             out.append(float(cell.value))  # type: ignore[arg-type]
         try:
             evaluated = self.evaluator.cell_value(cell.sheet, cell.row, cell.col)
         except Unsupported:
             evaluated = None
-        if _is_number(evaluated) and float(evaluated) not in out:  # type: ignore[arg-type]
+        if is_number(evaluated) and float(evaluated) not in out:  # type: ignore[arg-type]
             out.append(float(evaluated))  # type: ignore[arg-type]
         return [v for v in out if v != 0 and math.isfinite(v)]
 
