@@ -11,6 +11,7 @@ from auditor.model import CheckInfo, Finding
 # The family modules, in the order their checks run (and reports list them).
 FAMILY_NAMES = (
     "agreement",
+    "broken_regressions",
     "calibration",
     "calibration_shape",
     "calibration_results",
@@ -23,6 +24,7 @@ FAMILY_NAMES = (
     "formula_siblings",
     "formulas",
     "pasted_tables",
+    "predictions",
     "trendlines",
     "workbook_level",
 )
