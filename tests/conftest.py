@@ -2,9 +2,17 @@
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 
 import pytest
+
+# The tests mirror auditor/ in folders; helpers shared between them (package_builders,
+# strd_reference, the report samples) are imported by module name from any folder.
+_HERE = Path(__file__).resolve().parent
+for _folder in (_HERE, *sorted(p for p in _HERE.iterdir() if p.is_dir() and p.name.isidentifier())):
+    if str(_folder) not in sys.path:
+        sys.path.append(str(_folder))
 
 
 @pytest.fixture(autouse=True)
