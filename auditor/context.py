@@ -13,7 +13,7 @@ from typing import Any
 from auditor.design.inputs import DesignInputs
 from auditor.design.metrics import DesignMetrics, compute_design
 from auditor.evaluation.evaluator import Evaluator
-from auditor.extract import Extracted
+from auditor.extract.record import Extracted
 from auditor.fit.ols import FitResult
 from auditor.formula.syntax import Node
 from auditor.locate.spec import RegressionSpec

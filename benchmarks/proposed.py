@@ -5,7 +5,8 @@ changed. Each replacement gives the same answers as the function it stands in fo
 compares the audit JSON of every fixture with and without them).
 
 * (landed) ``extract._looks_like_total`` summed all earlier y values for every row: quadratic,
-  4 minutes at 200,000 rows. extract.py now keeps a running total; nothing is patched for it.
+  4 minutes at 200,000 rows. extract/intended.py now keeps a running total; nothing is patched
+  for it.
 * ``install_columnar``: a columnar store for constant cells (memory prototype, see below).
 """
 
@@ -18,7 +19,7 @@ from typing import Any
 
 
 def install() -> None:
-    """Nothing left to patch: the running-total fix landed in extract.py."""
+    """Nothing left to patch: the running-total fix landed in extract/intended.py."""
 
 
 def check(fixtures: Path) -> None:

@@ -11,7 +11,8 @@ import random
 import numpy as np
 
 from auditor.evaluation.evaluator import Evaluator
-from auditor.extract import Extracted, extract
+from auditor.extract.entry import extract
+from auditor.extract.record import Extracted
 from auditor.formula.syntax import Ref
 from auditor.locate.locator import RegressionSpec
 from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet, Workbook

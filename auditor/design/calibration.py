@@ -15,7 +15,7 @@ import numpy as np
 
 from auditor.design.inputs import DesignInputs
 from auditor.evaluation.evaluator import Evaluator
-from auditor.extract import Extracted
+from auditor.extract.record import Extracted
 from auditor.fit.calibration import (
     CoefficientTest,
     FloatArray,

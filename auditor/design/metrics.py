@@ -38,7 +38,7 @@ from auditor.design.power import (
     sxx_to_detect,
     width_for_sxx_even,
 )
-from auditor.extract import Extracted
+from auditor.extract.record import Extracted
 from auditor.fit.distributions import t_ppf
 from auditor.fit.ols import FitResult
 from auditor.model import clean_number

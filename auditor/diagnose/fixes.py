@@ -14,7 +14,7 @@ middle cannot be repaired by a range alone, and no formula is suggested (the cau
 
 from __future__ import annotations
 
-from auditor.extract import Extracted
+from auditor.extract.record import Extracted
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
 from auditor.locate.roles import linest_block_role

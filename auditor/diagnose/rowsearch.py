@@ -23,7 +23,7 @@ from auditor.compare.precision import Agreement
 from auditor.diagnose.basis import two_sided
 
 if TYPE_CHECKING:  # only annotations, as in auditor.diagnose.engine
-    from auditor.extract import Extracted
+    from auditor.extract.record import Extracted
 
 Judge = Callable[[float], Agreement]
 FloatArray = NDArray[np.float64]

@@ -19,7 +19,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from auditor.extract import Extracted
+from auditor.extract.record import Extracted
 from auditor.fit.calibration import FloatArray, fit_line
 from auditor.fit.weights import recognise_scheme
 from auditor.formula.syntax import Call, Node, RefNode, walk

@@ -32,7 +32,7 @@ from itertools import permutations
 from typing import Any
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported
-from auditor.extract_fallback import StoredFallback
+from auditor.extract.fallback import StoredFallback
 from auditor.formula.syntax import Node, Ref, RefNode, Unary, calls, references
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.handbuilt_sums import MIN_PAIRS, Moments, is_number, moments_of, same_number
@@ -167,7 +167,7 @@ class HandbuiltFinder:
     # -- values -----------------------------------------------------------------------------
     def values(self, ref: Ref) -> list[object] | None:
         """A range's values; a cell the evaluator cannot compute (LET, STOCKHISTORY) reads as
-        the value the file stored, as the intended table reads it (auditor.extract_fallback)."""
+        the value the file stored, as the intended table reads it (auditor.extract.fallback)."""
         if ref not in self._values:
             try:
                 block = self.reader.range_values(ref)

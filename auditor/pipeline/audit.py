@@ -22,7 +22,7 @@ from auditor.design.calibration_summary import summary_row
 from auditor.design.inputs import DesignInputReader
 from auditor.errors import UnreadableWorkbook
 from auditor.evaluation.evaluator import Evaluator
-from auditor.extract import extract
+from auditor.extract.entry import extract
 from auditor.fit.ols import FitResult, fit_ols
 from auditor.locate.locator import Locator, RegressionSpec, locate
 from auditor.locate.pasted_spec import pasted_intended, unsourced_result

@@ -16,7 +16,7 @@ import statsmodels.api as sm
 
 from auditor.cli.main import main
 from auditor.evaluation.evaluator import Evaluator
-from auditor.extract import extract
+from auditor.extract.entry import extract
 from auditor.fit.calibration import fit_line
 from auditor.locate.calibration_labels import curve_of
 from auditor.locate.locator import locate

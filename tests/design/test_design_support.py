@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from auditor.context import RegressionContext
-from auditor.extract import Extracted
+from auditor.extract.record import Extracted
 from auditor.fit.ols import fit_ols
 from auditor.formula.syntax import Ref
 from auditor.locate.locator import RegressionSpec

@@ -22,7 +22,7 @@ from scipy import stats as distributions
 
 from auditor.context import RegressionContext
 from auditor.diagnose.engine import Explanation, _row_table, explain, moment_stat, rows_at_ends
-from auditor.extract import Extracted
+from auditor.extract.record import Extracted
 from auditor.fit.ols import fit_ols
 from auditor.formula.syntax import Ref
 from auditor.locate.locator import RegressionSpec, StatCell

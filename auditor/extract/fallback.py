@@ -21,8 +21,9 @@ from auditor.read.workbook import Workbook
 
 
 class StoredFallback:
-    """The two reading calls of :mod:`auditor.extract`, falling back cell by cell to stored
-    values where evaluation fails. ``taken_as_stored`` lists (cell, reason) in reading order."""
+    """The two reading calls of :func:`auditor.extract.entry.extract`, falling back cell by cell
+    to stored values where evaluation fails. ``taken_as_stored`` lists (cell, reason) in reading
+    order."""
 
     def __init__(self, evaluator: Evaluator, workbook: Workbook) -> None:
         self.evaluator = evaluator
