@@ -57,12 +57,10 @@ class Finding:
     cells: list[str] = field(default_factory=list)
     evidence: dict[str, Any] = field(default_factory=dict)
     fix: str = ""
-    identity: str = (
-        ""  # stable across runs and row moves (auditor.review.identity); set after the audit
-    )
+    # Stable across runs and row moves (auditor.review.identity); set after the audit.
+    identity: str = ""
     waived: str | None = None  # the waiver's reason, who accepted it and when; None if not waived
-    # The reviewer's decision as data: {"decision": "waived", "reason", "name", "date"}; None
-    # while the finding is open.
+    # The reviewer's decision: {"decision": "waived", "reason", "name", "date"}; None while open.
     decision: dict[str, str] | None = None
 
     def __post_init__(self) -> None:
@@ -299,7 +297,3 @@ def worst(findings: list[Finding]) -> Severity | None:
     if not findings:
         return None
     return min(findings, key=lambda f: SEVERITY_RANK[f.severity]).severity
-
-
-def sort_findings(findings: list[Finding]) -> list[Finding]:
-    return sorted(findings, key=lambda f: (SEVERITY_RANK[f.severity], f.check, f.cells))

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import re
 
-from auditor.checks.agreement import describe
+from auditor.checks.agreement_words import describe
 from auditor.checks.base import check
 from auditor.context import RegressionContext
 from auditor.model import Finding, Severity, stat_base

@@ -11,7 +11,7 @@ here: nothing beside it shows that a formula belonged there.
 
 from __future__ import annotations
 
-from auditor.checks.agreement import describe
+from auditor.checks.agreement_words import describe
 from auditor.checks.base import check
 from auditor.checks.formula_blocks import Block, blocks_of, sibling_groups, translate
 from auditor.checks.formula_support import local_text, reached_cells, severity_in_result

@@ -12,7 +12,7 @@ from collections.abc import Iterable
 
 from openpyxl.formula.tokenizer import Token
 
-from auditor.checks.agreement import significance_changes
+from auditor.checks.agreement_words import significance_changes
 from auditor.context import RegressionContext
 from auditor.errors import FormulaError
 from auditor.formula.syntax import Node, parse, references

@@ -25,7 +25,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
-from auditor.checks.agreement import describe
+from auditor.checks.agreement_words import describe
 from auditor.grid import parse_cell
 from auditor.model import SEVERITY_RANK, Finding
 from auditor.wording import fmt_pair

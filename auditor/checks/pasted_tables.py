@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 
-from auditor.checks.agreement import describe, significance_changes
+from auditor.checks.agreement_words import describe, significance_changes
 from auditor.checks.base import check
 from auditor.context import RegressionContext, WorkbookContext
 from auditor.grid import column_letter

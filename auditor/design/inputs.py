@@ -23,10 +23,10 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from auditor.compare.precision import parse_text_number
+from auditor.design.prediction_refs import cell_key, coord, is_cell, other_operand, refers_to
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Fault, Unsupported
 from auditor.formula.syntax import Binary, Call, Node, RefNode, parse, walk
-from auditor.grid import column_letter
 from auditor.locate.locator import RegressionSpec
 from auditor.locate.spec import overlaps
 from auditor.read.workbook import Cell, Workbook
@@ -188,15 +188,19 @@ class DesignInputReader:
             return []  # a prediction whose x cannot be computed is not judged
 
     def _predictions(self, spec: RegressionSpec) -> Iterator[Prediction]:
-        slope_cells = {_key(s.cell) for k, s in spec.stats.items() if k.split("@")[0] == "slope"}
-        intercept_cells = {
-            _key(s.cell) for k, s in spec.stats.items() if k.split("@")[0] == "intercept"
+        slope_cells = {
+            cell_key(s.cell) for k, s in spec.stats.items() if k.split("@")[0] == "slope"
         }
-        own = {_key(s.cell) for s in spec.stats.values()} | {_key(u.cell) for u in spec.uses}
+        intercept_cells = {
+            cell_key(s.cell) for k, s in spec.stats.items() if k.split("@")[0] == "intercept"
+        }
+        own = {cell_key(s.cell) for s in spec.stats.values()} | {
+            cell_key(u.cell) for u in spec.uses
+        }
         for key, node in self.parsed.items():
             if (key[0].lower(), key[1], key[2]) in own:
                 continue
-            address = f"{key[0]}!{_coord(key[1], key[2])}"
+            address = f"{key[0]}!{coord(key[1], key[2])}"
             found = list(
                 self._predictions_in(
                     node, key[0], spec, slope_cells, intercept_cells, self._shapes(key, node)
@@ -253,15 +257,15 @@ class DesignInputReader:
                     for x in self._evaluate(sub.args[2], sheet):
                         yield x, "TREND"
             elif isinstance(sub, Binary) and sub.op == "*" and intercept_cells:
-                other = _other_operand(sub, slope_cells)
-                if other is not None and _refers_to(node, intercept_cells):
+                other = other_operand(sub, slope_cells)
+                if other is not None and refers_to(node, intercept_cells):
                     for x in self._evaluate(other, sheet):
                         yield x, "b0 + b1·x"
-            elif isinstance(sub, Binary) and sub.op == "/" and _is_cell(sub.right, slope_cells):
+            elif isinstance(sub, Binary) and sub.op == "/" and is_cell(sub.right, slope_cells):
                 left = sub.left
                 if isinstance(left, Binary) and left.op == "-":
                     own = isinstance(left.left, RefNode) and overlaps(left.left.ref, spec.y)
-                    if _is_cell(left.right, intercept_cells) and not own:  # not a read-back
+                    if is_cell(left.right, intercept_cells) and not own:  # not a read-back
                         for x in self._evaluate(sub, sheet):
                             yield x, "(y − b0)/b1"
 
@@ -272,34 +276,6 @@ class DesignInputReader:
             and overlaps(y_node.ref, spec.y)
             and overlaps(x_node.ref, spec.x)
         )
-
-
-def _key(cell: Cell) -> tuple[str, int, int]:
-    return (cell.sheet.lower(), cell.row, cell.col)
-
-
-def _coord(row: int, col: int) -> str:
-    return f"{column_letter(col)}{row}"
-
-
-def _is_cell(node: Node, cells: set[tuple[str, int, int]]) -> bool:
-    return (
-        isinstance(node, RefNode)
-        and node.ref.is_cell
-        and (node.ref.sheet.lower(), node.ref.r1, node.ref.c1) in cells
-    )
-
-
-def _other_operand(product: Binary, slope_cells: set[tuple[str, int, int]]) -> Node | None:
-    if _is_cell(product.left, slope_cells):
-        return product.right
-    if _is_cell(product.right, slope_cells):
-        return product.left
-    return None
-
-
-def _refers_to(node: Node, cells: set[tuple[str, int, int]]) -> bool:
-    return any(_is_cell(sub, cells) for sub in walk(node))
 
 
 def read_design_inputs(

@@ -10,7 +10,15 @@ import os
 from dataclasses import dataclass
 from typing import Any, get_args
 
-from auditor.model import STAT_KEYS, AuditResult, RegressionResult, Severity, WorkbookStatus
+from auditor.model import (
+    SEVERITY_RANK,
+    STAT_KEYS,
+    AuditResult,
+    Finding,
+    RegressionResult,
+    Severity,
+    WorkbookStatus,
+)
 
 MISSING = "—"
 
@@ -284,3 +292,8 @@ def short_paths(result: AuditResult) -> dict[str, str]:
     except ValueError:  # absolute and relative paths mixed, or nothing at all
         return {path: path for path in paths}
     return {path: os.path.relpath(path, shared) if shared else path for path in paths}
+
+
+def sort_findings(findings: list[Finding]) -> list[Finding]:
+    """Most severe first, then by check id and cells (the order reports list findings in)."""
+    return sorted(findings, key=lambda f: (SEVERITY_RANK[f.severity], f.check, f.cells))

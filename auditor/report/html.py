@@ -12,7 +12,7 @@ from __future__ import annotations
 from html import escape
 from typing import BinaryIO
 
-from auditor.model import SEVERITIES, AuditResult, Finding, RegressionResult, sort_findings
+from auditor.model import SEVERITIES, AuditResult, Finding, RegressionResult
 from auditor.report.common import (
     CAUTION,
     MISSING,
@@ -20,6 +20,7 @@ from auditor.report.common import (
     TABLE_STATS,
     format_value,
     short_paths,
+    sort_findings,
     stat_label,
     stat_order,
     status_counts,

@@ -14,7 +14,7 @@ from typing import BinaryIO
 
 from tabulate import tabulate
 
-from auditor.model import SEVERITIES, AuditResult, Finding, WorkbookResult, sort_findings
+from auditor.model import SEVERITIES, AuditResult, Finding, WorkbookResult
 from auditor.report.common import (
     CAUTION,
     MISSING,
@@ -23,6 +23,7 @@ from auditor.report.common import (
     format_value,
     reported_and_intended,
     short_paths,
+    sort_findings,
     status_counts,
 )
 from auditor.report.text_calibration import policy_lines, run_summary
