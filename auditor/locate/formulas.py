@@ -7,7 +7,8 @@ from typing import Any
 
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
-from auditor.formula.syntax import Binary, Call, Node, Ref, RefNode, parse, references, walk
+from auditor.formula.syntax import Call, Node, Ref, parse, references
+from auditor.locate.formula_dependents import refs_roles, role_of_dependent, stat_addresses
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
 from auditor.locate.roles import (
     linest_block_role,
@@ -22,11 +23,10 @@ from auditor.locate.spec import (
     RegressionSpec,
     StatCell,
     label_for,
-    literal_int,
     overlaps,
     pair_uses,
 )
-from auditor.model import STAT_KEYS, stat_base
+from auditor.model import STAT_KEYS
 from auditor.read.workbook import Cell, Workbook
 
 Key = tuple[str, int, int]  # a formula cell: (sheet, row, column)
@@ -124,7 +124,7 @@ class FormulaLocator:
                 or single_cell_linest_role(node, k, use.intercept)
             )
             if role in (None, "p", "t_critical_or_ci"):
-                role = self._role_of_dependent(spec, cell, node)
+                role = role_of_dependent(self.workbook, spec, cell, node)
             self._put(spec, role, StatCell(role or "", cell, "formula"))
 
     def _assign_block(self, spec: RegressionSpec, anchor: Cell, k: int, intercept: bool) -> None:
@@ -171,92 +171,8 @@ class FormulaLocator:
             self._text_above(spec.x.sheet, spec.x.r1, c) for c in range(spec.x.c1, spec.x.c2 + 1)
         ]
 
-    def _stat_addresses(self, spec: RegressionSpec) -> dict[tuple[str, int, int], str]:
-        out = {}
-        for key, stat in spec.stats.items():
-            out[(stat.cell.sheet.lower(), stat.cell.row, stat.cell.col)] = key
-        for use in spec.uses:
-            out.setdefault((use.cell.sheet.lower(), use.cell.row, use.cell.col), "")
-        return out
-
-    def _refs_roles(self, spec: RegressionSpec, node: Node) -> set[str]:
-        known = self._stat_addresses(spec)
-        found = set()
-        for ref in references(node):
-            for r in range(ref.r1, min(ref.r2, ref.r1 + 10) + 1):
-                for c in range(ref.c1, ref.c2 + 1):
-                    key = known.get((ref.sheet.lower(), r, c))
-                    if key is not None:
-                        found.add(key)
-        return found
-
-    def _picked(self, spec: RegressionSpec, node: Node) -> str | None:
-        """The statistic a sub-expression stands for: a stat cell, or INDEX over a LINEST block."""
-        keys = self._stat_addresses(spec)
-        if isinstance(node, RefNode) and node.ref.is_cell:
-            return keys.get((node.ref.sheet.lower(), node.ref.r1, node.ref.c1)) or None
-        if isinstance(node, Call) and node.name == "INDEX" and len(node.args) >= 2:
-            target = node.args[0]
-            if isinstance(target, Call) and target.name == "LINEST":
-                return linest_index_role(node, spec.x_columns, spec.intercept)
-            if isinstance(target, RefNode):
-                row = literal_int(node.args[1])
-                col = literal_int(node.args[2]) if len(node.args) > 2 else 1
-                if row is None or col is None:
-                    return None
-                r, c = target.ref.r1 + row - 1, target.ref.c1 + col - 1
-                return keys.get((target.ref.sheet.lower(), r, c)) or None
-        return None
-
-    def _t_keys_in(self, spec: RegressionSpec, node: Node) -> list[str]:
-        found = []
-        for sub in walk(node):
-            key = self._picked(spec, sub)
-            if key and stat_base(key).startswith("t_"):
-                found.append(stat_base(key))
-        return found
-
-    def _role_of_dependent(self, spec: RegressionSpec, cell: Cell, node: Node) -> str | None:
-        label = label_for(self.workbook, cell)
-        label_role = role_from_label(label) if label else None
-        shape = role_from_shape(node)
-        used = {stat_base(k) for k in self._refs_roles(spec, node)}
-        if shape == "p":
-            t_keys = self._t_keys_in(spec, node)
-            if t_keys:
-                return "p_" + t_keys[0][2:]
-            if label_role == "p_intercept" or ("t_intercept" in used and "t_slope" not in used):
-                return "p_intercept"
-            return "p_slope"
-        if shape == "t_critical_or_ci":
-            if "slope" in used:
-                if label_role in ("ci_slope_low", "ci_slope_high"):
-                    return label_role
-                top = node if isinstance(node, Binary) else None
-                return "ci_slope_low" if top is not None and top.op == "-" else "ci_slope_high"
-            return None
-        if shape is not None:
-            return shape
-        if label_role in ("t_critical",):
-            return None
-        picked = self._picked(spec, node) if isinstance(node, Call) else None
-        if picked is not None:
-            return stat_base(picked)  # INDEX(block, r, c) repeats a statistic of the block
-        if isinstance(node, Binary) and node.op == "/":
-            numerator = self._picked(spec, node.left)
-            denominator = self._picked(spec, node.right) or role_from_shape(node.right) or ""
-            right_used = {stat_base(k) for k in self._refs_roles(spec, node.right)}
-            se_like = stat_base(denominator).startswith("se_") or any(
-                k.startswith("se_") for k in right_used
-            )
-            if numerator is not None and se_like:
-                base = stat_base(numerator)
-                if base.startswith("slope") or base.startswith("intercept"):
-                    return "t_" + base
-        return label_role
-
     def _reverse_index(self) -> tuple[dict[tuple[str, int, int], set[Key]], set[Key]]:
-        """Which formulas read each cell (within the window ``_refs_roles`` looks at), built
+        """Which formulas read each cell (within the window ``refs_roles`` looks at), built
         once: following dependents then looks up readers instead of rescanning every formula.
         A reference too wide to list cell by cell puts its formula among those always tried."""
         if self._readers is None:
@@ -279,7 +195,7 @@ class FormulaLocator:
     def _stat_readers(self, spec: RegressionSpec) -> set[Key]:
         readers, wide = self._reverse_index()
         found = set(wide)
-        for address in self._stat_addresses(spec):
+        for address in stat_addresses(spec):
             found |= readers.get(address, set())
         return found
 
@@ -309,13 +225,13 @@ class FormulaLocator:
                 cell = self.workbook.cell(*key)
                 if cell is None:
                     continue
-                touches_stats = bool(self._refs_roles(spec, node))
+                touches_stats = bool(refs_roles(spec, node))
                 touches_data = key in data_readers
                 if not (touches_stats or touches_data):
                     continue
                 if touches_data and not touches_stats and not self._near(spec, cell):
                     continue
-                role = self._role_of_dependent(spec, cell, node)
+                role = role_of_dependent(self.workbook, spec, cell, node)
                 taken.add(key)
                 label = label_for(self.workbook, cell)
                 if (

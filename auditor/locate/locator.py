@@ -28,7 +28,14 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from auditor.locate import declared, handbuilt, labels, pasted_spec, trendlines, typed_copies
+from auditor.locate import (
+    declared,
+    handbuilt_specs,
+    labels,
+    pasted_spec,
+    trendlines,
+    typed_copies,
+)
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PAIR_FUNCS, PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
@@ -70,7 +77,7 @@ RECOGNISERS: tuple[Recogniser, ...] = (
     Recogniser("bindings", declared.from_bindings, absorbs=True),
     Recogniser("names", declared.from_names, absorbs=True),
     Recogniser("formulas", _formulas),
-    Recogniser("hand-built", handbuilt.find, join=handbuilt.join),
+    Recogniser("hand-built", handbuilt_specs.find, join=handbuilt_specs.join),
     Recogniser("labels", labels.from_labels, late=True),
     # a pasted table is complete: its own layout names every number it holds; before the
     # trendlines, so that a chart of the same data joins the table's regression

@@ -11,7 +11,7 @@ at the precision it was typed to, like any typed figure.
 from __future__ import annotations
 
 from auditor.formula.syntax import Binary, Node, Number, Ref, references, walk
-from auditor.locate.handbuilt import attach
+from auditor.locate.handbuilt_specs import attach
 from auditor.locate.spec import RegressionSpec, StatCell
 from auditor.read.workbook import Cell, Workbook
 
