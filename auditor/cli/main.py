@@ -258,7 +258,9 @@ def build_parser() -> argparse.ArgumentParser:
         "(default: regaudit-demo)",
     )
     demo.add_argument(
-        "--policy", default="general", help="policy name or TOML file (default: general)"
+        "--policy",
+        default="auto",
+        help="auto (calibration curves by their words), a policy name or a .toml (default: auto)",
     )
     demo.add_argument(
         "--jobs", type=int, default=cores, metavar="N", help="parallel workers (default: cores)"

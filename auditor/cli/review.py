@@ -138,7 +138,9 @@ def add_review_parsers(sub: argparse._SubParsersAction, cores: int) -> None:  # 
     create.add_argument(
         "--out", required=True, metavar="FILE", help="baseline file to write (JSON)"
     )
-    create.add_argument("--policy", default="general", help="policy name or TOML file")
+    create.add_argument(
+        "--policy", default="auto", help="policy the audits will use (default: auto, as audit)"
+    )
     create.add_argument("--jobs", type=int, default=cores, metavar="N", help="parallel workers")
     create.add_argument(
         "--bindings",
@@ -171,8 +173,8 @@ def add_review_parsers(sub: argparse._SubParsersAction, cores: int) -> None:  # 
     )
     waive.add_argument(
         "--policy",
-        default="general",
-        help="policy name or TOML file the finding was reported under (default: general)",
+        default="auto",
+        help="policy name or TOML file the finding was reported under (default: auto, as audit)",
     )
     waive.add_argument(
         "--bindings",
