@@ -56,10 +56,29 @@ _LABELS: list[tuple[re.Pattern[str], str]] = [
 ]
 
 
+# The same labels in Spanish, German and French, said in English before matching (words are
+# vocabulary: there is no computing them). Longer phrases first.
+_OTHER_LANGUAGES: list[tuple[re.Pattern[str], str]] = [
+    (re.compile(r"^(error est[aá]ndar|standardfehler|erreur (standard|type))\b"), "standard error"),
+    (re.compile(r"^(pendiente|steigung|pente)\b"), "slope"),
+    (
+        re.compile(r"^(ordenada al origen|intercepto|achsenabschnitt|ordonn[ée]e [àa] l.origine)"),
+        "intercept",
+    ),  # fmt: skip
+    (re.compile(r"^(estad[ií]stico t|t-wert|statistique t)\b"), "t"),
+    (re.compile(r"^(valor p|p-wert|valeur p)\b"), "p-value"),
+    (re.compile(r"^(grados de libertad|freiheitsgrade|degr[ée]s de libert[ée])"), "df"),
+    (re.compile(r"^(r cuadrado|bestimmtheitsma(ß|ss)|coefficient de d[ée]termination)"), "r²"),
+]
+
+
 def role_from_label(text: str) -> str | None:
-    """'SE of slope' -> 'se_slope'; 'p-value' -> 'p_slope'; None when not a statistic label."""
+    """'SE of slope' -> 'se_slope'; 'p-value' -> 'p_slope'; 'Pendiente' -> 'slope'; None when
+    not a statistic label."""
     cleaned = text.strip().lower().rstrip(":=").strip()
     cleaned = cleaned.replace("_", " ")
+    for pattern, english in _OTHER_LANGUAGES:
+        cleaned = pattern.sub(english, cleaned, count=1)
     if not cleaned or len(cleaned) > 40:
         return None
     for pattern, role in _LABELS:

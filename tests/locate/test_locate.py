@@ -3,9 +3,12 @@ the same data, and never binds a reported cell twice. Workbooks are built in mem
 
 from __future__ import annotations
 
+import pytest
+
 from auditor.formula.syntax import Ref
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.locator import RECOGNISERS, Recogniser, locate
+from auditor.locate.roles import role_from_label
 from auditor.locate.spec import RegressionSpec, StatCell
 from auditor.read.workbook import Cell, DefinedName, Sheet, Workbook
 
@@ -65,3 +68,27 @@ def test_a_new_recogniser_plugs_in_and_late_ones_skip_taken_cells() -> None:
     specs = locate(_book({"D2": "=SLOPE(B2:B8,A2:A8)"}), recognisers=extra)
     assert "Data!D2" in seen_taken[-1]
     assert len(specs) == 1  # the formula regression holds D2; the late recogniser took nothing
+
+
+@pytest.mark.parametrize(
+    ("label", "role"),
+    [
+        ("Pendiente", "slope"),
+        ("Error estándar de la pendiente", "se_slope"),
+        ("Valor p", "p_slope"),
+        ("Grados de libertad", "df"),
+        ("R cuadrado", "r_squared"),
+        ("Steigung", "slope"),
+        ("Achsenabschnitt", "intercept"),
+        ("Standardfehler der Steigung", "se_slope"),
+        ("p-Wert", "p_slope"),
+        ("Bestimmtheitsmaß", "r_squared"),
+        ("Pente", "slope"),
+        ("Valeur p", "p_slope"),
+        ("Slope (mg/L per h)", "slope"),
+        ("Pendientes pagadas", None),  # not the word alone: a longer word is no label
+    ],
+)
+def test_statistic_labels_in_other_languages(label: str, role: str | None) -> None:
+    # Spanish, German and French wording of the labels (common practice in those languages).
+    assert role_from_label(label) == role
