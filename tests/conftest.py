@@ -13,6 +13,9 @@ _HERE = Path(__file__).resolve().parent
 for _folder in (_HERE, *sorted(p for p in _HERE.iterdir() if p.is_dir() and p.name.isidentifier())):
     if str(_folder) not in sys.path:
         sys.path.append(str(_folder))
+_FIXTURE_SCRIPTS = str(_HERE.parent / "fixtures")  # make_fixtures.recalculate, the generators
+if _FIXTURE_SCRIPTS not in sys.path:
+    sys.path.append(_FIXTURE_SCRIPTS)
 
 
 @pytest.fixture(autouse=True)

@@ -16,13 +16,13 @@ from __future__ import annotations
 
 import math
 import shutil
-import subprocess
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import pytest
 import xlsxwriter
+from make_fixtures import recalculate as recalculate_with_libreoffice
 
 from auditor.evaluation.evaluator import SUPPORTED_FUNCTIONS, Evaluator, Unverifiable
 from auditor.formula.syntax import calls, parse
@@ -33,14 +33,6 @@ from auditor.read.workbook import ErrorValue, Workbook
 FIXTURES = Path(__file__).resolve().parents[1].parent / "fixtures" / "workbooks"
 RELATIVE_TOLERANCE = 1e-9
 
-RECALC_ON_LOAD = """<?xml version="1.0" encoding="UTF-8"?>
-<oor:items xmlns:oor="http://openoffice.org/2001/registry"
-           xmlns:xs="http://www.w3.org/2001/XMLSchema"
-           xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
-<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode"
- oor:op="fuse"><value>0</value></prop></item>
-</oor:items>
-"""
 
 # --- the workbook --------------------------------------------------------------------------------
 
@@ -372,23 +364,10 @@ def write_workbook(path: Path) -> dict[str, str]:
 
 
 def recalculate(sources: list[Path], out_dir: Path, profile: Path) -> list[Path]:
-    """Have LibreOffice recalculate and save the files: one soffice call, its own profile."""
-    soffice = shutil.which("soffice")
-    assert soffice is not None
-    (profile / "user").mkdir(parents=True)
-    (profile / "user" / "registrymodifications.xcu").write_text(RECALC_ON_LOAD, encoding="utf-8")
+    """Have LibreOffice recalculate and save the files (the fixtures' own recalculation: one
+    soffice call with a fresh profile that forces recalculation on load)."""
     out_dir.mkdir(parents=True, exist_ok=True)
-    command = [
-        soffice,
-        f"-env:UserInstallation={profile.as_uri()}",
-        "--headless",
-        "--convert-to",
-        "xlsx",
-        "--outdir",
-        str(out_dir),
-        *(str(s) for s in sources),
-    ]
-    subprocess.run(command, check=True, capture_output=True, timeout=300)
+    recalculate_with_libreoffice(sources, out_dir, profile)
     outputs = [out_dir / s.name for s in sources]
     for output in outputs:
         assert output.is_file(), f"LibreOffice did not write {output.name}"

@@ -13,7 +13,6 @@ code under test.
 from __future__ import annotations
 
 import shutil
-import subprocess
 from collections.abc import Callable
 from pathlib import Path
 
@@ -21,6 +20,7 @@ import numpy as np
 import pytest
 import statsmodels.api as sm
 import xlsxwriter
+from make_fixtures import recalculate as recalculate_with_libreoffice
 
 from auditor.grid import column_letter
 from auditor.model import RegressionResult, WorkbookResult
@@ -350,28 +350,8 @@ def test_goodness_of_fit_from_fitted_values_is_not_a_slope(tmp_path: Path) -> No
 
 
 def _recalculate(source: Path, out_dir: Path, profile: Path) -> Path:
-    (profile / "user").mkdir(parents=True)
-    (profile / "user" / "registrymodifications.xcu").write_text(
-        """<?xml version="1.0" encoding="UTF-8"?>
-<oor:items xmlns:oor="http://openoffice.org/2001/registry"
- xmlns:xs="http://www.w3.org/2001/XMLSchema" xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
-<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode"
- oor:op="fuse"><value>0</value></prop></item>
-</oor:items>
-""",
-        encoding="utf-8",
-    )
-    command = [
-        str(shutil.which("soffice")),
-        f"-env:UserInstallation={profile.as_uri()}",
-        "--headless",
-        "--convert-to",
-        "xlsx",
-        "--outdir",
-        str(out_dir),
-        str(source),
-    ]
-    subprocess.run(command, check=True, capture_output=True, timeout=300)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    recalculate_with_libreoffice([source], out_dir, profile)  # the fixtures' own recalculation
     return out_dir / source.name
 
 

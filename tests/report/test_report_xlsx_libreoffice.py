@@ -12,42 +12,21 @@ from __future__ import annotations
 
 import io
 import shutil
-import subprocess
 from pathlib import Path
 
 import openpyxl
 import pytest
+from make_fixtures import recalculate as recalculate_with_libreoffice
 from test_report_xlsx_support import fixture_audit, xlsx_bytes
 
 RELATIVE = 1e-9
-RECALC_ON_LOAD = """<?xml version="1.0" encoding="UTF-8"?>
-<oor:items xmlns:oor="http://openoffice.org/2001/registry"
-           xmlns:xs="http://www.w3.org/2001/XMLSchema"
-           xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
-<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode"
- oor:op="fuse"><value>0</value></prop></item>
-</oor:items>
-"""
 
 pytestmark = pytest.mark.optional
 
 
 def recalculate(source: Path, out_dir: Path, profile: Path) -> Path:
-    soffice = shutil.which("soffice")
-    assert soffice is not None
-    (profile / "user").mkdir(parents=True)
-    (profile / "user" / "registrymodifications.xcu").write_text(RECALC_ON_LOAD, encoding="utf-8")
-    command = [
-        soffice,
-        f"-env:UserInstallation={profile.as_uri()}",
-        "--headless",
-        "--convert-to",
-        "xlsx",
-        "--outdir",
-        str(out_dir),
-        str(source),
-    ]
-    subprocess.run(command, check=True, capture_output=True, timeout=300)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    recalculate_with_libreoffice([source], out_dir, profile)  # the fixtures' own recalculation
     return out_dir / source.name
 
 
