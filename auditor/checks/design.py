@@ -105,7 +105,8 @@ def conclusion_hinges_on_one_row(context: RegressionContext) -> list[Finding]:
     """Significance that one observation can take away is fragile.
 
     Failing: p = 0.031 with n = 10, and without row 9 alone p = 0.083. Passing: p = 0.0004,
-    and no single row left out brings p above 0.05.
+    and no single row left out brings p above 0.05. Major when the workbook states the effect
+    in words ("significantly increases"); minor when only the reported p says it.
     """
     judged = _judged(context)
     return [] if judged is None else fragile_findings(context, *judged)
