@@ -17,7 +17,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "fixtures"))
-from layout_score import score, table  # noqa: E402
+from layout_score import breakdown, score, table  # noqa: E402
 
 
 def main() -> None:
@@ -36,6 +36,8 @@ def main() -> None:
     books = len(key["workbooks"])
     print(f"generated layouts: {books} workbooks, audited in {elapsed:.1f} s")
     print(table(result))
+    print("by arrangement, form and planted kind:")
+    print(breakdown(result))
     for name, items in result["misses"].items():
         for item in items[:5]:
             print(f"  {name}: {item}")

@@ -74,6 +74,8 @@ def test_libreoffice_agrees_with_the_generator_on_clean_formulas(book: dict[str,
     workbook = openpyxl.load_workbook(LAYOUTS / "workbooks" / book["file"], data_only=True)
     checked = 0
     for reg in book["regressions"]:
+        for ref in reg["cells"].values():  # typed, pasted or computed: a number in every cell
+            assert isinstance(_value(workbook, ref), int | float), (reg["id"], ref)
         if reg["mistake"] or reg["form"] in NOT_COMPUTED:
             continue
         for stat in ("slope", "intercept", "se_slope", "p_slope", "r_squared"):
