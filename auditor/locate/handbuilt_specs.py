@@ -7,6 +7,7 @@ from typing import Any
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Node, Ref
 from auditor.locate.formulas import FormulaLocator
+from auditor.locate.grouping import CORRELATION_FUNCS
 from auditor.locate.handbuilt import HandbuiltFinder, Key, Recognised
 from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
@@ -43,6 +44,13 @@ def join(found: list[RegressionSpec], other: RegressionSpec) -> bool:
     an intercept built from a slope cell never stands alone. True: ``other`` is consumed."""
     for spec in found:
         same = overlaps(spec.x, other.x) and overlaps(spec.y, other.y)
+        orientable = _orientable(spec)
+        if not same and orientable and overlaps(spec.x, other.y) and overlaps(spec.y, other.x):
+            # A regression seen only through CORREL(a, b)^2 has no direction of its own: the
+            # hand-built slope's COVARIANCE/VAR says which range is x.
+            spec.x, spec.y, same = spec.y, spec.x, True
+        if same and orientable:  # the regression is the hand-built one; the correlation joins
+            spec.found_by = other.found_by
         if same and spec.x_columns == 1 and spec.intercept == other.intercept:
             for stat in other.stats.values():
                 if stat.how == "hand-built":  # its followed dependents are the other's own
@@ -60,6 +68,11 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
         for spec in handbuilt:
             locator.follow_dependents(spec)
     return handbuilt + attach_only
+
+
+def _orientable(spec: RegressionSpec) -> bool:
+    """Found only through symmetric calls (CORREL, PEARSON): x and y are a guess."""
+    return bool(spec.uses) and all(u.function in CORRELATION_FUNCS for u in spec.uses)
 
 
 def handbuilt_specs(

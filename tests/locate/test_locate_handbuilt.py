@@ -477,3 +477,34 @@ def test_a_beta_over_data_the_tool_cannot_recompute_is_judged_from_stored_values
     (finding,) = [f for f in found.findings if f.check == "stat-recompute"]
     assert finding.kind == "rows-differ"
     assert finding.evidence["reproduced"] == pytest.approx(beta, rel=RELATIVE)
+
+
+@pytest.mark.parametrize(
+    ("seed", "function", "x_first", "y_first"),
+    [(40, "CORREL", True, False), (41, "PEARSON", False, True), (42, "CORREL", False, False)],
+)
+def test_r_squared_from_a_correlation_joins_the_handbuilt_slope(
+    tmp_path: Path, seed: int, function: str, x_first: bool, y_first: bool
+) -> None:
+    """CORREL(a, b)^2 says nothing of which range is x: the hand-built slope beside it does.
+    One regression, oriented as the slope, holding the R² cell (no second one, reversed)."""
+    n = 9 + seed % 4
+    x, y = _data(seed, n)
+    last = n + 1
+    xl, yl = ("C", "B") if y_first else ("B", "C")
+    xs, ys = f"{xl}2:{xl}{last}", f"{yl}2:{yl}{last}"
+    pair = f"{xs},{ys}" if x_first else f"{ys},{xs}"
+    formulas = {
+        "F2": f"_xlfn.COVARIANCE.S({xs},{ys})/_xlfn.VAR.S({xs})",
+        "F3": f"AVERAGE({ys})-F2*AVERAGE({xs})",
+        "F4": f"{function}({pair})^2",
+    }
+    x_range, y_range = _write_columns(tmp_path / "plots.xlsx", x, y, formulas, y_first)
+    result = _audit(tmp_path / "plots.xlsx")
+    (found,) = result.regressions
+    assert (found.x_range, found.y_range) == (x_range, y_range)
+    assert found.found_by == "hand-built"
+    assert found.reported["r_squared"].cell == "Plots!F4"
+    r = np.corrcoef(x, y)[0, 1]  # outside reference: numpy
+    assert found.intended["r_squared"] == pytest.approx(r * r, rel=RELATIVE)
+    assert found.reported["slope"].verdict == "confirmed"
