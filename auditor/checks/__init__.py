@@ -26,6 +26,7 @@ FAMILY_NAMES = (
     "pasted_tables",
     "predictions",
     "trendlines",
+    "typed_tables",
     "workbook_level",
 )
 FAMILIES = tuple(import_module(f"auditor.checks.{name}") for name in FAMILY_NAMES)

@@ -9,6 +9,7 @@ from auditor.compare.reported import relative_tolerance
 from auditor.context import RegressionContext
 from auditor.diagnose.engine import explain
 from auditor.diagnose.fixes import corrected_formula
+from auditor.locate.typed_spec import typed_stale
 from auditor.model import STAT_KEYS, Finding, ReportedValue, Severity, stat_base
 from auditor.wording import fmt_pair
 
@@ -32,6 +33,8 @@ def stat_recompute(context: RegressionContext) -> list[Finding]:
     pasted = context.spec.pasted
     if pasted is not None and pasted.source.status == "stale":
         return []  # one finding for the whole table: table-stale
+    if typed_stale(context.spec):
+        return []  # one finding for the whole typed table: typed-stale
     for value in context.reported.values():
         if value.verdict != "mismatch":
             continue

@@ -35,6 +35,7 @@ from auditor.locate import (
     pasted_spec,
     trendlines,
     typed_copies,
+    typed_spec,
 )
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.spec import PAIR_FUNCS, PairUse, RegressionSpec, StatCell, overlaps
@@ -79,6 +80,8 @@ RECOGNISERS: tuple[Recogniser, ...] = (
     Recogniser("formulas", _formulas),
     Recogniser("hand-built", handbuilt_specs.find, join=handbuilt_specs.join),
     Recogniser("labels", labels.from_labels, late=True),
+    # a typed statistic table whose numbers agree with one another, its data found after
+    Recogniser("typed tables", typed_spec.find, late=True, labelled=False),
     # a pasted table is complete: its own layout names every number it holds; before the
     # trendlines, so that a chart of the same data joins the table's regression
     Recogniser("pasted tables", pasted_spec.find, late=True, labelled=False),

@@ -57,6 +57,7 @@ class RegressionSpec:
     # never an extension of this one's table.
     neighbour_ranges: list[Ref] = field(default_factory=list)
     pasted: PastedOrigin | None = None  # the pasted table this regression was read from
+    typed: Any = None  # the typed statistic table it was read from (typed_spec.TypedOrigin)
 
     @property
     def in_rows(self) -> bool:

@@ -1,0 +1,90 @@
+"""Checks on typed statistic tables: a table of figures its data no longer give."""
+
+from __future__ import annotations
+
+from auditor.checks.agreement_words import describe, significance_changes
+from auditor.checks.base import check
+from auditor.context import RegressionContext
+from auditor.locate.typed_spec import typed_origin
+from auditor.model import Finding, Severity
+from auditor.wording import fmt
+
+LISTED = 6
+
+
+@check(
+    "typed-stale",
+    "A typed table of regression figures that its data no longer give.",
+    thresholds=("alpha",),
+)
+def typed_stale(context: RegressionContext) -> list[Finding]:
+    """The typed figures agree with one another (t = slope / SE, p from t and df) but the data
+    they describe now give other figures: they were typed from an older version of the data.
+
+    Failing: "Slope (NTU per L/s) 0.668, Intercept −3.73, SE 0.371, t 1.80, p 0.110, R² 0.288"
+    beside the columns "Flow (L/s)" and "Turbidity (NTU)", whose ten rows now give 0.226; with
+    the last turbidity reading at 31.1 instead of 10.2 they give every typed figure (major;
+    critical when p crosses the policy's alpha or the slope changes sign).
+    Passing: the columns beside the table give every typed figure at the digits shown.
+
+    Severity: critical or major only when the link is evidence a reviewer accepts (one changed
+    reading reproduces the table, or the headers share its words and the data lie beside it);
+    a table linked by place alone is minor, its figures unverifiable against these data.
+    """
+    found = typed_origin(context.spec)
+    if found is None or found.source.status != "stale":
+        return []
+    wrong = [v for v in context.reported.values() if v.verdict == "mismatch"]
+    if not wrong:
+        return []
+    source = found.source
+    data = f"{context.data.n} points of {context.data.intended_y_range} on " + (
+        context.data.intended_x_range
+    )
+    listed = "; ".join(
+        f"{describe(v.key)} in {v.cell}: typed {fmt(v.value)}, recomputed {fmt(v.intended)} "
+        f"({v.tolerance})"
+        for v in wrong[:LISTED]
+    )
+    more = f" (and {len(wrong) - LISTED} more)" if len(wrong) > LISTED else ""
+    changes = any(significance_changes(context, v) for v in wrong)
+    severity: Severity = "minor"
+    consequence = ""
+    if source.strong:
+        severity = "critical" if changes else "major"
+        if changes:
+            consequence = f" At alpha = {context.policy.alpha:g} the conclusion changes."
+        opening = f"The typed figures at {found.table.anchor.address} are out of date: "
+    else:
+        opening = (
+            f"The typed figures at {found.table.anchor.address} do not follow the nearest data, "
+            "and nothing but their place says these are its data, so the figures are "
+            "unverifiable against them: "
+        )
+    evidence: dict[str, object] = {
+        "why_these_data": source.evidence,
+        "differing": len(wrong),
+        "x_range": context.data.intended_x_range,
+        "y_range": context.data.intended_y_range,
+        "words_matched": source.words,
+        "beside": source.beside,
+        "link": "strong" if source.strong else "place only",
+        "relations": found.table.relations,
+    }
+    if source.refit is not None:
+        evidence["changed_reading"] = {"now": source.refit.now, "then": source.refit.then}
+    return [
+        Finding(
+            check="typed-stale",
+            kind="stale-value",
+            severity=severity,
+            cells=[v.cell for v in wrong],
+            message=(
+                f"{opening}{source.evidence}. {len(wrong)} of them differ from the fit of the "
+                f"{data}: {listed}{more}.{consequence}"
+            ),
+            evidence=evidence,
+            fix="Recompute the figures from the current data (with formulas that read it, so "
+            "they cannot fall behind again), or restore the data they were computed from.",
+        )
+    ]

@@ -1,0 +1,123 @@
+"""The arithmetic that ties a typed statistic table to data: fits of every window of a pair of
+columns (or rows) at once, agreement at the digits the table shows, and the one changed reading
+that would reproduce a table the data no longer give.
+
+A line's figures come from five sums (n, Σx, Σy, Σx², Σxy, Σy² over centred values), so the fit
+of every window of n consecutive rows costs O(1) from prefix sums. When y changes by δ in row i
+alone, the slope moves by δ·(xᵢ − x̄)/Sxx and the intercept by δ·(1/n − x̄·(xᵢ − x̄)/Sxx): each
+typed figure gives an interval of δ, and a row whose intervals meet (and whose refit gives the
+other figures too) is the one reading that changed since the table was typed.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from auditor.fit.distributions import t_sf
+from auditor.locate.typed_tables import TypedTable, interval
+
+# What detection allows beyond the digits shown: the sums lose a few digits of a full double.
+DETECT_RELATIVE = 1e-7
+COMPARED = ("slope", "intercept", "se_slope", "t_slope", "r_squared", "residual_sd")
+
+
+@dataclass(frozen=True)
+class Refit:
+    """One changed reading that reproduces the table: y at ``index`` was ``typed_from``."""
+
+    index: int  # position in the data window
+    now: float  # the reading as the data hold it
+    then: float  # the reading that reproduces every typed figure
+    agreeing: tuple[str, ...]  # the figures it reproduces
+
+
+def window_stats(x: np.ndarray, y: np.ndarray, n: int) -> dict[str, np.ndarray]:
+    """The line's figures over every window of n consecutive pairs (arrays of length L − n + 1)."""
+    xc, yc = x - x.mean(), y - y.mean()
+
+    def sums(values: np.ndarray) -> np.ndarray:
+        total = np.concatenate(([0.0], np.cumsum(values)))
+        return np.asarray(total[n:] - total[:-n], dtype=float)
+
+    sx, sy = sums(xc), sums(yc)
+    sxx = sums(xc * xc) - sx * sx / n
+    syy = sums(yc * yc) - sy * sy / n
+    sxy = sums(xc * yc) - sx * sy / n
+    with np.errstate(divide="ignore", invalid="ignore"):
+        slope = sxy / sxx
+        intercept = (y.mean() + sy / n) - slope * (x.mean() + sx / n)
+        sse = np.maximum(syy - slope * sxy, 0.0)
+        residual_sd = np.sqrt(sse / (n - 2)) if n > 2 else np.full_like(sxx, np.nan)
+        se = residual_sd / np.sqrt(sxx)
+        return {
+            "slope": slope,
+            "intercept": intercept,
+            "se_slope": se,
+            "t_slope": slope / se,
+            "r_squared": sxy * sxy / (sxx * syy),
+            "residual_sd": residual_sd,
+        }
+
+
+def agrees(table: TypedTable, stats: dict[str, np.ndarray]) -> np.ndarray:
+    """Which windows give every typed figure the table holds (at its digits, loosely)."""
+    ok = np.ones(len(stats["slope"]), dtype=bool)
+    for role in COMPARED:
+        cell = table.cells.get(role)
+        if cell is None:
+            continue
+        low, high = interval(cell)
+        slack = DETECT_RELATIVE * abs(float(cell.value))  # type: ignore[arg-type]
+        ok &= (stats[role] >= low - slack) & (stats[role] <= high + slack)
+    if "p_slope" in table.cells and ok.any():
+        ok &= _p_agrees(table, stats["t_slope"], len(stats["slope"]))
+    return ok
+
+
+def _p_agrees(table: TypedTable, t: np.ndarray, windows: int) -> np.ndarray:
+    low, high = interval(table.cells["p_slope"])
+    df = max(1, table.df_options[0]) if table.df_options else None
+    if df is None:
+        return np.ones(windows, dtype=bool)
+    p = 2.0 * np.asarray(t_sf(np.abs(t), df), dtype=float)
+    return (p >= low * (1 - DETECT_RELATIVE)) & (p <= high * (1 + DETECT_RELATIVE))
+
+
+def single_reading(table: TypedTable, x: np.ndarray, y: np.ndarray) -> list[Refit]:
+    """The rows whose y, changed alone, makes the data give every typed figure."""
+    n = len(x)
+    if n < 4 or "slope" not in table.cells:
+        return []
+    centred = x - x.mean()
+    sxx = float(centred @ centred)
+    if not sxx > 0:
+        return []
+    moves = {"slope": centred / sxx, "intercept": 1.0 / n - x.mean() * centred / sxx}
+    found: list[Refit] = []
+    base = window_stats(x, y, n)
+    for i in range(n):
+        low, high = -np.inf, np.inf
+        for role, move in moves.items():
+            cell = table.cells.get(role)
+            if cell is None or abs(move[i]) < 1e-12 * max(1.0, float(np.abs(move).max())):
+                continue
+            bounds = interval(cell)
+            slack = DETECT_RELATIVE * abs(float(cell.value))  # type: ignore[arg-type]
+            ends = sorted(
+                ((bounds[0] - slack - base[role][0]) / move[i],
+                 (bounds[1] + slack - base[role][0]) / move[i])
+            )  # fmt: skip
+            low, high = max(low, ends[0]), min(high, ends[1])
+        if not (np.isfinite(low) and np.isfinite(high)) or low > high:
+            continue
+        for delta in (0.5 * (low + high), low, high):
+            changed = y.copy()
+            changed[i] += delta
+            stats = window_stats(x, changed, n)
+            if agrees(table, stats)[0]:
+                agreeing = tuple(r for r in (*COMPARED, "p_slope") if r in table.cells)
+                found.append(Refit(i, float(y[i]), float(changed[i]), agreeing))
+                break
+    return found

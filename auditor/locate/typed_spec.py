@@ -1,0 +1,66 @@
+"""Typed statistic tables as regressions (the recogniser), and what the checks need of them.
+
+A table found by its structure and words (:mod:`auditor.locate.typed_tables`) becomes a
+regression over the data :mod:`auditor.locate.typed_source` finds for it. Every typed figure is
+then compared with the recomputed one at the digits it shows, like any typed value. A table the
+data no longer give is "stale": the check ``typed-stale`` says so once, with the evidence of the
+link; a table no data can be linked to is not listed (nothing in the workbook says which data
+it describes).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from auditor.locate.formulas import FormulaLocator
+from auditor.locate.pasted_data import DataIndex
+from auditor.locate.spec import RegressionSpec, StatCell
+from auditor.locate.typed_source import TypedSource, find_typed_source
+from auditor.locate.typed_tables import TypedTable, find_typed_tables
+
+
+@dataclass
+class TypedOrigin:
+    """What a regression found from a typed table carries besides its ranges."""
+
+    table: TypedTable
+    source: TypedSource
+
+
+def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
+    """The recogniser: every consistent typed statistic table whose cells no one took."""
+    workbook = locator.workbook
+    tables = find_typed_tables(workbook, taken)
+    if not tables:
+        return []
+    index = DataIndex.build(workbook, [])
+    footprints = [t.footprint for t in tables]
+    specs = []
+    for table in tables:
+        source = find_typed_source(workbook, index, table, footprints)
+        if source.x is None or source.y is None:
+            continue
+        anchor = table.anchor
+        spec = RegressionSpec(
+            f"{table.sheet}/{anchor.coord}", table.sheet, source.x, source.y, True, "labels"
+        )
+        for role, cell in table.cells.items():
+            stat = StatCell(role, cell, "label")
+            stat.label = table.labels.get(role, "")
+            spec.stats[role] = stat
+        spec.label = table.title
+        spec.typed = TypedOrigin(table, source)
+        taken.update(cell.address for cell in table.cells.values())
+        specs.append(spec)
+    return specs
+
+
+def typed_origin(spec: RegressionSpec) -> TypedOrigin | None:
+    found = getattr(spec, "typed", None)
+    return found if isinstance(found, TypedOrigin) else None
+
+
+def typed_stale(spec: RegressionSpec) -> bool:
+    """A typed table its data no longer give: one finding says so (``typed-stale``)."""
+    found = typed_origin(spec)
+    return found is not None and found.source.status == "stale"
