@@ -20,6 +20,7 @@ from auditor.locate.typed_tables import TypedTable, interval
 
 # What detection allows beyond the digits shown: the sums lose a few digits of a full double.
 DETECT_RELATIVE = 1e-7
+GRID = 257  # changes of the one reading tried across the interval the slope and intercept allow
 COMPARED = ("slope", "intercept", "se_slope", "t_slope", "r_squared", "residual_sd")
 
 
@@ -61,7 +62,7 @@ def window_stats(x: np.ndarray, y: np.ndarray, n: int) -> dict[str, np.ndarray]:
         }
 
 
-def agrees(table: TypedTable, stats: dict[str, np.ndarray]) -> np.ndarray:
+def agrees(table: TypedTable, stats: dict[str, np.ndarray], n: int) -> np.ndarray:
     """Which windows give every typed figure the table holds (at its digits, loosely)."""
     ok = np.ones(len(stats["slope"]), dtype=bool)
     for role in COMPARED:
@@ -72,17 +73,39 @@ def agrees(table: TypedTable, stats: dict[str, np.ndarray]) -> np.ndarray:
         slack = DETECT_RELATIVE * abs(float(cell.value))  # type: ignore[arg-type]
         ok &= (stats[role] >= low - slack) & (stats[role] <= high + slack)
     if "p_slope" in table.cells and ok.any():
-        ok &= _p_agrees(table, stats["t_slope"], len(stats["slope"]))
+        ok &= _p_agrees(table, stats["t_slope"], n - 2)
     return ok
 
 
-def _p_agrees(table: TypedTable, t: np.ndarray, windows: int) -> np.ndarray:
+def _p_agrees(table: TypedTable, t: np.ndarray, df: int) -> np.ndarray:
     low, high = interval(table.cells["p_slope"])
-    df = max(1, table.df_options[0]) if table.df_options else None
-    if df is None:
-        return np.ones(windows, dtype=bool)
     p = 2.0 * np.asarray(t_sf(np.abs(t), df), dtype=float)
     return (p >= low * (1 - DETECT_RELATIVE)) & (p <= high * (1 + DETECT_RELATIVE))
+
+
+def shifted_stats(
+    x: np.ndarray, y: np.ndarray, i: int, deltas: np.ndarray
+) -> dict[str, np.ndarray]:
+    """The line's figures when y[i] moves by each of ``deltas`` (closed form: ȳ moves by δ/n,
+    Sxy by δ·(xᵢ − x̄), Syy by 2δ·(yᵢ − ȳ) + δ²·(1 − 1/n))."""
+    n = len(x)
+    xc, yc = x - x.mean(), y - y.mean()
+    sxx = float(xc @ xc)
+    sxy = float(xc @ yc) + deltas * xc[i]
+    syy = float(yc @ yc) + 2.0 * deltas * yc[i] + deltas * deltas * (1.0 - 1.0 / n)
+    slope = sxy / sxx
+    intercept = y.mean() + deltas / n - slope * x.mean()
+    residual_sd = np.sqrt(np.maximum(syy - slope * sxy, 0.0) / (n - 2))
+    se = residual_sd / np.sqrt(sxx)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return {
+            "slope": slope,
+            "intercept": intercept,
+            "se_slope": se,
+            "t_slope": slope / se,
+            "r_squared": sxy * sxy / (sxx * syy),
+            "residual_sd": residual_sd,
+        }
 
 
 def single_reading(table: TypedTable, x: np.ndarray, y: np.ndarray) -> list[Refit]:
@@ -112,12 +135,10 @@ def single_reading(table: TypedTable, x: np.ndarray, y: np.ndarray) -> list[Refi
             low, high = max(low, ends[0]), min(high, ends[1])
         if not (np.isfinite(low) and np.isfinite(high)) or low > high:
             continue
-        for delta in (0.5 * (low + high), low, high):
-            changed = y.copy()
-            changed[i] += delta
-            stats = window_stats(x, changed, n)
-            if agrees(table, stats)[0]:
-                agreeing = tuple(r for r in (*COMPARED, "p_slope") if r in table.cells)
-                found.append(Refit(i, float(y[i]), float(changed[i]), agreeing))
-                break
+        deltas = np.linspace(low, high, GRID)
+        hits = np.nonzero(agrees(table, shifted_stats(x, y, i, deltas), n))[0]
+        if len(hits):
+            then = float(y[i] + deltas[hits[len(hits) // 2]])
+            agreeing = tuple(r for r in (*COMPARED, "p_slope") if r in table.cells)
+            found.append(Refit(i, float(y[i]), then, agreeing))
     return found

@@ -88,10 +88,11 @@ def tokens(text: str) -> set[str]:
 
 
 def candidates(
-    workbook: Workbook, index: DataIndex, table: TypedTable, footprints: list[set[tuple]]
+    workbook: Workbook, index: DataIndex, table: TypedTable, blocked: set[tuple[str, int, int]]
 ) -> list[Candidate]:
-    """Pairs of runs of one sheet over the same rows (or columns), nearest lines first."""
-    runs = [r for r in index.runs if not _inside_table(r, footprints)]
+    """Pairs of runs of one sheet over the same rows (or columns), outside every typed table
+    and every statistic cell bound to a regression (a LINEST block's columns are no data)."""
+    runs = [r for r in index.runs if not _blocked(r, blocked)]
     by_place: dict[tuple[str, bool], list[Run]] = {}
     for run in runs:
         by_place.setdefault((run.sheet, run.by_rows), []).append(run)
@@ -106,17 +107,20 @@ def candidates(
                 end = min(first.start + len(first.values), second.start + len(second.values))
                 if end - start >= 3:
                     pair = Candidate(first, second, start, end - start)
-                    pair.x_words, pair.y_words = _words_of(workbook, first), _words_of(workbook, second)
+                    pair.x_words, pair.y_words = (
+                        _words_of(workbook, first),
+                        _words_of(workbook, second),
+                    )
                     pair.words = tokens(first.sheet) | pair.x_words | pair.y_words
                     pair.gap = _gap(table, pair)
                     found.append(pair)
     return found
 
 
-def _inside_table(run: Run, footprints: list[set[tuple]]) -> bool:
+def _blocked(run: Run, blocked: set[tuple[str, int, int]]) -> bool:
     for position in range(run.start, run.start + len(run.values)):
-        key = (run.line, position) if run.by_rows else (position, run.line)
-        if any(key in footprint for footprint in footprints):
+        row, col = (run.line, position) if run.by_rows else (position, run.line)
+        if (run.sheet, row, col) in blocked:
             return True
     return False
 
@@ -150,10 +154,10 @@ def _gap(table: TypedTable, pair: Candidate) -> float:
 
 
 def find_typed_source(
-    workbook: Workbook, index: DataIndex, table: TypedTable, footprints: list[set[tuple]]
+    workbook: Workbook, index: DataIndex, table: TypedTable, blocked: set[tuple[str, int, int]]
 ) -> TypedSource:
     """The data of ``table`` and how they were found (see the module docstring)."""
-    pairs = candidates(workbook, index, table, footprints)
+    pairs = candidates(workbook, index, table, blocked)
     own = tokens(table.words())
     shared = set.intersection(*(p.words for p in pairs)) if len(pairs) > 1 else set()
     ranked = sorted(
@@ -200,14 +204,12 @@ def _orientations(pair: Candidate, table: TypedTable) -> list[Candidate]:
     return [pair.swapped(), pair] if swap else [pair, pair.swapped()]
 
 
-def _reproducing_window(
-    table: TypedTable, pair: Candidate, sizes: set[int]
-) -> Candidate | None:
+def _reproducing_window(table: TypedTable, pair: Candidate, sizes: set[int]) -> Candidate | None:
     x, y = pair.values()
     for n in sorted(sizes) if sizes else [pair.n]:
         if n < 3 or n > pair.n:
             continue
-        ok = np.nonzero(agrees(table, window_stats(x, y, n)))[0]
+        ok = np.nonzero(agrees(table, window_stats(x, y, n), n))[0]
         if len(ok):
             found = Candidate(pair.x, pair.y, pair.start + int(ok[0]), n, pair.words, pair.gap)
             found.x_words, found.y_words = pair.x_words, pair.y_words
@@ -235,6 +237,4 @@ def _stale(
     elif not matched and refit is None:
         reasons.append("only the place links them")
     strong = refit is not None or (bool(matched) and beside)
-    return TypedSource(
-        "stale", x_ref, y_ref, "; ".join(reasons), matched, beside, refit, strong
-    )
+    return TypedSource("stale", x_ref, y_ref, "; ".join(reasons), matched, beside, refit, strong)

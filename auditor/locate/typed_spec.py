@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from auditor.grid import parse_cell, split_cell
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.pasted_data import DataIndex
 from auditor.locate.spec import RegressionSpec, StatCell
@@ -34,10 +35,14 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
     if not tables:
         return []
     index = DataIndex.build(workbook, [])
-    footprints = [t.footprint for t in tables]
+    # Cells that hold no data: every typed table's, and the statistics bound so far.
+    blocked = {(t.sheet, row, col) for t in tables for row, col in t.footprint}
+    for address in taken:
+        sheet, coord = split_cell(address)
+        blocked.add((sheet, *parse_cell(coord)))
     specs = []
     for table in tables:
-        source = find_typed_source(workbook, index, table, footprints)
+        source = find_typed_source(workbook, index, table, blocked)
         if source.x is None or source.y is None:
             continue
         anchor = table.anchor

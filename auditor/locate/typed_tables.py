@@ -15,6 +15,7 @@ value row per regression below (the text left of each row is its title).
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -31,6 +32,7 @@ TABLE_ROLES = ("slope", "intercept", "se_slope", "se_intercept", "t_slope", "p_s
                "r_squared", "df", "residual_sd", "n")  # fmt: skip
 MIN_LABELS = 3  # slope and two more: fewer numbers cannot agree with one another
 MAX_DF = 2_000  # degrees of freedom searched when the table does not show them
+_BRACKETED = re.compile(r"[(\[]([^()\[\]]*)[)\]]")
 ALLOWANCE = 1.01  # half a unit in the last place shown, and 1 % for the arithmetic
 
 
@@ -55,8 +57,10 @@ class TypedTable:
         return float(cell.value) if cell is not None and _number(cell) else None
 
     def words(self) -> str:
-        """The table's own words: its title and its labels."""
-        return " ".join([self.title, *self.labels.values()])
+        """The table's own words: its title and what its labels say in brackets (the units of
+        "Slope (NTU per L/s)"); the statistic words themselves name no data."""
+        inside = [part for label in self.labels.values() for part in _BRACKETED.findall(label)]
+        return " ".join([self.title, *inside])
 
 
 def half_unit(cell: Cell) -> float:
