@@ -42,8 +42,8 @@ def typed_stale(context: RegressionContext) -> list[Finding]:
         context.data.intended_x_range
     )
     listed = "; ".join(
-        f"{describe(v.key)} in {v.cell}: typed {fmt(v.value)}, recomputed {fmt(v.intended)} "
-        f"({v.tolerance})"
+        f"{describe(v.key)} in {v.cell}: typed {fmt(v.value)}, recomputed {fmt(v.intended)}, "
+        f"allowed: {v.tolerance}"
         for v in wrong[:LISTED]
     )
     more = f" (and {len(wrong) - LISTED} more)" if len(wrong) > LISTED else ""

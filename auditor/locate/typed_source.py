@@ -227,8 +227,9 @@ def _stale(
     if refit is not None:
         cell = pair.y.ref(pair.start - pair.y.start + refit.index, 1).address
         reasons.append(
-            f"with the reading in {cell} at {refit.then:.6g} instead of {refit.now:.6g}, "
-            f"{x_ref.address} and {y_ref.address} give every typed figure"
+            f"{x_ref.address} and {y_ref.address} give every typed figure with the reading in "
+            f"{cell} at {refit.then:.6g}, where it now holds {refit.now:.6g} (one reading "
+            "changed since the figures were typed)"
         )
     if matched:
         reasons.append("the headers share the table's words (" + ", ".join(matched) + ")")

@@ -52,10 +52,6 @@ class TypedTable:
     def anchor(self) -> Cell:
         return self.cells["slope"]
 
-    def value(self, role: str) -> float | None:
-        cell = self.cells.get(role)
-        return float(cell.value) if cell is not None and _number(cell) else None
-
     def words(self) -> str:
         """The table's own words: its title and what its labels say in brackets (the units of
         "Slope (NTU per L/s)"); the statistic words themselves name no data."""
@@ -136,7 +132,7 @@ def _tables_of_group(
     taken: set[str],
 ) -> list[TypedTable]:
     """One table per value column right of the labels (or value row below them)."""
-    tables = []
+    tables: list[TypedTable] = []
     for step in range(1, 40):
         cells: dict[str, Cell] = {}
         for row, col, role in group:
