@@ -34,7 +34,12 @@ def typed_stale(context: RegressionContext) -> list[Finding]:
     found = typed_origin(context.spec)
     if found is None or found.source.status != "stale":
         return []
-    wrong = [v for v in context.reported.values() if v.verdict == "mismatch"]
+    weak = not found.source.strong
+    wrong = [
+        v
+        for v in context.reported.values()
+        if v.verdict == "mismatch" or (weak and v.verdict == "unverifiable" and v.intended)
+    ]
     if not wrong:
         return []
     source = found.source

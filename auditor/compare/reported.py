@@ -21,6 +21,7 @@ from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.fit.conditioning import Conditioning
 from auditor.locate.locator import RegressionSpec, StatCell
 from auditor.locate.pasted_spec import judge_pasted
+from auditor.locate.typed_spec import place_only_link
 from auditor.model import ReportedValue, stat_base
 from auditor.read.workbook import ErrorValue
 
@@ -181,6 +182,8 @@ def build_reported(
             # What the formula computes is unknown (=PRODUCT(SLOPE(…),100) is a slope per 100):
             # a value that differs from the statistic is no evidence of a mistake.
             verdict = "unverifiable"
+        if verdict == "mismatch" and (why := place_only_link(spec)):
+            verdict, note = "unverifiable", why  # nothing but place says these are its data
         out[key] = ReportedValue(
             key=key,
             cell=cell.address,

@@ -69,3 +69,15 @@ def typed_stale(spec: RegressionSpec) -> bool:
     """A typed table its data no longer give: one finding says so (``typed-stale``)."""
     found = typed_origin(spec)
     return found is not None and found.source.status == "stale"
+
+
+def place_only_link(spec: RegressionSpec) -> str:
+    """Why a typed table's figures are unverifiable against its data ("" when they are not): the
+    data no longer give them, and nothing but their place says these are its data."""
+    found = typed_origin(spec)
+    if found is None or found.source.status != "stale" or found.source.strong:
+        return ""
+    return (
+        f"the data beside it ({spec.y.address} on {spec.x.address}) do not give it, and nothing "
+        "but their place says they are its data"
+    )

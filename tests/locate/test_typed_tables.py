@@ -216,6 +216,8 @@ def test_a_table_linked_by_place_alone_draws_no_alarm(tmp_path: Path) -> None:
     (finding,) = [f for f in regression.findings if f.check == "typed-stale"]
     assert finding.severity == "minor"
     assert "unverifiable" in finding.message
+    assert {v.verdict for v in regression.reported.values()} == {"unverifiable"}
+    assert "nothing but their place" in regression.reported["slope"].note
 
 
 def test_unrelated_labelled_numbers_are_no_regression(tmp_path: Path) -> None:
