@@ -21,7 +21,7 @@ from auditor.locate.typed_tables import TypedTable, interval
 # What detection allows beyond the digits shown: the sums lose a few digits of a full double.
 DETECT_RELATIVE = 1e-7
 GRID = 257  # changes of the one reading tried across the interval the slope and intercept allow
-COMPARED = ("slope", "intercept", "se_slope", "t_slope", "r_squared", "residual_sd")
+COMPARED = ("slope", "intercept", "se_slope", "se_intercept", "t_slope", "r_squared", "residual_sd")
 
 
 @dataclass(frozen=True)
@@ -52,10 +52,12 @@ def window_stats(x: np.ndarray, y: np.ndarray, n: int) -> dict[str, np.ndarray]:
         sse = np.maximum(syy - slope * sxy, 0.0)
         residual_sd = np.sqrt(sse / (n - 2)) if n > 2 else np.full_like(sxx, np.nan)
         se = residual_sd / np.sqrt(sxx)
+        x_mean = x.mean() + sx / n
         return {
             "slope": slope,
             "intercept": intercept,
             "se_slope": se,
+            "se_intercept": residual_sd * np.sqrt(1.0 / n + x_mean * x_mean / sxx),
             "t_slope": slope / se,
             "r_squared": sxy * sxy / (sxx * syy),
             "residual_sd": residual_sd,
@@ -102,6 +104,7 @@ def shifted_stats(
             "slope": slope,
             "intercept": intercept,
             "se_slope": se,
+            "se_intercept": residual_sd * np.sqrt(1.0 / n + x.mean() ** 2 / sxx),
             "t_slope": slope / se,
             "r_squared": sxy * sxy / (sxx * syy),
             "residual_sd": residual_sd,

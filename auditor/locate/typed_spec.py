@@ -49,13 +49,13 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
         spec = RegressionSpec(
             f"{table.sheet}/{anchor.coord}", table.sheet, source.x, source.y, True, "labels"
         )
-        for role, cell in table.cells.items():
+        for role, cell in [*table.cells.items(), *table.claims.items()]:
             stat = StatCell(role, cell, "label")
             stat.label = table.labels.get(role, "")
             spec.stats[role] = stat
         spec.label = table.title
         spec.typed = TypedOrigin(table, source)
-        taken.update(cell.address for cell in table.cells.values())
+        taken.update(cell.address for cell in [*table.cells.values(), *table.claims.values()])
         specs.append(spec)
     return specs
 

@@ -23,6 +23,7 @@ import numpy as np
 from auditor.compare.precision import decimals_shown
 from auditor.fit.distributions import t_sf
 from auditor.locate.blocks import role_in_list
+from auditor.locate.labels import looks_like_claim
 from auditor.locate.pasted_spec import in_pasted_table
 from auditor.locate.roles import role_from_label
 from auditor.read.workbook import Cell, Sheet, Workbook
@@ -45,6 +46,7 @@ class TypedTable:
     labels: dict[str, str]
     title: str = ""
     footprint: set[tuple[int, int]] = field(default_factory=set)
+    claims: dict[str, Cell] = field(default_factory=dict)  # a p written as text: "<0.001"
     df_options: tuple[int, ...] = ()  # the degrees of freedom its numbers allow (n − 2)
     relations: list[str] = field(default_factory=list)  # what agreed, in words
 
@@ -79,6 +81,10 @@ def _number(cell: Cell | None) -> bool:
         and not isinstance(cell.value, bool)
         and math.isfinite(float(cell.value))
     )
+
+
+def cell_at(cell: Cell) -> tuple[str, int, int]:
+    return cell.sheet, cell.row, cell.col
 
 
 def find_typed_tables(workbook: Workbook, taken: set[str]) -> list[TypedTable]:
@@ -135,22 +141,30 @@ def _tables_of_group(
     tables: list[TypedTable] = []
     for step in range(1, 40):
         cells: dict[str, Cell] = {}
+        claims: dict[str, Cell] = {}
         for row, col, role in group:
             where = (row + step, col) if by_rows else (row, col + step)
             cell = sheet.get(*where)
-            if _number(cell) and cell is not None and cell.address not in taken:
-                if not in_pasted_table(workbook, sheet.name, *where):
-                    cells[role] = cell
+            if cell is None or cell.address in taken or in_pasted_table(workbook, *cell_at(cell)):
+                continue
+            if _number(cell):
+                cells[role] = cell
+            elif role == "p_slope" and isinstance(cell.value, str) and looks_like_claim(cell.value):
+                claims[role] = cell
         if "slope" not in cells:
             if step > 1 and not tables:
                 break  # the values sit right beside their labels (or one cell apart)
             if tables:
                 break
             continue
-        labels = {role: str(sheet.value(row, col)) for row, col, role in group if role in cells}
-        table = TypedTable(sheet.name, cells, labels)
+        labels = {
+            role: str(sheet.value(row, col))
+            for row, col, role in group
+            if role in cells or role in claims
+        }
+        table = TypedTable(sheet.name, cells, labels, claims=claims)
         table.title = _title(sheet, group, step, by_rows)
-        table.footprint = {(c.row, c.col) for c in cells.values()} | {
+        table.footprint = {(c.row, c.col) for c in [*cells.values(), *claims.values()]} | {
             (row, col) for row, col, _ in group
         }
         if _consistent(table):
@@ -203,12 +217,13 @@ def _consistent(table: TypedTable) -> bool:
             table.relations.append("t = slope / SE")
         t = t or implied
     dfs: np.ndarray | None = None
-    df_cell = get("df")
-    if df_cell is not None:
-        value = float(df_cell.value)  # type: ignore[arg-type]
-        if value < 1 or not value.is_integer():
-            return False
-        dfs = np.array([int(value)])
+    for role, less in (("df", 0), ("n", 2)):  # df shown, or n (df = n − 2)
+        shown = get(role)
+        if shown is not None and dfs is None:
+            value = float(shown.value) - less  # type: ignore[arg-type]
+            if value < 1 or not value.is_integer():
+                return False
+            dfs = np.array([int(value)])
     if t is not None and r2 is not None and r2[0] > 0:
         low, high = sorted(abs(v) for v in t) if t[0] * t[1] > 0 else (0.0, max(map(abs, t)))
         implied_df = (low**2 * (1 - min(r2[1], 1.0)) / r2[1], high**2 * (1 - r2[0]) / r2[0])

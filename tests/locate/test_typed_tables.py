@@ -188,6 +188,61 @@ def test_summary_sheet_columns_are_linked_to_their_sites(by_rows: bool, tmp_path
             assert all(v.verdict == "confirmed" for v in regression.reported.values())
 
 
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_summary_rows_one_per_site_with_p_as_a_claim(seed: int, tmp_path: Path) -> None:
+    """Labels along a row, one row of figures per site below them, the site's name on its left;
+    p written as text ("<0.001", "0.031"); df shown in some tables."""
+    rng = np.random.default_rng(60 + seed)
+    sites = [_data(rng, f"Site {k}", 1, 1, bool(k % 2)) for k in (1, 2, 3)]
+    roles = ("slope", "intercept", "se_slope", "t_slope", "p_slope", "r_squared", "df")
+    typed = []
+    for k, data in enumerate(sites):
+        older = _older_reading(rng, data) if k == seed else {}
+        typed.append(
+            Typed(
+                data,
+                "Summary",
+                3 + k,
+                1,
+                list(WORDINGS)[(seed + k) % 4],
+                4,
+                roles[: 7 - seed % 2],
+                older,
+                f"Site {k + 1}",
+                labels=k == 0,
+                across=True,
+                p_text=True,
+            )  # fmt: skip
+        )
+    result = _audit(Scene(sites, typed), tmp_path)
+    for k, (data, table) in enumerate(zip(sites, typed, strict=True)):
+        regression = _for(result, table)
+        assert (regression.x_range, regression.y_range) == (data.ref(0), data.ref(1))
+        assert regression.reported["p_slope"].cell == table.placed["p_slope"]
+        assert regression.reported["p_slope"].source == "text"
+        stale = [f for f in regression.findings if f.check == "typed-stale"]
+        assert len(stale) == (1 if k == seed else 0)
+        if k == seed:
+            ((index, _),) = table.older.items()
+            assert data.cell_of_y(index) in stale[0].message
+        else:
+            assert {v.verdict for v in regression.reported.values()} == {"confirmed"}
+
+
+def test_n_shown_gives_the_degrees_of_freedom() -> None:
+    rng = np.random.default_rng(12)
+    x = rng.uniform(0, 10, 11)
+    y = 2.0 + 0.8 * x + rng.normal(0, 2.0, 11)
+    shown = figures(x, y)
+    del shown["df"], shown["r_squared"]
+    shown["n"] = 11.0
+    (table,) = _consistent_tables(_table(shown, 4))
+    assert table.df_options == (9,)
+    assert "p = two-sided p of t on df" in table.relations
+    shown["n"] = 30.0  # a p that does not follow from t on 28 degrees of freedom
+    assert _consistent_tables(_table(shown, 4)) == []
+
+
 def _two_readings(data: Data) -> dict[int, float]:
     slope, intercept = _numpy_fit(data.x, data.y)
     spread = float(np.std(data.y - (intercept + slope * data.x), ddof=2)) or 1.0
@@ -263,7 +318,8 @@ def _consistent_tables(table: TypedTable) -> list[TypedTable]:
     """The table's figures beside plain labels, in a workbook built in memory, read back."""
     sheet = Sheet("S")
     for role, cell in table.cells.items():
-        sheet.cells[(cell.row, 1)] = Cell("S", cell.row, 1, WORDINGS["plain"][role])
+        words = WORDINGS["plain"].get(role, "Points")
+        sheet.cells[(cell.row, 1)] = Cell("S", cell.row, 1, words)
         sheet.cells[(cell.row, 2)] = cell
     sheet.max_row, sheet.max_col = len(table.cells), 2
     workbook = Workbook("memory.xlsx", "", {"S": sheet}, [], stored_values=False)
