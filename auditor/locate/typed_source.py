@@ -178,9 +178,12 @@ def find_typed_source(
             found = single_reading(table, *oriented.values())
             if len(found) == 1:
                 return _stale(table, oriented, own, shared, found[0])
+    nearest = min(pairs, key=lambda p: p.gap) if pairs else None
     for pair in ranked:
         matched = (pair.words & own) - shared
-        if matched or (pair.gap <= BESIDE and pair is min(pairs, key=lambda p: p.gap)):
+        # by place alone only the pair right beside it, of as many rows as the figures say
+        beside = pair is nearest and pair.gap <= BESIDE and (not sizes or pair.n in sizes)
+        if matched or beside:
             oriented = _orientations(pair, table)[0]
             return _stale(table, oriented, own, shared, None)
     return TypedSource("none", evidence="no pair of numeric columns or rows reproduces it")

@@ -163,6 +163,8 @@ def _tables_of_group(
             if role in cells or role in claims
         }
         table = TypedTable(sheet.name, cells, labels, claims=claims)
+        if _named_as_statistic(sheet, group, step, by_rows):
+            continue  # a row "Intercept" under "Coefficients | Standard Error | t Stat": no line
         table.title = _title(sheet, group, step, by_rows)
         table.footprint = {(c.row, c.col) for c in [*cells.values(), *claims.values()]} | {
             (row, col) for row, col, _ in group
@@ -170,6 +172,17 @@ def _tables_of_group(
         if _consistent(table):
             tables.append(table)
     return tables
+
+
+def _named_as_statistic(
+    sheet: Sheet, group: list[tuple[int, int, str]], step: int, by_rows: bool
+) -> bool:
+    """The line of values is itself named as a statistic: a coefficients table (one row per
+    coefficient, its estimate, SE, t and p across), not the figures of one line."""
+    first_row, first_col, _ = group[0]
+    where = (first_row + step, first_col - 1) if by_rows else (first_row - 1, first_col + step)
+    text = sheet.value(*where) if min(where) >= 1 else None
+    return isinstance(text, str) and role_from_label(text) is not None
 
 
 def _title(sheet: Sheet, group: list[tuple[int, int, str]], step: int, by_rows: bool) -> str:

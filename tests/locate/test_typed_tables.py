@@ -291,6 +291,28 @@ def test_unrelated_labelled_numbers_are_no_regression(tmp_path: Path) -> None:
     assert result.regressions == []
 
 
+def test_a_row_named_as_a_statistic_is_no_line_of_its_own(tmp_path: Path) -> None:
+    """An intercept's estimate, SE, t and p under the headers "Slope estimate | Standard error |
+    t | p" agree with one another (t = 3.0 / 1.2, p two-sided on 8 df, from scipy) and lie
+    beside ten rows of data: the row is named "Intercept", so it is no table of a line."""
+    rng = np.random.default_rng(77)
+    x = np.sort(rng.uniform(2.0, 40.0, 10)).round(2)
+    data = Data("Gauge", 1, 1, "Flow (L/s)", "Turbidity (NTU)", x, (1.0 + 0.2 * x).round(3))
+    t_value = 3.0 / 1.2
+    p_value = float(2 * stats.t.sf(t_value, 8))
+    notes = [("Gauge", 2, 4 + c, v) for c, v in enumerate(
+        ["", "Slope estimate", "Standard error", "t", "p"])] + [
+        ("Gauge", 3, 4 + c, v) for c, v in enumerate(["Intercept", 3.0, 1.2, t_value, p_value])
+    ]  # fmt: skip
+    path = tmp_path / "coefficients.xlsx"
+    write_scene(Scene([data], [], notes), path)
+    assert find_typed_tables(read_workbook(path), set()) == []
+    notes[5] = ("Gauge", 3, 4, "Turbidity")  # the same row named as a line's y: a table
+    write_scene(Scene([data], [], notes), path)
+    (table,) = find_typed_tables(read_workbook(path), set())
+    assert table.title == "Turbidity"
+
+
 def _table(values: dict[str, float], digits: int | None) -> TypedTable:
     cells = {}
     for k, (role, value) in enumerate(values.items()):
