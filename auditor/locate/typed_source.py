@@ -20,7 +20,7 @@ pair right beside the table, are evidence a reviewer accepts; place alone is not
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -31,6 +31,7 @@ from auditor.locate.typed_tables import TypedTable
 from auditor.read.workbook import Workbook
 
 MAX_APART = 4  # lines between x and y of one data table
+MAX_TRIED = 400  # candidate pairs fitted per table, best words and nearest first
 BESIDE = 2  # empty lines between a table and data that still make one block
 _FUNCTION_WORDS = {"the", "and", "for", "per", "with", "from", "des", "der", "die", "del", "los"}
 
@@ -88,7 +89,7 @@ def tokens(text: str) -> set[str]:
 
 
 def candidates(
-    workbook: Workbook, index: DataIndex, table: TypedTable, blocked: set[tuple[str, int, int]]
+    workbook: Workbook, index: DataIndex, blocked: set[tuple[str, int, int]]
 ) -> list[Candidate]:
     """Pairs of runs of one sheet over the same rows (or columns), outside every typed table
     and every statistic cell bound to a regression (a LINEST block's columns are no data)."""
@@ -112,7 +113,6 @@ def candidates(
                         _words_of(workbook, second),
                     )
                     pair.words = tokens(first.sheet) | pair.x_words | pair.y_words
-                    pair.gap = _gap(table, pair)
                     found.append(pair)
     return found
 
@@ -153,11 +153,10 @@ def _gap(table: TypedTable, pair: Candidate) -> float:
     return float(max(dx, dy))
 
 
-def find_typed_source(
-    workbook: Workbook, index: DataIndex, table: TypedTable, blocked: set[tuple[str, int, int]]
-) -> TypedSource:
-    """The data of ``table`` and how they were found (see the module docstring)."""
-    pairs = candidates(workbook, index, table, blocked)
+def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
+    """The data of ``table`` among the ``found`` candidates of its workbook, and how they were
+    found (see the module docstring)."""
+    pairs = [replace(pair, gap=_gap(table, pair)) for pair in found]
     own = tokens(table.words())
     shared = set.intersection(*(p.words for p in pairs)) if len(pairs) > 1 else set()
     ranked = sorted(
@@ -165,6 +164,7 @@ def find_typed_source(
         key=lambda p: (-len((p.words & own) - shared), p.gap, p.y.line - p.x.line, p.x.by_rows),
     )
     sizes = {d + 2 for d in table.df_options}
+    ranked = ranked[:MAX_TRIED]
     for pair in ranked:
         for oriented in _orientations(pair, table):
             hit = _reproducing_window(table, oriented, sizes)
@@ -175,9 +175,9 @@ def find_typed_source(
         if sizes and pair.n not in sizes:
             continue
         for oriented in _orientations(pair, table):
-            found = single_reading(table, *oriented.values())
-            if len(found) == 1:
-                return _stale(table, oriented, own, shared, found[0])
+            readings = single_reading(table, *oriented.values())
+            if len(readings) == 1:
+                return _stale(table, oriented, own, shared, readings[0])
     nearest = min(pairs, key=lambda p: p.gap) if pairs else None
     for pair in ranked:
         matched = (pair.words & own) - shared

@@ -10,13 +10,14 @@ it describes).
 
 from __future__ import annotations
 
+from contextlib import suppress
 from dataclasses import dataclass
 
 from auditor.grid import parse_cell, split_cell
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.pasted_data import DataIndex
 from auditor.locate.spec import RegressionSpec, StatCell
-from auditor.locate.typed_source import TypedSource, find_typed_source
+from auditor.locate.typed_source import TypedSource, candidates, find_typed_source
 from auditor.locate.typed_tables import TypedTable, find_typed_tables
 
 
@@ -39,10 +40,12 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
     blocked = {(t.sheet, row, col) for t in tables for row, col in t.footprint}
     for address in taken:
         sheet, coord = split_cell(address)
-        blocked.add((sheet, *parse_cell(coord)))
+        with suppress(ValueError):  # a statistic that is no cell of a sheet blocks nothing
+            blocked.add((sheet, *parse_cell(coord)))
+    pairs = candidates(workbook, index, blocked)
     specs = []
     for table in tables:
-        source = find_typed_source(workbook, index, table, blocked)
+        source = find_typed_source(table, pairs)
         if source.x is None or source.y is None:
             continue
         anchor = table.anchor
