@@ -79,9 +79,10 @@ RECOGNISERS: tuple[Recogniser, ...] = (
     Recogniser("names", declared.from_names, absorbs=True),
     Recogniser("formulas", _formulas),
     Recogniser("hand-built", handbuilt_specs.find, join=handbuilt_specs.join),
-    Recogniser("labels", labels.from_labels, late=True),
-    # a typed statistic table whose numbers agree with one another, its data found after
+    # a typed statistic table whose numbers agree with one another, its data found after (a
+    # stale one too: before the labels, which take a typed slope its data nearly give)
     Recogniser("typed tables", typed_spec.find, late=True, labelled=False),
+    Recogniser("labels", labels.from_labels, late=True),
     # a pasted table is complete: its own layout names every number it holds; before the
     # trendlines, so that a chart of the same data joins the table's regression
     Recogniser("pasted tables", pasted_spec.find, late=True, labelled=False),

@@ -143,6 +143,21 @@ def test_a_stale_typed_table_names_the_reading_that_changed(
     assert not [f for f in regression.findings if f.check == "stat-recompute"]
 
 
+@pytest.mark.parametrize("seed", range(4))
+def test_a_small_correction_is_named_too(seed: int, tmp_path: Path) -> None:
+    """One reading moved by 1.5 residual SDs: the slope the data give is within a few per cent
+    of the typed one, which a lone "Slope" label would take as a copy; the table is stale."""
+    rng = np.random.default_rng(300 + seed)
+    data, row, col = _beside(rng, bool(seed % 2))
+    typed = Typed(data, data.sheet, row, col, "plain", 4 if seed < 2 else None,
+                  older=_older_reading(rng, data, shift=1.5))  # fmt: skip
+    regression = _for(_audit(Scene([data], [typed]), tmp_path), typed)
+    (finding,) = [f for f in regression.findings if f.check == "typed-stale"]
+    ((index, _),) = typed.older.items()
+    assert data.cell_of_y(index) in finding.message
+    assert finding.kind == "stale-value"
+
+
 def test_a_stale_figure_that_flips_significance_is_critical(tmp_path: Path) -> None:
     x = np.arange(1.0, 11.0)
     y = np.array([5.1, 4.8, 5.5, 5.0, 5.4, 5.8, 5.1, 5.7, 5.5, 5.9])
