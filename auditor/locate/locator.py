@@ -13,8 +13,10 @@ the order of :data:`RECOGNISERS`:
   SUMPRODUCT sums, ȳ − b·x̄); over the data of a regression found earlier they join it;
 * then typed copies of a slope inside formulas are attached (:mod:`auditor.locate.typed_copies`);
 * then typed numbers beside statistic labels are attached to every regression found so far;
-* *late* recognisers see the cells bound so far and never take one twice: **labels** (a typed
-  slope beside a two-column table), **pasted tables** (an analysis add-in's output pasted as
+* *late* recognisers see the cells bound so far and never take one twice: **typed tables** (a
+  block of labelled typed figures that agree with one another, its data found by reproduction,
+  one changed reading, or words and place), **labels** (a typed slope beside a two-column
+  table), **pasted tables** (an analysis add-in's output pasted as
   values, its data found by reproduction), **trendlines** (a chart series with a linear
   trendline; its ``finish`` step joins a trendline over the same data as an earlier regression
   into it).
