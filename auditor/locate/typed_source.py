@@ -192,14 +192,14 @@ def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
 def _orientations(pair: Candidate, table: TypedTable) -> list[Candidate]:
     """x first as the words say (the unit after "per", the name after "vs"), else the left
     (upper) line first."""
-    text = table.words().lower()
     x_words: set[str] = set()
     y_words: set[str] = set()
-    for joint in (" per ", " vs ", " vs. ", " versus ", " against "):
-        for phrase in re.findall(r"[^()—–:;,]*" + re.escape(joint) + r"[^()—–:;,]*", text):
-            before, _, after = phrase.partition(joint)
-            y_words |= tokens(before)
-            x_words |= tokens(after)
+    for phrase in table.phrases():
+        for part in re.split(r"[—–:;,]", phrase.lower()):
+            joint = re.search(r"\s(?:per|vs\.?|versus|against|on)\s", part)
+            if joint is not None:
+                y_words |= tokens(part[: joint.start()])
+                x_words |= tokens(part[joint.end() :])
     first, second = pair.x_words, pair.y_words
     swap = len(first & y_words) + len(second & x_words) > len(first & x_words) + len(
         second & y_words

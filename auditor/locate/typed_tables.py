@@ -34,6 +34,7 @@ TABLE_ROLES = ("slope", "intercept", "se_slope", "se_intercept", "t_slope", "p_s
 MIN_LABELS = 3  # slope and two more: fewer numbers cannot agree with one another
 MAX_DF = 2_000  # degrees of freedom searched when the table does not show them
 _BRACKETED = re.compile(r"[(\[]([^()\[\]]*)[)\]]")
+MAX_LINES = 60  # value columns (or rows) read beside one set of labels
 ALLOWANCE = 1.01  # half a unit in the last place shown, and 1 % for the arithmetic
 
 
@@ -54,11 +55,14 @@ class TypedTable:
     def anchor(self) -> Cell:
         return self.cells["slope"]
 
-    def words(self) -> str:
+    def phrases(self) -> list[str]:
         """The table's own words: its title and what its labels say in brackets (the units of
         "Slope (NTU per L/s)"); the statistic words themselves name no data."""
         inside = [part for label in self.labels.values() for part in _BRACKETED.findall(label)]
-        return " ".join([self.title, *inside])
+        return [self.title, *inside]
+
+    def words(self) -> str:
+        return " ".join(self.phrases())
 
 
 def half_unit(cell: Cell) -> float:
@@ -139,7 +143,8 @@ def _tables_of_group(
 ) -> list[TypedTable]:
     """One table per value column right of the labels (or value row below them)."""
     tables: list[TypedTable] = []
-    for step in range(1, 40):
+    last_hit = 0
+    for step in range(1, MAX_LINES):
         cells: dict[str, Cell] = {}
         claims: dict[str, Cell] = {}
         for row, col, role in group:
@@ -152,11 +157,10 @@ def _tables_of_group(
             elif role == "p_slope" and isinstance(cell.value, str) and looks_like_claim(cell.value):
                 claims[role] = cell
         if "slope" not in cells:
-            if step > 1 and not tables:
-                break  # the values sit right beside their labels (or one cell apart)
-            if tables:
-                break
+            if step - last_hit > 2:
+                break  # beside the labels (a units column between), then two blank lines at most
             continue
+        last_hit = step
         labels = {
             role: str(sheet.value(row, col))
             for row, col, role in group

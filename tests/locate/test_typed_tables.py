@@ -277,6 +277,45 @@ def test_words_and_place_link_a_table_no_single_reading_explains(tmp_path: Path)
     assert x_unit in finding.evidence["words_matched"]  # type: ignore[operator]
 
 
+@pytest.mark.parametrize("by_rows", [False, True])
+def test_the_words_say_which_line_is_x(by_rows: bool, tmp_path: Path) -> None:
+    """y written before x: "Slope (NTU per L/s)" names y's unit before "per" and x's after, so
+    a table no single reading explains is still read as y on x."""
+    rng = np.random.default_rng(51)
+    data, row, col = _beside(rng, by_rows)
+    data.y_first = True
+    typed = Typed(data, data.sheet, row, col, "units", 4, older=_two_readings(data))
+    regression = _for(_audit(Scene([data], [typed]), tmp_path), typed)
+    assert (regression.x_range, regression.y_range) == (data.ref(0), data.ref(1))
+    slope, _ = _numpy_fit(data.x, data.y)
+    assert regression.intended["slope"] == pytest.approx(slope, rel=1e-9)
+    (finding,) = [f for f in regression.findings if f.check == "typed-stale"]
+    assert finding.severity in ("major", "critical")
+
+
+def test_summary_columns_with_spacers_between_sites(tmp_path: Path) -> None:
+    rng = np.random.default_rng(90)
+    sites = [_data(rng, f"Site {k}", 1, 1, False) for k in (1, 2, 3)]
+    typed = [
+        Typed(
+            data,
+            "Summary",
+            2,
+            0 if k == 0 else 2 * k + 1,
+            "plain",
+            4,
+            title=f"Site {k + 1}",
+            labels=k == 0,
+        )  # fmt: skip
+        for k, data in enumerate(sites)
+    ]
+    result = _audit(Scene(sites, typed), tmp_path)
+    for data, table in zip(sites, typed, strict=True):
+        regression = _for(result, table)
+        assert (regression.x_range, regression.y_range) == (data.ref(0), data.ref(1))
+        assert {v.verdict for v in regression.reported.values()} == {"confirmed"}
+
+
 def test_a_table_linked_by_place_alone_draws_no_alarm(tmp_path: Path) -> None:
     rng = np.random.default_rng(41)
     data, row, col = _beside(rng, False)
