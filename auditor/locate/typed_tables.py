@@ -147,9 +147,11 @@ def _tables_of_group(
     for step in range(1, MAX_LINES):
         cells: dict[str, Cell] = {}
         claims: dict[str, Cell] = {}
+        filled = False
         for row, col, role in group:
             where = (row + step, col) if by_rows else (row, col + step)
             cell = sheet.get(*where)
+            filled = filled or (cell is not None and cell.value not in (None, ""))
             if cell is None or cell.address in taken or in_pasted_table(workbook, *cell_at(cell)):
                 continue
             if _number(cell):
@@ -157,10 +159,9 @@ def _tables_of_group(
             elif role == "p_slope" and isinstance(cell.value, str) and looks_like_claim(cell.value):
                 claims[role] = cell
         if "slope" not in cells:
-            if step - last_hit > 2:
-                break  # beside the labels (a units column between), then two blank lines at most
+            if (filled and tables) or step - last_hit > 2:
+                break  # beside the labels (a units column between), blank lines between sites
             continue
-        last_hit = step
         labels = {
             role: str(sheet.value(row, col))
             for row, col, role in group
@@ -173,8 +174,12 @@ def _tables_of_group(
         table.footprint = {(c.row, c.col) for c in [*cells.values(), *claims.values()]} | {
             (row, col) for row, col, _ in group
         }
-        if _consistent(table):
-            tables.append(table)
+        if not _consistent(table):
+            if tables or step > 2:
+                break  # another block's numbers (a data table, a results block)
+            continue
+        tables.append(table)
+        last_hit = step
     return tables
 
 

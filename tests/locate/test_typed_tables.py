@@ -316,6 +316,28 @@ def test_summary_columns_with_spacers_between_sites(tmp_path: Path) -> None:
         assert {v.verdict for v in regression.reported.values()} == {"confirmed"}
 
 
+def test_blocks_side_by_side_are_one_table_each(tmp_path: Path) -> None:
+    """Data, a typed table, data, a typed table along the same rows: the labels of the first
+    table do not reach over the second block's data to its figures."""
+    rng = np.random.default_rng(95)
+    blocks = []
+    for k in range(3):
+        data = _data(rng, "Gauge", 1, 1 + 7 * k, False)
+        data.numbered = False
+        older = _older_reading(rng, data) if k == 1 else {}
+        blocks.append(Typed(data, "Gauge", 2, 4 + 7 * k, "plain", 4, older=older))
+    path = tmp_path / "side.xlsx"
+    scene = Scene([b.data for b in blocks], blocks)
+    write_scene(scene, path)
+    anchors = [t.anchor.address for t in find_typed_tables(read_workbook(path), set())]
+    assert anchors == [b.placed["slope"] for b in blocks]
+    result = _audit(scene, tmp_path)
+    assert len(result.regressions) == 3
+    for block in blocks:
+        regression = _for(result, block)
+        assert regression.x_range == block.data.ref(0)
+
+
 def test_a_table_linked_by_place_alone_draws_no_alarm(tmp_path: Path) -> None:
     rng = np.random.default_rng(41)
     data, row, col = _beside(rng, False)
