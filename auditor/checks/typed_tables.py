@@ -29,7 +29,8 @@ def typed_stale(context: RegressionContext) -> list[Finding]:
 
     Severity: critical or major only when the link is evidence a reviewer accepts (one changed
     reading reproduces the table, or the headers share its words and the data lie beside it);
-    a table linked by place alone is minor, its figures unverifiable against these data.
+    a table linked by place alone, or by words to data on another sheet, is minor, its figures
+    unverifiable against these data.
     """
     found = typed_origin(context.spec)
     if found is None or found.source.status != "stale":
@@ -62,9 +63,9 @@ def typed_stale(context: RegressionContext) -> list[Finding]:
         opening = f"The typed figures at {found.table.anchor.address} are out of date: "
     else:
         opening = (
-            f"The typed figures at {found.table.anchor.address} do not follow the nearest data, "
-            "and nothing but their place says these are its data, so the figures are "
-            "unverifiable against them: "
+            f"The typed figures at {found.table.anchor.address} do not follow the data found for "
+            f"them, and nothing but {source.tie} ties the table to these data, so the figures "
+            "are unverifiable against them: "
         )
     evidence: dict[str, object] = {
         "why_these_data": source.evidence,
@@ -73,7 +74,8 @@ def typed_stale(context: RegressionContext) -> list[Finding]:
         "y_range": context.data.intended_y_range,
         "words_matched": source.words,
         "beside": source.beside,
-        "link": "strong" if source.strong else "place only",
+        "link": source.link,
+        "strong": source.strong,
         "relations": found.table.relations,
     }
     if source.refit is not None:

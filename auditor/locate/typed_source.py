@@ -75,6 +75,12 @@ class TypedSource:
     beside: bool = False
     refit: Refit | None = None
     strong: bool = False  # evidence enough for a major finding
+    link: str = ""  # what ties the table to these data, in words: "words alone", …
+
+    @property
+    def tie(self) -> str:
+        """The weak link in a sentence: "nothing but its place ties …"."""
+        return "shared words" if self.link == "words alone" else "its place"
 
 
 def tokens(text: str) -> set[str]:
@@ -235,10 +241,15 @@ def _stale(
             "changed since the figures were typed)"
         )
     if matched:
-        reasons.append("the headers share the table's words (" + ", ".join(matched) + ")")
+        reasons.append(
+            "the data's headers and sheet share the table's words (" + ", ".join(matched) + ")"
+        )
     if beside:
         reasons.append(f"the data lie right beside the table ({x_ref.address}, {y_ref.address})")
-    elif not matched and refit is None:
-        reasons.append("only the place links them")
     strong = refit is not None or (bool(matched) and beside)
-    return TypedSource("stale", x_ref, y_ref, "; ".join(reasons), matched, beside, refit, strong)
+    link = "one changed reading" if refit is not None else (
+        "words and place" if strong else "words alone" if matched else "place alone"
+    )  # fmt: skip
+    return TypedSource(
+        "stale", x_ref, y_ref, "; ".join(reasons), matched, beside, refit, strong, link
+    )

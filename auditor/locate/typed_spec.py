@@ -76,11 +76,11 @@ def typed_stale(spec: RegressionSpec) -> bool:
 
 def place_only_link(spec: RegressionSpec) -> str:
     """Why a typed table's figures are unverifiable against its data ("" when they are not): the
-    data no longer give them, and nothing but their place says these are its data."""
+    data do not give them, and only their place, or words on another sheet, tie them together."""
     found = typed_origin(spec)
     if found is None or found.source.status != "stale" or found.source.strong:
         return ""
     return (
-        f"the data beside it ({spec.y.address} on {spec.x.address}) do not give it, and nothing "
-        "but their place says they are its data"
+        f"{spec.y.address} on {spec.x.address} do not give it, and nothing but "
+        f"{found.source.tie} ties the table to these data"
     )

@@ -271,7 +271,7 @@ def test_words_and_place_link_a_table_no_single_reading_explains(tmp_path: Path)
     regression = _for(_audit(Scene([data], [typed]), tmp_path), typed)
     (finding,) = [f for f in regression.findings if f.check == "typed-stale"]
     assert finding.severity in ("major", "critical")
-    assert finding.evidence["link"] == "strong"
+    assert finding.evidence["link"] == "words and place"
     assert "changed_reading" not in finding.evidence
     x_unit = data.x_name.rpartition("(")[2].rstrip(")").lower()
     assert x_unit in finding.evidence["words_matched"]  # type: ignore[operator]
@@ -338,6 +338,37 @@ def test_blocks_side_by_side_are_one_table_each(tmp_path: Path) -> None:
         assert regression.x_range == block.data.ref(0)
 
 
+def test_a_summary_column_linked_by_words_alone_draws_no_alarm(tmp_path: Path) -> None:
+    """Site 3's column no single reading explains: its title names the sheet "Site 3" (the
+    only word the sites do not share), so its data are found, but words on another sheet are no
+    evidence a reviewer accepts: minor, every figure unverifiable."""
+    rng = np.random.default_rng(4)
+    sites = [_data(rng, f"Site {k}", 1, 1, False) for k in (1, 2, 3)]
+    typed = [
+        Typed(
+            data,
+            "Summary",
+            2,
+            k + 1 if k else 0,
+            "plain",
+            4,
+            older=_two_readings(data) if k == 2 else {},
+            title=f"Site {k + 1} — readings",
+            labels=k == 0,
+        )  # fmt: skip
+        for k, data in enumerate(sites)
+    ]
+    result = _audit(Scene(sites, typed), tmp_path)
+    regression = _for(result, typed[2])
+    assert (regression.x_range, regression.y_range) == (sites[2].ref(0), sites[2].ref(1))
+    assert _serious(regression) == []
+    (finding,) = [f for f in regression.findings if f.check == "typed-stale"]
+    assert finding.severity == "minor"
+    assert finding.evidence["link"] == "words alone"
+    assert finding.evidence["words_matched"] == ["3"]
+    assert {v.verdict for v in regression.reported.values()} == {"unverifiable"}
+
+
 def test_a_table_linked_by_place_alone_draws_no_alarm(tmp_path: Path) -> None:
     rng = np.random.default_rng(41)
     data, row, col = _beside(rng, False)
@@ -348,7 +379,8 @@ def test_a_table_linked_by_place_alone_draws_no_alarm(tmp_path: Path) -> None:
     assert finding.severity == "minor"
     assert "unverifiable" in finding.message
     assert {v.verdict for v in regression.reported.values()} == {"unverifiable"}
-    assert "nothing but their place" in regression.reported["slope"].note
+    assert finding.evidence["link"] == "place alone"
+    assert "nothing but its place ties" in regression.reported["slope"].note
 
 
 def test_unrelated_labelled_numbers_are_no_regression(tmp_path: Path) -> None:
