@@ -171,27 +171,32 @@ def test_a_stale_figure_that_flips_significance_is_critical(tmp_path: Path) -> N
     assert "Gauge!C12" in finding.message
 
 
+def _summary(
+    sites: list[Data], older: dict[int, dict[int, float]], title: str, spacing: int = 1
+) -> list[Typed]:
+    """One summary column per site on the sheet "Summary" (labels in column A beside the first),
+    titled ``title.format(k=site number, y=y quantity)``, ``spacing`` columns apart."""
+    return [
+        Typed(
+            data,
+            "Summary",
+            2,
+            spacing * k + 1 if k else 0,
+            "plain",
+            4,
+            older=older.get(k, {}),
+            labels=k == 0,
+            title=title.format(k=k + 1, y=data.y_name.split(" (")[0].lower()),
+        )  # fmt: skip
+        for k, data in enumerate(sites)
+    ]
+
+
 @pytest.mark.parametrize("by_rows", [False, True])
 def test_summary_sheet_columns_are_linked_to_their_sites(by_rows: bool, tmp_path: Path) -> None:
     rng = np.random.default_rng(7 if by_rows else 8)
     sites = [_data(rng, f"Site {k}", 1, 1, by_rows) for k in (1, 2, 3)]
-    typed = []
-    for k, data in enumerate(sites):
-        older = _older_reading(rng, data) if k == 1 else {}
-        title = f"Site {k + 1} — {data.y_name.split(' (')[0].lower()} vs flow"
-        typed.append(
-            Typed(
-                data,
-                "Summary",
-                2,
-                k + 1 if k else 0,
-                "plain",
-                4,
-                older=older,
-                title=title,
-                labels=k == 0,
-            )  # fmt: skip
-        )
+    typed = _summary(sites, {1: _older_reading(rng, sites[1])}, "Site {k} — {y} vs flow")
     result = _audit(Scene(sites, typed, [("Summary", 0, 0, "Figures typed from the report")]),
                     tmp_path)  # fmt: skip
     for k, (data, table) in enumerate(zip(sites, typed, strict=True)):
@@ -296,19 +301,7 @@ def test_the_words_say_which_line_is_x(by_rows: bool, tmp_path: Path) -> None:
 def test_summary_columns_with_spacers_between_sites(tmp_path: Path) -> None:
     rng = np.random.default_rng(90)
     sites = [_data(rng, f"Site {k}", 1, 1, False) for k in (1, 2, 3)]
-    typed = [
-        Typed(
-            data,
-            "Summary",
-            2,
-            0 if k == 0 else 2 * k + 1,
-            "plain",
-            4,
-            title=f"Site {k + 1}",
-            labels=k == 0,
-        )  # fmt: skip
-        for k, data in enumerate(sites)
-    ]
+    typed = _summary(sites, {}, "Site {k}", spacing=2)
     result = _audit(Scene(sites, typed), tmp_path)
     for data, table in zip(sites, typed, strict=True):
         regression = _for(result, table)
@@ -344,20 +337,7 @@ def test_a_summary_column_linked_by_words_alone_draws_no_alarm(tmp_path: Path) -
     evidence a reviewer accepts: minor, every figure unverifiable."""
     rng = np.random.default_rng(4)
     sites = [_data(rng, f"Site {k}", 1, 1, False) for k in (1, 2, 3)]
-    typed = [
-        Typed(
-            data,
-            "Summary",
-            2,
-            k + 1 if k else 0,
-            "plain",
-            4,
-            older=_two_readings(data) if k == 2 else {},
-            title=f"Site {k + 1} — readings",
-            labels=k == 0,
-        )  # fmt: skip
-        for k, data in enumerate(sites)
-    ]
+    typed = _summary(sites, {2: _two_readings(sites[2])}, "Site {k} — readings")
     result = _audit(Scene(sites, typed), tmp_path)
     regression = _for(result, typed[2])
     assert (regression.x_range, regression.y_range) == (sites[2].ref(0), sites[2].ref(1))
