@@ -21,6 +21,7 @@ from auditor.locate.typed_tables import TypedTable, interval
 # What detection allows beyond the digits shown: the sums lose a few digits of a full double.
 DETECT_RELATIVE = 1e-7
 GRID = 257  # changes of the one reading tried across the interval the slope and intercept allow
+ZOOMS = 4  # finer grids around the nearest change
 COMPARED = ("slope", "intercept", "se_slope", "se_intercept", "t_slope", "r_squared", "residual_sd")
 
 
@@ -138,10 +139,44 @@ def single_reading(table: TypedTable, x: np.ndarray, y: np.ndarray) -> list[Refi
             low, high = max(low, ends[0]), min(high, ends[1])
         if not (np.isfinite(low) and np.isfinite(high)) or low > high:
             continue
-        deltas = np.linspace(low, high, GRID)
-        hits = np.nonzero(agrees(table, shifted_stats(x, y, i, deltas), n))[0]
-        if len(hits):
-            then = float(y[i] + deltas[hits[len(hits) // 2]])
+        delta = _zoom(table, x, y, i, (low, high))
+        if delta is not None:
             agreeing = tuple(r for r in (*COMPARED, "p_slope") if r in table.cells)
-            found.append(Refit(i, float(y[i]), then, agreeing))
+            found.append(Refit(i, float(y[i]), float(y[i] + delta), agreeing))
     return found
+
+
+def _zoom(
+    table: TypedTable, x: np.ndarray, y: np.ndarray, i: int, bounds: tuple[float, float]
+) -> float | None:
+    """A change of y[i] within ``bounds`` that gives every typed figure: a grid, then finer
+    grids around the change that comes nearest (a figure shown to more digits than the slope
+    allows only a narrow band of the interval)."""
+    low, high = bounds
+    for _ in range(ZOOMS):
+        deltas = np.linspace(low, high, GRID)
+        stats = shifted_stats(x, y, i, deltas)
+        hits = np.nonzero(agrees(table, stats, len(x)))[0]
+        if len(hits):
+            return float(deltas[hits[len(hits) // 2]])
+        nearest = int(np.argmin(_misfit(table, stats, len(x))))
+        step = (high - low) / (GRID - 1)
+        low = max(bounds[0], float(deltas[nearest]) - 2 * step)
+        high = min(bounds[1], float(deltas[nearest]) + 2 * step)
+    return None
+
+
+def _misfit(table: TypedTable, stats: dict[str, np.ndarray], n: int) -> np.ndarray:
+    """How far each change leaves the typed figures, in half units shown (1: at the edge); p
+    too, which a small p shows more precisely than t."""
+    values = dict(stats)
+    if "p_slope" in table.cells:
+        values["p_slope"] = 2.0 * np.asarray(t_sf(np.abs(stats["t_slope"]), n - 2), dtype=float)
+    worst = np.zeros(len(stats["slope"]))
+    for role in (*COMPARED, "p_slope"):
+        cell = table.cells.get(role)
+        if cell is not None:
+            low, high = interval(cell)
+            off = np.abs(values[role] - 0.5 * (low + high)) / (0.5 * (high - low))
+            worst = np.maximum(worst, np.where(np.isfinite(off), off, np.inf))
+    return worst

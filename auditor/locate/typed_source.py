@@ -181,9 +181,12 @@ def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
         if sizes and pair.n not in sizes:
             continue
         for oriented in _orientations(pair, table):
-            readings = single_reading(table, *oriented.values())
-            if len(readings) == 1:
-                return _stale(table, oriented, own, shared, readings[0])
+            x_values, y_values = oriented.values()
+            readings = single_reading(table, x_values, y_values)
+            # one reading, or one of the replicates at one x level (they move the line alike)
+            if len({float(x_values[r.index]) for r in readings}) == 1:
+                replicates = [r.index for r in readings[1:]]
+                return _stale(table, oriented, own, shared, readings[0], replicates)
     nearest = min(pairs, key=lambda p: p.gap) if pairs else None
     for pair in ranked:
         matched = (pair.words & own) - shared
@@ -227,18 +230,26 @@ def _reproducing_window(table: TypedTable, pair: Candidate, sizes: set[int]) -> 
 
 
 def _stale(
-    table: TypedTable, pair: Candidate, own: set[str], shared: set[str], refit: Refit | None
+    table: TypedTable,
+    pair: Candidate,
+    own: set[str],
+    shared: set[str],
+    refit: Refit | None,
+    replicates: list[int] | None = None,
 ) -> TypedSource:
     x_ref, y_ref = pair.refs()
     matched = sorted((pair.words & own) - shared)
     beside = pair.gap <= BESIDE
     reasons = []
     if refit is not None:
-        cell = pair.y.ref(pair.start - pair.y.start + refit.index, 1).address
+        first = pair.start - pair.y.start
+        cell = pair.y.ref(first + refit.index, 1).address
+        also = [pair.y.ref(first + i, 1).address.rpartition("!")[2] for i in replicates or []]
+        either = f" (or its replicate {', '.join(also)} at the same x)" if also else ""
         reasons.append(
             f"{x_ref.address} and {y_ref.address} give every typed figure with the reading in "
-            f"{cell} at {refit.then:.6g}, where it now holds {refit.now:.6g} (one reading "
-            "changed since the figures were typed)"
+            f"{cell}{either} at {refit.then:.6g}, where it now holds {refit.now:.6g} (one "
+            "reading changed since the figures were typed)"
         )
     if matched:
         reasons.append(

@@ -66,9 +66,14 @@ class TypedTable:
 
 
 def half_unit(cell: Cell) -> float:
-    """Half a unit in the last place the typed number shows (its digits or its format)."""
+    """Half a unit in the last place the typed number shows (its digits or its format). A whole
+    number's trailing zeros may be rounding (a t of 2139.7 shown to four digits is 2140): to
+    link a table to its data they are not taken as digits."""
     value = float(cell.value)  # type: ignore[arg-type]
     decimals = decimals_shown(value, cell.number_format)
+    if decimals == 0 and value.is_integer() and value != 0:
+        whole = str(int(abs(value)))
+        decimals = -(len(whole) - len(whole.rstrip("0")))
     return ALLOWANCE * (0.5 * 10.0 ** (-decimals) + 1e-12 * abs(value))
 
 

@@ -158,6 +158,30 @@ def test_a_small_correction_is_named_too(seed: int, tmp_path: Path) -> None:
     assert finding.kind == "stale-value"
 
 
+@pytest.mark.parametrize(("seed", "digits"), [(0, 4), (1, 4), (2, 4), (2, 3)])
+def test_a_calibration_in_duplicate_names_the_level_that_changed(
+    seed: int, digits: int, tmp_path: Path
+) -> None:
+    """Standards in duplicate with calibration-quality scatter (R² shown as 1): the standard
+    error is shown to more digits than the slope allows, and either replicate of the top level
+    reproduces the figures: the level is named with both cells."""
+    rng = np.random.default_rng(400 + seed)
+    levels = np.array([5.0, 10.0, 25.0, 50.0, 100.0, 200.0])
+    x = np.repeat(levels, 2)
+    y = (130.0 + 48.0 * x + rng.normal(0.0, 4.0, len(x))).round(3)
+    data = Data("Standards", 1, 1, "Standard (µg/L)", "Peak area (counts)", x, y)
+    typed = Typed(data, "Standards", 2, 4, "plain", digits, older={11: float(y[11] + 25.0)})
+    assert typed.shown()["r_squared"] == 1.0  # so few digits cannot tell it from 1
+    regression = _for(_audit(Scene([data], [typed]), tmp_path), typed)
+    (finding,) = [f for f in regression.findings if f.check == "typed-stale"]
+    assert finding.severity == "major"
+    replicate = f"{data.cell_of_y(10)} (or its replicate {data.cell_of_y(11).split('!')[1]}"
+    assert f"reading in {data.cell_of_y(11)} at" in finding.message or replicate in finding.message
+    reading = finding.evidence["changed_reading"]
+    assert isinstance(reading, dict)
+    assert abs(reading["then"] - reading["now"] - 25.0) < 0.5
+
+
 def test_a_stale_figure_that_flips_significance_is_critical(tmp_path: Path) -> None:
     x = np.arange(1.0, 11.0)
     y = np.array([5.1, 4.8, 5.5, 5.0, 5.4, 5.8, 5.1, 5.7, 5.5, 5.9])
