@@ -43,7 +43,10 @@ _LABELS: list[tuple[re.Pattern[str], str]] = [
     (re.compile(r"^(p([\s(:=,<_-]|$)|p-?value|prob(ability)?\b|sig(\.|nificance)?\b)"), "p_slope"),
     (re.compile(r"^(df|d\.f\.|degrees of freedom|dof)\b"), "df"),
     (re.compile(r"^(n|count|points|number of (points|observations|standards))\b"), "n"),
-    (re.compile(r"^(r ?(²|\^2|2|-?sq(uared)?)|rsq|coefficient of determination)"), "r_squared"),
+    (
+        re.compile(r"^(r ?(²|\^2|2|-?sq(uared)?)|rsq|coefficient (of determination|r ?(²|\^2)))"),
+        "r_squared",
+    ),
     (re.compile(r"^(r|correl(ation)?|pearson)\b"), "r"),
     (
         re.compile(r"^(s|sy\.?x|s\(y\)|steyx|residual (sd|s\.d\.|std)|res\.? ?sd|s_?res)\b"),

@@ -85,6 +85,7 @@ def test_a_new_recogniser_plugs_in_and_late_ones_skip_taken_cells() -> None:
         ("Bestimmtheitsmaß", "r_squared"),
         ("Pente", "slope"),
         ("Valeur p", "p_slope"),
+        ("Coefficient R²", "r_squared"),  # not the coefficient of a slope
         ("Slope (mg/L per h)", "slope"),
         ("Pendientes pagadas", None),  # not the word alone: a longer word is no label
     ],
