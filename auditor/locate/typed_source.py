@@ -24,6 +24,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from auditor.compare.precision import decimals_shown
 from auditor.formula.syntax import Ref
 from auditor.locate.pasted_data import DataIndex, Run
 from auditor.locate.typed_fit import Refit, agrees, single_reading, window_stats
@@ -248,8 +249,8 @@ def _stale(
         either = f" (or its replicate {', '.join(also)} at the same x)" if also else ""
         reasons.append(
             f"{x_ref.address} and {y_ref.address} give every typed figure with the reading in "
-            f"{cell}{either} at {refit.then:.6g}, where it now holds {refit.now:.6g} (one "
-            "reading changed since the figures were typed)"
+            f"{cell}{either} at about {_as_recorded(refit.then, pair.values()[1])}, where it "
+            f"now holds {refit.now:.6g} (one reading changed since the figures were typed)"
         )
     if matched:
         reasons.append(
@@ -264,3 +265,9 @@ def _stale(
     return TypedSource(
         "stale", x_ref, y_ref, "; ".join(reasons), matched, beside, refit, strong, link
     )
+
+
+def _as_recorded(value: float, readings: np.ndarray) -> str:
+    """A solved reading written to the decimals its neighbours were recorded with."""
+    decimals = max((decimals_shown(float(v), "General") for v in readings), default=6)
+    return f"{round(value, min(max(decimals, 0), 6)):.{min(max(decimals, 0), 6)}f}"
