@@ -182,6 +182,22 @@ def test_a_calibration_in_duplicate_names_the_level_that_changed(
     assert abs(reading["then"] - reading["now"] - 25.0) < 0.5
 
 
+def test_figures_typed_before_rows_were_added_are_stale(tmp_path: Path) -> None:
+    """The first ten of twelve rows reproduce the figures: the table is found over them, and
+    the full table (intended) no longer gives them: one finding of kind stale-value."""
+    rng = np.random.default_rng(8)
+    x = np.sort(rng.uniform(2.0, 40.0, 12)).round(2)
+    y = (1.4 + 0.21 * x + rng.normal(0.0, 0.9, 12)).round(3)
+    full = Data("Intake", 1, 1, "Flow (L/s)", "Turbidity (NTU)", x, y)
+    first = Data("Intake", 1, 1, "Flow (L/s)", "Turbidity (NTU)", x[:10], y[:10])
+    typed = Typed(first, "Intake", 2, 4, "plain", 4)
+    regression = _for(_audit(Scene([full], [typed]), tmp_path), typed)
+    assert (regression.x_range, regression.intended_x_range) == (first.ref(0), full.ref(0))
+    slope, _ = _numpy_fit(x, y)
+    assert regression.intended["slope"] == pytest.approx(slope, rel=1e-9)
+    assert [f.kind for f in _serious(regression) if f.kind == "stale-value"] == ["stale-value"]
+
+
 def test_a_stale_figure_that_flips_significance_is_critical(tmp_path: Path) -> None:
     x = np.arange(1.0, 11.0)
     y = np.array([5.1, 4.8, 5.5, 5.0, 5.4, 5.8, 5.1, 5.7, 5.5, 5.9])
