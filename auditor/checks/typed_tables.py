@@ -48,7 +48,8 @@ def typed_stale(context: RegressionContext) -> list[Finding]:
         context.data.intended_x_range
     )
     listed = "; ".join(
-        f"{describe(v.key)} in {v.cell}: typed {fmt(v.value)}, recomputed {fmt(v.intended)}, "
+        f"{describe(v.key)} in {v.cell}: typed {fmt(v.value)}, recomputed {fmt(v.intended)}"
+        f"{'' if v.key.startswith('p_') else _apart(v.value, v.intended)}, "
         f"allowed: {v.tolerance}"
         for v in wrong[:LISTED]
     )
@@ -95,3 +96,10 @@ def typed_stale(context: RegressionContext) -> list[Finding]:
             "they cannot fall behind again), or restore the data they were computed from.",
         )
     ]
+
+
+def _apart(typed: object, recomputed: float | None) -> str:
+    """How far a typed figure is from the recomputed one, relative to the latter."""
+    if not isinstance(typed, (int, float)) or not recomputed:
+        return ""
+    return f" ({abs(float(typed) - recomputed) / abs(recomputed):.1%} apart)"
