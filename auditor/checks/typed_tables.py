@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from auditor.checks.agreement_words import describe, significance_changes
 from auditor.checks.base import check
-from auditor.context import RegressionContext
+from auditor.context import RegressionContext, WorkbookContext
 from auditor.locate.typed_spec import typed_origin
 from auditor.model import Finding, Severity
 from auditor.wording import fmt
@@ -103,3 +103,42 @@ def _apart(typed: object, recomputed: float | None) -> str:
     if not isinstance(typed, (int, float)) or not recomputed:
         return ""
     return f" ({abs(float(typed) - recomputed) / abs(recomputed):.1%} apart)"
+
+
+@check(
+    "typed-source-missing",
+    "A typed table of regression figures whose data the workbook does not hold.",
+    scope="workbook",
+)
+def typed_source_missing(context: WorkbookContext) -> list[Finding]:
+    """Figures that agree with one another (t = slope / SE, p from t and df) but that no data
+    in the workbook give, beside which no data lie, and whose words no data headers share.
+
+    Failing: a sheet "Archive" holding "Slope 0.2056, SE 0.06264, t 3.283, p 0.01114, R² 0.574"
+    and no readings: listed, every figure unverifiable, with what was searched (info, never an
+    alarm).
+    Passing: the columns beside the table give its figures.
+    """
+    findings = []
+    for spec in context.specs:
+        found = typed_origin(spec)
+        if found is None or found.source.status != "none":
+            continue
+        anchor = found.table.anchor
+        findings.append(
+            Finding(
+                check="typed-source-missing",
+                severity="info",
+                cells=[anchor.address],
+                message=(
+                    f"The typed figures at {anchor.address} could not be checked: "
+                    f"{found.source.evidence}. They agree with one another "
+                    f"({'; '.join(found.table.relations)}), but no data in the workbook are "
+                    "shown to be theirs."
+                ),
+                evidence={"searched": found.source.evidence, "relations": found.table.relations},
+                fix="Keep the data the figures were computed from in the workbook, beside them or "
+                "under headers that name the same quantities, so they can be recomputed.",
+            )
+        )
+    return findings

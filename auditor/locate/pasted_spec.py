@@ -170,20 +170,7 @@ def unsourced_result(spec: RegressionSpec) -> RegressionResult | None:
     found = origin(spec)
     if found is None or found.source.status != "none":
         return None
-    why = f"no source found: {found.source.searched}"
-    reported = {
-        key: ReportedValue(
-            key=key,
-            cell=stat.cell.address,
-            value=_number(stat.cell.value),
-            formula=None,
-            verdict="unverifiable",
-            tolerance="",
-            source="pasted",
-            note=why,
-        )
-        for key, stat in spec.stats.items()
-    }
+    reported = unverifiable_values(spec, f"no source found: {found.source.searched}", "pasted")
     return RegressionResult(
         id=spec.id,
         sheet=spec.sheet,
@@ -196,6 +183,23 @@ def unsourced_result(spec: RegressionSpec) -> RegressionResult | None:
         reported=reported,
         label=spec.label,
     )
+
+
+def unverifiable_values(spec: RegressionSpec, why: str, source: str) -> dict[str, ReportedValue]:
+    """Every reported value of a table whose data were not found: unverifiable, and why."""
+    return {
+        key: ReportedValue(
+            key=key,
+            cell=stat.cell.address,
+            value=_number(stat.cell.value),
+            formula=None,
+            verdict="unverifiable",
+            tolerance="",
+            source=source,
+            note=why,
+        )
+        for key, stat in spec.stats.items()
+    }
 
 
 def _number(value: object) -> float | str | None:

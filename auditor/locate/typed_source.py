@@ -196,7 +196,13 @@ def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
         if matched or beside:
             oriented = _orientations(pair, table)[0]
             return _stale(table, oriented, own, shared, None)
-    return TypedSource("none", evidence="no pair of numeric columns or rows reproduces it")
+    sheets = len({p.x.sheet for p in pairs})
+    return TypedSource(
+        "none",
+        evidence=f"searched {len(pairs)} pairs of numeric columns or rows on {sheets} sheet(s): "
+        "none gives the figures (with or without one changed reading), none lies beside the "
+        "table with as many rows, and no headers share its words",
+    )
 
 
 def _orientations(pair: Candidate, table: TypedTable) -> list[Candidate]:

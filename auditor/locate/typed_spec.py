@@ -4,8 +4,8 @@ A table found by its structure and words (:mod:`auditor.locate.typed_tables`) be
 regression over the data :mod:`auditor.locate.typed_source` finds for it. Every typed figure is
 then compared with the recomputed one at the digits it shows, like any typed value. A table the
 data no longer give is "stale": the check ``typed-stale`` says so once, with the evidence of the
-link; a table no data can be linked to is not listed (nothing in the workbook says which data
-it describes).
+link; a table no data can be linked to is listed with every figure unverifiable, and the check
+``typed-source-missing`` says what was searched.
 """
 
 from __future__ import annotations
@@ -13,12 +13,15 @@ from __future__ import annotations
 from contextlib import suppress
 from dataclasses import dataclass
 
+from auditor.formula.syntax import Ref
 from auditor.grid import parse_cell, split_cell
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.pasted_data import DataIndex
+from auditor.locate.pasted_spec import unverifiable_values
 from auditor.locate.spec import RegressionSpec, StatCell
 from auditor.locate.typed_source import TypedSource, candidates, find_typed_source
 from auditor.locate.typed_tables import TypedTable, find_typed_tables
+from auditor.model import RegressionResult
 
 
 @dataclass
@@ -46,11 +49,15 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
     specs = []
     for table in tables:
         source = find_typed_source(table, pairs)
-        if source.x is None or source.y is None:
-            continue
         anchor = table.anchor
+        placeholder = Ref(table.sheet, anchor.row, anchor.col, anchor.row, anchor.col)
         spec = RegressionSpec(
-            f"{table.sheet}/{anchor.coord}", table.sheet, source.x, source.y, True, "labels"
+            f"{table.sheet}/{anchor.coord}",
+            table.sheet,
+            source.x or placeholder,
+            source.y or placeholder,
+            True,
+            "labels",
         )
         for role, cell in [*table.cells.items(), *table.claims.items()]:
             stat = StatCell(role, cell, "label")
@@ -83,4 +90,25 @@ def place_only_link(spec: RegressionSpec) -> str:
     return (
         f"{spec.y.address} on {spec.x.address} do not give it, and nothing but "
         f"{found.source.tie} ties the table to these data"
+    )
+
+
+def typed_unsourced_result(spec: RegressionSpec) -> RegressionResult | None:
+    """The result of a typed table no data could be linked to: listed, every figure
+    unverifiable; the check typed-source-missing says what was searched. Never an alarm."""
+    found = typed_origin(spec)
+    if found is None or found.source.status != "none":
+        return None
+    reported = unverifiable_values(spec, f"no data found: {found.source.evidence}", "typed")
+    options = found.table.df_options
+    return RegressionResult(
+        id=spec.id,
+        sheet=spec.sheet,
+        x_range="(no data found)",
+        y_range="(no data found)",
+        found_by="labels",
+        n=options[0] + 2 if len(options) == 1 else 0,
+        intercept=True,
+        reported=reported,
+        label=spec.label,
     )

@@ -26,6 +26,7 @@ from auditor.extract.entry import extract
 from auditor.fit.ols import FitResult, fit_ols
 from auditor.locate.locator import Locator, RegressionSpec, locate
 from auditor.locate.pasted_spec import pasted_intended, unsourced_result
+from auditor.locate.typed_spec import typed_unsourced_result
 from auditor.model import DataPoint, Finding, RegressionResult, WorkbookResult
 from auditor.pipeline.inputs import scan_inputs
 from auditor.pipeline.isolate import guarded, unverifiable_regression
@@ -62,9 +63,9 @@ def _audit_unannotated(
 ) -> tuple[RegressionResult, FitResult | None]:
     """The regression's result with its data points not yet given their fitted values (which
     only the reports read), and the fit that gives them (None: nothing was fitted)."""
-    unsourced = unsourced_result(spec)
+    unsourced = unsourced_result(spec) or typed_unsourced_result(spec)
     if unsourced is not None:
-        return unsourced, None  # a pasted table with no data found: listed, nothing to recompute
+        return unsourced, None  # a table with no data found: listed, nothing to recompute
     data = extract(workbook, evaluator, spec)
     reader = inputs_reader or DesignInputReader(workbook, evaluator)
     inputs = reader.read(spec)

@@ -403,6 +403,23 @@ def test_a_table_linked_by_place_alone_draws_no_alarm(tmp_path: Path) -> None:
     assert "nothing but its place ties" in regression.reported["slope"].note
 
 
+def test_a_table_with_no_data_is_listed_unverifiable(tmp_path: Path) -> None:
+    """Figures that agree with one another and no data in the workbook: listed, every figure
+    unverifiable, one info finding saying what was searched; never an alarm."""
+    rng = np.random.default_rng(21)
+    elsewhere = _data(rng, "Gone", 1, 1, False)  # the figures' data, not written
+    kept = _data(rng, "Gauge", 1, 1, False)
+    typed = Typed(elsewhere, "Notes", 2, 0, "plain", 4, title="Retired unit")
+    result = _audit(Scene([kept], [typed]), tmp_path)
+    regression = _for(result, typed)
+    assert regression.x_range == "(no data found)"
+    assert regression.n == len(elsewhere.x)  # n = df + 2, df from t, R² and p
+    assert {v.verdict for v in regression.reported.values()} == {"unverifiable"}
+    (finding,) = [f for f in result.all_findings() if f.check == "typed-source-missing"]
+    assert (finding.severity, finding.cells) == ("info", [typed.placed["slope"]])
+    assert not [f for f in result.all_findings() if f.severity in ("major", "critical")]
+
+
 def test_unrelated_labelled_numbers_are_no_regression(tmp_path: Path) -> None:
     rng = np.random.default_rng(5)
     data = _data(rng, "Gauge", 1, 1, False)
