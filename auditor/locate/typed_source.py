@@ -166,10 +166,7 @@ def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
     pairs = [replace(pair, gap=_gap(table, pair)) for pair in found]
     own = tokens(table.words())
     shared = set.intersection(*(p.words for p in pairs)) if len(pairs) > 1 else set()
-    ranked = sorted(
-        pairs,
-        key=lambda p: (-len((p.words & own) - shared), p.gap, p.y.line - p.x.line, p.x.by_rows),
-    )
+    ranked = sorted(pairs, key=lambda p: (-len((p.words & own) - shared), *_place(p)))
     sizes = {d + 2 for d in table.df_options}
     ranked = ranked[:MAX_TRIED]
     for pair in ranked:
@@ -188,7 +185,7 @@ def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
             if len({float(x_values[r.index]) for r in readings}) == 1:
                 replicates = [r.index for r in readings[1:]]
                 return _stale(table, oriented, own, shared, readings[0], replicates)
-    nearest = min(pairs, key=lambda p: p.gap) if pairs else None
+    nearest = min(pairs, key=_place) if pairs else None
     for pair in ranked:
         matched = (pair.words & own) - shared
         # by place alone only the pair right beside it, of as many rows as the figures say
@@ -203,6 +200,11 @@ def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
         "none gives the figures (with or without one changed reading), none lies beside the "
         "table with as many rows, and no headers share its words",
     )
+
+
+def _place(pair: Candidate) -> tuple[float, int, bool]:
+    """Nearest first: fewest empty lines to the table, then lines side by side, then columns."""
+    return pair.gap, pair.y.line - pair.x.line, pair.x.by_rows
 
 
 def _orientations(pair: Candidate, table: TypedTable) -> list[Candidate]:

@@ -392,8 +392,10 @@ def test_a_summary_column_linked_by_words_alone_draws_no_alarm(tmp_path: Path) -
 def test_a_table_linked_by_place_alone_draws_no_alarm(tmp_path: Path) -> None:
     rng = np.random.default_rng(41)
     data, row, col = _beside(rng, False)
+    data.numbered = True  # a sample-number column before x: the pair beside is still x and y
     typed = Typed(data, data.sheet, row, col, "plain", 4, older=_two_readings(data))
     regression = _for(_audit(Scene([data], [typed]), tmp_path), typed)
+    assert (regression.x_range, regression.y_range) == (data.ref(0), data.ref(1))
     assert _serious(regression) == []
     (finding,) = [f for f in regression.findings if f.check == "typed-stale"]
     assert finding.severity == "minor"
