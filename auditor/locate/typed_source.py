@@ -166,7 +166,10 @@ def find_typed_source(table: TypedTable, found: list[Candidate]) -> TypedSource:
     pairs = [replace(pair, gap=_gap(table, pair)) for pair in found]
     own = tokens(table.words())
     shared = set.intersection(*(p.words for p in pairs)) if len(pairs) > 1 else set()
-    ranked = sorted(pairs, key=lambda p: (-len((p.words & own) - shared), *_place(p)))
+    # words no other pair has first, then all shared words ("turbidity" over a date column)
+    ranked = sorted(
+        pairs, key=lambda p: (-len((p.words & own) - shared), -len(p.words & own), *_place(p))
+    )
     sizes = {d + 2 for d in table.df_options}
     ranked = ranked[:MAX_TRIED]
     for pair in ranked:
