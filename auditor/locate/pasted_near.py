@@ -6,7 +6,8 @@ Tried when no data reproduce the table, in this order:
   the x the predicted values imply (one x) or the x columns the table names beside it; when every
   row still agrees, the data did not change and the table's own numbers were edited instead;
 * a y that still has the table's total sum of squares with the named x columns beside it;
-* the columns headed by the table's own names (x labels, y from the residual output's header).
+* the columns headed by the table's own names (x labels, y from the residual output's header);
+* the pair of lines that gives every number once one reading is put back (one x).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ import numpy as np
 
 from auditor.formula.syntax import Ref
 from auditor.locate.pasted_data import DataIndex, Run, Source, Windows, block_ref
+from auditor.locate.pasted_reading import one_reading
 from auditor.locate.pasted_record import PastedTable
 from auditor.read.workbook import Workbook
 
@@ -49,6 +51,10 @@ def near_match(
             + f") hold {table.n} values each, but their fit no longer gives the pasted figures",
             searched=searched,
         )
+    by_reading = one_reading(workbook, table, index)
+    if by_reading is not None:
+        x_ref, y_ref, evidence = by_reading
+        return Source("stale", x_ref, y_ref, evidence=evidence, searched=searched)
     return Source("none", searched=searched)
 
 

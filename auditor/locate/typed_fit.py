@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from auditor.fit.distributions import t_sf
-from auditor.locate.typed_tables import TypedTable, interval
+from auditor.locate.typed_record import TypedTable, interval
 
 # What detection allows beyond the digits shown: the sums lose a few digits of a full double.
 DETECT_RELATIVE = 1e-7

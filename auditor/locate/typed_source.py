@@ -28,7 +28,7 @@ from auditor.compare.precision import decimals_shown
 from auditor.formula.syntax import Ref
 from auditor.locate.pasted_data import DataIndex, Run
 from auditor.locate.typed_fit import Refit, agrees, single_reading, window_stats
-from auditor.locate.typed_tables import TypedTable
+from auditor.locate.typed_record import TypedTable
 from auditor.read.workbook import Workbook
 
 MAX_APART = 4  # lines between x and y of one data table

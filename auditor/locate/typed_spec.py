@@ -19,8 +19,9 @@ from auditor.locate.formulas import FormulaLocator
 from auditor.locate.pasted_data import DataIndex
 from auditor.locate.pasted_spec import unverifiable_values
 from auditor.locate.spec import RegressionSpec, StatCell
+from auditor.locate.typed_record import TypedTable
 from auditor.locate.typed_source import TypedSource, candidates, find_typed_source
-from auditor.locate.typed_tables import TypedTable, find_typed_tables
+from auditor.locate.typed_tables import find_typed_tables
 from auditor.model import RegressionResult
 
 

@@ -15,17 +15,15 @@ value row per regression below (the text left of each row is its title).
 from __future__ import annotations
 
 import math
-import re
-from dataclasses import dataclass, field
 
 import numpy as np
 
-from auditor.compare.precision import decimals_shown
 from auditor.fit.distributions import t_sf
 from auditor.locate.blocks import role_in_list
 from auditor.locate.labels import looks_like_claim
 from auditor.locate.pasted_spec import in_pasted_table
 from auditor.locate.roles import role_from_label
+from auditor.locate.typed_record import TypedTable, interval
 from auditor.read.workbook import Cell, Sheet, Workbook
 
 # The statistics a typed table is read for; the others a label may name are left alone.
@@ -33,53 +31,7 @@ TABLE_ROLES = ("slope", "intercept", "se_slope", "se_intercept", "t_slope", "p_s
                "r_squared", "df", "residual_sd", "n")  # fmt: skip
 MIN_LABELS = 3  # slope and two more: fewer numbers cannot agree with one another
 MAX_DF = 2_000  # degrees of freedom searched when the table does not show them
-_BRACKETED = re.compile(r"[(\[]([^()\[\]]*)[)\]]")
 MAX_LINES = 60  # value columns (or rows) read beside one set of labels
-ALLOWANCE = 1.01  # half a unit in the last place shown, and 1 % for the arithmetic
-
-
-@dataclass
-class TypedTable:
-    """One typed statistic table: the value cell and label of each statistic, and its title."""
-
-    sheet: str
-    cells: dict[str, Cell]
-    labels: dict[str, str]
-    title: str = ""
-    footprint: set[tuple[int, int]] = field(default_factory=set)
-    claims: dict[str, Cell] = field(default_factory=dict)  # a p written as text: "<0.001"
-    df_options: tuple[int, ...] = ()  # the degrees of freedom its numbers allow (n − 2)
-    relations: list[str] = field(default_factory=list)  # what agreed, in words
-
-    @property
-    def anchor(self) -> Cell:
-        return self.cells["slope"]
-
-    def phrases(self) -> list[str]:
-        """The table's own words: its title and what its labels say in brackets (the units of
-        "Slope (NTU per L/s)"); the statistic words themselves name no data."""
-        inside = [part for label in self.labels.values() for part in _BRACKETED.findall(label)]
-        return [self.title, *inside]
-
-    def words(self) -> str:
-        return " ".join(self.phrases())
-
-
-def half_unit(cell: Cell) -> float:
-    """Half a unit in the last place the typed number shows (its digits or its format). A whole
-    number's trailing zeros may be rounding (a t of 2139.7 shown to four digits is 2140): to
-    link a table to its data they are not taken as digits."""
-    value = float(cell.value)  # type: ignore[arg-type]
-    decimals = decimals_shown(value, cell.number_format)
-    if decimals == 0 and value.is_integer() and value != 0:
-        whole = str(int(abs(value)))
-        decimals = -(len(whole) - len(whole.rstrip("0")))
-    return ALLOWANCE * (0.5 * 10.0 ** (-decimals) + 1e-12 * abs(value))
-
-
-def interval(cell: Cell) -> tuple[float, float]:
-    value, half = float(cell.value), half_unit(cell)  # type: ignore[arg-type]
-    return value - half, value + half
 
 
 def _number(cell: Cell | None) -> bool:

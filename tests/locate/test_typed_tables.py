@@ -15,7 +15,8 @@ import pytest
 from scipy import stats
 
 from auditor.locate.typed_fit import single_reading
-from auditor.locate.typed_tables import TypedTable, find_typed_tables
+from auditor.locate.typed_record import TypedTable
+from auditor.locate.typed_tables import find_typed_tables
 from auditor.model import Finding, RegressionResult, WorkbookResult
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
