@@ -258,7 +258,7 @@ def stat_unverifiable(context: RegressionContext) -> list[Finding]:
     findings = []
     for value in context.reported.values():
         if value.verdict != "unverifiable" or place_only_link(context.spec):
-            continue  # a typed table linked by place alone: typed-stale says why, once
+            continue  # a typed table weakly linked to its data: typed-stale says why, once
         reason = value.note or value.tolerance or "no independent value"
         findings.append(
             Finding(

@@ -183,7 +183,7 @@ def build_reported(
             # a value that differs from the statistic is no evidence of a mistake.
             verdict = "unverifiable"
         if verdict == "mismatch" and (why := place_only_link(spec)):
-            verdict, note = "unverifiable", why  # nothing but place says these are its data
+            verdict, note = "unverifiable", why  # only place or words tie the table to its data
         out[key] = ReportedValue(
             key=key,
             cell=cell.address,
