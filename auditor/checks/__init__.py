@@ -11,6 +11,7 @@ from auditor.model import CheckInfo, Finding
 # The family modules, in the order their checks run (and reports list them).
 FAMILY_NAMES = (
     "agreement",
+    "axis_words",
     "broken_regressions",
     "calibration",
     "calibration_shape",

@@ -1,0 +1,112 @@
+"""Do the words give the formulas' ranges the roles the formulas give them?
+
+From a :class:`~auditor.locate.words.Meaning` (headers, the headers beside, statements of rates
+and titles) two judgements, each with the words that support it:
+
+- **swapped**: the words name the formulas' x as y and their y as x (``Slope (L fuel per t
+  load)`` over ``=INDEX(LINEST(load, fuel),1,1)``);
+- **shifted**: the words name, for one role, the quantity of a column beside the range the
+  formulas read, and not the quantity of the range itself (``Shoot height (cm) per day`` over a
+  y range headed ``Leaf count`` next to ``Shoot height (cm)``).
+
+A statement points at a header when its words match a word of that header that the other
+headers in question do not share (``mg/L`` on both axes says nothing). Any statement that agrees
+with the formulas' roles cancels the judgement: words that contradict each other are no
+evidence. Rates (a slope's unit is y per x, arithmetic) are strong; titles (y first by
+convention, common practice) are weak, and a judgement resting on titles alone is only a risk.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from auditor.locate.words import Header, Meaning, Statement, shared
+
+
+@dataclass(frozen=True)
+class Cue:
+    """One statement's say about one judgement, with the words it matched."""
+
+    statement: Statement
+    role: str  # "y" or "x": the role whose words matched
+    matched: tuple[str, ...]
+    header: Header  # the header its words match
+
+
+@dataclass
+class Judgement:
+    """What the words say against the formulas' roles, and which statements say it."""
+
+    kind: str  # "xy-swapped" or "range-shifted"
+    role: str  # for a shift: the role whose range is beside the one meant ("y" or "x")
+    cues: list[Cue] = field(default_factory=list)
+    meant: Header | None = None  # for a shift: the header of the range the words name
+    read: Header | None = None  # for a shift: the header of the range the formulas read
+
+    @property
+    def strong(self) -> bool:
+        """A rate among the cues: the slope's unit says the roles (not a title's word order)."""
+        return any(cue.statement.strength == "rate" for cue in self.cues)
+
+
+def points_at(words: frozenset[str], candidates: list[Header]) -> tuple[Header, list[str]] | None:
+    """The one candidate header whose own words (shared with no other candidate) ``words``
+    match, with the words matched; None when none or several match."""
+    hits = []
+    for index, header in enumerate(candidates):
+        others = frozenset(w for j, h in enumerate(candidates) if j != index for w in h.words)
+        own = frozenset(w for w in header.words if not shared(frozenset([w]), others))
+        matched = shared(own, words)
+        if matched:
+            hits.append((header, matched))
+    return hits[0] if len(hits) == 1 else None
+
+
+def judge_swap(meaning: Meaning) -> Judgement | None:
+    """Swapped when some statement names the formulas' x as y (or y as x) and none agrees."""
+    if meaning.x is None or meaning.y is None:
+        return None
+    pair = [meaning.x, meaning.y]
+    swapped: list[Cue] = []
+    for statement in meaning.statements:
+        says_y = points_at(statement.y_words, pair)
+        says_x = points_at(statement.x_words, pair)
+        agree = (says_y and says_y[0] is meaning.y) or (says_x and says_x[0] is meaning.x)
+        if agree:
+            return None  # words that give the formulas' roles: no swap said consistently
+        if says_y and says_y[0] is meaning.x:
+            swapped.append(Cue(statement, "y", tuple(says_y[1]), meaning.x))
+        if says_x and says_x[0] is meaning.y:
+            swapped.append(Cue(statement, "x", tuple(says_x[1]), meaning.y))
+    return Judgement("xy-swapped", "", swapped) if swapped else None
+
+
+def judge_shift(meaning: Meaning) -> Judgement | None:
+    """Shifted when statements name, for one role, a quantity beside its range and none names
+    the range's own; the first role so named (y before x)."""
+    if meaning.x is None or meaning.y is None:
+        return None
+    for role, own, other, near in (
+        ("y", meaning.y, meaning.x, meaning.y_beside),
+        ("x", meaning.x, meaning.y, meaning.x_beside),
+    ):
+        if not near:
+            continue
+        candidates = [own, other, *near]
+        cues: list[Cue] = []
+        meant: set[str] = set()
+        agreed = False
+        for statement in meaning.statements:
+            words = statement.y_words if role == "y" else statement.x_words
+            said = points_at(words, candidates)
+            if said is None:
+                continue
+            header, matched = said
+            if header is own or shared(own.words, words):
+                agreed = True  # the words name the range the formulas read
+            elif header is not other:
+                cues.append(Cue(statement, role, tuple(matched), header))
+                meant.add(header.cell)
+        if cues and not agreed and len(meant) == 1:
+            return Judgement("range-shifted", role, cues, cues[0].header, own)
+    return None

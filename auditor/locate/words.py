@@ -1,0 +1,316 @@
+"""What the words around a regression say its x and y are: headers, statistic labels, titles.
+
+A regression's formulas name two ranges; its words name two quantities. The words come in three
+kinds, read here into a :class:`Meaning` (plain data, judged in
+:mod:`auditor.diagnose.roles_words`):
+
+- the **header** of each range: the text above a column of data (or left of a row), and the
+  headers of the columns (rows) beside it, which a range moved by one would read;
+- a **rate** in a statistic's label: ``Slope (kWh per °C)``, ``SE of slope (L fuel per t load)``,
+  ``Pendiente (NTU por L/s)``: the slope's unit is y's unit per x's unit, a fact of arithmetic;
+- a **title** that names two quantities: ``Fuel vs load``, ``Turbidity against flow``,
+  ``Yield as a function of dose``: by convention the first is y (common practice), so a title is
+  weaker evidence than a rate.
+
+Words are compared as normalised tokens (lower case, NFKC, micro sign as ``u``, a plural ``s``
+dropped, four-letter prefixes matching: ``temp`` ~ ``temperature``), never as listed spellings.
+"""
+
+from __future__ import annotations
+
+import re
+import unicodedata
+from dataclasses import dataclass, field
+
+from auditor.formula.syntax import Ref
+from auditor.grid import column_letter
+from auditor.locate.spec import RegressionSpec
+from auditor.read.workbook import Cell, Sheet, Workbook
+
+HEADER_ROWS_ABOVE = 3  # a header may sit a row or two above the data (a units row between)
+NEIGHBOUR_REACH = 2  # columns (rows) either side searched for the quantity the words name
+MAX_WORDS = 120  # longer texts are notes, not labels or titles
+TITLE_ROWS, TITLE_COLS = 3, 12  # where a sheet's title sits
+RATE_ROLES = ("slope", "se_slope", "ci_slope_low", "ci_slope_high")  # labels in y per x
+
+_SPLIT = re.compile(r"[\s()\[\]{},;:|=]+|(?<=[^\W\d_])-(?=[^\W\d_])")
+# Words that name no quantity: articles and prepositions of the languages labels come in, and
+# the placeholders of generic headers ("x", "y", "value").
+_EMPTY = frozenset(
+    "a an the of in at on for and or to by with from per vs versus against de la el los las "
+    "del en y e por con der die das des dem den und von vom pro je gegen le les du et par sur "
+    "contre "
+    "x y x1 y1 xi yi value values data variable var series col column no nr number "
+    "obs observation index i n".split()
+)
+# A rate: "<y> per <x>" in the languages labels come in; a slash with spaces around is one too
+# (a slash without spaces belongs to a unit: mg/L).
+_RATE = re.compile(r"\s(?:per|por|pro|je|par)\s|\s/\s", re.I)
+# A title naming y then x (y first by convention, common practice).
+_TITLE = re.compile(
+    r"\s(?:vs\.?|v\.|versus|against|as a function|frente a|contra|en funci[oó]n|"
+    r"gegen(?:über)?|in abhängigkeit|en fonction|contre)\s",
+    re.I,
+)
+_OPEN = "([{,:;"
+_CLOSE = ")]},;"
+
+
+def tokens(text: str) -> frozenset[str]:
+    """The words of a text that can name a quantity or a unit, normalised."""
+    text = unicodedata.normalize("NFKC", text).lower().replace("μ", "u")
+    out = set()
+    for raw in _SPLIT.split(text):
+        word = raw.strip(".'\"*_-–")
+        if not word or word in _EMPTY or _is_number(word):
+            continue
+        if word.isalpha() and len(word) > 3 and word.endswith("s") and not word.endswith("ss"):
+            word = word[:-1]
+        out.add(word)
+    return frozenset(out)
+
+
+def _is_number(word: str) -> bool:
+    try:
+        float(word)
+    except ValueError:
+        return False
+    return True
+
+
+def same_word(a: str, b: str) -> bool:
+    """Equal, or one a prefix of the other of at least four letters (``temp``, ``conc``)."""
+    if a == b:
+        return True
+    short, long_ = (a, b) if len(a) <= len(b) else (b, a)
+    return len(short) >= 4 and short.isalpha() and long_.startswith(short)
+
+
+def shared(a: frozenset[str], b: frozenset[str]) -> list[str]:
+    """The words of ``a`` that some word of ``b`` matches."""
+    return sorted(w for w in a if any(same_word(w, v) for v in b))
+
+
+@dataclass(frozen=True)
+class Header:
+    """The text naming one range (or a range beside it) and the cell it is in."""
+
+    text: str
+    cell: str
+    ref: Ref  # the range it names
+    words: frozenset[str]
+
+
+@dataclass(frozen=True)
+class Statement:
+    """Words that give the roles: which quantity is y and which is x.
+
+    ``strength`` is ``rate`` (a slope's unit: y per x) or ``title`` (y first by convention)."""
+
+    text: str
+    cell: str
+    strength: str
+    y_words: frozenset[str]
+    x_words: frozenset[str]
+
+
+@dataclass
+class Meaning:
+    """What the words around one regression say (empty lists where they say nothing)."""
+
+    x: Header | None = None
+    y: Header | None = None
+    x_beside: list[Header] = field(default_factory=list)  # headers of the columns beside x
+    y_beside: list[Header] = field(default_factory=list)
+    statements: list[Statement] = field(default_factory=list)
+
+
+def _clean(value: object) -> str | None:
+    if isinstance(value, str) and value.strip() and len(value) <= MAX_WORDS:
+        return value.strip()
+    return None
+
+
+def header_of(workbook: Workbook, ref: Ref) -> Header | None:
+    """The text above a one-column range (left of a one-row range), within a few cells."""
+    sheet = workbook.sheet(ref.sheet)
+    if sheet is None or ref.external:
+        return None
+    if ref.cols == 1 and ref.rows > 1:
+        spots = [(r, ref.c1) for r in range(ref.r1 - 1, max(0, ref.r1 - 1 - HEADER_ROWS_ABOVE), -1)]
+    elif ref.rows == 1 and ref.cols > 1:
+        spots = [(ref.r1, c) for c in range(ref.c1 - 1, max(0, ref.c1 - 1 - HEADER_ROWS_ABOVE), -1)]
+    else:
+        return None
+    for row, col in spots:
+        cell = sheet.get(row, col)
+        if cell is None or cell.value is None:
+            continue
+        text = _clean(cell.value) if not cell.formula else None
+        if text is None:
+            return None  # a number or formula above the data: no header, or data continuing
+        words = tokens(text)
+        return (
+            Header(text, f"{sheet.name}!{column_letter(col)}{row}", ref, words) if words else None
+        )
+    return None
+
+
+def _numeric_rows(sheet: Sheet, ref: Ref) -> int:
+    return sum(
+        1
+        for r in range(ref.r1, ref.r2 + 1)
+        for c in range(ref.c1, ref.c2 + 1)
+        if isinstance(sheet.value(r, c), (int, float)) and not isinstance(sheet.value(r, c), bool)
+    )
+
+
+def beside(workbook: Workbook, ref: Ref, other: Ref) -> list[Header]:
+    """Headers of the numeric columns (rows) within reach of ``ref`` over the same rows
+    (columns), nearest first, ``other`` (the regression's other range) left out."""
+    sheet = workbook.sheet(ref.sheet)
+    if sheet is None or ref.external:
+        return []
+    found = []
+    for step in range(1, NEIGHBOUR_REACH + 1):
+        for sign in (-1, 1):
+            if ref.cols == 1 and ref.rows > 1:
+                near = Ref(ref.sheet, ref.r1, ref.c1 + sign * step, ref.r2, ref.c1 + sign * step)
+            elif ref.rows == 1 and ref.cols > 1:
+                near = Ref(ref.sheet, ref.r1 + sign * step, ref.c1, ref.r1 + sign * step, ref.c2)
+            else:
+                return []
+            if min(near.r1, near.c1) < 1 or _same(near, other):
+                continue
+            if 2 * _numeric_rows(sheet, near) < max(ref.rows, ref.cols):
+                continue  # not a column of data beside it
+            header = header_of(workbook, near)
+            if header is not None:
+                found.append(header)
+    return found
+
+
+def _same(a: Ref, b: Ref) -> bool:
+    return a.sheet.lower() == b.sheet.lower() and (a.r1, a.c1, a.r2, a.c2) == (
+        b.r1,
+        b.c1,
+        b.r2,
+        b.c2,
+    )
+
+
+def _phrase_before(text: str, at: int, whole: bool) -> str:
+    """The words before a connector back to an opening bracket or comma (or, in a rate with no
+    bracket, the one word before it: "Slope kWh per °C" names y by "kWh")."""
+    left = text[:at]
+    cut = max(left.rfind(ch) for ch in _OPEN)
+    if cut >= 0:
+        return left[cut + 1 :]
+    return left if whole else (left.split() or [""])[-1]
+
+
+def _phrase_after(text: str, end: int) -> str:
+    right = text[end:]
+    cuts = [i for i in (right.find(ch) for ch in _CLOSE) if i >= 0]
+    return right[: min(cuts)] if cuts else right
+
+
+def read_statement(text: str, cell: str, rate: bool) -> Statement | None:
+    """The roles one text gives: a rate (``y per x``) in a statistic's label, or a title."""
+    if len(text) > MAX_WORDS:
+        return None
+    pattern = _RATE if rate else _TITLE
+    match = pattern.search(f" {text} ")
+    if match is None:
+        return None
+    padded = f" {text} "
+    y_words = tokens(_phrase_before(padded, match.start(), whole=not rate))
+    x_words = tokens(_phrase_after(padded, match.end()))
+    if not (y_words or x_words):
+        return None
+    return Statement(text, cell, "rate" if rate else "title", y_words, x_words)
+
+
+def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
+    """The words of one simple regression: its headers, those beside, and what its statistic
+    labels and the titles around it say."""
+    meaning = Meaning()
+    if spec.x_columns != 1 or spec.pasted is not None:
+        return meaning  # several x columns (or a pasted table): no single x to name
+    meaning.x, meaning.y = header_of(workbook, spec.x), header_of(workbook, spec.y)
+    if meaning.x is None or meaning.y is None:
+        return meaning  # a range without a header: nothing to compare the words with
+    meaning.x_beside = beside(workbook, spec.x, spec.y)
+    meaning.y_beside = beside(workbook, spec.y, spec.x)
+    seen: set[tuple[str, bool]] = set()
+    for text, where, rate in _texts(workbook, spec, (meaning.x, meaning.y)):
+        key = (text.lower(), rate)
+        statement = None if key in seen else read_statement(text, where, rate)
+        seen.add(key)
+        if statement is not None:
+            meaning.statements.append(statement)
+    return meaning
+
+
+def _texts(
+    workbook: Workbook, spec: RegressionSpec, headers: tuple[Header, Header]
+) -> list[tuple[str, str, bool]]:
+    """(text, where, is a rate label): the labels of the slope and its SE (rates), then the
+    titles: the block's, those above the data headers and at the top of the sheets, the sheet
+    names and the titles of charts whose trendline fits the regression."""
+    out: list[tuple[str, str, bool]] = []
+    for stat in spec.stats.values():
+        base = stat.key.split("[")[0]
+        for words in (stat.label, stat.column_header):
+            if words:
+                out.append((words, _label_cell(workbook, stat.cell, words), base in RATE_ROLES))
+    if spec.label:
+        out.append((spec.label, spec.sheet, False))
+    sheets = dict.fromkeys([spec.sheet, spec.x.sheet, spec.y.sheet])
+    for header in headers:
+        out.extend(_above(workbook, header))
+    for name in sheets:
+        sheet = workbook.sheet(name)
+        if sheet is None:
+            continue
+        out.append((sheet.name, f"sheet {sheet.name!r}", False))
+        for row in range(1, TITLE_ROWS + 1):
+            for col in range(1, TITLE_COLS + 1):
+                cell = sheet.get(row, col)
+                text = _clean(cell.value) if cell is not None and not cell.formula else None
+                if text:
+                    out.append((text, cell.address if cell else "", False))
+    for use in spec.trendlines:
+        title = getattr(getattr(use, "chart", None), "title", "")
+        if title:
+            out.append((title, f"chart {title!r}", False))
+    return out
+
+
+def _label_cell(workbook: Workbook, cell: Cell, text: str) -> str:
+    """Where a statistic's label sits: left of the cell (three cells), above, or else the
+    cell itself (a label read from elsewhere, such as a block's column header)."""
+    sheet = workbook.sheet(cell.sheet)
+    spots = [(cell.row, cell.col - dc) for dc in (1, 2, 3)] + [(cell.row - 1, cell.col)]
+    for row, col in spots:
+        other = sheet.get(row, col) if sheet is not None and min(row, col) >= 1 else None
+        if other is not None and other.value == text:
+            return other.address
+    return cell.address
+
+
+def _above(workbook: Workbook, header: Header) -> list[tuple[str, str, bool]]:
+    """Texts within a few rows above a data header, over the table's width: its title."""
+    sheet = workbook.sheet(header.ref.sheet)
+    if sheet is None:
+        return []
+    _, _, spot = header.cell.rpartition("!")
+    row = int("".join(ch for ch in spot if ch.isdigit()))
+    out = []
+    for r in range(row - 1, max(0, row - 1 - HEADER_ROWS_ABOVE), -1):
+        for c in range(max(1, header.ref.c1 - 2), header.ref.c2 + 3):
+            cell = sheet.get(r, c)
+            text = _clean(cell.value) if cell is not None and not cell.formula else None
+            if text and cell is not None:
+                out.append((text, cell.address, False))
+    return out
