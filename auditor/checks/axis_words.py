@@ -267,9 +267,9 @@ def _conclusion_changes(
 def _offset(read: Ref, meant: Ref) -> str:
     """'one column to the right of the one meant' and the like."""
     if read.c1 != meant.c1:
-        steps, unit, ways = read.c1 - meant.c1, "column", ("right", "left")
+        steps, unit, ways = read.c1 - meant.c1, "column", ("to the right of", "to the left of")
     else:
-        steps, unit, ways = read.r1 - meant.r1, "row", ("down", "up")
+        steps, unit, ways = read.r1 - meant.r1, "row", ("below", "above")
     count = "one" if abs(steps) == 1 else str(abs(steps))
     plural = "" if abs(steps) == 1 else "s"
-    return f"{count} {unit}{plural} {ways[0] if steps > 0 else ways[1]} of the one meant"
+    return f"{count} {unit}{plural} {ways[0] if steps > 0 else ways[1]} the one meant"

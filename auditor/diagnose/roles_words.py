@@ -62,9 +62,25 @@ def points_at(words: frozenset[str], candidates: list[Header]) -> tuple[Header, 
     return hits[0] if len(hits) == 1 else None
 
 
+def contradictory(meaning: Meaning) -> bool:
+    """Do the statements name one header as y in one place and as x in another? Words that
+    contradict each other are no evidence either way."""
+    if meaning.x is None or meaning.y is None:
+        return False
+    candidates = list({h.cell: h for h in [meaning.x, meaning.y, *meaning.x_beside,
+                                           *meaning.y_beside]}.values())  # fmt: skip
+    roles: dict[str, set[str]] = {}
+    for statement in meaning.statements:
+        for role, words in (("y", statement.y_words), ("x", statement.x_words)):
+            said = points_at(words, candidates)
+            if said is not None:
+                roles.setdefault(said[0].cell, set()).add(role)
+    return any(len(said) > 1 for said in roles.values())
+
+
 def judge_swap(meaning: Meaning) -> Judgement | None:
     """Swapped when some statement names the formulas' x as y (or y as x) and none agrees."""
-    if meaning.x is None or meaning.y is None:
+    if meaning.x is None or meaning.y is None or contradictory(meaning):
         return None
     pair = [meaning.x, meaning.y]
     swapped: list[Cue] = []
@@ -84,7 +100,7 @@ def judge_swap(meaning: Meaning) -> Judgement | None:
 def judge_shift(meaning: Meaning) -> Judgement | None:
     """Shifted when statements name, for one role, a quantity beside its range and none names
     the range's own; the first role so named (y before x)."""
-    if meaning.x is None or meaning.y is None:
+    if meaning.x is None or meaning.y is None or contradictory(meaning):
         return None
     for role, own, other, near in (
         ("y", meaning.y, meaning.x, meaning.y_beside),

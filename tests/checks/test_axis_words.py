@@ -1,0 +1,150 @@
+"""Roles from words (checks axis-words-swapped and axis-words-next-column) on generated variety.
+
+The workbooks come from fixtures/words_scenarios.py: six invented topics (English, Spanish,
+German; distinct units, and one pair sharing a unit), columns and rows, SLOPE family and
+INDEX(LINEST), labels with rates (``Slope (L per t)``), with quantity names, titles only, generic
+headers and contradicting words, planted clean, swapped or shifted. The expected numbers are the
+scenario's own scipy ``linregress`` fits (outside reference), never regaudit's: the slope the
+words describe, and whether the conclusion (p across 0.05 or the slope's sign) changes.
+"""
+
+from __future__ import annotations
+
+import functools
+import itertools
+import sys
+import tempfile
+from pathlib import Path
+from typing import Any
+
+import pytest
+import xlsxwriter
+
+from auditor.model import Finding, RegressionResult
+from auditor.pipeline.audit import audit_workbook
+from auditor.policy import load_policy
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT / "fixtures"))
+from words_scenarios import TOPICS, Scenario, Topic, write_scenario  # noqa: E402
+
+CHECKS = ("axis-words-swapped", "axis-words-next-column")
+SHARED_UNIT = TOPICS[5]  # Dose (mg/L) and Residual chlorine (mg/L): units say nothing
+DISTINCT = TOPICS[:5]
+
+
+def _variety(plant: str, words: tuple[str, ...], topics: tuple[Topic, ...]) -> list[Scenario]:
+    """Every topic with every wording, orientation and form cycling (a seeded spread)."""
+    shapes = itertools.cycle(
+        itertools.product(("columns", "rows"), ("slope_family", "index_linest"))
+    )
+    out = []
+    for seed, (topic, wording) in enumerate(itertools.product(topics, words)):
+        orientation, form = next(shapes)
+        out.append(Scenario(topic, plant, wording, orientation, form, seed=seed + 11))
+    return out
+
+
+@functools.cache
+def _audited(group: str) -> list[tuple[Scenario, dict[str, Any], RegressionResult, list[Finding]]]:
+    """One workbook per group, one sheet per scenario, audited; each truth with its result."""
+    scenarios = GROUPS[group]
+    with tempfile.TemporaryDirectory() as folder:
+        path = Path(folder) / f"{group}.xlsx"
+        book = xlsxwriter.Workbook(str(path))
+        truths = [write_scenario(book, f"S{i}", s) for i, s in enumerate(scenarios)]
+        book.close()
+        result = audit_workbook(path, load_policy("general"))
+    out = []
+    for scenario, truth in zip(scenarios, truths, strict=True):
+        match = [r for r in result.regressions if r.y_range == truth["y_range"]]
+        assert len(match) == 1, (truth["y_range"], [r.y_range for r in result.regressions])
+        mine = [f for f in match[0].findings if f.check in CHECKS]
+        mine += [f for f in result.findings if f.check in CHECKS and truth["sheet"] in f.cells[0]]
+        out.append((scenario, truth, match[0], mine))
+    return out
+
+
+GROUPS: dict[str, list[Scenario]] = {
+    "swapped_units": _variety("swapped", ("rate", "names", "both"), DISTINCT)
+    + _variety("swapped", ("names",), (SHARED_UNIT,)),
+    "swapped_title": _variety("swapped", ("title",), DISTINCT),
+    "shifted": _variety("shifted-y", ("rate", "names"), DISTINCT)
+    + _variety("shifted-x", ("rate", "names"), DISTINCT),
+    "shifted_title": _variety("shifted-y", ("title",), DISTINCT),
+    "clean": _variety("clean", ("rate", "names", "title", "both"), TOPICS),
+    "ambiguous": _variety("swapped", ("generic", "contradict"), DISTINCT)
+    + _variety("swapped", ("generic",), (SHARED_UNIT,))
+    + _variety("swapped", ("rate",), (SHARED_UNIT,))
+    + _variety("shifted-y", ("generic", "contradict"), DISTINCT),
+}
+
+
+def _close(a: object, b: float, rel: float = 1e-6) -> bool:
+    return isinstance(a, float) and abs(a - b) <= rel * max(abs(a), abs(b))
+
+
+def _ids(group: str) -> list[str]:
+    return [
+        f"{s.topic.language}-{s.topic.y[0]}-{s.words}-{s.orientation}-{s.form}"
+        for s in GROUPS[group]
+    ]
+
+
+@pytest.mark.parametrize("index", range(len(GROUPS["swapped_units"])), ids=_ids("swapped_units"))
+def test_a_consistent_swap_is_named_from_units_and_names(index: int) -> None:
+    scenario, truth, result, findings = _audited("swapped_units")[index]
+    assert [f.kind for f in findings] == ["xy-swapped"], [f.message for f in findings]
+    finding = findings[0]
+    assert finding.severity == "major"  # t and p are symmetric in x and y: never critical
+    assert finding.cells[0] == truth["cells"]["slope"]
+    # The slope the words describe: fuel on load, scipy's fit of the numbers written.
+    assert _close(finding.evidence["slope_as_words_say"], truth["as_words_say"]["slope"])
+    assert _close(finding.evidence["slope_as_written"], truth["as_written"]["slope"])
+    x_name, y_name = scenario.topic.x[0], scenario.topic.y[0]
+    assert f"'{x_name} ({scenario.topic.x[1]})' as x" in finding.message
+    assert f"'{y_name} ({scenario.topic.y[1]})' as y" in finding.message
+    assert result.reported["slope"].verdict == "confirmed"  # formulas alone see nothing wrong
+
+
+@pytest.mark.parametrize("index", range(len(GROUPS["swapped_title"])), ids=_ids("swapped_title"))
+def test_a_swap_only_a_title_says_is_a_minor_risk(index: int) -> None:
+    _, truth, _, findings = _audited("swapped_title")[index]
+    assert [(f.kind, f.severity) for f in findings] == [("xy-swapped", "minor")]
+    assert "unverifiable" in findings[0].message
+    assert _close(findings[0].evidence["slope_as_words_say"], truth["as_words_say"]["slope"])
+
+
+@pytest.mark.parametrize("index", range(len(GROUPS["shifted"])), ids=_ids("shifted"))
+def test_a_range_beside_the_named_one_is_named_and_its_fit_given(index: int) -> None:
+    scenario, truth, _, findings = _audited("shifted")[index]
+    assert [f.kind for f in findings] == ["range-shifted"], [f.message for f in findings]
+    finding = findings[0]
+    written, meant = truth["as_written"], truth["as_words_say"]
+    changes = (written["p_slope"] < 0.05) != (meant["p_slope"] < 0.05) or (
+        written["slope"] * meant["slope"] < 0
+    )
+    assert finding.severity == ("critical" if changes else "major")
+    assert finding.evidence["range_meant"] == truth["words_range"]
+    assert _close(finding.evidence["slope_as_words_say"], meant["slope"])
+    assert _close(finding.evidence["p_as_words_say"], meant["p_slope"])
+    assert finding.evidence["role"] == scenario.plant[-1]
+
+
+def test_the_shift_set_holds_conclusions_that_change_and_some_that_do_not() -> None:
+    severities = {f.severity for _, _, _, found in _audited("shifted") for f in found}
+    assert severities == {"critical", "major"}
+
+
+@pytest.mark.parametrize("index", range(len(GROUPS["shifted_title"])), ids=_ids("shifted_title"))
+def test_a_shift_only_a_title_says_is_a_minor_risk(index: int) -> None:
+    _, truth, _, findings = _audited("shifted_title")[index]
+    assert [(f.kind, f.severity) for f in findings] == [("range-shifted", "minor")]
+    assert findings[0].evidence["range_meant"] == truth["words_range"]
+
+
+@pytest.mark.parametrize("group", ["clean", "ambiguous"])
+def test_matching_or_ambiguous_words_draw_no_finding(group: str) -> None:
+    audited = _audited(group)
+    assert len(audited) >= 12
+    assert [(s, [f.message for f in found]) for s, _, _, found in audited if found] == []
