@@ -82,6 +82,24 @@ def paired_fit(y: list[float | None], x: list[float | None], intercept: bool) ->
     return fit_ols(xs, ys, intercept=intercept)
 
 
+def _strength(judgement: Judgement) -> str:
+    if any(c.strong and c.statement.strength == "rate" for c in judgement.cues):
+        return "rate"
+    return "quantity named" if judgement.strong else "title order"
+
+
+def _read_elsewhere(context: WorkbookContext, spec: RegressionSpec, meant: Ref) -> bool:
+    """Does another regression of the workbook read the range the words name? Then the words
+    may well be that regression's (a title over two blocks), not evidence of a shift."""
+    key = (meant.sheet.lower(), meant.r1, meant.c1, meant.r2, meant.c2)
+    return any(
+        (ref.sheet.lower(), ref.r1, ref.c1, ref.r2, ref.c2) == key
+        for other in context.specs
+        if other is not spec
+        for ref in (other.x, other.y)
+    )
+
+
 def _weak_reason(judgement: Judgement) -> str:
     return (
         " Only a title says so, and a title's order (y first) is a convention, not a fact: "
@@ -130,7 +148,7 @@ def _swap_finding(
         "x_header": meaning.x.text,
         "y_header": meaning.y.text,
         **_said(judgement),
-        "strength": "rate" if judgement.strong else "title",
+        "strength": _strength(judgement),
         "slope_as_written": result.intended.get("slope"),
     }
     refit = ""
@@ -188,6 +206,8 @@ def axis_words_next_column(context: WorkbookContext) -> list[Finding]:
         judgement = judge_shift(meaning)
         if judgement is None or judgement.meant is None or judgement.read is None:
             continue
+        if _read_elsewhere(context, spec, judgement.meant.ref):
+            continue
         alpha = context.policy.alpha if context.policy is not None else 0.05
         findings.append(_shift_finding(context.workbook, spec, result, judgement, alpha))
     return findings
@@ -214,7 +234,7 @@ def _shift_finding(
         "header_meant": meant.text,
         "range_meant": meant.ref.address,
         **_said(judgement),
-        "strength": "rate" if judgement.strong else "title",
+        "strength": _strength(judgement),
     }
     refit = ""
     if written is not None and intended is not None:

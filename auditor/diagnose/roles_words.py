@@ -31,6 +31,7 @@ class Cue:
     role: str  # "y" or "x": the role whose words matched
     matched: tuple[str, ...]
     header: Header  # the header its words match
+    strong: bool = False  # a fact (a rate's unit, a quantity named), not a convention of order
 
 
 @dataclass
@@ -45,8 +46,9 @@ class Judgement:
 
     @property
     def strong(self) -> bool:
-        """A rate among the cues: the slope's unit says the roles (not a title's word order)."""
-        return any(cue.statement.strength == "rate" for cue in self.cues)
+        """A cue that rests on a fact (a slope's unit; a quantity named that the formulas do not
+        read), not on a title's word order."""
+        return any(cue.strong for cue in self.cues)
 
 
 def points_at(words: frozenset[str], candidates: list[Header]) -> tuple[Header, list[str]] | None:
@@ -87,13 +89,14 @@ def judge_swap(meaning: Meaning) -> Judgement | None:
     for statement in meaning.statements:
         says_y = points_at(statement.y_words, pair)
         says_x = points_at(statement.x_words, pair)
+        rate = statement.strength == "rate"  # a title's order is a convention: weak
         agree = (says_y and says_y[0] is meaning.y) or (says_x and says_x[0] is meaning.x)
         if agree:
             return None  # words that give the formulas' roles: no swap said consistently
         if says_y and says_y[0] is meaning.x:
-            swapped.append(Cue(statement, "y", tuple(says_y[1]), meaning.x))
+            swapped.append(Cue(statement, "y", tuple(says_y[1]), meaning.x, rate))
         if says_x and says_x[0] is meaning.y:
-            swapped.append(Cue(statement, "x", tuple(says_x[1]), meaning.y))
+            swapped.append(Cue(statement, "x", tuple(says_x[1]), meaning.y, rate))
     return Judgement("xy-swapped", "", swapped) if swapped else None
 
 
@@ -110,19 +113,41 @@ def judge_shift(meaning: Meaning) -> Judgement | None:
             continue
         candidates = [own, other, *near]
         cues: list[Cue] = []
-        meant: set[str] = set()
         agreed = False
         for statement in meaning.statements:
-            words = statement.y_words if role == "y" else statement.x_words
-            said = points_at(words, candidates)
-            if said is None:
-                continue
-            header, matched = said
-            if header is own or shared(own.words, words):
+            phrases = [statement.y_words if role == "y" else statement.x_words]
+            if statement.strength == "title":
+                phrases = [statement.y_words, statement.x_words]
+            if any(shared(own.words, words) for words in phrases):
                 agreed = True  # the words name the range the formulas read
-            elif header is not other:
-                cues.append(Cue(statement, role, tuple(matched), header))
-                meant.add(header.cell)
+                continue
+            cue = _shift_cue(statement, role, phrases, candidates)
+            if cue is not None:
+                cues.append(cue)
+        meant = {cue.header.cell for cue in cues}
         if cues and not agreed and len(meant) == 1:
             return Judgement("range-shifted", role, cues, cues[0].header, own)
     return None
+
+
+def _shift_cue(
+    statement: Statement, role: str, phrases: list[frozenset[str]], candidates: list[Header]
+) -> Cue | None:
+    """What one statement says of a range beside ``candidates[0]`` (the range read; then the
+    regression's other range, then the ranges beside). A rate names the role by its side of
+    "per" (strong). A title names it by its order (weak), unless its other phrase names the
+    regression's other range: then the quantity not read is named whatever the order (strong).
+    """
+    own, other = candidates[0], candidates[1]
+    said = [points_at(words, candidates) for words in phrases]
+    beside = [s for s in said if s is not None and s[0] is not own and s[0] is not other]
+    if len(beside) != 1:
+        return None
+    header, matched = beside[0]
+    if statement.strength == "rate":
+        return Cue(statement, role, tuple(matched), header, strong=True)
+    names_other = any(s is not None and s[0] is other for s in said)
+    in_order = said[0 if role == "y" else 1] is beside[0]
+    if not (names_other or in_order):
+        return None
+    return Cue(statement, role, tuple(matched), header, strong=names_other)

@@ -24,6 +24,7 @@ from dataclasses import dataclass, field
 
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
+from auditor.locate.roles import role_from_label
 from auditor.locate.spec import RegressionSpec
 from auditor.read.workbook import Cell, Sheet, Workbook
 
@@ -33,7 +34,7 @@ MAX_WORDS = 120  # longer texts are notes, not labels or titles
 TITLE_ROWS, TITLE_COLS = 3, 12  # where a sheet's title sits
 RATE_ROLES = ("slope", "se_slope", "ci_slope_low", "ci_slope_high")  # labels in y per x
 
-_SPLIT = re.compile(r"[\s()\[\]{},;:|=]+|(?<=[^\W\d_])-(?=[^\W\d_])")
+_SPLIT = re.compile(r"[\s()\[\]{},;:|=—]+|(?<=[^\W\d_])-(?=[^\W\d_])")
 # Words that name no quantity: articles and prepositions of the languages labels come in, and
 # the placeholders of generic headers ("x", "y", "value").
 _EMPTY = frozenset(
@@ -206,7 +207,10 @@ def _phrase_before(text: str, at: int, whole: bool) -> str:
     cut = max(left.rfind(ch) for ch in _OPEN)
     if cut >= 0:
         return left[cut + 1 :]
-    return left if whole else (left.split() or [""])[-1]
+    if whole:
+        return left
+    last = (left.split() or [""])[-1]
+    return "" if role_from_label(last) else last  # "Slope per 100": the statistic's own name
 
 
 def _phrase_after(text: str, end: int) -> str:
@@ -262,8 +266,11 @@ def _texts(
     for stat in spec.stats.values():
         base = stat.key.split("[")[0]
         for words in (stat.label, stat.column_header):
-            if words:
-                out.append((words, _label_cell(workbook, stat.cell, words), base in RATE_ROLES))
+            if words:  # a label may be a rate, or a title above a column of statistics
+                where = _label_cell(workbook, stat.cell, words)
+                if base in RATE_ROLES:
+                    out.append((words, where, True))
+                out.append((words, where, False))
     if spec.label:
         out.append((spec.label, spec.sheet, False))
     sheets = dict.fromkeys([spec.sheet, spec.x.sheet, spec.y.sheet])
