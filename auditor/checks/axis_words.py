@@ -29,6 +29,7 @@ from auditor.wording import fmt
 # The statistics a swap of x and y changes (t, p, R² and r are symmetric in x and y).
 ROLE_STATS = ("slope", "intercept", "se_slope", "se_intercept", "residual_sd")
 MIN_POINTS = 3
+SYMMETRIC = frozenset({"RSQ", "CORREL", "PEARSON"})  # the same value with x and y swapped
 
 
 def _regressions(context: WorkbookContext) -> Iterator[tuple[RegressionSpec, RegressionResult]]:
@@ -37,6 +38,20 @@ def _regressions(context: WorkbookContext) -> Iterator[tuple[RegressionSpec, Reg
     for spec, result in zip(context.specs, context.results, strict=False):
         if spec.x_columns == 1 and spec.pasted is None and result.reported:
             yield spec, result
+
+
+def _roles_open(context: WorkbookContext, spec: RegressionSpec) -> bool:
+    """Are the formulas' roles of x and y undecided? Found only through functions symmetric in
+    x and y (RSQ, CORREL), or also read the other way round by another regression of the
+    workbook: then no order of the formulas contradicts the words."""
+    if spec.uses and all(use.function in SYMMETRIC for use in spec.uses):
+        return True
+    mirror = (_key(spec.y), _key(spec.x))
+    return any((_key(o.x), _key(o.y)) == mirror for o in context.specs if o is not spec)
+
+
+def _key(ref: Ref) -> tuple[str, int, int, int, int]:
+    return (ref.sheet.lower(), ref.r1, ref.c1, ref.r2, ref.c2)
 
 
 def _cells(result: RegressionResult, keys: tuple[str, ...] | None = None) -> list[str]:
@@ -85,15 +100,16 @@ def paired_fit(y: list[float | None], x: list[float | None], intercept: bool) ->
 def _strength(judgement: Judgement) -> str:
     if any(c.strong and c.statement.strength == "rate" for c in judgement.cues):
         return "rate"
-    return "quantity named" if judgement.strong else "title order"
+    if any(c.strong for c in judgement.cues):
+        return "quantity named"
+    return "conventions agree" if judgement.strong else "title order"
 
 
 def _read_elsewhere(context: WorkbookContext, spec: RegressionSpec, meant: Ref) -> bool:
     """Does another regression of the workbook read the range the words name? Then the words
     may well be that regression's (a title over two blocks), not evidence of a shift."""
-    key = (meant.sheet.lower(), meant.r1, meant.c1, meant.r2, meant.c2)
     return any(
-        (ref.sheet.lower(), ref.r1, ref.c1, ref.r2, ref.c2) == key
+        _key(ref) == _key(meant)
         for other in context.specs
         if other is not spec
         for ref in (other.x, other.y)
@@ -101,11 +117,16 @@ def _read_elsewhere(context: WorkbookContext, spec: RegressionSpec, meant: Ref) 
 
 
 def _weak_reason(judgement: Judgement) -> str:
+    if any(cue.strong for cue in judgement.cues):
+        return ""
+    if judgement.strong:
+        return (
+            f" No unit says so, but two conventions (common practice) agree: "
+            f"{' and '.join(judgement.conventions)}; no word says otherwise."
+        )
     return (
         " Only a title says so, and a title's order (y first) is a convention, not a fact: "
         "unverifiable from the words alone."
-        if not judgement.strong
-        else ""
     )
 
 
@@ -125,6 +146,8 @@ def axis_words_swapped(context: WorkbookContext) -> list[Finding]:
     findings = []
     for spec, result in _regressions(context):
         assert context.workbook is not None
+        if _roles_open(context, spec):
+            continue
         meaning = read_meaning(context.workbook, spec)
         judgement = judge_swap(meaning)
         if judgement is None or meaning.x is None or meaning.y is None:

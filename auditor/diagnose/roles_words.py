@@ -43,12 +43,13 @@ class Judgement:
     cues: list[Cue] = field(default_factory=list)
     meant: Header | None = None  # for a shift: the header of the range the words name
     read: Header | None = None  # for a shift: the header of the range the formulas read
+    conventions: list[str] = field(default_factory=list)  # weak cues that agree, in words
 
     @property
     def strong(self) -> bool:
         """A cue that rests on a fact (a slope's unit; a quantity named that the formulas do not
-        read), not on a title's word order."""
-        return any(cue.strong for cue in self.cues)
+        read), or two independent conventions that agree; never one convention alone."""
+        return any(cue.strong for cue in self.cues) or len(self.conventions) >= 2
 
 
 def points_at(words: frozenset[str], candidates: list[Header]) -> tuple[Header, list[str]] | None:
@@ -97,7 +98,32 @@ def judge_swap(meaning: Meaning) -> Judgement | None:
             swapped.append(Cue(statement, "y", tuple(says_y[1]), meaning.x, rate))
         if says_x and says_x[0] is meaning.y:
             swapped.append(Cue(statement, "x", tuple(says_x[1]), meaning.y, rate))
-    return Judgement("xy-swapped", "", swapped) if swapped else None
+    if not swapped:
+        return None
+    return Judgement("xy-swapped", "", swapped, conventions=_conventions(meaning, swapped))
+
+
+def _conventions(meaning: Meaning, cues: list[Cue]) -> list[str]:
+    """The conventions (common practice) that agree with a swap: a title that names both
+    quantities, y first; a table that puts the words' x before their y (left of it, or above
+    it), as a scatter chart of two columns takes the first as x."""
+    assert meaning.x is not None and meaning.y is not None
+    said: list[str] = []
+    for cue in cues:
+        both = {c.role for c in cues if c.statement is cue.statement} == {"x", "y"}
+        if cue.statement.strength == "title" and both:
+            said.append(f"the title '{cue.statement.text}' names y first")
+            break
+    words_x, words_y = meaning.y.ref, meaning.x.ref  # the words' roles are the formulas' swapped
+    same_table = words_x.sheet.lower() == words_y.sheet.lower() and (
+        (words_x.cols == 1 and (words_x.r1, words_x.r2) == (words_y.r1, words_y.r2))
+        or (words_x.rows == 1 and (words_x.c1, words_x.c2) == (words_y.c1, words_y.c2))
+    )
+    if same_table and said and (words_x.c1, words_x.r1) < (words_y.c1, words_y.r1):
+        where = "left of" if words_x.cols == 1 else "above"
+        said.append(f"the table puts '{meaning.y.text}' (x by the words) {where} "
+                    f"'{meaning.x.text}'")  # fmt: skip
+    return said
 
 
 def judge_shift(meaning: Meaning) -> Judgement | None:

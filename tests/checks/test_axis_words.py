@@ -33,15 +33,19 @@ SHARED_UNIT = TOPICS[5]  # Dose (mg/L) and Residual chlorine (mg/L): units say n
 DISTINCT = TOPICS[:5]
 
 
-def _variety(plant: str, words: tuple[str, ...], topics: tuple[Topic, ...]) -> list[Scenario]:
-    """Every topic with every wording, orientation and form cycling (a seeded spread)."""
+def _variety(
+    plant: str, words: tuple[str, ...], topics: tuple[Topic, ...], y_first: bool | None = None
+) -> list[Scenario]:
+    """Every topic with every wording; orientation, form and table order cycling (a seeded
+    spread); ``y_first`` fixes the table order."""
+    orders = (False, True) if y_first is None else (y_first,)
     shapes = itertools.cycle(
-        itertools.product(("columns", "rows"), ("slope_family", "index_linest"))
+        itertools.product(("columns", "rows"), ("slope_family", "index_linest"), orders)
     )
     out = []
     for seed, (topic, wording) in enumerate(itertools.product(topics, words)):
-        orientation, form = next(shapes)
-        out.append(Scenario(topic, plant, wording, orientation, form, seed=seed + 11))
+        orientation, form, first = next(shapes)
+        out.append(Scenario(topic, plant, wording, orientation, form, seed + 11, y_first=first))
     return out
 
 
@@ -68,7 +72,8 @@ def _audited(group: str) -> list[tuple[Scenario, dict[str, Any], RegressionResul
 GROUPS: dict[str, list[Scenario]] = {
     "swapped_units": _variety("swapped", ("rate", "names", "both"), DISTINCT)
     + _variety("swapped", ("names",), (SHARED_UNIT,)),
-    "swapped_title": _variety("swapped", ("title",), DISTINCT),
+    "swapped_title": _variety("swapped", ("title",), DISTINCT, y_first=True),
+    "swapped_conventions": _variety("swapped", ("title",), TOPICS, y_first=False),
     "shifted": _variety("shifted-y", ("rate", "names", "title"), DISTINCT)
     + _variety("shifted-x", ("rate", "names", "title"), DISTINCT),
     "shifted_title": _variety("shifted-y", ("loose-title",), DISTINCT),
@@ -112,6 +117,18 @@ def test_a_swap_only_a_title_says_is_a_minor_risk(index: int) -> None:
     _, truth, _, findings = _audited("swapped_title")[index]
     assert [(f.kind, f.severity) for f in findings] == [("xy-swapped", "minor")]
     assert "unverifiable" in findings[0].message
+    assert _close(findings[0].evidence["slope_as_words_say"], truth["as_words_say"]["slope"])
+
+
+@pytest.mark.parametrize(
+    "index", range(len(GROUPS["swapped_conventions"])), ids=_ids("swapped_conventions")
+)
+def test_a_title_and_the_table_order_together_make_a_swap_major(index: int) -> None:
+    """Two conventions (common practice): 'Fuel vs load' names y first, and the table puts
+    load (x) before fuel; every formula fits load on fuel."""
+    scenario, truth, _, findings = _audited("swapped_conventions")[index]
+    assert [(f.kind, f.severity) for f in findings] == [("xy-swapped", "major")]
+    assert "two conventions (common practice) agree" in findings[0].message
     assert _close(findings[0].evidence["slope_as_words_say"], truth["as_words_say"]["slope"])
 
 

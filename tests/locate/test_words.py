@@ -92,9 +92,17 @@ def test_contradicting_words_are_no_evidence() -> None:
     meaning = Meaning(x=fuel, y=load, statements=[agree, other])  # formulas: load on fuel
     assert contradictory(meaning)
     assert judge_swap(meaning) is None and judge_shift(meaning) is None
-    alone = Meaning(x=fuel, y=load, statements=[other])
-    judgement = judge_swap(alone)
-    assert judgement is not None and not judgement.strong  # a title's order only
+    # The title alone: one convention (y first) is weak ...
+    fuel_first = Meaning(x=_header("Fuel (L)", 1), y=_header("Load (t)", 2), statements=[other])
+    judgement = judge_swap(fuel_first)
+    assert judgement is not None and not judgement.strong
+    assert len(judgement.conventions) == 1
+    # ... with the table's order (load, the words' x, left of fuel) two conventions agree.
+    judgement = judge_swap(Meaning(x=fuel, y=load, statements=[other]))
+    assert judgement is not None and judgement.strong
+    assert (
+        judgement.conventions[1] == "the table puts 'Load (t)' (x by the words) left of 'Fuel (L)'"
+    )
 
 
 def test_words_naming_a_range_another_regression_reads_are_not_a_shift(tmp_path: Path) -> None:
