@@ -36,18 +36,28 @@ def _regressions(context: WorkbookContext) -> Iterator[tuple[RegressionSpec, Reg
     if context.workbook is None:
         return
     for spec, result in zip(context.specs, context.results, strict=False):
-        if spec.x_columns == 1 and spec.pasted is None and result.reported:
+        if spec.x_columns == 1 and spec.pasted is None and (result.reported or spec.trendlines):
             yield spec, result
 
 
-def _roles_open(context: WorkbookContext, spec: RegressionSpec) -> bool:
-    """Are the formulas' roles of x and y undecided? Found only through functions symmetric in
-    x and y (RSQ, CORREL), or also read the other way round by another regression of the
-    workbook: then no order of the formulas contradicts the words."""
-    if spec.uses and all(use.function in SYMMETRIC for use in spec.uses):
-        return True
-    mirror = (_key(spec.y), _key(spec.x))
-    return any((_key(o.x), _key(o.y)) == mirror for o in context.specs if o is not spec)
+def _symmetric_only(spec: RegressionSpec) -> bool:
+    """Are the calls that read the regression's own pair all symmetric in x and y (RSQ,
+    CORREL)? Then its roles of x and y are the locator's guess, not the author's."""
+    pair, mirror = (_key(spec.y), _key(spec.x)), (_key(spec.x), _key(spec.y))
+    own = [use for use in spec.uses if (_key(use.y), _key(use.x)) in (pair, mirror)]
+    return bool(own) and all(use.function in SYMMETRIC for use in own)
+
+
+def _mirrored(context: WorkbookContext, spec: RegressionSpec) -> bool:
+    """Does some formula of the workbook fit the pair the other way round (an inverse fit
+    beside the direct one)? Then no order of the formulas contradicts the words."""
+    mirror = (_key(spec.x), _key(spec.y))
+    return any(
+        use.function not in SYMMETRIC and (_key(use.y), _key(use.x)) == mirror
+        for other in context.specs
+        if other is not spec
+        for use in other.uses
+    )
 
 
 def _key(ref: Ref) -> tuple[str, int, int, int, int]:
@@ -57,7 +67,8 @@ def _key(ref: Ref) -> tuple[str, int, int, int, int]:
 def _cells(result: RegressionResult, keys: tuple[str, ...] | None = None) -> list[str]:
     """Reported cells, the slope first (a finding is routed to its first cell's regression)."""
     values = sorted(result.reported.values(), key=lambda v: stat_base(v.key) != "slope")
-    return list(dict.fromkeys(v.cell for v in values if keys is None or stat_base(v.key) in keys))
+    cells = [v.cell for v in values if keys is None or stat_base(v.key) in keys]
+    return list(dict.fromkeys(cells)) or ([] if keys else [result.y_range])  # a trendline
 
 
 def _quoted(judgement: Judgement) -> str:
@@ -146,7 +157,7 @@ def axis_words_swapped(context: WorkbookContext) -> list[Finding]:
     findings = []
     for spec, result in _regressions(context):
         assert context.workbook is not None
-        if _roles_open(context, spec):
+        if _symmetric_only(spec) or _mirrored(context, spec):
             continue
         meaning = read_meaning(context.workbook, spec)
         judgement = judge_swap(meaning)
@@ -223,6 +234,8 @@ def axis_words_next_column(context: WorkbookContext) -> list[Finding]:
     findings = []
     for spec, result in _regressions(context):
         assert context.workbook is not None
+        if _symmetric_only(spec):
+            continue
         meaning = read_meaning(context.workbook, spec)
         if judge_swap(meaning) is not None:
             continue  # the words give the roles the other way round: the swap check says so

@@ -70,8 +70,7 @@ def contradictory(meaning: Meaning) -> bool:
     contradict each other are no evidence either way."""
     if meaning.x is None or meaning.y is None:
         return False
-    candidates = list({h.cell: h for h in [meaning.x, meaning.y, *meaning.x_beside,
-                                           *meaning.y_beside]}.values())  # fmt: skip
+    candidates = _candidates(meaning)
     roles: dict[str, set[str]] = {}
     for statement in meaning.statements:
         for role, words in (("y", statement.y_words), ("x", statement.x_words)):
@@ -81,19 +80,29 @@ def contradictory(meaning: Meaning) -> bool:
     return any(len(said) > 1 for said in roles.values())
 
 
+def _candidates(meaning: Meaning) -> list[Header]:
+    """The headers words may name: x, y and those beside them, each once."""
+    assert meaning.x is not None and meaning.y is not None
+    every = [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
+    return list({header.cell: header for header in every}.values())
+
+
 def judge_swap(meaning: Meaning) -> Judgement | None:
     """Swapped when some statement names the formulas' x as y (or y as x) and none agrees."""
     if meaning.x is None or meaning.y is None or contradictory(meaning):
         return None
-    pair = [meaning.x, meaning.y]
+    candidates = _candidates(meaning)
     swapped: list[Cue] = []
     for statement in meaning.statements:
-        says_y = points_at(statement.y_words, pair)
-        says_x = points_at(statement.x_words, pair)
+        says_y = points_at(statement.y_words, candidates)
+        says_x = points_at(statement.x_words, candidates)
         rate = statement.strength == "rate"  # a title's order is a convention: weak
         agree = (says_y and says_y[0] is meaning.y) or (says_x and says_x[0] is meaning.x)
         if agree:
             return None  # words that give the formulas' roles: no swap said consistently
+        pair = (meaning.x, meaning.y)
+        if any(said is not None and said[0] not in pair for said in (says_y, says_x)):
+            continue  # a quantity the formulas do not read: not a swap of theirs
         if says_y and says_y[0] is meaning.x:
             swapped.append(Cue(statement, "y", tuple(says_y[1]), meaning.x, rate))
         if says_x and says_x[0] is meaning.y:
@@ -141,12 +150,14 @@ def judge_shift(meaning: Meaning) -> Judgement | None:
         cues: list[Cue] = []
         agreed = False
         for statement in meaning.statements:
-            phrases = [statement.y_words if role == "y" else statement.x_words]
-            if statement.strength == "title":
-                phrases = [statement.y_words, statement.x_words]
-            if any(shared(own.words, words) for words in phrases):
+            # The phrase of this role first, then the other one.
+            phrases = [statement.y_words, statement.x_words][:: 1 if role == "y" else -1]
+            named_own = [bool(shared(own.words, words)) for words in phrases]
+            if named_own[0] or (statement.strength == "title" and named_own[1]):
                 agreed = True  # the words name the range the formulas read
                 continue
+            if named_own[1]:
+                continue  # a rate that gives the range read the other role: no shift of it
             cue = _shift_cue(statement, role, phrases, candidates)
             if cue is not None:
                 cues.append(cue)
@@ -160,7 +171,8 @@ def _shift_cue(
     statement: Statement, role: str, phrases: list[frozenset[str]], candidates: list[Header]
 ) -> Cue | None:
     """What one statement says of a range beside ``candidates[0]`` (the range read; then the
-    regression's other range, then the ranges beside). A rate names the role by its side of
+    regression's other range, then the ranges beside); ``phrases``: the words of this role,
+    then those of the other. A rate names the role by its side of
     "per" (strong). A title names it by its order (weak), unless its other phrase names the
     regression's other range: then the quantity not read is named whatever the order (strong).
     """
@@ -170,10 +182,13 @@ def _shift_cue(
     if len(beside) != 1:
         return None
     header, matched = beside[0]
+    names_other = said[1] is not None and said[1][0] is other
     if statement.strength == "rate":
+        if said[0] is not beside[0] or (said[1] is not None and not names_other):
+            return None  # the quantity beside on the other side of "per": roles say no shift
         return Cue(statement, role, tuple(matched), header, strong=True)
     names_other = any(s is not None and s[0] is other for s in said)
-    in_order = said[0 if role == "y" else 1] is beside[0]
+    in_order = said[0] is beside[0]
     if not (names_other or in_order):
         return None
     return Cue(statement, role, tuple(matched), header, strong=names_other)

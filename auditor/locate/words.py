@@ -237,7 +237,9 @@ def read_statement(text: str, cell: str, rate: bool) -> Statement | None:
 
 def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
     """The words of one simple regression: its headers, those beside, and what its statistic
-    labels and the titles around it say."""
+    labels and the titles around it say. The block's own words (its labels, its title, its
+    chart's title) speak for it when they name a quantity of its table; the sheets' titles and
+    names only when they do not (a results sheet's top row may title other blocks)."""
     meaning = Meaning()
     if spec.x_columns != 1 or spec.pasted is not None:
         return meaning  # several x columns (or a pasted table): no single x to name
@@ -246,22 +248,41 @@ def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
         return meaning  # a range without a header: nothing to compare the words with
     meaning.x_beside = beside(workbook, spec.x, spec.y)
     meaning.y_beside = beside(workbook, spec.y, spec.x)
-    seen: set[tuple[str, bool]] = set()
-    for text, where, rate in _texts(workbook, spec, (meaning.x, meaning.y)):
-        key = (text.lower(), rate)
-        statement = None if key in seen else read_statement(text, where, rate)
-        seen.add(key)
-        if statement is not None:
-            meaning.statements.append(statement)
+    named = frozenset(w for h in [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
+                      for w in h.words)  # fmt: skip
+    block, sheet = (
+        _statements(_block_texts(workbook, spec)),
+        _statements(_sheet_texts(workbook, spec, (meaning.x, meaning.y))),
+    )
+    own = [s for s in block if shared(s.y_words | s.x_words, named)]
+    meaning.statements = own or _unique(block + sheet)
     return meaning
 
 
-def _texts(
-    workbook: Workbook, spec: RegressionSpec, headers: tuple[Header, Header]
-) -> list[tuple[str, str, bool]]:
-    """(text, where, is a rate label): the labels of the slope and its SE (rates), then the
-    titles: the block's, those above the data headers and at the top of the sheets, the sheet
-    names and the titles of charts whose trendline fits the regression."""
+def _statements(texts: list[tuple[str, str, bool]]) -> list[Statement]:
+    out = []
+    for text, where, rate in texts:
+        statement = read_statement(text, where, rate)
+        if statement is not None:
+            out.append(statement)
+    return _unique(out)
+
+
+def _unique(statements: list[Statement]) -> list[Statement]:
+    seen: set[tuple[str, str]] = set()
+    out = []
+    for statement in statements:
+        key = (statement.text.lower(), statement.strength)
+        if key not in seen:
+            seen.add(key)
+            out.append(statement)
+    return out
+
+
+def _block_texts(workbook: Workbook, spec: RegressionSpec) -> list[tuple[str, str, bool]]:
+    """(text, where, is a rate label): the labels of the statistics (those of the slope and
+    its SE read as rates too), the block's title and the titles of charts whose trendline fits
+    the regression."""
     out: list[tuple[str, str, bool]] = []
     for stat in spec.stats.values():
         base = stat.key.split("[")[0]
@@ -272,11 +293,23 @@ def _texts(
                     out.append((words, where, True))
                 out.append((words, where, False))
     if spec.label:
-        out.append((spec.label, spec.sheet, False))
-    sheets = dict.fromkeys([spec.sheet, spec.x.sheet, spec.y.sheet])
+        out.append((spec.label, _title_cell(workbook, spec), False))
+    for use in spec.trendlines:
+        title = getattr(getattr(use, "chart", None), "title", "")
+        if title:
+            out.append((title, f"chart {title!r}", False))
+    return out
+
+
+def _sheet_texts(
+    workbook: Workbook, spec: RegressionSpec, headers: tuple[Header, Header]
+) -> list[tuple[str, str, bool]]:
+    """Titles around the data and the statistics: above the data headers, the top rows of
+    the sheets, and the sheets' names."""
+    out: list[tuple[str, str, bool]] = []
     for header in headers:
         out.extend(_above(workbook, header))
-    for name in sheets:
+    for name in dict.fromkeys([spec.sheet, spec.x.sheet, spec.y.sheet]):
         sheet = workbook.sheet(name)
         if sheet is None:
             continue
@@ -285,13 +318,24 @@ def _texts(
             for col in range(1, TITLE_COLS + 1):
                 cell = sheet.get(row, col)
                 text = _clean(cell.value) if cell is not None and not cell.formula else None
-                if text:
-                    out.append((text, cell.address if cell else "", False))
-    for use in spec.trendlines:
-        title = getattr(getattr(use, "chart", None), "title", "")
-        if title:
-            out.append((title, f"chart {title!r}", False))
+                if text and cell is not None:
+                    out.append((text, cell.address, False))
     return out
+
+
+def _title_cell(workbook: Workbook, spec: RegressionSpec) -> str:
+    """Where the block's title sits: a few rows above its top statistic."""
+    cells = [s.cell for s in spec.stats.values()]
+    if not cells:
+        return spec.sheet
+    top = min(cells, key=lambda c: (c.row, c.col))
+    sheet = workbook.sheet(top.sheet)
+    for row in range(top.row - 1, max(0, top.row - 4), -1):
+        for col in range(max(1, top.col - 2), top.col + 1):
+            cell = sheet.get(row, col) if sheet is not None else None
+            if cell is not None and cell.value == spec.label:
+                return cell.address
+    return top.sheet
 
 
 def _label_cell(workbook: Workbook, cell: Cell, text: str) -> str:

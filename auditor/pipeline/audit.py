@@ -226,6 +226,8 @@ def _route(findings: list[Finding], regressions: list[RegressionResult]) -> list
     """A workbook-level finding that starts at a regression's reported cell is shown with that
     regression (sibling blocks, pasted values, links); the rest stay with the workbook."""
     owners = {value.cell: r for r in regressions for value in r.reported.values()}
+    # A regression with no reported cell (a chart trendline) is known by its y range.
+    owners.update({r.y_range: r for r in regressions if not r.reported and r.y_range not in owners})
     kept: list[Finding] = []
     for finding in findings:
         owner = owners.get(finding.cells[0]) if finding.cells else None
