@@ -40,7 +40,7 @@ def _regressions(context: WorkbookContext) -> Iterator[tuple[RegressionSpec, Reg
             yield spec, result
 
 
-def _symmetric_only(spec: RegressionSpec) -> bool:
+def symmetric_only(spec: RegressionSpec) -> bool:
     """Are the calls that read the regression's own pair all symmetric in x and y (RSQ,
     CORREL)? Then its roles of x and y are the locator's guess, not the author's."""
     pair, mirror = (_key(spec.y), _key(spec.x)), (_key(spec.x), _key(spec.y))
@@ -48,7 +48,7 @@ def _symmetric_only(spec: RegressionSpec) -> bool:
     return bool(own) and all(use.function in SYMMETRIC for use in own)
 
 
-def _mirrored(context: WorkbookContext, spec: RegressionSpec) -> bool:
+def mirrored(context: WorkbookContext, spec: RegressionSpec) -> bool:
     """Does some formula of the workbook fit the pair the other way round (an inverse fit
     beside the direct one)? Then no order of the formulas contradicts the words."""
     mirror = (_key(spec.x), _key(spec.y))
@@ -157,7 +157,7 @@ def axis_words_swapped(context: WorkbookContext) -> list[Finding]:
     findings = []
     for spec, result in _regressions(context):
         assert context.workbook is not None
-        if _symmetric_only(spec) or _mirrored(context, spec):
+        if symmetric_only(spec) or mirrored(context, spec):
             continue
         meaning = read_meaning(context.workbook, spec)
         judgement = judge_swap(meaning)
@@ -234,7 +234,7 @@ def axis_words_next_column(context: WorkbookContext) -> list[Finding]:
     findings = []
     for spec, result in _regressions(context):
         assert context.workbook is not None
-        if _symmetric_only(spec):
+        if symmetric_only(spec):
             continue
         meaning = read_meaning(context.workbook, spec)
         if judge_swap(meaning) is not None:

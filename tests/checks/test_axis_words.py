@@ -11,18 +11,27 @@ words describe, and whether the conclusion (p across 0.05 or the slope's sign) c
 from __future__ import annotations
 
 import functools
+import json
 import itertools
 import sys
 import tempfile
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+import openpyxl
 import pytest
 import xlsxwriter
+from scipy import stats as sps
 
+from auditor.checks.axis_words import mirrored, symmetric_only
+from auditor.context import WorkbookContext
+from auditor.formula.syntax import Ref
+from auditor.locate.spec import PairUse, RegressionSpec
 from auditor.model import Finding, RegressionResult
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
+from auditor.read.workbook import Cell
 
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT / "fixtures"))
@@ -165,3 +174,116 @@ def test_matching_or_ambiguous_words_draw_no_finding(group: str) -> None:
     audited = _audited(group)
     assert len(audited) >= 12
     assert [(s, [f.message for f in found]) for s, _, _, found in audited if found] == []
+
+
+def _table(ws: Any, headers: list[str], columns: list[list[float]]) -> None:
+    for col, (header, values) in enumerate(zip(headers, columns, strict=True)):
+        ws.write(1, col, header)
+        ws.write_column(2, col, values)
+
+
+def test_a_chart_trendline_over_the_column_beside_is_named(tmp_path: Path) -> None:
+    """A scatter chart titled 'Dissolved oxygen vs temperature' whose series reads the algal
+    count beside the oxygen column: the finding belongs to the trendline's regression."""
+    rng = np.random.default_rng(5)
+    temperature = np.linspace(4.0, 26.0, 12)
+    oxygen = 12.6 - 0.19 * temperature + rng.normal(0, 0.3, 12)
+    algae = 900.0 + rng.normal(0, 120.0, 12)
+    path = tmp_path / "river.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    ws = book.add_worksheet("River")
+    headers = ["Temperature (°C)", "Dissolved oxygen (mg/L)", "Algal count (cells/mL)"]
+    _table(ws, headers, [list(map(float, v)) for v in (temperature, oxygen, algae)])
+    chart = book.add_chart({"type": "scatter"})
+    chart.add_series(
+        {"categories": ["River", 2, 0, 13, 0], "values": ["River", 2, 2, 13, 2],
+         "trendline": {"type": "linear"}}
+    )  # fmt: skip
+    chart.set_title({"name": "Dissolved oxygen vs temperature"})
+    ws.insert_chart("F2", chart)
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    [regression] = [r for r in result.regressions if r.found_by == "trendline"]
+    found = [f for f in regression.findings if f.check == "axis-words-next-column"]
+    assert [f.kind for f in found] == ["range-shifted"]
+    meant = sps.linregress(temperature, oxygen)  # outside reference: scipy
+    written = sps.linregress(temperature, algae)
+    assert _close(found[0].evidence["slope_as_words_say"], float(meant.slope))
+    changes = (meant.pvalue < 0.05) != (written.pvalue < 0.05) or meant.slope * written.slope < 0
+    assert found[0].severity == ("critical" if changes else "major")
+    assert found[0].cells == [regression.y_range] == ["River!C3:C14"]
+
+
+def _fuel_sheet(book: Any, name: str, title: str) -> tuple[np.ndarray, np.ndarray]:
+    rng = np.random.default_rng(8)
+    load = np.linspace(2.0, 30.0, 10)
+    fuel = 3.1 + 0.8 * load + rng.normal(0, 1.5, 10)
+    ws = book.add_worksheet(name)
+    ws.write(0, 0, title)
+    _table(ws, ["Load (t)", "Fuel (L)"], [list(map(float, load)), list(map(float, fuel))])
+    return load, fuel
+
+
+def test_an_inverse_fit_beside_the_direct_one_is_not_a_swap(tmp_path: Path) -> None:
+    """Fuel on load and, below it, load on fuel (to read a load back from fuel): the sheet
+    title speaks for the first; the second is on purpose, not swapped."""
+    path = tmp_path / "inverse.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    load, fuel = _fuel_sheet(book, "Trucks", "Fuel vs load")
+    ws = book.get_worksheet_by_name("Trucks")
+    direct, inverse = sps.linregress(load, fuel), sps.linregress(fuel, load)  # scipy
+    ws.write(1, 4, "Slope")
+    ws.write_formula(1, 5, "=SLOPE(B3:B12,A3:A12)", None, float(direct.slope))
+    ws.write(6, 4, "Slope")
+    ws.write_formula(6, 5, "=SLOPE(A3:A12,B3:B12)", None, float(inverse.slope))
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    assert [f for f in result.all_findings() if f.check in CHECKS] == []
+
+
+def test_roles_left_open_by_the_formulas() -> None:
+    """The guards on their own: a pair read only through RSQ/CORREL, and a pair another
+    regression fits the other way round."""
+    load, fuel = Ref("T", 3, 1, 12, 1), Ref("T", 3, 2, 12, 2)
+    cell = Cell("T", 2, 6, 0.5, "=RSQ(A3:A12,B3:B12)")
+    correl_only = RegressionSpec("T/F2", "T", fuel, load, True, "formulas")
+    correl_only.uses = [PairUse(cell, "RSQ", load, fuel)]
+    assert symmetric_only(correl_only)
+    direct = RegressionSpec("T/F3", "T", load, fuel, True, "formulas")
+    direct.uses = [PairUse(cell, "SLOPE", fuel, load)]
+    assert not symmetric_only(direct)
+    inverse = RegressionSpec("T/F9", "T", fuel, load, True, "formulas")
+    inverse.uses = [PairUse(cell, "SLOPE", load, fuel)]
+    context = WorkbookContext(stored_values=True, formula_count=2, specs=[direct, inverse])
+    assert mirrored(context, direct) and mirrored(context, inverse)
+    context.specs = [direct, correl_only]
+    assert not mirrored(context, direct)  # a symmetric call fits no direction
+
+
+def test_a_pair_read_only_through_rsq_has_no_roles_to_swap(tmp_path: Path) -> None:
+    path = tmp_path / "rsq.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    load, fuel = _fuel_sheet(book, "Trucks", "Fuel vs load")
+    ws = book.get_worksheet_by_name("Trucks")
+    r = sps.linregress(load, fuel).rvalue  # scipy
+    ws.write(1, 4, "Slope (L per t)")
+    ws.write_formula(1, 5, "=SLOPE(B3:B12,A3:A12)", None, float(sps.linregress(load, fuel).slope))
+    ws.write(2, 4, "R²")
+    ws.write_formula(2, 5, "=RSQ(A3:A12,B3:B12)", None, float(r * r))  # x first: same value
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    assert [f for f in result.all_findings() if f.check in CHECKS] == []
+
+
+def test_the_case_workbook_holds_what_libreoffice_computed() -> None:
+    """fixtures/words/axis_words.xlsx was recalculated by LibreOffice: its stored slopes and
+    p-values equal the scenario's scipy fits of the ranges the formulas read (truth.json), so
+    the stored values the generated tests write are those a spreadsheet stores."""
+    folder = ROOT / "fixtures" / "words"
+    truth = json.loads((folder / "truth.json").read_text(encoding="utf-8"))
+    book = openpyxl.load_workbook(folder / "axis_words.xlsx", data_only=True)
+    for sheet, facts in truth.items():
+        for key in ("slope", "p_slope"):
+            cell = facts["cells"][key].rpartition("!")[2]
+            stored = book[sheet][cell].value
+            assert _close(float(stored), facts["as_written"][key], rel=1e-9), (sheet, key)
