@@ -11,8 +11,8 @@ words describe, and whether the conclusion (p across 0.05 or the slope's sign) c
 from __future__ import annotations
 
 import functools
-import json
 import itertools
+import json
 import sys
 import tempfile
 from pathlib import Path
