@@ -32,6 +32,7 @@ HEADER_ROWS_ABOVE = 3  # a header may sit a row or two above the data (a units r
 NEIGHBOUR_REACH = 2  # columns (rows) either side searched for the quantity the words name
 MAX_WORDS = 120  # longer texts are notes, not labels or titles
 TITLE_ROWS, TITLE_COLS = 3, 12  # where a sheet's title sits
+SAMPLE = 200  # cells looked at to tell a column of data
 RATE_ROLES = ("slope", "se_slope", "ci_slope_low", "ci_slope_high")  # labels in y per x
 
 _SPLIT = re.compile(r"[\s()\[\]{},;:|=—]+|(?<=[^\W\d_])-(?=[^\W\d_])")
@@ -157,13 +158,19 @@ def header_of(workbook: Workbook, ref: Ref) -> Header | None:
     return None
 
 
-def _numeric_rows(sheet: Sheet, ref: Ref) -> int:
-    return sum(
-        1
-        for r in range(ref.r1, ref.r2 + 1)
-        for c in range(ref.c1, ref.c2 + 1)
-        if isinstance(sheet.value(r, c), (int, float)) and not isinstance(sheet.value(r, c), bool)
+def _mostly_numbers(sheet: Sheet, ref: Ref) -> bool:
+    """Do at least half the cells of a one-column (one-row) range hold numbers? Judged on at
+    most SAMPLE cells spread over it: a range of a million rows is not read whole."""
+    count = ref.rows * ref.cols
+    picks = (
+        range(count) if count <= SAMPLE else [i * (count - 1) // SAMPLE for i in range(SAMPLE + 1)]
     )
+    cells = [(ref.r1 + k // ref.cols, ref.c1 + k % ref.cols) for k in picks]
+    numbers = 0
+    for row, col in cells:
+        value = sheet.value(row, col)
+        numbers += isinstance(value, (int, float)) and not isinstance(value, bool)
+    return 2 * numbers >= len(cells)
 
 
 def beside(workbook: Workbook, ref: Ref, other: Ref) -> list[Header]:
@@ -183,7 +190,7 @@ def beside(workbook: Workbook, ref: Ref, other: Ref) -> list[Header]:
                 return []
             if min(near.r1, near.c1) < 1 or _same(near, other):
                 continue
-            if 2 * _numeric_rows(sheet, near) < max(ref.rows, ref.cols):
+            if not _mostly_numbers(sheet, near):
                 continue  # not a column of data beside it
             header = header_of(workbook, near)
             if header is not None:
