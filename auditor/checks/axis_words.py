@@ -2,9 +2,9 @@
 
 Formulas alone cannot show a regression fitted the wrong way round when every cell does it the
 same way, nor a y range that reads the column beside the one meant: the numbers agree with
-themselves. The words can (:mod:`auditor.locate.words` reads them, :mod:`auditor.diagnose.
-roles_words` judges them): a slope labelled ``L fuel per t load`` is fuel on load whatever the
-formulas fit. Each finding quotes the words and both headers, and gives the fit the words
+themselves. The words can (:mod:`auditor.locate.meaning` reads them,
+:mod:`auditor.diagnose.roles_words` judges them): a slope labelled ``L fuel per t load`` is fuel
+on load whatever the formulas fit. Each finding quotes the words and both headers, and gives the fit the words
 describe, recomputed.
 """
 
@@ -12,24 +12,27 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-import numpy as np
-
+from auditor.checks.axis_support import (
+    conclusion_changes,
+    mirrored,
+    offset_words,
+    paired_fit,
+    read_elsewhere,
+    symmetric_only,
+    values,
+)
 from auditor.checks.base import check
 from auditor.checks.formula_support import local_text
 from auditor.context import WorkbookContext
 from auditor.diagnose.roles_words import Judgement, judge_shift, judge_swap
-from auditor.fit.ols import FitResult, fit_ols
-from auditor.formula.syntax import Ref
+from auditor.locate.meaning import Header, Meaning, read_meaning
 from auditor.locate.spec import RegressionSpec
-from auditor.locate.words import Header, Meaning, read_meaning
 from auditor.model import Finding, RegressionResult, Severity, stat_base
 from auditor.read.workbook import Workbook
 from auditor.wording import fmt
 
 # The statistics a swap of x and y changes (t, p, R² and r are symmetric in x and y).
 ROLE_STATS = ("slope", "intercept", "se_slope", "se_intercept", "residual_sd")
-MIN_POINTS = 3
-SYMMETRIC = frozenset({"RSQ", "CORREL", "PEARSON"})  # the same value with x and y swapped
 
 
 def _regressions(context: WorkbookContext) -> Iterator[tuple[RegressionSpec, RegressionResult]]:
@@ -38,30 +41,6 @@ def _regressions(context: WorkbookContext) -> Iterator[tuple[RegressionSpec, Reg
     for spec, result in zip(context.specs, context.results, strict=False):
         if spec.x_columns == 1 and spec.pasted is None and (result.reported or spec.trendlines):
             yield spec, result
-
-
-def symmetric_only(spec: RegressionSpec) -> bool:
-    """Are the calls that read the regression's own pair all symmetric in x and y (RSQ,
-    CORREL)? Then its roles of x and y are the locator's guess, not the author's."""
-    pair, mirror = (_key(spec.y), _key(spec.x)), (_key(spec.x), _key(spec.y))
-    own = [use for use in spec.uses if (_key(use.y), _key(use.x)) in (pair, mirror)]
-    return bool(own) and all(use.function in SYMMETRIC for use in own)
-
-
-def mirrored(context: WorkbookContext, spec: RegressionSpec) -> bool:
-    """Does some formula of the workbook fit the pair the other way round (an inverse fit
-    beside the direct one)? Then no order of the formulas contradicts the words."""
-    mirror = (_key(spec.x), _key(spec.y))
-    return any(
-        use.function not in SYMMETRIC and (_key(use.y), _key(use.x)) == mirror
-        for other in context.specs
-        if other is not spec
-        for use in other.uses
-    )
-
-
-def _key(ref: Ref) -> tuple[str, int, int, int, int]:
-    return (ref.sheet.lower(), ref.r1, ref.c1, ref.r2, ref.c2)
 
 
 def _cells(result: RegressionResult, keys: tuple[str, ...] | None = None) -> list[str]:
@@ -85,46 +64,12 @@ def _header(header: Header) -> str:
     return f"{header.ref.address} (headed '{header.text}' in {header.cell})"
 
 
-def values(workbook: Workbook, ref: Ref) -> list[float | None]:
-    """The numbers of a range in reading order (None where a cell holds no number)."""
-    sheet = workbook.sheet(ref.sheet)
-    out: list[float | None] = []
-    for row in range(ref.r1, ref.r2 + 1):
-        for col in range(ref.c1, ref.c2 + 1):
-            value = sheet.value(row, col) if sheet is not None else None
-            number = isinstance(value, (int, float)) and not isinstance(value, bool)
-            out.append(float(value) if number else None)  # type: ignore[arg-type]
-    return out
-
-
-def paired_fit(y: list[float | None], x: list[float | None], intercept: bool) -> FitResult | None:
-    """The fit over the pairs where both cells hold numbers (SLOPE's rule), None if too few."""
-    pairs = [(a, b) for a, b in zip(y, x, strict=False) if a is not None and b is not None]
-    if len(pairs) < MIN_POINTS:
-        return None
-    ys, xs = np.array(pairs).T
-    if not np.ptp(xs) > 0:
-        return None
-    return fit_ols(xs, ys, intercept=intercept)
-
-
 def _strength(judgement: Judgement) -> str:
     if any(c.strong and c.statement.strength == "rate" for c in judgement.cues):
         return "rate"
     if any(c.strong for c in judgement.cues):
         return "quantity named"
     return "conventions agree" if judgement.strong else "title order"
-
-
-def _read_elsewhere(context: WorkbookContext, spec: RegressionSpec, meant: Ref) -> bool:
-    """Does another regression of the workbook read the range the words name? Then the words
-    may well be that regression's (a title over two blocks), not evidence of a shift."""
-    return any(
-        _key(ref) == _key(meant)
-        for other in context.specs
-        if other is not spec
-        for ref in (other.x, other.y)
-    )
 
 
 def _weak_reason(judgement: Judgement) -> str:
@@ -242,7 +187,7 @@ def axis_words_next_column(context: WorkbookContext) -> list[Finding]:
         judgement = judge_shift(meaning)
         if judgement is None or judgement.meant is None or judgement.read is None:
             continue
-        if _read_elsewhere(context, spec, judgement.meant.ref):
+        if read_elsewhere(context, spec, judgement.meant.ref):
             continue
         alpha = context.policy.alpha if context.policy is not None else 0.05
         findings.append(_shift_finding(context.workbook, spec, result, judgement, alpha))
@@ -279,7 +224,7 @@ def _shift_finding(
             slope_as_written=a.get("slope"), p_as_written=a.get("p_slope"),
             slope_as_words_say=b.get("slope"), p_as_words_say=b.get("p_slope"),
         )  # fmt: skip
-        changes = _conclusion_changes(a, b, alpha)
+        changes = conclusion_changes(a, b, alpha)
         if changes and judgement.strong:
             severity = "critical"
         refit = (
@@ -291,8 +236,8 @@ def _shift_finding(
     message = (
         f"The formulas read {judgement.role} from {_header(read)}, but the "
         f"words {_quoted(judgement)} name '{meant.text}', the header of {meant.ref.address} "
-        f"beside it ({meant.cell}): the range looks moved {_offset(read.ref, meant.ref)}.{refit}"
-        f"{_weak_reason(judgement)}"
+        f"beside it ({meant.cell}): the range looks moved "
+        f"{offset_words(read.ref, meant.ref)}.{refit}{_weak_reason(judgement)}"
     )
     return Finding(
         check="axis-words-next-column",
@@ -304,28 +249,3 @@ def _shift_finding(
         fix=f"Point the {judgement.role} range of every formula of the block at "
         f"{local_text(meant.ref.address, home)} ('{meant.text}'), or correct the labels.",
     )
-
-
-def _conclusion_changes(
-    written: dict[str, float | int | None], meant: dict[str, float | int | None], alpha: float
-) -> str:
-    """Words for how the conclusion changes between the two fits ('' when it does not)."""
-    p_a, p_b = written.get("p_slope"), meant.get("p_slope")
-    s_a, s_b = written.get("slope"), meant.get("slope")
-    said = []
-    if p_a is not None and p_b is not None and (p_a < alpha) != (p_b < alpha):
-        said.append(f"significance at α = {fmt(alpha)} changes")
-    if s_a is not None and s_b is not None and s_a * s_b < 0:
-        said.append("the slope changes sign")
-    return ": " + " and ".join(said) if said else ""
-
-
-def _offset(read: Ref, meant: Ref) -> str:
-    """'one column to the right of the one meant' and the like."""
-    if read.c1 != meant.c1:
-        steps, unit, ways = read.c1 - meant.c1, "column", ("to the right of", "to the left of")
-    else:
-        steps, unit, ways = read.r1 - meant.r1, "row", ("below", "above")
-    count = "one" if abs(steps) == 1 else str(abs(steps))
-    plural = "" if abs(steps) == 1 else "s"
-    return f"{count} {unit}{plural} {ways[0] if steps > 0 else ways[1]} the one meant"

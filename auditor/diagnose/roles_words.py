@@ -1,6 +1,6 @@
 """Do the words give the formulas' ranges the roles the formulas give them?
 
-From a :class:`~auditor.locate.words.Meaning` (headers, the headers beside, statements of rates
+From a :class:`~auditor.locate.meaning.Meaning` (headers, the headers beside, statements of rates
 and titles) two judgements, each with the words that support it:
 
 - **swapped**: the words name the formulas' x as y and their y as x (``Slope (L fuel per t
@@ -20,7 +20,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from auditor.locate.words import Header, Meaning, Statement, shared
+from auditor.locate.meaning import Header, Meaning
+from auditor.locate.words import Statement, shared
 
 
 @dataclass(frozen=True)

@@ -1,11 +1,9 @@
-"""What the words around a regression say its x and y are: headers, statistic labels, titles.
+"""Words that name quantities and give roles: tokens, rates and titles.
 
-A regression's formulas name two ranges; its words name two quantities. The words come in three
-kinds, read here into a :class:`Meaning` (plain data, judged in
-:mod:`auditor.diagnose.roles_words`):
+A regression's formulas name two ranges; its words name two quantities (read into a
+:class:`~auditor.locate.meaning.Meaning`, judged in :mod:`auditor.diagnose.roles_words`). Two
+kinds of text give roles:
 
-- the **header** of each range: the text above a column of data (or left of a row), and the
-  headers of the columns (rows) beside it, which a range moved by one would read;
 - a **rate** in a statistic's label: ``Slope (kWh per °C)``, ``SE of slope (L fuel per t load)``,
   ``Pendiente (NTU por L/s)``: the slope's unit is y's unit per x's unit, a fact of arithmetic;
 - a **title** that names two quantities: ``Fuel vs load``, ``Turbidity against flow``,
@@ -20,20 +18,11 @@ from __future__ import annotations
 
 import re
 import unicodedata
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
-from auditor.formula.syntax import Ref
-from auditor.grid import column_letter
 from auditor.locate.roles import role_from_label
-from auditor.locate.spec import RegressionSpec
-from auditor.read.workbook import Cell, Sheet, Workbook
 
-HEADER_ROWS_ABOVE = 3  # a header may sit a row or two above the data (a units row between)
-NEIGHBOUR_REACH = 2  # columns (rows) either side searched for the quantity the words name
 MAX_WORDS = 120  # longer texts are notes, not labels or titles
-TITLE_ROWS, TITLE_COLS = 3, 12  # where a sheet's title sits
-SAMPLE = 200  # cells looked at to tell a column of data
-RATE_ROLES = ("slope", "se_slope", "ci_slope_low", "ci_slope_high")  # labels in y per x
 
 _SPLIT = re.compile(r"[\s()\[\]{},;:|=—]+|(?<=[^\W\d_])-(?=[^\W\d_])")
 # Words that name no quantity: articles and prepositions of the languages labels come in, and
@@ -94,16 +83,6 @@ def shared(a: frozenset[str], b: frozenset[str]) -> list[str]:
 
 
 @dataclass(frozen=True)
-class Header:
-    """The text naming one range (or a range beside it) and the cell it is in."""
-
-    text: str
-    cell: str
-    ref: Ref  # the range it names
-    words: frozenset[str]
-
-
-@dataclass(frozen=True)
 class Statement:
     """Words that give the roles: which quantity is y and which is x.
 
@@ -114,97 +93,6 @@ class Statement:
     strength: str
     y_words: frozenset[str]
     x_words: frozenset[str]
-
-
-@dataclass
-class Meaning:
-    """What the words around one regression say (empty lists where they say nothing)."""
-
-    x: Header | None = None
-    y: Header | None = None
-    x_beside: list[Header] = field(default_factory=list)  # headers of the columns beside x
-    y_beside: list[Header] = field(default_factory=list)
-    statements: list[Statement] = field(default_factory=list)
-
-
-def _clean(value: object) -> str | None:
-    if isinstance(value, str) and value.strip() and len(value) <= MAX_WORDS:
-        return value.strip()
-    return None
-
-
-def header_of(workbook: Workbook, ref: Ref) -> Header | None:
-    """The text above a one-column range (left of a one-row range), within a few cells."""
-    sheet = workbook.sheet(ref.sheet)
-    if sheet is None or ref.external:
-        return None
-    if ref.cols == 1 and ref.rows > 1:
-        spots = [(r, ref.c1) for r in range(ref.r1 - 1, max(0, ref.r1 - 1 - HEADER_ROWS_ABOVE), -1)]
-    elif ref.rows == 1 and ref.cols > 1:
-        spots = [(ref.r1, c) for c in range(ref.c1 - 1, max(0, ref.c1 - 1 - HEADER_ROWS_ABOVE), -1)]
-    else:
-        return None
-    for row, col in spots:
-        cell = sheet.get(row, col)
-        if cell is None or cell.value is None:
-            continue
-        text = _clean(cell.value) if not cell.formula else None
-        if text is None:
-            return None  # a number or formula above the data: no header, or data continuing
-        words = tokens(text)
-        return (
-            Header(text, f"{sheet.name}!{column_letter(col)}{row}", ref, words) if words else None
-        )
-    return None
-
-
-def _mostly_numbers(sheet: Sheet, ref: Ref) -> bool:
-    """Do at least half the cells of a one-column (one-row) range hold numbers? Judged on at
-    most SAMPLE cells spread over it: a range of a million rows is not read whole."""
-    count = ref.rows * ref.cols
-    picks = (
-        range(count) if count <= SAMPLE else [i * (count - 1) // SAMPLE for i in range(SAMPLE + 1)]
-    )
-    cells = [(ref.r1 + k // ref.cols, ref.c1 + k % ref.cols) for k in picks]
-    numbers = 0
-    for row, col in cells:
-        value = sheet.value(row, col)
-        numbers += isinstance(value, (int, float)) and not isinstance(value, bool)
-    return 2 * numbers >= len(cells)
-
-
-def beside(workbook: Workbook, ref: Ref, other: Ref) -> list[Header]:
-    """Headers of the numeric columns (rows) within reach of ``ref`` over the same rows
-    (columns), nearest first, ``other`` (the regression's other range) left out."""
-    sheet = workbook.sheet(ref.sheet)
-    if sheet is None or ref.external:
-        return []
-    found = []
-    for step in range(1, NEIGHBOUR_REACH + 1):
-        for sign in (-1, 1):
-            if ref.cols == 1 and ref.rows > 1:
-                near = Ref(ref.sheet, ref.r1, ref.c1 + sign * step, ref.r2, ref.c1 + sign * step)
-            elif ref.rows == 1 and ref.cols > 1:
-                near = Ref(ref.sheet, ref.r1 + sign * step, ref.c1, ref.r1 + sign * step, ref.c2)
-            else:
-                return []
-            if min(near.r1, near.c1) < 1 or _same(near, other):
-                continue
-            if not _mostly_numbers(sheet, near):
-                continue  # not a column of data beside it
-            header = header_of(workbook, near)
-            if header is not None:
-                found.append(header)
-    return found
-
-
-def _same(a: Ref, b: Ref) -> bool:
-    return a.sheet.lower() == b.sheet.lower() and (a.r1, a.c1, a.r2, a.c2) == (
-        b.r1,
-        b.c1,
-        b.r2,
-        b.c2,
-    )
 
 
 def _phrase_before(text: str, at: int, whole: bool) -> str:
@@ -240,135 +128,3 @@ def read_statement(text: str, cell: str, rate: bool) -> Statement | None:
     if not (y_words or x_words):
         return None
     return Statement(text, cell, "rate" if rate else "title", y_words, x_words)
-
-
-def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
-    """The words of one simple regression: its headers, those beside, and what its statistic
-    labels and the titles around it say. The block's own words (its labels, its title, its
-    chart's title) speak for it when they name a quantity of its table; the sheets' titles and
-    names only when they do not (a results sheet's top row may title other blocks)."""
-    meaning = Meaning()
-    if spec.x_columns != 1 or spec.pasted is not None:
-        return meaning  # several x columns (or a pasted table): no single x to name
-    meaning.x, meaning.y = header_of(workbook, spec.x), header_of(workbook, spec.y)
-    if meaning.x is None or meaning.y is None:
-        return meaning  # a range without a header: nothing to compare the words with
-    meaning.x_beside = beside(workbook, spec.x, spec.y)
-    meaning.y_beside = beside(workbook, spec.y, spec.x)
-    named = frozenset(w for h in [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
-                      for w in h.words)  # fmt: skip
-    block, sheet = (
-        _statements(_block_texts(workbook, spec)),
-        _statements(_sheet_texts(workbook, spec, (meaning.x, meaning.y))),
-    )
-    own = [s for s in block if shared(s.y_words | s.x_words, named)]
-    meaning.statements = own or _unique(block + sheet)
-    return meaning
-
-
-def _statements(texts: list[tuple[str, str, bool]]) -> list[Statement]:
-    out = []
-    for text, where, rate in texts:
-        statement = read_statement(text, where, rate)
-        if statement is not None:
-            out.append(statement)
-    return _unique(out)
-
-
-def _unique(statements: list[Statement]) -> list[Statement]:
-    seen: set[tuple[str, str]] = set()
-    out = []
-    for statement in statements:
-        key = (statement.text.lower(), statement.strength)
-        if key not in seen:
-            seen.add(key)
-            out.append(statement)
-    return out
-
-
-def _block_texts(workbook: Workbook, spec: RegressionSpec) -> list[tuple[str, str, bool]]:
-    """(text, where, is a rate label): the labels of the statistics (those of the slope and
-    its SE read as rates too), the block's title and the titles of charts whose trendline fits
-    the regression."""
-    out: list[tuple[str, str, bool]] = []
-    for stat in spec.stats.values():
-        base = stat.key.split("[")[0]
-        for words in (stat.label, stat.column_header):
-            if words:  # a label may be a rate, or a title above a column of statistics
-                where = _label_cell(workbook, stat.cell, words)
-                if base in RATE_ROLES:
-                    out.append((words, where, True))
-                out.append((words, where, False))
-    if spec.label:
-        out.append((spec.label, _title_cell(workbook, spec), False))
-    for use in spec.trendlines:
-        title = getattr(getattr(use, "chart", None), "title", "")
-        if title:
-            out.append((title, f"chart {title!r}", False))
-    return out
-
-
-def _sheet_texts(
-    workbook: Workbook, spec: RegressionSpec, headers: tuple[Header, Header]
-) -> list[tuple[str, str, bool]]:
-    """Titles around the data and the statistics: above the data headers, the top rows of
-    the sheets, and the sheets' names."""
-    out: list[tuple[str, str, bool]] = []
-    for header in headers:
-        out.extend(_above(workbook, header))
-    for name in dict.fromkeys([spec.sheet, spec.x.sheet, spec.y.sheet]):
-        sheet = workbook.sheet(name)
-        if sheet is None:
-            continue
-        out.append((sheet.name, f"sheet {sheet.name!r}", False))
-        for row in range(1, TITLE_ROWS + 1):
-            for col in range(1, TITLE_COLS + 1):
-                cell = sheet.get(row, col)
-                text = _clean(cell.value) if cell is not None and not cell.formula else None
-                if text and cell is not None:
-                    out.append((text, cell.address, False))
-    return out
-
-
-def _title_cell(workbook: Workbook, spec: RegressionSpec) -> str:
-    """Where the block's title sits: a few rows above its top statistic."""
-    cells = [s.cell for s in spec.stats.values()]
-    if not cells:
-        return spec.sheet
-    top = min(cells, key=lambda c: (c.row, c.col))
-    sheet = workbook.sheet(top.sheet)
-    for row in range(top.row - 1, max(0, top.row - 4), -1):
-        for col in range(max(1, top.col - 2), top.col + 1):
-            cell = sheet.get(row, col) if sheet is not None else None
-            if cell is not None and cell.value == spec.label:
-                return cell.address
-    return top.sheet
-
-
-def _label_cell(workbook: Workbook, cell: Cell, text: str) -> str:
-    """Where a statistic's label sits: left of the cell (three cells), above, or else the
-    cell itself (a label read from elsewhere, such as a block's column header)."""
-    sheet = workbook.sheet(cell.sheet)
-    spots = [(cell.row, cell.col - dc) for dc in (1, 2, 3)] + [(cell.row - 1, cell.col)]
-    for row, col in spots:
-        other = sheet.get(row, col) if sheet is not None and min(row, col) >= 1 else None
-        if other is not None and other.value == text:
-            return other.address
-    return cell.address
-
-
-def _above(workbook: Workbook, header: Header) -> list[tuple[str, str, bool]]:
-    """Texts within a few rows above a data header, over the table's width: its title."""
-    sheet = workbook.sheet(header.ref.sheet)
-    if sheet is None:
-        return []
-    _, _, spot = header.cell.rpartition("!")
-    row = int("".join(ch for ch in spot if ch.isdigit()))
-    out = []
-    for r in range(row - 1, max(0, row - 1 - HEADER_ROWS_ABOVE), -1):
-        for c in range(max(1, header.ref.c1 - 2), header.ref.c2 + 3):
-            cell = sheet.get(r, c)
-            text = _clean(cell.value) if cell is not None and not cell.formula else None
-            if text and cell is not None:
-                out.append((text, cell.address, False))
-    return out

@@ -24,7 +24,7 @@ import pytest
 import xlsxwriter
 from scipy import stats as sps
 
-from auditor.checks.axis_words import mirrored, symmetric_only
+from auditor.checks.axis_support import mirrored, symmetric_only
 from auditor.context import WorkbookContext
 from auditor.formula.syntax import Ref
 from auditor.locate.spec import PairUse, RegressionSpec

@@ -15,7 +15,8 @@ from scipy import stats as sps
 
 from auditor.diagnose.roles_words import contradictory, judge_shift, judge_swap, points_at
 from auditor.formula.syntax import Ref
-from auditor.locate.words import Header, Meaning, Statement, read_statement, same_word, tokens
+from auditor.locate.meaning import Header, Meaning
+from auditor.locate.words import Statement, read_statement, same_word, tokens
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
 
