@@ -4,8 +4,8 @@ Formulas alone cannot show a regression fitted the wrong way round when every ce
 same way, nor a y range that reads the column beside the one meant: the numbers agree with
 themselves. The words can (:mod:`auditor.locate.meaning` reads them,
 :mod:`auditor.diagnose.roles_words` judges them): a slope labelled ``L fuel per t load`` is fuel
-on load whatever the formulas fit. Each finding quotes the words and both headers, and gives the fit the words
-describe, recomputed.
+on load whatever the formulas fit. Each finding quotes the words and both headers, and gives
+the fit the words describe, recomputed.
 """
 
 from __future__ import annotations
@@ -65,8 +65,8 @@ def _header(header: Header) -> str:
 
 
 def _strength(judgement: Judgement) -> str:
-    if any(c.strong and c.statement.strength == "rate" for c in judgement.cues):
-        return "rate"
+    if any(c.strong and c.statement.factual for c in judgement.cues):
+        return "unit"
     if any(c.strong for c in judgement.cues):
         return "quantity named"
     return "conventions agree" if judgement.strong else "title order"

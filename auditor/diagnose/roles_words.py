@@ -97,7 +97,7 @@ def judge_swap(meaning: Meaning) -> Judgement | None:
     for statement in meaning.statements:
         says_y = points_at(statement.y_words, candidates)
         says_x = points_at(statement.x_words, candidates)
-        rate = statement.strength == "rate"  # a title's order is a convention: weak
+        rate = statement.factual  # a title's order is a convention: weak
         agree = (says_y and says_y[0] is meaning.y) or (says_x and says_x[0] is meaning.x)
         if agree:
             return None  # words that give the formulas' roles: no swap said consistently
@@ -184,7 +184,7 @@ def _shift_cue(
         return None
     header, matched = beside[0]
     names_other = said[1] is not None and said[1][0] is other
-    if statement.strength == "rate":
+    if statement.factual:
         if said[0] is not beside[0] or (said[1] is not None and not names_other):
             return None  # the quantity beside on the other side of "per": roles say no shift
         return Cue(statement, role, tuple(matched), header, strong=True)

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
 from auditor.locate.spec import RegressionSpec
-from auditor.locate.words import MAX_WORDS, Statement, read_statement, shared, tokens
+from auditor.locate.words import MAX_WORDS, Statement, read_statement, read_unit, shared, tokens
 from auditor.read.workbook import Cell, Sheet, Workbook
 
 HEADER_ROWS_ABOVE = 3  # a header may sit a row or two above the data (a units row between)
@@ -22,6 +22,7 @@ NEIGHBOUR_REACH = 2  # columns (rows) either side searched for the quantity the 
 TITLE_ROWS, TITLE_COLS = 3, 12  # where a sheet's title sits
 SAMPLE = 200  # cells looked at to tell a column of data
 RATE_ROLES = ("slope", "se_slope", "ci_slope_low", "ci_slope_high")  # labels in y per x
+UNIT_ROLES = ("intercept", "se_intercept", "residual_sd")  # labels in y's unit
 
 
 @dataclass(frozen=True)
@@ -149,10 +150,13 @@ def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
     return meaning
 
 
-def _statements(texts: list[tuple[str, str, bool]]) -> list[Statement]:
+def _statements(texts: list[tuple[str, str, str]]) -> list[Statement]:
     out = []
-    for text, where, rate in texts:
-        statement = read_statement(text, where, rate)
+    for text, where, kind in texts:
+        if kind == "unit":
+            statement = read_unit(text, where)
+        else:
+            statement = read_statement(text, where, kind == "rate")
         if statement is not None:
             out.append(statement)
     return _unique(out)
@@ -169,47 +173,49 @@ def _unique(statements: list[Statement]) -> list[Statement]:
     return out
 
 
-def _block_texts(workbook: Workbook, spec: RegressionSpec) -> list[tuple[str, str, bool]]:
-    """(text, where, is a rate label): the labels of the statistics (those of the slope and
-    its SE read as rates too), the block's title and the titles of charts whose trendline fits
-    the regression."""
-    out: list[tuple[str, str, bool]] = []
+def _block_texts(workbook: Workbook, spec: RegressionSpec) -> list[tuple[str, str, str]]:
+    """(text, where, kind): the labels of the statistics (those of the slope and its SE read
+    as rates, those in y's unit as units, every one as a title too: a title may head a column
+    of statistics), the block's title and the titles of charts whose trendline fits it."""
+    out: list[tuple[str, str, str]] = []
     for stat in spec.stats.values():
-        base = stat.key.split("[")[0]
+        base = stat.key.split("@")[0].split("[")[0]
         for words in (stat.label, stat.column_header):
-            if words:  # a label may be a rate, or a title above a column of statistics
+            if words:
                 where = _label_cell(workbook, stat.cell, words)
                 if base in RATE_ROLES:
-                    out.append((words, where, True))
-                out.append((words, where, False))
+                    out.append((words, where, "rate"))
+                if base in UNIT_ROLES:
+                    out.append((words, where, "unit"))
+                out.append((words, where, "title"))
     if spec.label:
-        out.append((spec.label, _title_cell(workbook, spec), False))
+        out.append((spec.label, _title_cell(workbook, spec), "title"))
     for use in spec.trendlines:
         title = getattr(getattr(use, "chart", None), "title", "")
         if title:
-            out.append((title, f"chart {title!r}", False))
+            out.append((title, f"chart {title!r}", "title"))
     return out
 
 
 def _sheet_texts(
     workbook: Workbook, spec: RegressionSpec, headers: tuple[Header, Header]
-) -> list[tuple[str, str, bool]]:
+) -> list[tuple[str, str, str]]:
     """Titles around the data and the statistics: above the data headers, the top rows of
     the sheets, and the sheets' names."""
-    out: list[tuple[str, str, bool]] = []
+    out: list[tuple[str, str, str]] = []
     for header in headers:
         out.extend(_above(workbook, header))
     for name in dict.fromkeys([spec.sheet, spec.x.sheet, spec.y.sheet]):
         sheet = workbook.sheet(name)
         if sheet is None:
             continue
-        out.append((sheet.name, f"sheet {sheet.name!r}", False))
+        out.append((sheet.name, f"sheet {sheet.name!r}", "title"))
         for row in range(1, TITLE_ROWS + 1):
             for col in range(1, TITLE_COLS + 1):
                 cell = sheet.get(row, col)
                 text = _clean(cell.value) if cell is not None and not cell.formula else None
                 if text and cell is not None:
-                    out.append((text, cell.address, False))
+                    out.append((text, cell.address, "title"))
     return out
 
 
@@ -240,7 +246,7 @@ def _label_cell(workbook: Workbook, cell: Cell, text: str) -> str:
     return cell.address
 
 
-def _above(workbook: Workbook, header: Header) -> list[tuple[str, str, bool]]:
+def _above(workbook: Workbook, header: Header) -> list[tuple[str, str, str]]:
     """Texts within a few rows above a data header, over the table's width: its title."""
     sheet = workbook.sheet(header.ref.sheet)
     if sheet is None:
@@ -253,5 +259,5 @@ def _above(workbook: Workbook, header: Header) -> list[tuple[str, str, bool]]:
             cell = sheet.get(r, c)
             text = _clean(cell.value) if cell is not None and not cell.formula else None
             if text and cell is not None:
-                out.append((text, cell.address, False))
+                out.append((text, cell.address, "title"))
     return out

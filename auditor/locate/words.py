@@ -6,6 +6,7 @@ kinds of text give roles:
 
 - a **rate** in a statistic's label: ``Slope (kWh per °C)``, ``SE of slope (L fuel per t load)``,
   ``Pendiente (NTU por L/s)``: the slope's unit is y's unit per x's unit, a fact of arithmetic;
+- a **unit** in the label of a statistic measured in y's unit: ``Intercept (NTU)``;
 - a **title** that names two quantities: ``Fuel vs load``, ``Turbidity against flow``,
   ``Yield as a function of dose``: by convention the first is y (common practice), so a title is
   weaker evidence than a rate.
@@ -86,13 +87,19 @@ def shared(a: frozenset[str], b: frozenset[str]) -> list[str]:
 class Statement:
     """Words that give the roles: which quantity is y and which is x.
 
-    ``strength`` is ``rate`` (a slope's unit: y per x) or ``title`` (y first by convention)."""
+    ``strength`` is ``rate`` (a slope's unit: y per x), ``unit`` (an intercept's or a residual
+    SD's unit: y's) or ``title`` (y first by convention)."""
 
     text: str
     cell: str
     strength: str
     y_words: frozenset[str]
     x_words: frozenset[str]
+
+    @property
+    def factual(self) -> bool:
+        """Says the roles by arithmetic (units), not by a convention of word order."""
+        return self.strength != "title"
 
 
 def _phrase_before(text: str, at: int, whole: bool) -> str:
@@ -128,3 +135,18 @@ def read_statement(text: str, cell: str, rate: bool) -> Statement | None:
     if not (y_words or x_words):
         return None
     return Statement(text, cell, "rate" if rate else "title", y_words, x_words)
+
+
+_BRACKETED = re.compile(r"[(\[]([^()\[\]]+)[)\]]")
+
+
+def read_unit(text: str, cell: str) -> Statement | None:
+    """The y unit in brackets in the label of a statistic measured in y's unit (an
+    intercept, a residual SD): ``Intercept (NTU)``, ``Ordenada al origen [L]``."""
+    if len(text) > MAX_WORDS:
+        return None
+    inside = _BRACKETED.findall(text)
+    if len(inside) != 1 or _RATE.search(f" {inside[0]} "):
+        return None  # no unit, several, or a rate (read as a rate where it belongs)
+    words = tokens(inside[0])
+    return Statement(text, cell, "unit", words, frozenset()) if words else None

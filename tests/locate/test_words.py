@@ -16,7 +16,7 @@ from scipy import stats as sps
 from auditor.diagnose.roles_words import contradictory, judge_shift, judge_swap, points_at
 from auditor.formula.syntax import Ref
 from auditor.locate.meaning import Header, Meaning
-from auditor.locate.words import Statement, read_statement, same_word, tokens
+from auditor.locate.words import Statement, read_statement, read_unit, same_word, tokens
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
 
@@ -73,6 +73,18 @@ def test_statements(text: str, rate: bool, y: set[str], x: set[str]) -> None:
 def test_words_without_roles(text: str, rate: bool) -> None:
     statement = read_statement(text, "A1", rate)
     assert statement is None or not (statement.y_words or statement.x_words)
+
+
+@pytest.mark.parametrize(
+    ("text", "y"),
+    [("Intercept (NTU)", {"ntu"}), ("Ordenada al origen [L]", {"l"}), ("s (mg/L)", {"mg/l"}),
+     ("Intercept", None), ("Intercept (b0)", {"b0"}), ("Intercept (NTU per L/s)", None),
+     ("Intercept (x = 0)", None)],
+)  # fmt: skip
+def test_units_of_statistics_in_y(text: str, y: set[str] | None) -> None:
+    statement = read_unit(text, "A1")
+    assert (statement.y_words if statement else None) == y
+    assert statement is None or (statement.factual and not statement.x_words)
 
 
 def _header(text: str, col: int) -> Header:
