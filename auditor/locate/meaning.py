@@ -63,13 +63,17 @@ def header_of(workbook: Workbook, ref: Ref) -> Header | None:
         spots = [(ref.r1, c) for c in range(ref.c1 - 1, max(0, ref.c1 - 1 - HEADER_ROWS_ABOVE), -1)]
     else:
         return None
-    for row, col in spots:
+    for index, (row, col) in enumerate(spots):
         cell = sheet.get(row, col)
         if cell is None or cell.value is None:
             continue
         text = _clean(cell.value) if not cell.formula else None
         if text is None:
             return None  # a number or formula above the data: no header, or data continuing
+        if text[0] in "([" and index + 1 < len(spots):  # a row of units under the names
+            name = sheet.get(*spots[index + 1])
+            named = _clean(name.value) if name is not None and not name.formula else None
+            text = f"{named} {text}" if named else text
         words = tokens(text)
         return (
             Header(text, f"{sheet.name}!{column_letter(col)}{row}", ref, words) if words else None

@@ -15,10 +15,11 @@ from scipy import stats as sps
 
 from auditor.diagnose.roles_words import contradictory, judge_shift, judge_swap, points_at
 from auditor.formula.syntax import Ref
-from auditor.locate.meaning import Header, Meaning
+from auditor.locate.meaning import Header, Meaning, header_of
 from auditor.locate.words import Statement, read_statement, read_unit, same_word, tokens
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
+from auditor.read.open import read_workbook
 
 
 @pytest.mark.parametrize(
@@ -145,3 +146,20 @@ def test_words_naming_a_range_another_regression_reads_are_not_a_shift(tmp_path:
     assert len(result.regressions) == 2
     found = [f for f in result.all_findings() if f.check.startswith("axis-words")]
     assert found == []
+
+
+def test_a_row_of_units_under_the_names_is_read_with_them(tmp_path: Path) -> None:
+    path = tmp_path / "units.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    ws = book.add_worksheet("Log")
+    ws.write_row(0, 0, ["Load", "Fuel"])
+    ws.write_row(1, 0, ["(t)", "[L]"])
+    ws.write_column(2, 0, [2.0, 5.0, 9.0, 14.0])
+    ws.write_column(2, 1, [4.0, 7.5, 11.0, 15.0])
+    book.close()
+    workbook = read_workbook(path)
+    load = header_of(workbook, Ref("Log", 3, 1, 6, 1))
+    fuel = header_of(workbook, Ref("Log", 3, 2, 6, 2))
+    assert load is not None and fuel is not None
+    assert (load.text, load.words, load.cell) == ("Load (t)", {"load", "t"}, "Log!A2")
+    assert (fuel.text, fuel.words) == ("Fuel [L]", {"fuel", "l"})
