@@ -14,7 +14,16 @@ from dataclasses import dataclass, field
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
 from auditor.locate.spec import RegressionSpec
-from auditor.locate.words import MAX_WORDS, Statement, read_statement, read_unit, shared, tokens
+from auditor.locate.words import (
+    MAX_WORDS,
+    Statement,
+    read_slash_rate,
+    read_statement,
+    read_unit,
+    shared,
+    tokens,
+    units_of,
+)
 from auditor.read.workbook import Cell, Sheet, Workbook
 
 HEADER_ROWS_ABOVE = 3  # a header may sit a row or two above the data (a units row between)
@@ -145,22 +154,24 @@ def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
     meaning.y_beside = beside(workbook, spec.y, spec.x)
     named = frozenset(w for h in [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
                       for w in h.words)  # fmt: skip
-    block, sheet = (
-        _statements(_block_texts(workbook, spec)),
-        _statements(_sheet_texts(workbook, spec, (meaning.x, meaning.y))),
-    )
+    headers = [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
+    units = [units_of(h.text) for h in headers]
+    block = _statements(_block_texts(workbook, spec), units)
+    sheet = _statements(_sheet_texts(workbook, spec, (meaning.x, meaning.y)), units)
     own = [s for s in block if shared(s.y_words | s.x_words, named)]
     meaning.statements = own or _unique(block + sheet)
     return meaning
 
 
-def _statements(texts: list[tuple[str, str, str]]) -> list[Statement]:
+def _statements(texts: list[tuple[str, str, str]], units: list[frozenset[str]]) -> list[Statement]:
     out = []
     for text, where, kind in texts:
         if kind == "unit":
             statement = read_unit(text, where)
         else:
             statement = read_statement(text, where, kind == "rate")
+        if statement is None and kind == "rate":
+            statement = read_slash_rate(text, where, [u for u in units if u])
         if statement is not None:
             out.append(statement)
     return _unique(out)

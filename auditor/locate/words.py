@@ -150,3 +150,26 @@ def read_unit(text: str, cell: str) -> Statement | None:
         return None  # no unit, several, or a rate (read as a rate where it belongs)
     words = tokens(inside[0])
     return Statement(text, cell, "unit", words, frozenset()) if words else None
+
+
+def units_of(header: str) -> frozenset[str]:
+    """The unit a header gives in brackets: ``Flow (L/s)`` -> {"l/s"} (empty when none)."""
+    inside = _BRACKETED.findall(header)
+    return tokens(inside[-1]) if inside else frozenset()
+
+
+def read_slash_rate(text: str, cell: str, units: list[frozenset[str]]) -> Statement | None:
+    """A rate written with a slash, ``Slope (kWh/°C)`` or ``Slope (NTU/L/s)``: units hold
+    slashes too, so it is split only where both sides are units of the table's headers
+    (``units``), and only when exactly one split is."""
+    if len(text) > MAX_WORDS or _RATE.search(f" {text} "):
+        return None
+    inside = _BRACKETED.findall(text)
+    if len(inside) != 1 or "/" not in inside[0]:
+        return None
+    parts = inside[0].split("/")
+    splits = [
+        (tokens("/".join(parts[:i])), tokens("/".join(parts[i:]))) for i in range(1, len(parts))
+    ]
+    found = [(y, x) for y, x in splits if y and x and y != x and y in units and x in units]
+    return Statement(text, cell, "rate", *found[0]) if len(found) == 1 else None

@@ -79,16 +79,16 @@ def _audited(group: str) -> list[tuple[Scenario, dict[str, Any], RegressionResul
 
 
 GROUPS: dict[str, list[Scenario]] = {
-    "swapped_units": _variety("swapped", ("rate", "names", "both", "unit"), DISTINCT)
+    "swapped_units": _variety("swapped", ("rate", "names", "both", "unit", "slash"), DISTINCT)
     + _variety("swapped", ("names",), (SHARED_UNIT,)),
     "swapped_title": _variety("swapped", ("title",), DISTINCT, y_first=True),
     "swapped_conventions": _variety("swapped", ("title",), TOPICS, y_first=False),
-    "shifted": _variety("shifted-y", ("rate", "names", "title"), DISTINCT)
+    "shifted": _variety("shifted-y", ("rate", "names", "title", "slash"), DISTINCT)
     + _variety("shifted-x", ("rate", "names", "title"), DISTINCT),
     "shifted_title": _variety("shifted-y", ("loose-title",), DISTINCT),
-    "clean": _variety("clean", ("rate", "names", "title", "both", "unit"), TOPICS),
+    "clean": _variety("clean", ("rate", "names", "title", "both", "unit", "slash"), TOPICS),
     "ambiguous": _variety("swapped", ("generic", "contradict"), DISTINCT)
-    + _variety("swapped", ("generic", "unit"), (SHARED_UNIT,))
+    + _variety("swapped", ("generic", "unit", "slash"), (SHARED_UNIT,))
     + _variety("swapped", ("rate",), (SHARED_UNIT,))
     + _variety("shifted-y", ("generic", "contradict"), DISTINCT),
 }

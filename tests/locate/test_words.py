@@ -16,7 +16,15 @@ from scipy import stats as sps
 from auditor.diagnose.roles_words import contradictory, judge_shift, judge_swap, points_at
 from auditor.formula.syntax import Ref
 from auditor.locate.meaning import Header, Meaning, header_of
-from auditor.locate.words import Statement, read_statement, read_unit, same_word, tokens
+from auditor.locate.words import (
+    Statement,
+    read_slash_rate,
+    read_statement,
+    read_unit,
+    same_word,
+    tokens,
+    units_of,
+)
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
 from auditor.read.open import read_workbook
@@ -86,6 +94,25 @@ def test_units_of_statistics_in_y(text: str, y: set[str] | None) -> None:
     statement = read_unit(text, "A1")
     assert (statement.y_words if statement else None) == y
     assert statement is None or (statement.factual and not statement.x_words)
+
+
+@pytest.mark.parametrize(
+    ("text", "y", "x"),
+    [("Slope (kWh/°C)", {"kwh"}, {"°c"}), ("Slope (NTU/L/s)", {"ntu"}, {"l/s"}),
+     ("Slope (L/s/mg/L)", {"l/s"}, {"mg/l"}), ("Slope (mg/L/h)", None, None),
+     ("Slope (kWh/m)", None, None), ("Slope", None, None)],
+)  # fmt: skip
+def test_slash_rates_split_where_both_sides_are_units_of_the_table(
+    text: str, y: set[str] | None, x: set[str] | None
+) -> None:
+    """Headers in kWh, °C, NTU, L/s, mg/L, h, mg and L/h: 'L/s/mg/L' splits one way only
+    (L/s | mg/L); 'mg/L/h' two (mg/L | h and mg | L/h), so it is not read."""
+    headers = ("Energy (kWh)", "Temp (°C)", "Turbidity (NTU)", "Flow (L/s)", "Conc (mg/L)",
+               "Time (h)", "Mass (mg)", "Rate (L/h)")  # fmt: skip
+    units = [units_of(h) for h in headers]
+    statement = read_slash_rate(text, "A1", units)
+    read = (statement.y_words, statement.x_words) if statement else (None, None)
+    assert read == (y, x)
 
 
 def _header(text: str, col: int) -> Header:
