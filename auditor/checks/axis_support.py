@@ -19,7 +19,10 @@ SYMMETRIC = frozenset({"RSQ", "CORREL", "PEARSON"})  # the same value with x and
 
 def symmetric_only(spec: RegressionSpec) -> bool:
     """Are the calls that read the regression's own pair all symmetric in x and y (RSQ,
-    CORREL)? Then its roles of x and y are the locator's guess, not the author's."""
+    CORREL), and nothing else oriented it? Then its roles of x and y are the locator's guess,
+    not the author's."""
+    if spec.found_by != "formulas":
+        return False  # oriented otherwise: a hand-built slope beside, a chart's axes, a table
     pair, mirror = (key_of(spec.y), key_of(spec.x)), (key_of(spec.x), key_of(spec.y))
     own = [use for use in spec.uses if (key_of(use.y), key_of(use.x)) in (pair, mirror)]
     return bool(own) and all(use.function in SYMMETRIC for use in own)

@@ -249,6 +249,9 @@ def test_roles_left_open_by_the_formulas() -> None:
     correl_only = RegressionSpec("T/F2", "T", fuel, load, True, "formulas")
     correl_only.uses = [PairUse(cell, "RSQ", load, fuel)]
     assert symmetric_only(correl_only)
+    correl_only.found_by = "hand-built"  # oriented by the hand-built slope beside it
+    assert not symmetric_only(correl_only)
+    correl_only.found_by = "formulas"
     direct = RegressionSpec("T/F3", "T", load, fuel, True, "formulas")
     direct.uses = [PairUse(cell, "SLOPE", fuel, load)]
     assert not symmetric_only(direct)
