@@ -156,8 +156,9 @@ def _swap_finding(
         message=message,
         evidence=evidence,
         fix=f"If the words are right, give {local_text(spec.x.address, home)} as y and "
-        f"{local_text(spec.y.address, home)} as x in every formula of the block; if the "
-        "formulas are right, correct the labels.",
+        f"{local_text(spec.y.address, home)} as x in every formula of the block (the slope: "
+        f"=SLOPE({local_text(spec.x.address, home)},{local_text(spec.y.address, home)})); if "
+        "the formulas are right, correct the labels.",
     )
 
 
@@ -247,5 +248,7 @@ def _shift_finding(
         message=message,
         evidence=evidence,
         fix=f"Point the {judgement.role} range of every formula of the block at "
-        f"{local_text(meant.ref.address, home)} ('{meant.text}'), or correct the labels.",
+        f"{local_text(meant.ref.address, home)} ('{meant.text}') (the slope: "
+        f"=SLOPE({local_text(y_meant.address, home)},{local_text(x_meant.address, home)})), "
+        "or correct the labels.",
     )

@@ -13,6 +13,7 @@ from __future__ import annotations
 import functools
 import itertools
 import json
+import re
 import sys
 import tempfile
 from pathlib import Path
@@ -26,11 +27,13 @@ from scipy import stats as sps
 
 from auditor.checks.axis_support import mirrored, symmetric_only
 from auditor.context import WorkbookContext
+from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Ref
 from auditor.locate.spec import PairUse, RegressionSpec
 from auditor.model import Finding, RegressionResult
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
+from auditor.read.open import read_workbook
 from auditor.read.workbook import Cell
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -119,6 +122,9 @@ def test_a_consistent_swap_is_named_from_units_and_names(index: int) -> None:
     assert f"'{x_name} ({scenario.topic.x[1]})' as x" in finding.message
     assert f"'{y_name} ({scenario.topic.y[1]})' as y" in finding.message
     assert result.reported["slope"].verdict == "confirmed"  # formulas alone see nothing wrong
+    # The fix's slope formula reads the words' y (the formulas' x) against the words' x.
+    x_cells, y_cells = (r.rpartition("!")[2] for r in (truth["x_range"], truth["y_range"]))
+    assert f"=SLOPE({x_cells},{y_cells})" in finding.fix
 
 
 @pytest.mark.parametrize("index", range(len(GROUPS["swapped_title"])), ids=_ids("swapped_title"))
@@ -155,6 +161,11 @@ def test_a_range_beside_the_named_one_is_named_and_its_fit_given(index: int) -> 
     assert _close(finding.evidence["slope_as_words_say"], meant["slope"])
     assert _close(finding.evidence["p_as_words_say"], meant["p_slope"])
     assert finding.evidence["role"] == scenario.plant[-1]
+    meant_cells = truth["words_range"].rpartition("!")[2]
+    other = truth["x_range" if scenario.plant == "shifted-y" else "y_range"].rpartition("!")[2]
+    slope = f"=SLOPE({meant_cells},{other})" if scenario.plant == "shifted-y" else (
+        f"=SLOPE({other},{meant_cells})")  # fmt: skip
+    assert slope in finding.fix
 
 
 def test_the_shift_set_holds_conclusions_that_change_and_some_that_do_not() -> None:
@@ -290,3 +301,23 @@ def test_the_case_workbook_holds_what_libreoffice_computed() -> None:
             cell = facts["cells"][key].rpartition("!")[2]
             stored = book[sheet][cell].value
             assert _close(float(stored), facts["as_written"][key], rel=1e-9), (sheet, key)
+
+
+def test_the_fix_formulas_give_the_fit_the_words_describe() -> None:
+    """Each finding on the case workbook suggests the slope formula the words describe: the
+    project's evaluator computes it on the workbook and it equals scipy's fit (truth.json)."""
+    path = ROOT / "fixtures" / "words" / "axis_words.xlsx"
+    truth = json.loads((path.parent / "truth.json").read_text(encoding="utf-8"))
+    evaluator = Evaluator(read_workbook(path))
+    result = audit_workbook(path, load_policy("general"))
+    checked = 0
+    for finding in result.all_findings():
+        if finding.check not in CHECKS:
+            continue
+        formula = re.search(r"=SLOPE\([^)]*\)", finding.fix)
+        assert formula is not None, finding.fix
+        sheet = finding.cells[0].rpartition("!")[0]
+        value = evaluator.evaluate(formula.group(0), sheet)
+        assert _close(value, truth[sheet]["as_words_say"]["slope"], rel=1e-9), sheet
+        checked += 1
+    assert checked == 5
