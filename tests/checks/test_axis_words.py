@@ -14,6 +14,7 @@ import functools
 import itertools
 import json
 import re
+import shutil
 import sys
 import tempfile
 from pathlib import Path
@@ -321,3 +322,34 @@ def test_the_fix_formulas_give_the_fit_the_words_describe() -> None:
         assert _close(value, truth[sheet]["as_words_say"]["slope"], rel=1e-9), sheet
         checked += 1
     assert checked == 5
+
+
+@pytest.mark.optional
+def test_libreoffice_recalculated_scenarios_draw_the_same_findings(tmp_path: Path) -> None:
+    """The generated scenarios with their stored values recalculated by LibreOffice (an outside
+    engine) draw the same findings, at the same severities, as with scipy's stored values."""
+    if shutil.which("soffice") is None and shutil.which("libreoffice") is None:
+        pytest.skip("LibreOffice (soffice) is not installed")
+    from make_fixtures import recalculate  # noqa: PLC0415 (fixtures/, on the path above)
+
+    groups = ("swapped_units", "shifted", "clean")
+    written, done = tmp_path / "written", tmp_path / "done"
+    written.mkdir()
+    done.mkdir()
+    for group in groups:
+        book = xlsxwriter.Workbook(str(written / f"{group}.xlsx"))
+        for i, scenario in enumerate(GROUPS[group]):
+            write_scenario(book, f"S{i}", scenario)
+        book.close()
+    recalculate(sorted(written.glob("*.xlsx")), done, tmp_path)
+    for group in groups:
+        result = audit_workbook(done / f"{group}.xlsx", load_policy("general"))
+        engine = sorted(
+            (f.cells[0], f.kind, f.severity) for f in result.all_findings() if f.check in CHECKS
+        )
+        ours = sorted(
+            (found[0].cells[0], found[0].kind, found[0].severity)
+            for _, _, _, found in _audited(group)
+            if found
+        )
+        assert engine == ours, group
