@@ -143,6 +143,7 @@ def _swap_finding(
             "significance stands."
         )
     home = spec.sheet
+    words_y, words_x = local_text(spec.x.address, home), local_text(spec.y.address, home)
     message = (
         f"The formulas fit {_header(meaning.y)} on {_header(meaning.x)}, but the words "
         f"{_quoted(judgement)} name "
@@ -155,10 +156,9 @@ def _swap_finding(
         cells=_cells(result),
         message=message,
         evidence=evidence,
-        fix=f"If the words are right, give {local_text(spec.x.address, home)} as y and "
-        f"{local_text(spec.y.address, home)} as x in every formula of the block (the slope: "
-        f"=SLOPE({local_text(spec.x.address, home)},{local_text(spec.y.address, home)})); if "
-        "the formulas are right, correct the labels.",
+        fix=f"If the words are right, give {words_y} as y and {words_x} as x in every formula "
+        f"of the block (the slope would then be =SLOPE({words_y},{words_x})); if the formulas "
+        "are right, correct the labels.",
     )
 
 
@@ -248,7 +248,7 @@ def _shift_finding(
         message=message,
         evidence=evidence,
         fix=f"Point the {judgement.role} range of every formula of the block at "
-        f"{local_text(meant.ref.address, home)} ('{meant.text}') (the slope: "
+        f"{local_text(meant.ref.address, home)} ('{meant.text}') (the slope would then be "
         f"=SLOPE({local_text(y_meant.address, home)},{local_text(x_meant.address, home)})), "
         "or correct the labels.",
     )

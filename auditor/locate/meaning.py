@@ -152,10 +152,9 @@ def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
         return meaning  # a range without a header: nothing to compare the words with
     meaning.x_beside = beside(workbook, spec.x, spec.y)
     meaning.y_beside = beside(workbook, spec.y, spec.x)
-    named = frozenset(w for h in [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
-                      for w in h.words)  # fmt: skip
     headers = [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
-    units = [units_of(h.text) for h in headers]
+    named = frozenset(w for h in headers for w in h.words)
+    units = [u for u in (units_of(h.text) for h in headers) if u]
     block = _statements(_block_texts(workbook, spec), units)
     sheet = _statements(_sheet_texts(workbook, spec, (meaning.x, meaning.y)), units)
     own = [s for s in block if shared(s.y_words | s.x_words, named)]
@@ -168,10 +167,12 @@ def _statements(texts: list[tuple[str, str, str]], units: list[frozenset[str]]) 
     for text, where, kind in texts:
         if kind == "unit":
             statement = read_unit(text, where)
+            if statement is not None and statement.y_words not in units:
+                statement = None  # brackets that hold no unit of the table: "(1/x²)", "(b0)"
         else:
             statement = read_statement(text, where, kind == "rate")
         if statement is None and kind == "rate":
-            statement = read_slash_rate(text, where, [u for u in units if u])
+            statement = read_slash_rate(text, where, units)
         if statement is not None:
             out.append(statement)
     return _unique(out)

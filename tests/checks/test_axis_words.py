@@ -353,3 +353,25 @@ def test_libreoffice_recalculated_scenarios_draw_the_same_findings(tmp_path: Pat
             if found
         )
         assert engine == ours, group
+
+
+def test_brackets_that_hold_no_unit_of_the_table_are_not_a_unit(tmp_path: Path) -> None:
+    """A weighted curve: 'Intercept (1/x²)' names the weighting, and a column 'Weight 1/x²'
+    sits beside the response. The bracket is no unit of any header: no shift is read."""
+    level = np.repeat([1.0, 2.0, 5.0, 10.0, 20.0, 50.0], 2)
+    response = 0.024 * level + 0.002 + np.random.default_rng(3).normal(0, 0.001, level.size)
+    path = tmp_path / "weighted.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    ws = book.add_worksheet("Run 7")
+    headers = ["Level (ng/mL)", "Peak area ratio", "Weight 1/x²"]
+    _table(ws, headers, [list(map(float, level)), list(map(float, response)),
+                         list(map(float, 1.0 / level**2))])  # fmt: skip
+    fit = sps.linregress(level, response)  # stored as a spreadsheet stores it (scipy)
+    ws.write(1, 5, "Slope (1/x²)")
+    ws.write_formula(1, 6, "=SLOPE(B3:B14,A3:A14)", None, float(fit.slope))
+    ws.write(2, 5, "Intercept (1/x²)")
+    ws.write_formula(2, 6, "=INTERCEPT(B3:B14,A3:A14)", None, float(fit.intercept))
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    assert len(result.regressions) == 1
+    assert [f.message for f in result.all_findings() if f.check in CHECKS] == []
