@@ -21,7 +21,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from auditor.locate.meaning import Header, Meaning
-from auditor.locate.words import Statement, shared
+from auditor.locate.words import Statement, akin, shared
 
 
 @dataclass(frozen=True)
@@ -99,6 +99,8 @@ def judge_swap(meaning: Meaning) -> Judgement | None:
         says_x = points_at(statement.x_words, candidates)
         rate = statement.factual  # a title's order is a convention: weak
         agree = (says_y and says_y[0] is meaning.y) or (says_x and says_x[0] is meaning.x)
+        agree = agree or akin(statement.y_words, meaning.y.words - meaning.x.words)
+        agree = agree or akin(statement.x_words, meaning.x.words - meaning.y.words)
         if agree:
             return None  # words that give the formulas' roles: no swap said consistently
         pair = (meaning.x, meaning.y)
@@ -153,7 +155,7 @@ def judge_shift(meaning: Meaning) -> Judgement | None:
         for statement in meaning.statements:
             # The phrase of this role first, then the other one.
             phrases = [statement.y_words, statement.x_words][:: 1 if role == "y" else -1]
-            named_own = [bool(shared(own.words, words)) for words in phrases]
+            named_own = [akin(own.words, words) for words in phrases]
             if named_own[0] or (statement.strength == "title" and named_own[1]):
                 agreed = True  # the words name the range the formulas read
                 continue

@@ -83,6 +83,20 @@ def shared(a: frozenset[str], b: frozenset[str]) -> list[str]:
     return sorted(w for w in a if any(same_word(w, v) for v in b))
 
 
+def akin(a: frozenset[str], b: frozenset[str]) -> bool:
+    """Might the two sets name the same thing? Looser than :func:`shared`: a prefix of three
+    letters counts (``abs`` ~ ``absorbance``). Used only to hold back a finding (words that may
+    name the range read agree with it), never to make one."""
+    return bool(shared(a, b)) or any(
+        min(len(u), len(v)) >= 3
+        and u.isalpha()
+        and v.isalpha()
+        and (u.startswith(v) or v.startswith(u))
+        for u in a
+        for v in b
+    )
+
+
 @dataclass(frozen=True)
 class Statement:
     """Words that give the roles: which quantity is y and which is x.

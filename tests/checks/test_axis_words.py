@@ -375,3 +375,22 @@ def test_brackets_that_hold_no_unit_of_the_table_are_not_a_unit(tmp_path: Path) 
     result = audit_workbook(path, load_policy("general"))
     assert len(result.regressions) == 1
     assert [f.message for f in result.all_findings() if f.check in CHECKS] == []
+
+
+def test_an_abbreviated_header_may_be_the_quantity_the_words_name(tmp_path: Path) -> None:
+    """'Abs' may abbreviate the absorbance the label names, beside a blank-corrected column:
+    the words may name the range read, so no shift is claimed."""
+    conc = np.array([0.0, 0.5, 1.0, 2.0, 4.0, 8.0])
+    absorbance = 0.004 + 0.121 * conc + np.random.default_rng(9).normal(0, 0.003, conc.size)
+    path = tmp_path / "photometer.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    ws = book.add_worksheet("Curve")
+    headers = ["Conc (mg/L)", "Abs", "Absorbance, blank-corrected"]
+    _table(ws, headers, [list(map(float, conc)), list(map(float, absorbance)),
+                         list(map(float, absorbance - 0.004))])  # fmt: skip
+    ws.write(1, 5, "Slope (absorbance per mg/L)")
+    slope = float(sps.linregress(conc, absorbance).slope)  # scipy, stored as a spreadsheet would
+    ws.write_formula(1, 6, "=SLOPE(B3:B8,A3:A8)", None, slope)
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    assert [f.message for f in result.all_findings() if f.check in CHECKS] == []

@@ -18,6 +18,7 @@ from auditor.formula.syntax import Ref
 from auditor.locate.meaning import Header, Meaning, header_of
 from auditor.locate.words import (
     Statement,
+    akin,
     read_slash_rate,
     read_statement,
     read_unit,
@@ -51,6 +52,9 @@ def test_same_word_takes_prefixes_of_four_letters_only() -> None:
     assert same_word("conc", "concentration")
     assert not same_word("t", "time")  # a unit letter is no abbreviation
     assert not same_word("min", "mineral")
+    # Looser, only to hold a finding back: three letters may abbreviate.
+    assert akin(frozenset({"abs"}), frozenset({"absorbance", "au"}))
+    assert not akin(frozenset({"t"}), frozenset({"time"}))
 
 
 @pytest.mark.parametrize(
