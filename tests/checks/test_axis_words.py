@@ -394,3 +394,43 @@ def test_an_abbreviated_header_may_be_the_quantity_the_words_name(tmp_path: Path
     book.close()
     result = audit_workbook(path, load_policy("general"))
     assert [f.message for f in result.all_findings() if f.check in CHECKS] == []
+
+
+# Quantities whose names and units overlap on purpose (shared words, shared units, prefixes,
+# abbreviations), drawn at random into clean regressions: the words match the formulas, so no
+# combination may draw a finding.
+POOL = (
+    ("Line speed", "m/min"), ("Line scrap", "%"), ("Scrap rate", "%"), ("Speed", "m/s"),
+    ("Temp", "°C"), ("Temperature", "K"), ("Time", "min"), ("Time on line", "h"),
+    ("Abs", "AU"), ("Absorbance", "AU"), ("Conc", "mg/L"), ("Concentration", "µg/L"),
+    ("Flow", "L/s"), ("Flow rate", "L/min"), ("Load", "t"), ("Fuel", "L"), ("Day", "d"),
+    ("Days stored", "d"), ("Height", "cm"), ("Shoot height", "mm"),
+)  # fmt: skip
+
+
+def _clean_topics(count: int) -> list[Scenario]:
+    rng = np.random.default_rng(2026)
+    words = ("rate", "names", "title", "both", "unit", "slash")
+    out = []
+    for i in range(count):
+        x, y, z = (POOL[j] for j in rng.choice(len(POOL), 3, replace=False))
+        topic = Topic("en" if i % 2 else "en2", x, y, z, (1, 20), float(rng.choice([-1, 1])),
+                      5.0, 0.8, float(rng.uniform(-0.5, 0.5)), 10.0, 1.0)  # fmt: skip
+        orientation = ("columns", "rows")[(i // 2) % 2]
+        form = ("slope_family", "index_linest")[(i // 3) % 2]
+        wording = words[i % len(words)]
+        out.append(
+            Scenario(topic, "clean", wording, orientation, form, 100 + i, y_first=i % 3 == 0)
+        )
+    return out
+
+
+GROUPS["clean_overlapping"] = _clean_topics(48)
+
+
+def test_clean_regressions_with_overlapping_names_and_units_draw_nothing() -> None:
+    audited = _audited("clean_overlapping")
+    found = [
+        (s.topic.x, s.topic.y, s.words, [f.message for f in f_]) for s, _, _, f_ in audited if f_
+    ]
+    assert found == []
