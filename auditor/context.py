@@ -58,3 +58,4 @@ class WorkbookContext:
     parsed: dict[tuple[str, int, int], Node] = field(default_factory=dict)  # formula ASTs by cell
     policy: Policy | None = None
     evaluator: Evaluator | None = None  # as-written values (equivalent spellings are evaluated)
+    words: list[Any] | None = None  # what the words say of each regression, read once (axis_words)

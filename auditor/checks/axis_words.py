@@ -11,6 +11,7 @@ the fit the words describe, recomputed.
 from __future__ import annotations
 
 from collections.abc import Iterator
+from dataclasses import dataclass
 
 from auditor.checks.axis_support import (
     conclusion_changes,
@@ -33,6 +34,32 @@ from auditor.wording import fmt
 
 # The statistics a swap of x and y changes (t, p, R² and r are symmetric in x and y).
 ROLE_STATS = ("slope", "intercept", "se_slope", "se_intercept", "residual_sd")
+
+
+@dataclass(frozen=True)
+class WordsRead:
+    """What the words say of one regression: its meaning and the two judgements (a shift is
+    judged only where no swap is: words that give the other roles are the swap check's)."""
+
+    spec: RegressionSpec
+    result: RegressionResult
+    meaning: Meaning
+    swap: Judgement | None
+    shift: Judgement | None
+
+
+def _read(context: WorkbookContext) -> list[WordsRead]:
+    """The words of every regression, read once and carried on the context (both checks
+    use them)."""
+    if context.words is None:
+        context.words = []
+        for spec, result in _regressions(context):
+            assert context.workbook is not None
+            meaning = read_meaning(context.workbook, spec)
+            swap = judge_swap(meaning)
+            shift = judge_shift(meaning) if swap is None else None
+            context.words.append(WordsRead(spec, result, meaning, swap, shift))
+    return list(context.words)
 
 
 def _regressions(context: WorkbookContext) -> Iterator[tuple[RegressionSpec, RegressionResult]]:
@@ -100,15 +127,13 @@ def axis_words_swapped(context: WorkbookContext) -> list[Finding]:
     ``y`` (no quantity named); or a label and a title that contradict each other.
     """
     findings = []
-    for spec, result in _regressions(context):
+    for read in _read(context):
+        if read.swap is None or symmetric_only(read.spec) or mirrored(context, read.spec):
+            continue
         assert context.workbook is not None
-        if symmetric_only(spec) or mirrored(context, spec):
-            continue
-        meaning = read_meaning(context.workbook, spec)
-        judgement = judge_swap(meaning)
-        if judgement is None or meaning.x is None or meaning.y is None:
-            continue
-        findings.append(_swap_finding(context.workbook, spec, result, meaning, judgement))
+        findings.append(
+            _swap_finding(context.workbook, read.spec, read.result, read.meaning, read.swap)
+        )
     return findings
 
 
@@ -178,20 +203,15 @@ def axis_words_next_column(context: WorkbookContext) -> list[Finding]:
     table (``Slope``), or words that name both columns.
     """
     findings = []
-    for spec, result in _regressions(context):
-        assert context.workbook is not None
-        if symmetric_only(spec):
-            continue
-        meaning = read_meaning(context.workbook, spec)
-        if judge_swap(meaning) is not None:
-            continue  # the words give the roles the other way round: the swap check says so
-        judgement = judge_shift(meaning)
+    for read in _read(context):
+        judgement, spec = read.shift, read.spec
         if judgement is None or judgement.meant is None or judgement.read is None:
             continue
-        if read_elsewhere(context, spec, judgement.meant.ref):
+        if symmetric_only(spec) or read_elsewhere(context, spec, judgement.meant.ref):
             continue
+        assert context.workbook is not None
         alpha = context.policy.alpha if context.policy is not None else 0.05
-        findings.append(_shift_finding(context.workbook, spec, result, judgement, alpha))
+        findings.append(_shift_finding(context.workbook, spec, read.result, judgement, alpha))
     return findings
 
 

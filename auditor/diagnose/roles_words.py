@@ -56,6 +56,8 @@ class Judgement:
 def points_at(words: frozenset[str], candidates: list[Header]) -> tuple[Header, list[str]] | None:
     """The one candidate header whose own words (shared with no other candidate) ``words``
     match, with the words matched; None when none or several match."""
+    if not words or not shared(words, frozenset(w for h in candidates for w in h.words)):
+        return None  # names nothing of the table (most titles and labels): no header to weigh
     hits = []
     for index, header in enumerate(candidates):
         others = frozenset(w for j, h in enumerate(candidates) if j != index for w in h.words)

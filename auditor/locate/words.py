@@ -80,7 +80,13 @@ def same_word(a: str, b: str) -> bool:
 
 def shared(a: frozenset[str], b: frozenset[str]) -> list[str]:
     """The words of ``a`` that some word of ``b`` matches."""
-    return sorted(w for w in a if any(same_word(w, v) for v in b))
+    found = set(a & b)
+    # Only words of four letters or more can match other than exactly (a prefix of them).
+    longer = [v for v in b if len(v) >= 4]
+    for word in a - found:
+        if len(word) >= 4 and any(same_word(word, v) for v in longer):
+            found.add(word)
+    return sorted(found)
 
 
 def akin(a: frozenset[str], b: frozenset[str]) -> bool:
