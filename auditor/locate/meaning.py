@@ -13,9 +13,9 @@ from dataclasses import dataclass, field
 
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
+from auditor.locate.meaning_texts import block_texts, clean, sheet_texts
 from auditor.locate.spec import RegressionSpec
 from auditor.locate.words import (
-    MAX_WORDS,
     Statement,
     read_slash_rate,
     read_statement,
@@ -24,14 +24,11 @@ from auditor.locate.words import (
     tokens,
     units_of,
 )
-from auditor.read.workbook import Cell, Sheet, Workbook
+from auditor.read.workbook import Sheet, Workbook
 
 HEADER_ROWS_ABOVE = 3  # a header may sit a row or two above the data (a units row between)
 NEIGHBOUR_REACH = 2  # columns (rows) either side searched for the quantity the words name
-TITLE_ROWS, TITLE_COLS = 3, 12  # where a sheet's title sits
 SAMPLE = 200  # cells looked at to tell a column of data
-RATE_ROLES = ("slope", "se_slope", "ci_slope_low", "ci_slope_high")  # labels in y per x
-UNIT_ROLES = ("intercept", "se_intercept", "residual_sd")  # labels in y's unit
 
 
 @dataclass(frozen=True)
@@ -55,12 +52,6 @@ class Meaning:
     statements: list[Statement] = field(default_factory=list)
 
 
-def _clean(value: object) -> str | None:
-    if isinstance(value, str) and value.strip() and len(value) <= MAX_WORDS:
-        return value.strip()
-    return None
-
-
 def header_of(workbook: Workbook, ref: Ref) -> Header | None:
     """The text above a one-column range (left of a one-row range), within a few cells."""
     sheet = workbook.sheet(ref.sheet)
@@ -76,12 +67,12 @@ def header_of(workbook: Workbook, ref: Ref) -> Header | None:
         cell = sheet.get(row, col)
         if cell is None or cell.value is None:
             continue
-        text = _clean(cell.value) if not cell.formula else None
+        text = clean(cell.value) if not cell.formula else None
         if text is None:
             return None  # a number or formula above the data: no header, or data continuing
         if text[0] in "([" and index + 1 < len(spots):  # a row of units under the names
             name = sheet.get(*spots[index + 1])
-            named = _clean(name.value) if name is not None and not name.formula else None
+            named = clean(name.value) if name is not None and not name.formula else None
             text = f"{named} {text}" if named else text
         words = tokens(text)
         return (
@@ -155,8 +146,11 @@ def read_meaning(workbook: Workbook, spec: RegressionSpec) -> Meaning:
     headers = [meaning.x, meaning.y, *meaning.x_beside, *meaning.y_beside]
     named = frozenset(w for h in headers for w in h.words)
     units = [u for u in (units_of(h.text) for h in headers) if u]
-    block = _statements(_block_texts(workbook, spec), units)
-    sheet = _statements(_sheet_texts(workbook, spec, (meaning.x, meaning.y)), units)
+    header_cells = {h.cell for h in headers}  # a header names its column: it says no roles
+    around = sheet_texts(workbook, spec, [(h.cell, h.ref) for h in (meaning.x, meaning.y)])
+    block = [s for s in _statements(block_texts(workbook, spec), units)
+             if s.cell not in header_cells]  # fmt: skip
+    sheet = [s for s in _statements(around, units) if s.cell not in header_cells]
     own = [s for s in block if shared(s.y_words | s.x_words, named)]
     meaning.statements = own or _unique(block + sheet)
     return meaning
@@ -186,94 +180,4 @@ def _unique(statements: list[Statement]) -> list[Statement]:
         if key not in seen:
             seen.add(key)
             out.append(statement)
-    return out
-
-
-def _block_texts(workbook: Workbook, spec: RegressionSpec) -> list[tuple[str, str, str]]:
-    """(text, where, kind): the labels of the statistics (those of the slope and its SE read
-    as rates, those in y's unit as units, every one as a title too: a title may head a column
-    of statistics), the block's title and the titles of charts whose trendline fits it."""
-    out: list[tuple[str, str, str]] = []
-    for stat in spec.stats.values():
-        base = stat.key.split("@")[0].split("[")[0]
-        for words in (stat.label, stat.column_header):
-            if words:
-                where = _label_cell(workbook, stat.cell, words)
-                if base in RATE_ROLES:
-                    out.append((words, where, "rate"))
-                if base in UNIT_ROLES:
-                    out.append((words, where, "unit"))
-                out.append((words, where, "title"))
-    if spec.label:
-        out.append((spec.label, _title_cell(workbook, spec), "title"))
-    for use in spec.trendlines:
-        title = getattr(getattr(use, "chart", None), "title", "")
-        if title:
-            out.append((title, f"chart {title!r}", "title"))
-    return out
-
-
-def _sheet_texts(
-    workbook: Workbook, spec: RegressionSpec, headers: tuple[Header, Header]
-) -> list[tuple[str, str, str]]:
-    """Titles around the data and the statistics: above the data headers, the top rows of
-    the sheets, and the sheets' names."""
-    out: list[tuple[str, str, str]] = []
-    for header in headers:
-        out.extend(_above(workbook, header))
-    for name in dict.fromkeys([spec.sheet, spec.x.sheet, spec.y.sheet]):
-        sheet = workbook.sheet(name)
-        if sheet is None:
-            continue
-        out.append((sheet.name, f"sheet {sheet.name!r}", "title"))
-        for row in range(1, TITLE_ROWS + 1):
-            for col in range(1, TITLE_COLS + 1):
-                cell = sheet.get(row, col)
-                text = _clean(cell.value) if cell is not None and not cell.formula else None
-                if text and cell is not None:
-                    out.append((text, cell.address, "title"))
-    return out
-
-
-def _title_cell(workbook: Workbook, spec: RegressionSpec) -> str:
-    """Where the block's title sits: a few rows above its top statistic."""
-    cells = [s.cell for s in spec.stats.values()]
-    if not cells:
-        return spec.sheet
-    top = min(cells, key=lambda c: (c.row, c.col))
-    sheet = workbook.sheet(top.sheet)
-    for row in range(top.row - 1, max(0, top.row - 4), -1):
-        for col in range(max(1, top.col - 2), top.col + 1):
-            cell = sheet.get(row, col) if sheet is not None else None
-            if cell is not None and cell.value == spec.label:
-                return cell.address
-    return top.sheet
-
-
-def _label_cell(workbook: Workbook, cell: Cell, text: str) -> str:
-    """Where a statistic's label sits: left of the cell (three cells), above, or else the
-    cell itself (a label read from elsewhere, such as a block's column header)."""
-    sheet = workbook.sheet(cell.sheet)
-    spots = [(cell.row, cell.col - dc) for dc in (1, 2, 3)] + [(cell.row - 1, cell.col)]
-    for row, col in spots:
-        other = sheet.get(row, col) if sheet is not None and min(row, col) >= 1 else None
-        if other is not None and other.value == text:
-            return other.address
-    return cell.address
-
-
-def _above(workbook: Workbook, header: Header) -> list[tuple[str, str, str]]:
-    """Texts within a few rows above a data header, over the table's width: its title."""
-    sheet = workbook.sheet(header.ref.sheet)
-    if sheet is None:
-        return []
-    _, _, spot = header.cell.rpartition("!")
-    row = int("".join(ch for ch in spot if ch.isdigit()))
-    out = []
-    for r in range(row - 1, max(0, row - 1 - HEADER_ROWS_ABOVE), -1):
-        for c in range(max(1, header.ref.c1 - 2), header.ref.c2 + 3):
-            cell = sheet.get(r, c)
-            text = _clean(cell.value) if cell is not None and not cell.formula else None
-            if text and cell is not None:
-                out.append((text, cell.address, "title"))
     return out

@@ -434,3 +434,71 @@ def test_clean_regressions_with_overlapping_names_and_units_draw_nothing() -> No
         (s.topic.x, s.topic.y, s.words, [f.message for f in f_]) for s, _, _, f_ in audited if f_
     ]
     assert found == []
+
+
+def test_a_grid_of_statistics_lends_its_row_labels_to_every_column(tmp_path: Path) -> None:
+    """A results sheet: statistics in rows labelled once in column A ('Slope (NTU per L/s)'),
+    one site per column; site C's formulas fit flow on turbidity. The label's rate reaches the
+    third column over the filled cells between (a fact: major, not a title's convention)."""
+    rng = np.random.default_rng(12)
+    path = tmp_path / "grid.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    data, results = book.add_worksheet("Data"), book.add_worksheet("Results")
+    results.write_column(1, 0, ["Slope (NTU per L/s)", "Intercept (NTU)", "p-value"])
+    truths = []
+    for site in range(3):
+        flow = np.round(np.linspace(2.0, 40.0, 10) + rng.uniform(-0.5, 0.5, 10), 2)
+        turbidity = np.round(1.4 + 0.21 * flow + rng.normal(0, 0.9, 10), 3)
+        c0 = 3 * site
+        data.write_row(0, c0, ["Flow (L/s)", "Turbidity (NTU)"])
+        data.write_column(1, c0, list(map(float, flow)))
+        data.write_column(1, c0 + 1, list(map(float, turbidity)))
+        xs, ys = (f"Data!{chr(65 + c0 + k)}2:{chr(65 + c0 + k)}11" for k in (0, 1))
+        if site == 2:
+            xs, ys = ys, xs  # every cell of site C fits flow on turbidity
+        a, b = (turbidity, flow) if site == 2 else (flow, turbidity)
+        fit = sps.linregress(a, b)  # stored as a spreadsheet stores it (scipy)
+        col = chr(66 + site)
+        results.write(0, 1 + site, f"Site {'ABC'[site]}")
+        results.write_formula(1, 1 + site, f"=SLOPE({ys},{xs})", None, float(fit.slope))
+        results.write_formula(2, 1 + site, f"=INTERCEPT({ys},{xs})", None, float(fit.intercept))
+        p = f"=T.DIST.2T(ABS({col}2/(STEYX({ys},{xs})/SQRT(DEVSQ({xs})))),8)"
+        results.write_formula(3, 1 + site, p, None, float(fit.pvalue))
+        truths.append(sps.linregress(flow, turbidity))
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    found = [f for f in result.all_findings() if f.check in CHECKS]
+    assert [(f.kind, f.severity, f.cells[0]) for f in found] == [
+        ("xy-swapped", "major", "Results!D2")
+    ]
+    assert "'Slope (NTU per L/s)' (Results!A2)" in found[0].message
+    assert _close(found[0].evidence["slope_as_words_say"], float(truths[2].slope))
+
+
+def test_a_column_of_predictions_headed_by_the_typed_equation_says_no_roles(tmp_path: Path) -> None:
+    """A column 'Predicted fuel (y = 0.8x + 3.1)' of =(0.8*$A3)+3.1 beside the data, typed from a
+    chart's trendline: its header is a column's name and a typed equation, not words about the
+    roles of another range; nothing is flagged."""
+    rng = np.random.default_rng(17)
+    load = np.round(np.linspace(2.0, 30.0, 10), 1)
+    fuel = np.round(3.1 + 0.8 * load + rng.normal(0, 1.2, 10), 2)
+    fit = sps.linregress(load, fuel)  # scipy
+    b1, b0 = round(float(fit.slope), 4), round(float(fit.intercept), 3)
+    path = tmp_path / "predicted.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    ws = book.add_worksheet("Trucks")
+    ws.write_row(0, 0, ["Load (t)", "Fuel (L)", "", f"Predicted fuel (y = {b1}x + {b0})"])
+    for i, (a, b) in enumerate(zip(load, fuel, strict=True)):
+        ws.write_number(1 + i, 0, float(a))
+        ws.write_number(1 + i, 1, float(b))
+        ws.write_formula(1 + i, 3, f"=({b1}*$A{2 + i})+{b0}", None, b1 * float(a) + b0)
+    chart = book.add_chart({"type": "scatter"})
+    chart.add_series(
+        {"categories": ["Trucks", 1, 0, 10, 0], "values": ["Trucks", 1, 1, 10, 1],
+         "trendline": {"type": "linear", "display_equation": True}}
+    )  # fmt: skip
+    ws.insert_chart("F2", chart)
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    assert result.regressions
+    assert [f.message for f in result.all_findings() if f.check in CHECKS] == []
