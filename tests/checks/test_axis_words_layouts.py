@@ -24,6 +24,12 @@ from auditor.read.workbook import Cell
 CHECKS = ("axis-words-swapped", "axis-words-next-column")
 
 
+def _stat(ws: Any, at: tuple[int, int], label: str, formula: str, stored: float) -> None:
+    """A label and, right of it, a formula with the value a spreadsheet would store."""
+    ws.write(at[0], at[1], label)
+    ws.write_formula(at[0], at[1] + 1, formula, None, float(stored))
+
+
 def _close(a: object, b: float, rel: float = 1e-6) -> bool:
     return isinstance(a, float) and abs(a - b) <= rel * max(abs(a), abs(b))
 
@@ -84,10 +90,8 @@ def test_an_inverse_fit_beside_the_direct_one_is_not_a_swap(tmp_path: Path) -> N
     load, fuel = _fuel_sheet(book, "Trucks", "Fuel vs load")
     ws = book.get_worksheet_by_name("Trucks")
     direct, inverse = sps.linregress(load, fuel), sps.linregress(fuel, load)  # scipy
-    ws.write(1, 4, "Slope")
-    ws.write_formula(1, 5, "=SLOPE(B3:B12,A3:A12)", None, float(direct.slope))
-    ws.write(6, 4, "Slope")
-    ws.write_formula(6, 5, "=SLOPE(A3:A12,B3:B12)", None, float(inverse.slope))
+    _stat(ws, (1, 4), "Slope", "=SLOPE(B3:B12,A3:A12)", direct.slope)
+    _stat(ws, (6, 4), "Slope", "=SLOPE(A3:A12,B3:B12)", inverse.slope)
     book.close()
     result = audit_workbook(path, load_policy("general"))
     assert [f for f in result.all_findings() if f.check in CHECKS] == []
@@ -142,10 +146,8 @@ def test_brackets_that_hold_no_unit_of_the_table_are_not_a_unit(tmp_path: Path) 
     _table(ws, headers, [list(map(float, level)), list(map(float, response)),
                          list(map(float, 1.0 / level**2))])  # fmt: skip
     fit = sps.linregress(level, response)  # stored as a spreadsheet stores it (scipy)
-    ws.write(1, 5, "Slope (1/x²)")
-    ws.write_formula(1, 6, "=SLOPE(B3:B14,A3:A14)", None, float(fit.slope))
-    ws.write(2, 5, "Intercept (1/x²)")
-    ws.write_formula(2, 6, "=INTERCEPT(B3:B14,A3:A14)", None, float(fit.intercept))
+    _stat(ws, (1, 5), "Slope (1/x²)", "=SLOPE(B3:B14,A3:A14)", fit.slope)
+    _stat(ws, (2, 5), "Intercept (1/x²)", "=INTERCEPT(B3:B14,A3:A14)", fit.intercept)
     book.close()
     result = audit_workbook(path, load_policy("general"))
     assert len(result.regressions) == 1
