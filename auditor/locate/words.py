@@ -31,7 +31,7 @@ _SPLIT = re.compile(r"[\s()\[\]{},;:|=—]+|(?<=[^\W\d_])-(?=[^\W\d_])")
 _EMPTY = frozenset(
     "a an the of in at on for and or to by with from per vs versus against de la el los las "
     "del en y e por con der die das des dem den und von vom pro je gegen le les du et par sur "
-    "contre "
+    "contre di da do della van het als "
     "x y x1 y1 xi yi value values data variable var series col column no nr number "
     "obs observation index i n".split()
 )
@@ -40,8 +40,8 @@ _EMPTY = frozenset(
 _RATE = re.compile(r"\s(?:per|por|pro|je|par)\s|\s/\s", re.I)
 # A title naming y then x (y first by convention, common practice).
 _TITLE = re.compile(
-    r"\s(?:vs\.?|v\.|versus|against|as a function|frente a|contra|en funci[oó]n|"
-    r"gegen(?:über)?|in abhängigkeit|en fonction|contre)\s",
+    r"\s(?:vs\.?|v\.|versus|against|as a function|frente a|contra|en funci[oó]n|em função|"
+    r"gegen(?:über)?|in abhängigkeit|en fonction|contre|contro|in funzione|tegen|als functie)\s",
     re.I,
 )
 _OPEN = "([{,:;"

@@ -71,6 +71,9 @@ def test_same_word_takes_prefixes_of_four_letters_only() -> None:
         ("Turbidez en función del caudal", False, {"turbidez"}, {"caudal"}),
         ("Trübung gegen Durchfluss", False, {"trübung"}, {"durchfluss"}),
         ("Site 4 — Turbidity vs flow", False, {"site", "turbidity"}, {"flow"}),
+        ("Torbidità in funzione della portata", False, {"torbidità"}, {"portata"}),
+        ("Troebelheid als functie van debiet", False, {"troebelheid"}, {"debiet"}),
+        ("Turbidez em função da vazão", False, {"turbidez"}, {"vazão"}),
     ],
 )
 def test_statements(text: str, rate: bool, y: set[str], x: set[str]) -> None:
