@@ -12,8 +12,10 @@ and titles) two judgements, each with the words that support it:
 A statement points at a header when its words match a word of that header that the other
 headers in question do not share (``mg/L`` on both axes says nothing). Any statement that agrees
 with the formulas' roles cancels the judgement: words that contradict each other are no
-evidence. Rates (a slope's unit is y per x, arithmetic) are strong; titles (y first by
-convention, common practice) are weak, and a judgement resting on titles alone is only a risk.
+evidence. Rates and units (a slope's unit is y per x, an intercept's is y's: arithmetic) are
+strong; a title's order (y first by convention, common practice) is weak, and a swap resting on
+one convention alone is only a risk; two independent conventions that agree (the title's order
+and the table's, x before y) make it major.
 """
 
 from __future__ import annotations
@@ -177,9 +179,9 @@ def _shift_cue(
 ) -> Cue | None:
     """What one statement says of a range beside ``candidates[0]`` (the range read; then the
     regression's other range, then the ranges beside); ``phrases``: the words of this role,
-    then those of the other. A rate names the role by its side of
-    "per" (strong). A title names it by its order (weak), unless its other phrase names the
-    regression's other range: then the quantity not read is named whatever the order (strong).
+    then those of the other. A rate or a unit names the role by arithmetic (strong). A title
+    names it by its order (weak), unless its other phrase names the regression's other range:
+    then the quantity not read is named whatever the order (strong).
     """
     own, other = candidates[0], candidates[1]
     said = [points_at(words, candidates) for words in phrases]
