@@ -174,6 +174,11 @@ def _swap_finding(
         f"{_quoted(judgement)} name "
         f"'{meaning.x.text}' as y and '{meaning.y.text}' as x.{refit}{_weak_reason(judgement)}"
     )
+    if judgement.strong and not changed:
+        message += (
+            " No value reported here depends on the roles (t, p and R² do not), so it is a risk "
+            "for what is built on the line, not a wrong number."
+        )
     return Finding(
         check="axis-words-swapped",
         kind="xy-swapped",
