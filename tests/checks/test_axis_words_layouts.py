@@ -239,3 +239,27 @@ def test_a_column_of_predictions_headed_by_the_typed_equation_says_no_roles(tmp_
     result = audit_workbook(path, load_policy("general"))
     assert result.regressions
     assert [f.message for f in result.all_findings() if f.check in CHECKS] == []
+
+
+def test_a_chart_drawn_the_other_way_round_is_a_risk_when_no_value_is_reported(
+    tmp_path: Path,
+) -> None:
+    """'Fuel vs load' over a scatter of load (values) against fuel (categories), the table
+    listing load first: two conventions agree on a swap, but nothing reported depends on it."""
+    path = tmp_path / "chart.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    load, fuel = _fuel_sheet(book, "Trucks", "Fuel vs load")
+    chart = book.add_chart({"type": "scatter"})
+    chart.add_series(
+        {"categories": ["Trucks", 2, 1, 11, 1], "values": ["Trucks", 2, 0, 11, 0],
+         "trendline": {"type": "linear"}}
+    )  # fmt: skip
+    chart.set_title({"name": "Fuel vs load"})
+    book.get_worksheet_by_name("Trucks").insert_chart("E2", chart)
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    [regression] = [r for r in result.regressions if r.found_by == "trendline"]
+    found = [f for f in regression.findings if f.check in CHECKS]
+    assert [(f.kind, f.severity) for f in found] == [("xy-swapped", "minor")]
+    assert "No value reported here depends on the roles" in found[0].message
+    assert _close(found[0].evidence["slope_as_words_say"], float(sps.linregress(load, fuel).slope))
