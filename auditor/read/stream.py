@@ -28,7 +28,7 @@ from auditor.read.book import BookState
 from auditor.read.charts import read_charts
 from auditor.read.links import external_links
 from auditor.read.parts import read_book, read_number_formats, read_shared_strings, workbook_part
-from auditor.read.sheet import SheetReader
+from auditor.read.scan import read_sheet
 from auditor.read.tables import read_tables
 from auditor.read.workbook import DefinedName, Sheet, Table, Workbook
 
@@ -44,7 +44,9 @@ UNPACKING_ERRORS = (
 )
 
 
-def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) -> Workbook:
+def _read_book(
+    archive: zipfile.ZipFile, label: str, path: Path, digest: str, fast: bool
+) -> Workbook:
     book_part = workbook_part(archive, label)
     parts = read_book(archive, book_part, label)
     ns = "{" + parts.namespace + "}"
@@ -68,7 +70,7 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
             raise UnreadableWorkbook(
                 f"{label}: two sheets are named {entry.name!r}; the file is damaged"
             )
-        sheets[entry.name] = SheetReader(book, entry.name).read(entry.part)
+        sheets[entry.name] = read_sheet(book, entry.name, entry.part, fast)
         for table in read_tables(archive, entry.name, entry.part, label):
             tables.setdefault(table.name.upper(), table)
     names = [
@@ -89,9 +91,10 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
     )
 
 
-def read_package(path: Path, digest: str) -> Workbook:
+def read_package(path: Path, digest: str, fast: bool = True) -> Workbook:
     """The workbook at ``path`` (already checked by
-    :func:`auditor.read.workbook.check_container`)."""
+    :func:`auditor.read.workbook.check_container`); ``fast``: sheets by the fast scanner
+    (:mod:`auditor.read.scan`) where it recognises them, else all by the lxml reader."""
     label = path.name
     # Millions of cells are allocated and none form cycles: the cyclic collector would only
     # re-scan them again and again (a fifth of the reading time at 200,000 rows).
@@ -99,7 +102,7 @@ def read_package(path: Path, digest: str) -> Workbook:
     gc.disable()
     try:
         with zipfile.ZipFile(path) as archive:
-            return _read_book(archive, label, path, digest)
+            return _read_book(archive, label, path, digest, fast)
     except UNPACKING_ERRORS as exc:
         raise UnreadableWorkbook(
             f"{label} could not be unpacked ({type(exc).__name__}: {exc}); the file is damaged "

@@ -1,0 +1,209 @@
+"""Cells from the fields the fast scanner found: the hot loop, and the general case.
+
+The values are typed exactly as :class:`auditor.read.sheet.SheetReader` types them (the same
+tests, in the same order, on the same text) and formulas go through that reader's own
+``_formula``, so shared formulas, array blocks and data tables are handled by one piece of code.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from openpyxl.utils.datetime import from_ISO8601, to_excel
+
+from auditor.read.book import COLUMN_CACHE, BookState, column_number
+from auditor.read.scan_markup import Node, plain_text, unescape
+from auditor.read.sheet import (
+    _SET_ARRAY,
+    _SET_COL,
+    _SET_FORMAT,
+    _SET_FORMULA,
+    _SET_ROW,
+    _SET_SHEET,
+    _SET_VALUE,
+    NOT_A_NUMBER,
+    _row_number,
+)
+from auditor.read.workbook import Cell, CellValue, ErrorValue
+
+if TYPE_CHECKING:
+    from auditor.read.scan import SheetScanner
+
+_new_cell = object.__new__
+# The fields of one match of the scanner's field pattern: a row's number, attributes and "/",
+# then a cell's column letters, row digits, s, t, "<f" marker, f attributes, f text, v text,
+# "<is>" marker, inline text. Absent groups are "".
+Fields = tuple[str, str, str, str, str, str, str, str, str, str, str, str, str]
+
+
+class CellMaker:
+    """Turns scanned rows into :class:`Cell` objects in the scanner's sheet."""
+
+    def __init__(self, book: BookState, scanner: SheetScanner) -> None:
+        self.book = book
+        self.scanner = scanner
+        self.cells = scanner.sheet.cells
+        self.row_number = 0
+        self.row_text = "0"
+        self.max_row = self.max_col = 0
+        book.styles.setdefault("", book.styles[None])  # "" is how the pattern says "no s"
+
+    def rows(self, found: list[Fields]) -> None:
+        """The hot loop: numbers and shared strings inline, anything else through
+        :meth:`general`."""
+        name, cells, book = self.scanner.sheet.name, self.cells, self.book
+        strings, dates, styles, style_of = book.strings, book.dates, book.styles, book.style_of
+        columns, known = COLUMN_CACHE, self.scanner.known_attributes
+        row_number, row_text = self.row_number, self.row_text
+        max_row, max_col = self.max_row, self.max_col
+        for (
+            rr,
+            rattrs,
+            _,
+            letters,
+            digits,
+            s,
+            t,
+            fmark,
+            fattrs,
+            ftext,
+            vtext,
+            imark,
+            itext,
+        ) in found:
+            if rr:
+                row_number = int(rr)
+                row_text = rr if rr[0] != "0" else str(row_number)
+                if rattrs and rattrs not in known:
+                    self.scanner.attributes_of(rattrs)
+                continue
+            row = row_number if digits == row_text else int(digits)
+            col = columns.get(letters) or column_number(letters)
+            if fmark or imark or (t and t != "s" and t != "n"):
+                formula_el = None
+                if fmark:
+                    formula_el = Node("f", self.scanner.attributes_of(fattrs))
+                    formula_el.text = unescape(ftext) or None
+                if not self.general(
+                    row, col, t or None, s or None, formula_el, vtext, itext if imark else None
+                ):
+                    continue
+            elif not vtext:
+                continue
+            else:
+                value: CellValue
+                if t == "s":
+                    value = strings[int(vtext)]
+                elif "." in vtext or "E" in vtext or "e" in vtext or (s in dates):
+                    value = float(vtext)
+                    if value - value != 0.0:
+                        value = NOT_A_NUMBER
+                else:
+                    value = int(vtext)
+                cell = _new_cell(Cell)
+                _SET_SHEET(cell, name)
+                _SET_ROW(cell, row)
+                _SET_COL(cell, col)
+                _SET_VALUE(cell, value)
+                _SET_FORMULA(cell, None)
+                _SET_FORMAT(cell, styles.get(s) or style_of(s or None))
+                _SET_ARRAY(cell, None)
+                cells[(row, col)] = cell
+            if col > max_col:
+                max_col = col
+            if row > max_row:
+                max_row = row
+        self.row_number, self.row_text = row_number, row_text
+        self.max_row, self.max_col = max_row, max_col
+
+    def node_row(self, row_node: Node) -> None:
+        """A row the structural pattern did not accept, tokenised: read as the lxml reader
+        reads a ``<row>`` element."""
+        r_attr = row_node.get("r")
+        row_number = _row_number(r_attr) if r_attr is not None else self.row_number + 1
+        row_text = str(row_number)
+        col_number = 0
+        for c in row_node.children:
+            if c.tag != "c":
+                continue
+            ref = c.get("r")
+            if ref is None:
+                col_number += 1
+                row, col = row_number, col_number
+            else:
+                known = COLUMN_CACHE.get(ref[: -len(row_text)]) if ref.endswith(row_text) else None
+                if known is not None:
+                    row, col = row_number, known
+                else:
+                    letters = ref.rstrip("0123456789")
+                    row, col = int(ref[len(letters) :]), column_number(letters)
+                col_number = col
+            text = formula_el = inline = None
+            for child in c.children:
+                if child.tag == "v":
+                    text = child.text
+                elif child.tag == "f":
+                    formula_el = child
+                elif child.tag == "is":
+                    inline = child
+            inline_text = None if inline is None else plain_text(inline)
+            if self.general(row, col, c.get("t"), c.get("s"), formula_el, text, inline_text):
+                self.max_col = max(self.max_col, col)
+                self.max_row = max(self.max_row, row)
+        self.row_number, self.row_text = row_number, row_text
+
+    def general(
+        self,
+        row: int,
+        col: int,
+        t: str | None,
+        s: str | None,
+        formula_el: Node | None,
+        text: str | None,
+        inline: str | None,
+    ) -> bool:
+        """Any cell, typed as the lxml reader types it; False when it holds nothing."""
+        book = self.book
+        value: CellValue
+        if not text:
+            value = inline if t == "inlineStr" else None
+        elif t is None or t == "n":
+            if "." in text or "E" in text or "e" in text or (s in book.dates):
+                value = float(text)
+                if value - value != 0.0:
+                    value = NOT_A_NUMBER
+            else:
+                value = int(text)
+        elif t == "s":
+            value = book.strings[int(text)]
+        elif t == "str":
+            value = text
+        elif t == "b":
+            value = bool(int(text))
+        elif t == "e":
+            value = ErrorValue(text)
+        elif t == "inlineStr":
+            value = inline
+        elif t == "d":
+            value = float(to_excel(from_ISO8601(text)))
+        else:
+            value = text
+        formula: str | None = None
+        array_ref: str | None = None
+        if formula_el is not None:
+            formula, array_ref = self.scanner._formula(formula_el, row, col, value)
+        if value is None and formula is None:
+            return False
+        self.cells[(row, col)] = Cell(
+            self.scanner.sheet.name,
+            row,
+            col,
+            value,
+            formula,
+            book.styles.get(s) or book.style_of(s),
+            array_ref,
+        )
+        return True
+
+    def finish(self) -> None:
+        self.scanner.sheet.max_row, self.scanner.sheet.max_col = self.max_row, self.max_col
