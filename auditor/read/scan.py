@@ -150,9 +150,9 @@ class SheetScanner(SheetReader):
             limit = closing if closing >= 0 else last_row + len(row_end) if last_row >= 0 else 0
             if limit > 0:
                 self._region(buffer, limit, rows, fields)
-                if closing >= 0:
-                    return buffer[closing:].encode("utf-8")
-                buffer = buffer[limit:]
+            if closing >= 0:
+                return buffer[closing:].encode("utf-8")
+            buffer = buffer[limit:]
             if len(buffer) > MAX_PENDING:
                 raise Unrecognised("a row longer than the scanner reads at once")
             if ended:
