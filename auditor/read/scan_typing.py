@@ -9,8 +9,6 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from openpyxl.utils.datetime import from_ISO8601, to_excel
-
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
 from auditor.read.scan_markup import Node, plain_text, unescape
 from auditor.read.sheet import (
@@ -23,8 +21,9 @@ from auditor.read.sheet import (
     _SET_VALUE,
     NOT_A_NUMBER,
     _row_number,
+    typed_value,
 )
-from auditor.read.workbook import Cell, CellValue, ErrorValue
+from auditor.read.workbook import Cell, CellValue
 
 if TYPE_CHECKING:
     from auditor.read.scan import SheetScanner
@@ -164,30 +163,7 @@ class CellMaker:
     ) -> bool:
         """Any cell, typed as the lxml reader types it; False when it holds nothing."""
         book = self.book
-        value: CellValue
-        if not text:
-            value = inline if t == "inlineStr" else None
-        elif t is None or t == "n":
-            if "." in text or "E" in text or "e" in text or (s in book.dates):
-                value = float(text)
-                if value - value != 0.0:
-                    value = NOT_A_NUMBER
-            else:
-                value = int(text)
-        elif t == "s":
-            value = book.strings[int(text)]
-        elif t == "str":
-            value = text
-        elif t == "b":
-            value = bool(int(text))
-        elif t == "e":
-            value = ErrorValue(text)
-        elif t == "inlineStr":
-            value = inline
-        elif t == "d":
-            value = float(to_excel(from_ISO8601(text)))
-        else:
-            value = text
+        value = typed_value(book, t, s, text, inline)
         formula: str | None = None
         array_ref: str | None = None
         if formula_el is not None:

@@ -32,6 +32,31 @@ _SET_SHEET, _SET_ROW, _SET_COL, _SET_VALUE, _SET_FORMULA, _SET_FORMAT, _SET_ARRA
 )
 
 
+def typed_value(
+    book: BookState, t: str | None, s: str | None, text: str | None, inline: str | None
+) -> CellValue:
+    """A cell's stored value from its ``t`` and ``s`` attributes, its ``<v>`` text and the
+    plain text of its ``<is>`` (None when it has none), as a spreadsheet wrote it."""
+    if not text:
+        return inline if t == "inlineStr" else None
+    if t is None or t == "n":
+        if "." in text or "E" in text or "e" in text or (s in book.dates):
+            number = float(text)
+            return NOT_A_NUMBER if number - number != 0.0 else number  # 1E400: no infinity
+        return int(text)
+    if t == "s":
+        return book.strings[int(text)]
+    if t == "b":
+        return bool(int(text))
+    if t == "e":
+        return ErrorValue(text)
+    if t == "inlineStr":
+        return inline
+    if t == "d":
+        return float(to_excel(from_ISO8601(text)))
+    return text  # "str", and any type the format does not define
+
+
 def _row_number(text: str) -> int:
     """A row's ``r`` attribute; "7.0" is accepted as 7, as openpyxl does."""
     try:
@@ -112,35 +137,21 @@ class SheetReader:
                                 formula_el = child
                             elif tag == is_tag:
                                 inline = child
-                    # The stored value, read by type as a spreadsheet wrote it.
+                    # The stored value, read by type as a spreadsheet wrote it; numbers and
+                    # shared strings (nearly every cell) inline.
                     value: CellValue
-                    if not text:
-                        value = (
-                            book.inline_text(inline)
-                            if t == "inlineStr" and inline is not None
-                            else None
-                        )
-                    elif t is None or t == "n":
+                    if text and (t is None or t == "n"):
                         if "." in text or "E" in text or "e" in text or (s in dates):
                             value = float(text)
                             if value - value != 0.0:  # 1E400: no spreadsheet holds infinity
                                 value = NOT_A_NUMBER
                         else:
                             value = int(text)
-                    elif t == "s":
+                    elif text and t == "s":
                         value = strings[int(text)]
-                    elif t == "str":
-                        value = text
-                    elif t == "b":
-                        value = bool(int(text))
-                    elif t == "e":
-                        value = ErrorValue(text)
-                    elif t == "inlineStr":
-                        value = book.inline_text(inline) if inline is not None else None
-                    elif t == "d":
-                        value = float(to_excel(from_ISO8601(text)))
                     else:
-                        value = text
+                        inline_text = None if inline is None else book.inline_text(inline)
+                        value = typed_value(book, t, s, text, inline_text)
                     formula: str | None = None
                     array_ref: str | None = None
                     if formula_el is not None:
