@@ -25,6 +25,7 @@ import re
 from collections import Counter
 
 from auditor.errors import UnreadableWorkbook
+from auditor.read import compact
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
 from auditor.read.scan_markup import Frame, Node, Unrecognised, attributes, parse_element
 from auditor.read.scan_typing import CellMaker
@@ -84,6 +85,9 @@ class SheetScanner(SheetReader):
     def read(self, part: str) -> Sheet:
         book = self.book
         where = f"{book.label}: sheet {self.sheet.name!r}"
+        info = book.archive.NameToInfo.get(part)
+        if info is not None and info.file_size >= compact.COMPACT_PART_BYTES:
+            self.sheet.cells = self.maker.cells = compact.CompactCells(self.sheet.name)
         stream, source = open_part(book.archive, part, where)
         try:
             frame = Frame(book.ns)

@@ -53,6 +53,7 @@ class CellMaker:
         name, cells, book = self.scanner.sheet.name, self.cells, self.book
         strings, dates, styles, style_of = book.strings, book.dates, book.styles, book.style_of
         columns, known = COLUMN_CACHE, self.scanner.known_attributes
+        add_constant = getattr(cells, "add_constant", None)  # a CompactCells store
         row_number, row_text = self.row_number, self.row_text
         max_row, max_col = self.max_row, self.max_col
         for (
@@ -99,6 +100,13 @@ class CellMaker:
                         value = NOT_A_NUMBER
                 else:
                     value = int(vtext)
+                if add_constant is not None:
+                    add_constant(row, col, value, styles.get(s) or style_of(s or None))
+                    if col > max_col:
+                        max_col = col
+                    if row > max_row:
+                        max_row = row
+                    continue
                 cell = _new_cell(Cell)
                 _SET_SHEET(cell, name)
                 _SET_ROW(cell, row)

@@ -16,6 +16,7 @@ what the file is and what to do. Macros in .xlsm files are never run: only works
 
 from __future__ import annotations
 
+from collections.abc import MutableMapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
@@ -75,7 +76,7 @@ class Cell:
 @dataclass
 class Sheet:
     name: str
-    cells: dict[tuple[int, int], Cell] = field(default_factory=dict)
+    cells: MutableMapping[tuple[int, int], Cell] = field(default_factory=dict)
     max_row: int = 0
     max_col: int = 0
 
