@@ -69,10 +69,14 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         return self._format_ids[number_format]
 
     def _position(self, key: tuple[int, int]) -> int:
-        row, col = key
-        if not 0 < col < 1 << _COLUMN_BITS or not 0 <= row < _MAX_PACKED >> _COLUMN_BITS:
+        """Where ``key`` is in the sequence, or -1 (also for anything that is not a key)."""
+        try:
+            row, col = key
+            if not 0 < col < 1 << _COLUMN_BITS or not 0 <= row < _MAX_PACKED >> _COLUMN_BITS:
+                return -1
+            packed = (row << _COLUMN_BITS) | col
+        except (TypeError, ValueError):
             return -1
-        packed = (row << _COLUMN_BITS) | col
         at = bisect_left(self._keys, packed)
         return at if at < len(self._keys) and self._keys[at] == packed else -1
 
@@ -115,9 +119,7 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
     def __contains__(self, key: object) -> bool:
         if self._dict is not None:
             return key in self._dict
-        if not isinstance(key, tuple) or len(key) != 2:
-            return False
-        return self._position(key) >= 0
+        return self._position(key) >= 0  # type: ignore[arg-type]
 
     def __setitem__(self, key: tuple[int, int], cell: Cell) -> None:
         if self._dict is None:
