@@ -22,13 +22,24 @@ from array import array
 from bisect import bisect_left
 from collections.abc import ItemsView, Iterator, MutableMapping, ValuesView
 
+from auditor.read.sheet import (
+    _SET_ARRAY,
+    _SET_COL,
+    _SET_FORMAT,
+    _SET_FORMULA,
+    _SET_ROW,
+    _SET_SHEET,
+    _SET_VALUE,
+)
 from auditor.read.workbook import Cell, CellValue
 
 # Inflated sheet XML from which the store is used (a million rows of two columns is ~90 MB);
 # $REGAUDIT_COMPACT_BYTES (internal) sets it, e.g. to 0 to audit every fixture with the store.
 COMPACT_PART_BYTES = int(os.environ.get("REGAUDIT_COMPACT_BYTES") or 48 << 20)
 _COLUMN_BITS = 15  # columns 1..16,384 (XFD)
+_new_cell = object.__new__
 _OBJECT = 0xFFFF  # format index meaning "the list holds the Cell itself"
+_COLUMN_MASK = (1 << _COLUMN_BITS) - 1
 _MAX_PACKED = 1 << 62  # rows beyond any sheet (a damaged file) go to the dict
 
 
@@ -43,6 +54,7 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         self._format_names: list[str] = []
         self._format_ids: dict[str, int] = {}
         self._last = -1
+        self._hint = self._stride = 0  # the last position found, and the step that led to it
         self._dict: dict[tuple[int, int], Cell] | None = None
 
     def add_constant(self, row: int, col: int, value: CellValue, number_format: str) -> None:
@@ -77,8 +89,18 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
             packed = (row << _COLUMN_BITS) | col
         except (TypeError, ValueError):
             return -1
-        at = bisect_left(self._keys, packed)
-        return at if at < len(self._keys) and self._keys[at] == packed else -1
+        keys = self._keys
+        # Ranges are read cell after cell down a column: the next key is most often as far
+        # after the last one found as that one was after the one before.
+        guess = self._hint + self._stride
+        if 0 <= guess < len(keys) and keys[guess] == packed:
+            self._hint = guess
+            return guess
+        at = bisect_left(keys, packed)
+        if at < len(keys) and keys[at] == packed:
+            self._stride, self._hint = at - self._hint, at
+            return at
+        return -1
 
     def _cell(self, at: int) -> Cell:
         value = self._values[at]
@@ -86,15 +108,16 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         if index == _OBJECT:
             return value  # type: ignore[return-value]
         packed = self._keys[at]
-        return Cell(
-            self._sheet,
-            packed >> _COLUMN_BITS,
-            packed & ((1 << _COLUMN_BITS) - 1),
-            value,  # type: ignore[arg-type]
-            None,
-            self._format_names[index],
-            None,
-        )
+        # As the reader builds cells: filling the slots directly skips the frozen __init__.
+        cell = _new_cell(Cell)
+        _SET_SHEET(cell, self._sheet)
+        _SET_ROW(cell, packed >> _COLUMN_BITS)
+        _SET_COL(cell, packed & _COLUMN_MASK)
+        _SET_VALUE(cell, value)
+        _SET_FORMULA(cell, None)
+        _SET_FORMAT(cell, self._format_names[index])
+        _SET_ARRAY(cell, None)
+        return cell
 
     def _as_dict(self) -> dict[tuple[int, int], Cell]:
         if self._dict is None:
@@ -111,10 +134,46 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         return self._cell(at)
 
     def get(self, key: tuple[int, int], default: Cell | None = None) -> Cell | None:  # type: ignore[override]
+        # _position and _cell written out: the evaluator reads ranges through here, a million
+        # calls on a million-row sheet.
         if self._dict is not None:
             return self._dict.get(key, default)
-        at = self._position(key)
-        return default if at < 0 else self._cell(at)
+        try:
+            row, col = key
+            if not 0 < col < 1 << _COLUMN_BITS or not 0 <= row < _MAX_PACKED >> _COLUMN_BITS:
+                return default
+            packed = (row << _COLUMN_BITS) | col
+        except (TypeError, ValueError):
+            return default
+        keys = self._keys
+        at = self._hint + self._stride
+        if not (0 <= at < len(keys) and keys[at] == packed):
+            found = bisect_left(keys, packed)
+            if found == len(keys) or keys[found] != packed:
+                return default
+            self._stride, at = found - self._hint, found
+        self._hint = at
+        index = self._formats[at]
+        if index == _OBJECT:
+            return self._values[at]  # type: ignore[return-value]
+        cell = _new_cell(Cell)
+        _SET_SHEET(cell, self._sheet)
+        _SET_ROW(cell, row)
+        _SET_COL(cell, col)
+        _SET_VALUE(cell, self._values[at])
+        _SET_FORMULA(cell, None)
+        _SET_FORMAT(cell, self._format_names[index])
+        _SET_ARRAY(cell, None)
+        return cell
+
+    def stored_cells(self) -> Iterator[Cell]:
+        """The cells held as objects (every formula and array anchor among them), in order."""
+        if self._dict is not None:
+            yield from self._dict.values()
+            return
+        for value, index in zip(self._values, self._formats, strict=True):
+            if index == _OBJECT:
+                yield value  # type: ignore[misc]
 
     def __contains__(self, key: object) -> bool:
         if self._dict is not None:
@@ -148,9 +207,8 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         if self._dict is not None:
             yield from self._dict
             return
-        mask = (1 << _COLUMN_BITS) - 1
         for packed in self._keys:
-            yield (packed >> _COLUMN_BITS, packed & mask)
+            yield (packed >> _COLUMN_BITS, packed & _COLUMN_MASK)
 
     def values(self) -> ValuesView[Cell]:
         return _Values(self)
@@ -163,7 +221,20 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         if self._dict is not None:
             yield from self._dict.values()
             return
-        yield from map(self._cell, range(len(self._keys)))
+        sheet, names = self._sheet, self._format_names
+        for packed, value, index in zip(self._keys, self._values, self._formats, strict=True):
+            if index == _OBJECT:
+                yield value  # type: ignore[misc]
+                continue
+            cell = _new_cell(Cell)
+            _SET_SHEET(cell, sheet)
+            _SET_ROW(cell, packed >> _COLUMN_BITS)
+            _SET_COL(cell, packed & _COLUMN_MASK)
+            _SET_VALUE(cell, value)
+            _SET_FORMULA(cell, None)
+            _SET_FORMAT(cell, names[index])
+            _SET_ARRAY(cell, None)
+            yield cell
 
 
 class _Values(ValuesView[Cell]):

@@ -154,4 +154,10 @@ class Workbook:
         return None
 
     def formula_cells(self) -> list[Cell]:
-        return [c for s in self.sheets.values() for c in s.cells.values() if c.formula]
+        found: list[Cell] = []
+        for sheet in self.sheets.values():
+            # A compact store (auditor.read.compact) holds every formula cell as an object.
+            stored = getattr(sheet.cells, "stored_cells", None)
+            cells = stored() if stored is not None else sheet.cells.values()
+            found.extend(c for c in cells if c.formula)
+        return found
