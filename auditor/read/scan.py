@@ -65,7 +65,9 @@ def _patterns(prefix: str) -> tuple[re.Pattern[str], re.Pattern[str]]:
     )
     row = rf'<{p}row r="([0-9]{{1,7}})"{_ATTRIBUTES}'
     rows = rf"(?:[ \t\n]*+(?:{row}/>|{row}>(?:[ \t\n]*+{cell})*+[ \t\n]*+</{p}row>))*+[ \t\n]*+"
-    return re.compile(rows), re.compile(rf"{row}(/?)>|{cell}")
+    # The structural pattern only says where the ordinary rows end: without capturing groups
+    # it runs about a fifth faster.
+    return re.compile(re.sub(r"\((?!\?)", "(?:", rows)), re.compile(rf"{row}(/?)>|{cell}")
 
 
 _PATTERNS: dict[str, tuple[re.Pattern[str], re.Pattern[str]]] = {}
