@@ -7,6 +7,11 @@ two full loads. This reader streams each sheet part once with ``lxml.etree.iterp
 the ``s`` attribute's number format. Shared formulas are expanded with openpyxl's
 ``Translator``, as openpyxl's own normal load does; array formulas keep their block.
 
+Each sheet part is read first by the fast scanner (:mod:`auditor.read.scan`: regular
+expressions over the inflated XML, proven to give the same cells), and by the lxml loop of
+:mod:`auditor.read.sheet` when the scanner does not recognise everything in it
+(``read_workbook(path, engine="lxml")`` or ``REGAUDIT_READER=lxml`` uses the lxml loop for all).
+
 It produces the same :class:`auditor.read.workbook.Workbook` as the openpyxl reader
 (``tests/test_xlsxstream.py`` holds them to it on every fixture). Three deliberate differences,
 on cells no fixture has: a number in a date or duration format stays the serial number the

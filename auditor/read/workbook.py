@@ -76,6 +76,8 @@ class Cell:
 @dataclass
 class Sheet:
     name: str
+    # A dict, or for a part of a million rows a CompactCells store that behaves as one
+    # (auditor.read.compact): cells in the sheet's row-major order either way.
     cells: MutableMapping[tuple[int, int], Cell] = field(default_factory=dict)
     max_row: int = 0
     max_col: int = 0
