@@ -26,8 +26,8 @@ from collections import Counter
 
 from auditor.errors import UnreadableWorkbook
 from auditor.read import compact
-from auditor.read.book import COLUMN_CACHE, BookState, column_number
-from auditor.read.scan_markup import Frame, Node, Unrecognised, attributes, parse_element
+from auditor.read.book import BookState
+from auditor.read.scan_markup import Frame, Unrecognised, attributes, parse_element
 from auditor.read.scan_typing import CellMaker
 from auditor.read.sheet import MAX_CELLS, SheetReader
 from auditor.read.workbook import Sheet
@@ -213,6 +213,3 @@ def read_sheet(book: BookState, name: str, part: str, fast: bool = True) -> Shee
         for key in [key for key in book.arrays if key[0] == name]:
             del book.arrays[key]
     return SheetReader(book, name).read(part)
-
-
-__all__ = ["FALLBACKS", "Node", "SheetScanner", "column_number", "COLUMN_CACHE", "read_sheet"]
