@@ -331,3 +331,22 @@ def test_what_the_crafted_cells_hold(tmp_path: Path) -> None:
         _crafted(tmp_path, "p", dict((c[0], c[1]) for c in CASES)["prefixed main namespace"])
     )
     assert {k: c.value for k, c in prefixed.sheets["S"].cells.items()} == {(1, 1): "one", (1, 2): 1}
+
+
+def test_the_lxml_reader_can_be_forced(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    path = _crafted(tmp_path, "forced", CASES[0][1])
+    scanned: list[str] = []
+    original = scan.SheetScanner.read
+
+    def spy(self: scan.SheetScanner, part: str) -> object:
+        scanned.append(part)
+        return original(self, part)
+
+    monkeypatch.setattr(scan.SheetScanner, "read", spy)
+    read_workbook(path)
+    assert scanned == ["xl/worksheets/sheet1.xml"]
+    read_workbook(path, engine="lxml")
+    monkeypatch.setenv("REGAUDIT_READER", "lxml")
+    book = read_workbook(path)
+    assert scanned == ["xl/worksheets/sheet1.xml"]  # neither call went through the scanner
+    assert {k: c.value for k, c in book.sheets["S"].cells.items()} == {(1, 1): 1, (1, 2): "one"}
