@@ -244,6 +244,20 @@ CASES = [
         "</x:worksheet>",
         True,
     ),
+    (
+        "row attributes of another declared namespace",
+        sheet_xml(
+            '<row r="1" spans="1:2" x14ac:dyDescent="0.25"><c r="A1" s="0" t="n" cm="1">'
+            "<v>1</v></c></row><row r='2' x14ac:dyDescent='0.3' hidden=\"1\">"
+            "<c r='A2'><v>2</v></c></row>"
+        ).replace("<worksheet ", '<worksheet xmlns:x14ac="urn:x14ac" ', 1),
+        True,
+    ),
+    (
+        "an attribute of an undeclared prefix",
+        sheet_xml(ROW.format('<c r="A1" q:x="1"><v>1</v></c>')),
+        False,
+    ),
     ("CDATA", sheet_xml(ROW.format('<c r="A1"><v><![CDATA[5]]></v></c>')), False),
     ("comment", sheet_xml(ROW.format('<!-- note --><c r="A1"><v>5</v></c>')), False),
     ("processing instruction", sheet_xml(ROW.format('<?pi x?><c r="A1"><v>5</v></c>')), False),
@@ -350,3 +364,34 @@ def test_the_lxml_reader_can_be_forced(tmp_path: Path, monkeypatch: pytest.Monke
     book = read_workbook(path)
     assert scanned == ["xl/worksheets/sheet1.xml"]  # neither call went through the scanner
     assert {k: c.value for k, c in book.sheets["S"].cells.items()} == {(1, 1): 1, (1, 2): "one"}
+
+
+def test_tiny_blocks_split_rows_characters_and_line_ends(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """Blocks of a few bytes cut rows, multi-byte characters, "\\r\\n" pairs and the markers the
+    scanner looks for in two: the result must not change."""
+    monkeypatch.setattr(scan, "CHUNK", 5)
+    paths = [_crafted(tmp_path, f"case{i}", case[1]) for i, case in enumerate(CASES)]
+    paths += [p for p in FIXTURES if "layouts" not in p.parts][:12]
+    for path in paths:
+        fast, handed = _assert_same(path)
+    monkeypatch.setattr(scan, "MAX_PENDING", 64)  # a row longer than that goes to lxml
+    long_row = sheet_xml(ROW.format("".join(f'<c r="{c}1"><v>{c}</v></c>' for c in "ABCDEFGH")))
+    fast, handed = _assert_same(_crafted(tmp_path, "long", long_row))
+    assert handed == Counter({"a row longer than the scanner reads at once": 1})
+
+
+@pytest.mark.parametrize(
+    ("name", "sheet"),
+    [
+        ("attributes on sheetData", sheet_xml("").replace("<sheetData>", '<sheetData a="1">')),
+        ("never ends", sheet_xml(ROW.format('<c r="A1"><v>1</v></c>')).split("</sheetData>")[0]),
+        ("no sheetData", f'{DECL}<worksheet xmlns="{MAIN}"><dimension ref="A1"/></worksheet>'),
+        ("text among rows", sheet_xml('<row r="1"><c r="A1"><v>1</v></c></row>stray')),
+        ("a cell outside rows", sheet_xml('<c r="A1"><v>1</v></c>')),
+    ],
+)
+def test_what_the_scanner_leaves_to_lxml(tmp_path: Path, name: str, sheet: str) -> None:
+    fast, handed = _assert_same(_crafted(tmp_path, name.replace(" ", "_"), sheet))
+    assert handed != Counter()
