@@ -81,7 +81,7 @@ class SheetScanner(SheetReader):
         super().__init__(book, name)
         self.maker = CellMaker(book, self)
         self.prefix = ""
-        self.prefixes: frozenset[str] = frozenset()
+        self.prefixes: dict[str, str] = {}
         self.known_attributes: dict[str, dict[str, str]] = {}
 
     def read(self, part: str) -> Sheet:

@@ -40,6 +40,7 @@ _ATTR = re.compile(rf"[ \t\n]+({_NAME})[ \t\n]*=[ \t\n]*(?:\"([^\"<]*)\"|'([^'<]
 _TEXT = re.compile(r"[^<]+")
 _REFERENCE = re.compile(r"&(?:(lt|gt|amp|quot|apos)|#([0-9]{1,7})|#x([0-9A-Fa-f]{1,6}));")
 _ENTITIES = {"lt": "<", "gt": ">", "amp": "&", "quot": '"', "apos": "'"}
+XML_NAMESPACE = "http://www.w3.org/XML/1998/namespace"
 MAX_DEPTH = 24  # elements below a cell; lxml's own limit (256 from the root) is far above
 # An XML declaration of version 1.0 in UTF-8 (or none: UTF-8 is the default).
 _DECLARATION = re.compile(
@@ -75,21 +76,24 @@ def unescape(text: str) -> str:
     return _REFERENCE.sub(_character, text)
 
 
-def attributes(text: str, prefixes: frozenset[str]) -> dict[str, str]:
+def attributes(text: str, prefixes: dict[str, str]) -> dict[str, str]:
     """The attributes of one start tag (``text`` is what follows its name), as lxml's ``get``
     reads them: white space normalised, references replaced; names kept as written."""
     found: dict[str, str] = {}
+    expanded: set[tuple[str, str]] = set()  # (namespace, local name): two prefixes, one space
     position = 0
     for match in _ATTR.finditer(text):
         if match.start() != position:
             raise Unrecognised("an attribute the scanner cannot delimit")
         position = match.end()
         name, double, single = match.groups()
-        prefix, colon, _local = name.rpartition(":")
+        prefix, colon, local = name.rpartition(":")
         if colon and (prefix not in prefixes or prefix == "xmlns"):
             raise Unrecognised(f"an attribute with prefix {prefix!r}")
-        if name == "xmlns" or name in found:
+        qualified = (prefixes[prefix] if colon else "", local)
+        if name == "xmlns" or qualified in expanded:
             raise Unrecognised(f"attribute {name!r} declared or given twice")
+        expanded.add(qualified)
         value = double if double is not None else single
         found[name] = unescape(value.replace("\t", " ").replace("\n", " "))
     if text[position:].strip(" \t\n"):
@@ -113,7 +117,7 @@ class Node:
 
 
 def parse_element(
-    buffer: str, position: int, end: int, prefix: str, prefixes: frozenset[str]
+    buffer: str, position: int, end: int, prefix: str, prefixes: dict[str, str]
 ) -> tuple[Node, int]:
     """The element starting at ``position`` and the position after it. Every element inside
     must carry the main namespace's ``prefix`` (as written, with its colon, or "")."""
@@ -180,7 +184,7 @@ class Frame:
         self.merges: list[str] = []
         self._parser = etree.XMLPullParser(events=("start", "end"), **PARSER_OPTIONS)
 
-    def head(self, data: bytes) -> tuple[str, frozenset[str], bool]:
+    def head(self, data: bytes) -> tuple[str, dict[str, str], bool]:
         """Feed the part up to the end of the ``<sheetData>`` start tag: the prefix written on
         it ("x:" or ""), the prefixes in scope there, and whether it is empty."""
         if _DECLARATION.match(data) is None:
@@ -190,7 +194,7 @@ class Frame:
             raise Unrecognised("sheetData is not where the text says it is")
         element = events[-1][1]
         written = element.prefix
-        prefixes = frozenset(p for p in element.nsmap if p) | {"xml"}
+        prefixes = {p: uri for p, uri in element.nsmap.items() if p} | {"xml": XML_NAMESPACE}
         return ("" if written is None else written + ":"), prefixes, events[-1][0] == "end"
 
     def tail(self, data: bytes) -> None:

@@ -10,7 +10,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
-from auditor.read.scan_markup import Node, plain_text, unescape
+from auditor.read.scan_markup import Node, Unrecognised, plain_text, unescape
 from auditor.read.sheet import (
     _SET_ARRAY,
     _SET_COL,
@@ -74,8 +74,8 @@ class CellMaker:
             if rr:
                 row_number = int(rr)
                 row_text = rr if rr[0] != "0" else str(row_number)
-                if rattrs and rattrs not in known:
-                    self.scanner.attributes_of(rattrs)
+                if rattrs and rattrs not in known and "r" in self.scanner.attributes_of(rattrs):
+                    raise Unrecognised("attribute 'r' given twice")
                 continue
             row = row_number if digits == row_text else int(digits)
             col = columns.get(letters) or column_number(letters)

@@ -278,6 +278,14 @@ CASES = [
         False,
     ),
     ("duplicate attribute", sheet_xml(ROW.format('<c r="A1" r="A1"><v>1</v></c>')), False),
+    ("duplicate row number", sheet_xml('<row r="1" r="2"><c r="A1"><v>1</v></c></row>'), False),
+    (
+        "one attribute under two prefixes",
+        sheet_xml(ROW.format('<c r="A1" p:x="1" q:x="2"><v>1</v></c>')).replace(
+            "<worksheet ", '<worksheet xmlns:p="urn:same" xmlns:q="urn:same" ', 1
+        ),
+        False,
+    ),
     ("mismatched tags", sheet_xml(ROW.format('<c r="A1"><v>1</c></v>')), False),
     ("column beyond XFD", sheet_xml(ROW.format('<c r="XFE1"><v>1</v></c>')), False),
     ("shared string out of range", sheet_xml(ROW.format('<c r="A1" t="s"><v>9</v></c>')), False),
