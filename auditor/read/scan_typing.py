@@ -7,7 +7,7 @@ tests, in the same order, on the same text) and formulas go through that reader'
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from typing import Any, Protocol
 
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
 from auditor.read.scan_markup import Node, Unrecognised, plain_text, unescape
@@ -23,10 +23,21 @@ from auditor.read.sheet import (
     _row_number,
     typed_value,
 )
-from auditor.read.workbook import Cell, CellValue
+from auditor.read.workbook import Cell, CellValue, Sheet
 
-if TYPE_CHECKING:
-    from auditor.read.scan import SheetScanner
+
+class SheetScanner(Protocol):
+    """What the cell maker needs of :class:`auditor.read.scan.SheetScanner`."""
+
+    sheet: Sheet
+    known_attributes: dict[str, dict[str, str]]
+
+    def attributes_of(self, text: str) -> dict[str, str]: ...
+
+    def _formula(
+        self, element: Any, row: int, col: int, value: CellValue
+    ) -> tuple[str | None, str | None]: ...
+
 
 _new_cell = object.__new__
 # The fields of one match of the scanner's field pattern: a row's number, attributes and "/",
