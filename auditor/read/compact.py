@@ -22,22 +22,13 @@ from array import array
 from bisect import bisect_left
 from collections.abc import ItemsView, Iterator, MutableMapping, ValuesView
 
-from auditor.read.sheet import (
-    _SET_ARRAY,
-    _SET_COL,
-    _SET_FORMAT,
-    _SET_FORMULA,
-    _SET_ROW,
-    _SET_SHEET,
-    _SET_VALUE,
-)
+from auditor.read.sheet import built_cell
 from auditor.read.workbook import Cell, CellValue
 
 # Inflated sheet XML from which the store is used (a million rows of two columns is ~90 MB);
 # $REGAUDIT_COMPACT_BYTES (internal) sets it, e.g. to 0 to audit every fixture with the store.
 COMPACT_PART_BYTES = int(os.environ.get("REGAUDIT_COMPACT_BYTES") or 48 << 20)
 _COLUMN_BITS = 15  # columns 1..16,384 (XFD)
-_new_cell = object.__new__
 _OBJECT = 0xFFFF  # format index meaning "the list holds the Cell itself"
 _COLUMN_MASK = (1 << _COLUMN_BITS) - 1
 _MAX_PACKED = 1 << 62  # rows beyond any sheet (a damaged file) go to the dict
@@ -108,16 +99,15 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         if index == _OBJECT:
             return value  # type: ignore[return-value]
         packed = self._keys[at]
-        # As the reader builds cells: filling the slots directly skips the frozen __init__.
-        cell = _new_cell(Cell)
-        _SET_SHEET(cell, self._sheet)
-        _SET_ROW(cell, packed >> _COLUMN_BITS)
-        _SET_COL(cell, packed & _COLUMN_MASK)
-        _SET_VALUE(cell, value)
-        _SET_FORMULA(cell, None)
-        _SET_FORMAT(cell, self._format_names[index])
-        _SET_ARRAY(cell, None)
-        return cell
+        return built_cell(
+            self._sheet,
+            packed >> _COLUMN_BITS,
+            packed & _COLUMN_MASK,
+            value,  # type: ignore[arg-type]
+            None,
+            self._format_names[index],
+            None,
+        )
 
     def _as_dict(self) -> dict[tuple[int, int], Cell]:
         if self._dict is None:
@@ -156,15 +146,8 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         index = self._formats[at]
         if index == _OBJECT:
             return self._values[at]  # type: ignore[return-value]
-        cell = _new_cell(Cell)
-        _SET_SHEET(cell, self._sheet)
-        _SET_ROW(cell, row)
-        _SET_COL(cell, col)
-        _SET_VALUE(cell, self._values[at])
-        _SET_FORMULA(cell, None)
-        _SET_FORMAT(cell, self._format_names[index])
-        _SET_ARRAY(cell, None)
-        return cell
+        value: CellValue = self._values[at]  # type: ignore[assignment]
+        return built_cell(self._sheet, row, col, value, None, self._format_names[index], None)
 
     def stored_cells(self) -> Iterator[Cell]:
         """The cells held as objects (every formula and array anchor among them), in order."""
@@ -226,15 +209,15 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
             if index == _OBJECT:
                 yield value  # type: ignore[misc]
                 continue
-            cell = _new_cell(Cell)
-            _SET_SHEET(cell, sheet)
-            _SET_ROW(cell, packed >> _COLUMN_BITS)
-            _SET_COL(cell, packed & _COLUMN_MASK)
-            _SET_VALUE(cell, value)
-            _SET_FORMULA(cell, None)
-            _SET_FORMAT(cell, names[index])
-            _SET_ARRAY(cell, None)
-            yield cell
+            yield built_cell(
+                sheet,
+                packed >> _COLUMN_BITS,
+                packed & _COLUMN_MASK,
+                value,  # type: ignore[arg-type]
+                None,
+                names[index],
+                None,
+            )
 
 
 class _Values(ValuesView[Cell]):

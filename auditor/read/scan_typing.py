@@ -21,6 +21,8 @@ from auditor.read.sheet import (
     _SET_VALUE,
     NOT_A_NUMBER,
     _row_number,
+    built_cell,
+    cell_position,
     typed_value,
 )
 from auditor.read.workbook import Cell, CellValue, Sheet
@@ -144,18 +146,8 @@ class CellMaker:
         for c in row_node.children:
             if c.tag != "c":
                 continue
-            ref = c.get("r")
-            if ref is None:
-                col_number += 1
-                row, col = row_number, col_number
-            else:
-                known = COLUMN_CACHE.get(ref[: -len(row_text)]) if ref.endswith(row_text) else None
-                if known is not None:
-                    row, col = row_number, known
-                else:
-                    letters = ref.rstrip("0123456789")
-                    row, col = int(ref[len(letters) :]), column_number(letters)
-                col_number = col
+            row, col = cell_position(c.get("r"), row_number, row_text, col_number)
+            col_number = col
             text = formula_el = inline = None
             for child in c.children:
                 if child.tag == "v":
@@ -189,7 +181,7 @@ class CellMaker:
             formula, array_ref = self.scanner._formula(formula_el, row, col, value)
         if value is None and formula is None:
             return False
-        self.cells[(row, col)] = Cell(
+        self.cells[(row, col)] = built_cell(
             self.scanner.sheet.name,
             row,
             col,
