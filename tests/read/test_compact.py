@@ -106,3 +106,35 @@ def test_audits_with_the_store_are_the_same(monkeypatch: pytest.MonkeyPatch) -> 
     monkeypatch.setattr(compact, "COMPACT_PART_BYTES", 0)
     packed = [json.dumps(audit_workbook(p, policy).to_dict(), default=str) for p in SAMPLES]
     assert len(SAMPLES) == 24 and packed == plain
+
+
+def test_the_equality_check_sees_every_kind_of_difference() -> None:
+    """The proof above relies on workbook_differences; it must notice what == would miss."""
+    import dataclasses
+
+    base = read_workbook(SAMPLES[0])
+    sheet_name, sheet = next(iter(base.sheets.items()))
+    key, cell = next(iter(sheet.cells.items()))
+
+    def changed(**what: object) -> list[str]:
+        other = read_workbook(SAMPLES[0])
+        target = other.sheets[sheet_name]
+        for name, value in what.items():
+            if name == "cell":
+                target.cells[key] = value  # type: ignore[assignment]
+            elif name == "drop":
+                del target.cells[key]
+            elif name == "extent":
+                target.max_row += 1
+            else:
+                setattr(other, name, value)
+        return workbook_differences(base, other, most=1)
+
+    assert workbook_differences(base, read_workbook(SAMPLES[0])) == []
+    assert changed(cell=dataclasses.replace(cell, value=True if cell.value == 1 else 1))
+    assert changed(cell=dataclasses.replace(cell, number_format="0.0000"))
+    assert any("cells vs" in d for d in changed(drop=True))
+    assert any("extent" in d for d in changed(extent=True))
+    assert changed(names=[]) == ["names differ"] or not base.names
+    assert changed(stored_values=not base.stored_values) == ["stored values differ"]
+    assert changed(sheets={}) == [f"sheets {list(base.sheets)} vs []"]
