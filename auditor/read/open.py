@@ -7,13 +7,17 @@ This module is the one door to input files: everything else receives a parsed
 from __future__ import annotations
 
 import hashlib
+import os
 from pathlib import Path
 
 from auditor.errors import UnreadableWorkbook
 from auditor.read.container import check_container
 from auditor.read.workbook import Workbook
 
-ENGINES = ("stream", "openpyxl")
+ENGINES = ("stream", "lxml", "openpyxl")
+# Internal: the reader every audit in this process uses unless told otherwise ("lxml" compares
+# the fast scanner with the lxml reader over whole audits; never a user option).
+READER_VARIABLE = "REGAUDIT_READER"
 
 
 def sha256_of(path: Path) -> str:
@@ -45,11 +49,14 @@ def assert_safe_xml() -> None:
     raise RuntimeError("the XML guard let an entity declaration through; refusing to run")
 
 
-def read_workbook(path: str | Path, engine: str = "stream") -> Workbook:
+def read_workbook(path: str | Path, engine: str | None = None) -> Workbook:
     """Every cell's formula, stored value and number format, and the defined names.
 
-    ``engine`` "stream" is the one-pass reader; "openpyxl" the two-load reference. Never writes
-    to ``path``."""
+    ``engine`` "stream" is the one-pass reader (the fast scanner, lxml for any part it does not
+    recognise); "lxml" the same reader with lxml for every part; "openpyxl" the two-load
+    reference. The default is $REGAUDIT_READER, else "stream". Never writes to ``path``."""
+    if engine is None:
+        engine = os.environ.get(READER_VARIABLE) or "stream"
     path = Path(path)
     if not path.is_file():
         raise UnreadableWorkbook(f"{path} does not exist or is not a file")
@@ -63,4 +70,4 @@ def read_workbook(path: str | Path, engine: str = "stream") -> Workbook:
         return read_with_openpyxl(path, digest)
     from auditor.read.stream import read_package
 
-    return read_package(path, digest)
+    return read_package(path, digest, fast=engine == "stream")

@@ -7,6 +7,11 @@ two full loads. This reader streams each sheet part once with ``lxml.etree.iterp
 the ``s`` attribute's number format. Shared formulas are expanded with openpyxl's
 ``Translator``, as openpyxl's own normal load does; array formulas keep their block.
 
+Each sheet part is read first by the fast scanner (:mod:`auditor.read.scan`: regular
+expressions over the inflated XML, proven to give the same cells), and by the lxml loop of
+:mod:`auditor.read.sheet` when the scanner does not recognise everything in it
+(``read_workbook(path, engine="lxml")`` or ``REGAUDIT_READER=lxml`` uses the lxml loop for all).
+
 It produces the same :class:`auditor.read.workbook.Workbook` as the openpyxl reader
 (``tests/test_xlsxstream.py`` holds them to it on every fixture). Three deliberate differences,
 on cells no fixture has: a number in a date or duration format stays the serial number the
@@ -28,7 +33,7 @@ from auditor.read.book import BookState
 from auditor.read.charts import read_charts
 from auditor.read.links import external_links
 from auditor.read.parts import read_book, read_number_formats, read_shared_strings, workbook_part
-from auditor.read.sheet import SheetReader
+from auditor.read.scan import read_sheet
 from auditor.read.tables import read_tables
 from auditor.read.workbook import DefinedName, Sheet, Table, Workbook
 
@@ -44,7 +49,9 @@ UNPACKING_ERRORS = (
 )
 
 
-def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) -> Workbook:
+def _read_book(
+    archive: zipfile.ZipFile, label: str, path: Path, digest: str, fast: bool
+) -> Workbook:
     book_part = workbook_part(archive, label)
     parts = read_book(archive, book_part, label)
     ns = "{" + parts.namespace + "}"
@@ -68,7 +75,7 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
             raise UnreadableWorkbook(
                 f"{label}: two sheets are named {entry.name!r}; the file is damaged"
             )
-        sheets[entry.name] = SheetReader(book, entry.name).read(entry.part)
+        sheets[entry.name] = read_sheet(book, entry.name, entry.part, fast)
         for table in read_tables(archive, entry.name, entry.part, label):
             tables.setdefault(table.name.upper(), table)
     names = [
@@ -89,9 +96,10 @@ def _read_book(archive: zipfile.ZipFile, label: str, path: Path, digest: str) ->
     )
 
 
-def read_package(path: Path, digest: str) -> Workbook:
+def read_package(path: Path, digest: str, fast: bool = True) -> Workbook:
     """The workbook at ``path`` (already checked by
-    :func:`auditor.read.workbook.check_container`)."""
+    :func:`auditor.read.workbook.check_container`); ``fast``: sheets by the fast scanner
+    (:mod:`auditor.read.scan`) where it recognises them, else all by the lxml reader."""
     label = path.name
     # Millions of cells are allocated and none form cycles: the cyclic collector would only
     # re-scan them again and again (a fifth of the reading time at 200,000 rows).
@@ -99,7 +107,7 @@ def read_package(path: Path, digest: str) -> Workbook:
     gc.disable()
     try:
         with zipfile.ZipFile(path) as archive:
-            return _read_book(archive, label, path, digest)
+            return _read_book(archive, label, path, digest, fast)
     except UNPACKING_ERRORS as exc:
         raise UnreadableWorkbook(
             f"{label} could not be unpacked ({type(exc).__name__}: {exc}); the file is damaged "

@@ -16,6 +16,7 @@ what the file is and what to do. Macros in .xlsm files are never run: only works
 
 from __future__ import annotations
 
+from collections.abc import MutableMapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
@@ -75,7 +76,9 @@ class Cell:
 @dataclass
 class Sheet:
     name: str
-    cells: dict[tuple[int, int], Cell] = field(default_factory=dict)
+    # A dict, or for a part of a million rows a CompactCells store that behaves as one
+    # (auditor.read.compact): cells in the sheet's row-major order either way.
+    cells: MutableMapping[tuple[int, int], Cell] = field(default_factory=dict)
     max_row: int = 0
     max_col: int = 0
 
@@ -153,4 +156,10 @@ class Workbook:
         return None
 
     def formula_cells(self) -> list[Cell]:
-        return [c for s in self.sheets.values() for c in s.cells.values() if c.formula]
+        found: list[Cell] = []
+        for sheet in self.sheets.values():
+            # A compact store (auditor.read.compact) holds every formula cell as an object.
+            stored = getattr(sheet.cells, "stored_cells", None)
+            cells = stored() if stored is not None else sheet.cells.values()
+            found.extend(c for c in cells if c.formula)
+        return found

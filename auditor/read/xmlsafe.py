@@ -25,14 +25,14 @@ from lxml import etree
 from auditor.errors import UnreadableWorkbook
 
 PROLOG_LIMIT = 64 * 1024  # bytes; real parts open with well under 200 bytes before the root
-_PARSER_OPTIONS: dict[str, Any] = {
+PARSER_OPTIONS: dict[str, Any] = {
     "resolve_entities": False,
     "no_network": True,
     "load_dtd": False,
     "dtd_validation": False,
     "huge_tree": False,
 }
-_SAFE_PARSER = etree.XMLParser(remove_comments=True, remove_pis=True, **_PARSER_OPTIONS)
+_SAFE_PARSER = etree.XMLParser(remove_comments=True, remove_pis=True, **PARSER_OPTIONS)
 # Markup allowed before the root element: an XML declaration, processing instructions,
 # comments and white space.
 _PROLOG_ITEM = re.compile(r"\s+|<\?.*?\?>|<!--.*?-->", re.S)
@@ -93,7 +93,7 @@ def refuse_declarations(head: bytes, where: str) -> None:
         )
 
 
-def _open(archive: zipfile.ZipFile, name: str, where: str) -> tuple[IO[bytes], _Rewound]:
+def open_part(archive: zipfile.ZipFile, name: str, where: str) -> tuple[IO[bytes], _Rewound]:
     """The part's stream (to close) and a reader over it whose prolog has been checked."""
     try:
         stream = archive.open(name)
@@ -108,7 +108,7 @@ def _open(archive: zipfile.ZipFile, name: str, where: str) -> tuple[IO[bytes], _
     return stream, _Rewound(head, stream)
 
 
-def _refuse_dtd(tree: Any, where: str) -> None:
+def refuse_dtd(tree: Any, where: str) -> None:
     docinfo = tree.getroottree().docinfo
     if docinfo.internalDTD is not None or docinfo.externalDTD is not None or docinfo.doctype:
         raise UnreadableWorkbook(f"{where} carries a document type declaration; refused as unsafe")
@@ -117,14 +117,14 @@ def _refuse_dtd(tree: Any, where: str) -> None:
 def parse_part(archive: zipfile.ZipFile, name: str, where: str) -> Any:
     """The whole part as an element tree (for the small parts: workbook, relationships,
     styles); ``where`` names the part in messages ("book.xlsx: part 'xl/styles.xml'")."""
-    stream, reader = _open(archive, name, where)
+    stream, reader = open_part(archive, name, where)
     try:
         root = etree.parse(reader, _SAFE_PARSER).getroot()
     except etree.XMLSyntaxError as exc:
         raise UnreadableWorkbook(f"{where} is not well-formed XML ({exc.msg})") from exc
     finally:
         stream.close()
-    _refuse_dtd(root, where)
+    refuse_dtd(root, where)
     return root
 
 
@@ -135,8 +135,8 @@ def iter_part(
 
     The caller clears what it has used; :func:`prune` drops the cleared elements so that memory
     stays flat on a million rows."""
-    stream, reader = _open(archive, name, where)
-    events = etree.iterparse(reader, events=("end",), tag=tags, **_PARSER_OPTIONS)
+    stream, reader = open_part(archive, name, where)
+    events = etree.iterparse(reader, events=("end",), tag=tags, **PARSER_OPTIONS)
     try:
         for _event, element in events:
             yield element
@@ -146,7 +146,7 @@ def iter_part(
         stream.close()
     root = events.root
     if root is not None:
-        _refuse_dtd(root, where)
+        refuse_dtd(root, where)
 
 
 def prune(element: Any) -> None:

@@ -1,0 +1,235 @@
+"""A compact cell store for very large sheets: the cells of ``Sheet.cells`` without a
+:class:`Cell` object per typed number.
+
+A cell held as an object in a dict costs about 220 bytes (the slotted Cell 88, its (row, col)
+key 56, the dict entry about 42, the float 24, a share of the row number): 450 MB for the two
+million cells of a 1,048,576-row sheet. Here a constant cell costs about 45: one 64-bit key
+(row and column packed), its value in a list, its number format as a small index. Formulas,
+array anchors and anything written out of order keep their Cell objects in the same sequence.
+
+The store is a ``MutableMapping`` with the dict's behaviour where the audit relies on it:
+iteration in insertion order (the sheet's row-major document order), replacement in place,
+look-up by (row, col). A Cell is built when asked for; building costs about a microsecond, so
+only parts above :data:`COMPACT_PART_BYTES` use the store (a million-row sheet: its memory
+matters more than the seconds). Anything the sequence cannot hold in order (a key before the
+last, a removal) turns the store into a plain dict, once, and it behaves as one from then on.
+"""
+
+from __future__ import annotations
+
+import os
+from array import array
+from bisect import bisect_left
+from collections.abc import ItemsView, Iterator, MutableMapping, ValuesView
+
+from auditor.read.sheet import built_cell
+from auditor.read.workbook import Cell, CellValue
+
+# Inflated sheet XML from which the store is used (a million rows of two columns is ~90 MB);
+# $REGAUDIT_COMPACT_BYTES (internal) sets it, e.g. to 0 to audit every fixture with the store.
+COMPACT_PART_BYTES = int(os.environ.get("REGAUDIT_COMPACT_BYTES") or 48 << 20)
+_COLUMN_BITS = 15  # columns 1..16,384 (XFD)
+_OBJECT = 0xFFFF  # format index meaning "the list holds the Cell itself"
+_COLUMN_MASK = (1 << _COLUMN_BITS) - 1
+_MAX_PACKED = 1 << 62  # rows beyond any sheet (a damaged file) go to the dict
+
+
+class CompactCells(MutableMapping[tuple[int, int], Cell]):
+    """(row, col) -> Cell, constants stored packed; see the module's docstring."""
+
+    def __init__(self, sheet: str) -> None:
+        self._sheet = sheet
+        self._keys = array("q")
+        self._values: list[CellValue | Cell] = []
+        self._formats = array("H")
+        self._format_names: list[str] = []
+        self._format_ids: dict[str, int] = {}
+        self._last = -1
+        self._hint = self._stride = 0  # the last position found, and the step that led to it
+        self._dict: dict[tuple[int, int], Cell] | None = None
+
+    def add_constant(self, row: int, col: int, value: CellValue, number_format: str) -> None:
+        """A cell with no formula and no array block (the reader's hot path)."""
+        key = (row << _COLUMN_BITS) | col
+        if self._last < key < _MAX_PACKED and self._dict is None:
+            index = self._format_ids.get(number_format)
+            if index is None:
+                index = self._format_id(number_format)
+            if index >= 0:
+                self._keys.append(key)
+                self._values.append(value)
+                self._formats.append(index)
+                self._last = key
+                return
+        self[(row, col)] = Cell(self._sheet, row, col, value, None, number_format, None)
+
+    def _format_id(self, number_format: str) -> int:
+        """The index of a number format; -1 when the index is full (the cell keeps an object)."""
+        if len(self._format_names) >= _OBJECT:
+            return -1
+        self._format_ids[number_format] = len(self._format_names)
+        self._format_names.append(number_format)
+        return self._format_ids[number_format]
+
+    def _position(self, key: tuple[int, int]) -> int:
+        """Where ``key`` is in the sequence, or -1 (also for anything that is not a key)."""
+        try:
+            row, col = key
+            if not 0 < col < 1 << _COLUMN_BITS or not 0 <= row < _MAX_PACKED >> _COLUMN_BITS:
+                return -1
+            packed = (row << _COLUMN_BITS) | col
+        except (TypeError, ValueError):
+            return -1
+        keys = self._keys
+        # Ranges are read cell after cell down a column: the next key is most often as far
+        # after the last one found as that one was after the one before.
+        guess = self._hint + self._stride
+        if 0 <= guess < len(keys) and keys[guess] == packed:
+            self._hint = guess
+            return guess
+        at = bisect_left(keys, packed)
+        if at < len(keys) and keys[at] == packed:
+            self._stride, self._hint = at - self._hint, at
+            return at
+        return -1
+
+    def _cell(self, at: int) -> Cell:
+        value = self._values[at]
+        index = self._formats[at]
+        if index == _OBJECT:
+            return value  # type: ignore[return-value]
+        packed = self._keys[at]
+        return built_cell(
+            self._sheet,
+            packed >> _COLUMN_BITS,
+            packed & _COLUMN_MASK,
+            value,  # type: ignore[arg-type]
+            None,
+            self._format_names[index],
+            None,
+        )
+
+    def _as_dict(self) -> dict[tuple[int, int], Cell]:
+        if self._dict is None:
+            self._dict = {(c.row, c.col): c for c in map(self._cell, range(len(self._keys)))}
+            self._keys, self._values, self._formats = array("q"), [], array("H")
+        return self._dict
+
+    def __getitem__(self, key: tuple[int, int]) -> Cell:
+        if self._dict is not None:
+            return self._dict[key]
+        at = self._position(key)
+        if at < 0:
+            raise KeyError(key)
+        return self._cell(at)
+
+    def get(self, key: tuple[int, int], default: Cell | None = None) -> Cell | None:  # type: ignore[override]
+        # _position and _cell written out: the evaluator reads ranges through here, a million
+        # calls on a million-row sheet.
+        if self._dict is not None:
+            return self._dict.get(key, default)
+        try:
+            row, col = key
+            if not 0 < col < 1 << _COLUMN_BITS or not 0 <= row < _MAX_PACKED >> _COLUMN_BITS:
+                return default
+            packed = (row << _COLUMN_BITS) | col
+        except (TypeError, ValueError):
+            return default
+        keys = self._keys
+        at = self._hint + self._stride
+        if not (0 <= at < len(keys) and keys[at] == packed):
+            found = bisect_left(keys, packed)
+            if found == len(keys) or keys[found] != packed:
+                return default
+            self._stride, at = found - self._hint, found
+        self._hint = at
+        index = self._formats[at]
+        if index == _OBJECT:
+            return self._values[at]  # type: ignore[return-value]
+        value: CellValue = self._values[at]  # type: ignore[assignment]
+        return built_cell(self._sheet, row, col, value, None, self._format_names[index], None)
+
+    def stored_cells(self) -> Iterator[Cell]:
+        """The cells held as objects (every formula and array anchor among them), in order."""
+        if self._dict is not None:
+            yield from self._dict.values()
+            return
+        for value, index in zip(self._values, self._formats, strict=True):
+            if index == _OBJECT:
+                yield value  # type: ignore[misc]
+
+    def __contains__(self, key: object) -> bool:
+        if self._dict is not None:
+            return key in self._dict
+        return self._position(key) >= 0  # type: ignore[arg-type]
+
+    def __setitem__(self, key: tuple[int, int], cell: Cell) -> None:
+        if self._dict is None:
+            row, col = key
+            packed = (row << _COLUMN_BITS) | col if 0 < col < 1 << _COLUMN_BITS else -1
+            if self._last < packed < _MAX_PACKED:
+                self._keys.append(packed)
+                self._values.append(cell)
+                self._formats.append(_OBJECT)
+                self._last = packed
+                return
+            at = self._position(key) if packed >= 0 else -1
+            if at >= 0:
+                self._values[at] = cell
+                self._formats[at] = _OBJECT
+                return
+        self._as_dict()[key] = cell
+
+    def __delitem__(self, key: tuple[int, int]) -> None:
+        del self._as_dict()[key]
+
+    def __len__(self) -> int:
+        return len(self._dict) if self._dict is not None else len(self._keys)
+
+    def __iter__(self) -> Iterator[tuple[int, int]]:
+        if self._dict is not None:
+            yield from self._dict
+            return
+        for packed in self._keys:
+            yield (packed >> _COLUMN_BITS, packed & _COLUMN_MASK)
+
+    def values(self) -> ValuesView[Cell]:
+        return _Values(self)
+
+    def items(self) -> ItemsView[tuple[int, int], Cell]:
+        return _Items(self)
+
+    def iter_cells(self) -> Iterator[Cell]:
+        """Every cell in insertion order, built as it is reached."""
+        if self._dict is not None:
+            yield from self._dict.values()
+            return
+        sheet, names = self._sheet, self._format_names
+        for packed, value, index in zip(self._keys, self._values, self._formats, strict=True):
+            if index == _OBJECT:
+                yield value  # type: ignore[misc]
+                continue
+            yield built_cell(
+                sheet,
+                packed >> _COLUMN_BITS,
+                packed & _COLUMN_MASK,
+                value,  # type: ignore[arg-type]
+                None,
+                names[index],
+                None,
+            )
+
+
+class _Values(ValuesView[Cell]):
+    _mapping: CompactCells
+
+    def __iter__(self) -> Iterator[Cell]:
+        return self._mapping.iter_cells()
+
+
+class _Items(ItemsView[tuple[int, int], Cell]):
+    _mapping: CompactCells
+
+    def __iter__(self) -> Iterator[tuple[tuple[int, int], Cell]]:
+        for cell in self._mapping.iter_cells():
+            yield (cell.row, cell.col), cell
