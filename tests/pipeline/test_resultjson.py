@@ -44,3 +44,30 @@ def test_the_earlier_form_still_loads() -> None:
     result = _workbooks()[0]
     old_form = json.dumps(dataclasses.asdict(result), separators=(",", ":"), default=str)
     assert _document(resultjson.loads(old_form)) == _document(result)
+
+
+@dataclasses.dataclass(slots=True)
+class _Inner:
+    value: float
+
+
+@dataclasses.dataclass(slots=True)
+class _Nested:
+    name: str
+    inner: _Inner
+
+
+def test_a_table_of_scalar_fields_is_written_as_the_rows_one_by_one_would_be() -> None:
+    result = max(_workbooks(), key=lambda w: sum(len(r.data) for r in w.regressions))
+    points = result.regressions[0].data
+    stored = json.loads(resultjson.dumps(result))["regressions"][0]["data"]["rows"]
+    names = [field.name for field in dataclasses.fields(points[0])]
+    assert stored == [[getattr(point, name) for name in names] for point in points]
+
+
+def test_a_table_whose_rows_hold_records_is_converted_row_by_row() -> None:
+    table = resultjson._table(_Nested, [_Nested("a", _Inner(1.5)), _Nested("b", _Inner(2.5))])
+    assert table == {
+        "fields": ["name", "inner"],
+        "rows": [["a", {"value": 1.5}], ["b", {"value": 2.5}]],
+    }
