@@ -87,19 +87,40 @@ class Moments:
             yield "slope-cell", self.y_mean_all - slope * self.x_mean_all, evidence
 
 
+def _number_mask(values: list[object]) -> np.ndarray | None:
+    """Which values are numbers (as :func:`is_number` says), judged once per type present;
+    None when one is an error value."""
+    kinds = set(map(type, values))
+    if any(issubclass(kind, ErrorValue) for kind in kinds):
+        return None
+    numeric = {k for k in kinds if issubclass(k, (int, float)) and not issubclass(k, bool)}
+    if kinds <= numeric:
+        return np.ones(len(values), dtype=bool)
+    if not numeric:
+        return np.zeros(len(values), dtype=bool)
+    return np.fromiter((type(v) in numeric for v in values), dtype=bool, count=len(values))
+
+
+def _as_floats(values: list[object], mask: np.ndarray) -> np.ndarray:
+    """float() of the values the mask keeps, in their order."""
+    if mask.all():
+        return np.array(values, dtype=float)
+    kept: np.ndarray = np.array(values, dtype=object)[mask].astype(float)
+    return kept
+
+
 def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None:
     """None when either range holds an error value (the functions would show it) or fewer
     than three pairs, or x does not vary."""
-    if any(isinstance(v, ErrorValue) for v in (*y_values, *x_values)):
+    if len(y_values) != len(x_values):
+        raise ValueError("y and x differ in length")
+    y_numbers, x_numbers = _number_mask(y_values), _number_mask(x_values)
+    if y_numbers is None or x_numbers is None:
         return None
-    pairs = [
-        (float(y), float(x))  # type: ignore[arg-type]
-        for y, x in zip(y_values, x_values, strict=True)
-        if is_number(y) and is_number(x)
-    ]
-    if len(pairs) < MIN_PAIRS:
+    paired = y_numbers & x_numbers
+    if int(paired.sum()) < MIN_PAIRS:
         return None
-    ys, xs = np.array([p[0] for p in pairs]), np.array([p[1] for p in pairs])
+    ys, xs = _as_floats(y_values, paired), _as_floats(x_values, paired)
     if np.array_equal(ys, xs):
         return None  # a column against itself (or its copy): slope 1 by construction
     if np.unique(xs).size < MIN_LEVELS:
@@ -110,11 +131,10 @@ def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None
     sxx = float(dx @ dx)
     if sxx <= 0:
         return None
-    x_all = np.array([float(v) for v in x_values if is_number(v)])  # type: ignore[arg-type]
-    y_all = np.array([float(v) for v in y_values if is_number(v)])  # type: ignore[arg-type]
+    x_all, y_all = _as_floats(x_values, x_numbers), _as_floats(y_values, y_numbers)
     dx_all, dy_all = x_all - x_all.mean(), y_all - y_all.mean()
     return Moments(
-        n=len(pairs),
+        n=int(xs.size),
         x_mean=float(xs.mean()),
         y_mean=float(ys.mean()),
         sxx=sxx,
