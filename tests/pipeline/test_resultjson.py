@@ -11,6 +11,7 @@ from test_report_xlsx_support import fixture_audit
 
 from auditor.model import WorkbookResult
 from auditor.pipeline import resultjson
+from auditor.pipeline.columns import unpack_rows
 
 
 def _document(result: WorkbookResult) -> str:
@@ -35,7 +36,7 @@ def test_data_points_are_stored_as_a_table_once_named() -> None:
     stored = json.loads(resultjson.dumps(result))
     points = stored["regressions"][0]["data"]
     assert points["fields"][:3] == ["row", "x", "y"]
-    assert len(points["rows"]) == len(result.regressions[0].data) > 1
+    assert points["count"] == len(points["columns"][0]) == len(result.regressions[0].data) > 1
     old_form = json.dumps(dataclasses.asdict(result), separators=(",", ":"), default=str)
     assert len(resultjson.dumps(result)) < len(old_form)
 
@@ -57,12 +58,22 @@ class _Nested:
     inner: _Inner
 
 
-def test_a_table_of_scalar_fields_is_written_as_the_rows_one_by_one_would_be() -> None:
+def test_a_table_of_scalar_fields_comes_back_as_its_rows_one_by_one() -> None:
     result = max(_workbooks(), key=lambda w: sum(len(r.data) for r in w.regressions))
     points = result.regressions[0].data
-    stored = json.loads(resultjson.dumps(result))["regressions"][0]["data"]["rows"]
+    stored = json.loads(resultjson.dumps(result))["regressions"][0]["data"]
     names = [field.name for field in dataclasses.fields(points[0])]
-    assert stored == [[getattr(point, name) for name in names] for point in points]
+    assert unpack_rows(stored) == [[getattr(point, name) for name in names] for point in points]
+
+
+def test_the_rows_form_of_the_previous_version_still_loads() -> None:
+    result = max(_workbooks(), key=lambda w: sum(len(r.data) for r in w.regressions))
+    stored = json.loads(resultjson.dumps(result))
+    for regression in stored["regressions"]:
+        table = regression["data"]
+        if isinstance(table, dict) and "columns" in table:
+            regression["data"] = {"fields": table["fields"], "rows": unpack_rows(table)}
+    assert _document(resultjson.loads(json.dumps(stored))) == _document(result)
 
 
 def test_a_table_whose_rows_hold_records_is_converted_row_by_row() -> None:

@@ -1,0 +1,85 @@
+"""A table of records (the data points of a regression, one per row) packed column by column
+for the ledger, so that storing 200,000 points costs milliseconds rather than the second that
+``repr`` of two million floats takes, and a third of the bytes.
+
+    {"fields": ["row", "x", "y", …], "count": 3, "columns": [column, column, …]}
+
+A column is one of
+
+    {"f8": "<base64>", "none": [1]}               floats (Python ``float`` exactly) and empty
+                                                  cells: the float64 bytes, little-endian, and
+                                                  the positions that were None
+    {"f8": "<base64>", "none": [], "width": 2}    lists of ``width`` such values, row by row
+    [5, 6, 7]                                     anything else, as json writes it
+
+The round trip is exact: a float64 holds a Python float bit for bit, and a column is packed only
+when every value is a ``float`` (an ``int`` or ``bool`` would come back a float) or None.
+"""
+
+from __future__ import annotations
+
+import base64
+from collections.abc import Sequence
+from operator import attrgetter
+from typing import Any
+
+import numpy as np
+
+_FLOATS = {float, type(None)}
+
+
+def _float_bytes(values: Sequence[Any]) -> tuple[str, list[int]]:
+    """Base64 of the values as float64 (None as 0.0) and the positions of the Nones."""
+    empty = []
+    if None in values:
+        empty = [index for index, value in enumerate(values) if value is None]
+        values = [0.0 if value is None else value for value in values]
+    array = np.array(values, dtype="<f8")
+    return base64.b64encode(array.tobytes()).decode("ascii"), empty
+
+
+def pack_column(values: Sequence[Any]) -> Any:
+    kinds = set(map(type, values))
+    if values and kinds <= _FLOATS:
+        data, empty = _float_bytes(values)
+        return {"f8": data, "none": empty}
+    if values and kinds == {list}:
+        widths = set(map(len, values))
+        if len(widths) == 1:
+            (width,) = widths
+            flat = [v for item in values for v in item]
+            if width and set(map(type, flat)) <= _FLOATS:
+                data, empty = _float_bytes(flat)
+                return {"f8": data, "none": empty, "width": width}
+    return list(values)
+
+
+def unpack_column(column: Any, count: int) -> list[Any]:
+    if isinstance(column, list):
+        return column
+    array = np.frombuffer(base64.b64decode(column["f8"]), dtype="<f8")
+    values: list[Any] = array.tolist()
+    for index in column["none"]:
+        values[index] = None
+    width = column.get("width")
+    if width is None:
+        return values
+    return [values[start : start + width] for start in range(0, count * width, width)]
+
+
+def pack_records(names: Sequence[str], records: Sequence[Any]) -> dict[str, Any]:
+    """The records' attributes ``names`` as packed columns."""
+    return {
+        "fields": list(names),
+        "count": len(records),
+        "columns": [pack_column(list(map(attrgetter(name), records))) for name in names],
+    }
+
+
+def unpack_rows(table: dict[str, Any]) -> list[list[Any]]:
+    """The rows of a packed table, each a list of values in the order of ``fields``."""
+    count = int(table["count"])
+    columns = [unpack_column(column, count) for column in table["columns"]]
+    if len(columns) != len(table["fields"]) or any(len(c) != count for c in columns):
+        raise ValueError("a packed table's columns do not match its fields and count")
+    return [list(row) for row in zip(*columns, strict=True)]

@@ -1,0 +1,68 @@
+"""Packed columns of the ledger: every value comes back bit for bit and of the same type."""
+
+from __future__ import annotations
+
+import json
+import math
+import struct
+from dataclasses import dataclass
+
+from auditor.pipeline.columns import pack_column, pack_records, unpack_column, unpack_rows
+
+
+@dataclass
+class _Row:
+    row: int
+    x: list[float | None]
+    y: float | None
+    used: bool
+    reason: str
+
+
+def _round_trip(values: list[object]) -> list[object]:
+    packed = json.loads(json.dumps(pack_column(values)))
+    return unpack_column(packed, len(values))
+
+
+def _bits(value: object) -> object:
+    return struct.pack("<d", value) if isinstance(value, float) else value
+
+
+def test_floats_and_empty_cells_come_back_bit_for_bit() -> None:
+    values: list[object] = [0.1, None, -0.0, 1e-310, math.inf, -math.inf, 2.0**60 + 0.5, None]
+    back = _round_trip(values)
+    assert [type(v) for v in back] == [type(v) for v in values]
+    assert [_bits(v) for v in back] == [_bits(v) for v in values]
+    assert isinstance(pack_column(values), dict)
+
+
+def test_nan_stays_nan() -> None:
+    (back,) = _round_trip([math.nan])
+    assert isinstance(back, float) and math.isnan(back)
+
+
+def test_integers_logicals_and_text_are_kept_as_json_writes_them() -> None:
+    samples: list[list[object]] = [[1, 2, 3], [1.5, 2], [True, False], ["", "outside range"]]
+    for values in samples:
+        assert pack_column(values) == values
+        assert _round_trip(values) == values
+        assert [type(v) for v in _round_trip(values)] == [type(v) for v in values]
+
+
+def test_lists_of_one_width_are_packed_and_others_kept() -> None:
+    pairs: list[object] = [[1.5, None], [2.5, 3.5], [None, -1.0]]
+    assert pack_column(pairs)["width"] == 2
+    assert _round_trip(pairs) == pairs
+    ragged: list[object] = [[1.5], [2.5, 3.5]]
+    assert pack_column(ragged) == ragged
+    with_int: list[object] = [[1.5], [2]]
+    assert pack_column(with_int) == with_int
+
+
+def test_a_table_comes_back_row_by_row() -> None:
+    rows = [_Row(7, [1.0], 2.5, True, ""), _Row(8, [None], None, False, "text in x")]
+    names = ["row", "x", "y", "used", "reason"]
+    table = json.loads(json.dumps(pack_records(names, rows)))
+    assert unpack_rows(table) == [[getattr(row, name) for name in names] for row in rows]
+    empty = json.loads(json.dumps(pack_records(["row", "x"], [])))
+    assert unpack_rows(empty) == []
