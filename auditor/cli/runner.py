@@ -62,6 +62,7 @@ def _audit_locally(
     use_ledger: bool,
     time_limit: float | None,
     memory_limit_gb: float | None,
+    points: str = "all",
 ) -> list[Any]:
     from auditor.pipeline.batch import audit_batch
     from auditor.pipeline.limits import FileLimits
@@ -88,10 +89,19 @@ def _audit_locally(
             changed=changed,
             limits=limits,
             progress=True,
+            points=points,
         )
     finally:
         if ledger is not None:
             ledger.close()
+
+
+def _points_read(options: RunOptions) -> str:
+    """Which regressions' data points the reports of this run show: "findings" when only the
+    workbook's detail sheets of regressions with a finding do, "all" otherwise (review.html plots
+    every regression; ``--detail all`` gives each a sheet; nothing written, the caller keeps it)."""
+    only_findings = options.write and options.detail == "findings" and "html" not in options.formats
+    return "findings" if only_findings else "all"
 
 
 def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = None) -> AuditResult:
@@ -144,6 +154,7 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
             options.use_ledger,
             options.time_limit,
             options.memory_limit_gb,
+            _points_read(options),
         )
     result = AuditResult(
         version=__version__,

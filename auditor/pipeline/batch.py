@@ -10,7 +10,8 @@ from __future__ import annotations
 import sys
 import time
 import traceback
-from collections.abc import Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
+from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -63,6 +64,17 @@ def _audit_recorded(args: Task) -> tuple[WorkbookResult, float, str | None]:
     return result, seconds, dumps(result)
 
 
+def _without_unread_points(work: Callable[[Task], tuple[Any, ...]], args: Task) -> tuple[Any, ...]:
+    """``work(args)`` with the data points of every regression without a finding left out: a
+    worker's result crosses a pipe, and its points (one record per row) are nearly all of its
+    size, while only a detail sheet shows them. The ledger record is made before, whole."""
+    outcome = work(args)
+    for regression in outcome[0].regressions:
+        if not regression.findings:
+            regression.data = []
+    return outcome
+
+
 def _stopped(args: Task, failure: Failure) -> tuple[WorkbookResult, float]:
     path = Path(args[0])
     digest = sha256_of(path) if path.is_file() else ""
@@ -80,11 +92,14 @@ def iter_audits(
     jobs: int | None = None,
     limits: FileLimits = DEFAULT_LIMITS,
     records: bool = False,
+    points: str = "all",
 ) -> Iterator[tuple[Any, ...]]:
     """(index, result, seconds, reusable) as files finish; jobs=0 runs in-process, no limits.
-    With ``records`` each tuple ends with the result's ledger record, made by the worker."""
+    With ``records`` each tuple ends with the result's ledger record, made by the worker. With
+    ``points="findings"`` a result from a worker keeps the data points of the regressions with
+    a finding only (those a detail sheet shows); "all" keeps every one."""
     tasks: list[Task] = [(str(p), policy, bindings) for p in paths]
-    work = _audit_recorded if records else _audit_timed
+    work: Callable[[Task], tuple[Any, ...]] = _audit_recorded if records else _audit_timed
     stopped_work = _stopped_recorded if records else _stopped
     if jobs == 0:
         for index, task in enumerate(tasks):
@@ -96,6 +111,8 @@ def iter_audits(
         outcomes: Iterator[tuple[int, tuple[Any, ...]]] = iter([(0, outcome)])
     else:
         workers = default_jobs() if jobs is None else jobs
+        if points == "findings":
+            work = partial(_without_unread_points, work)
         outcomes = run_limited(work, tasks, workers, limits, stopped_work)
     for index, (result, seconds, *record) in outcomes:
         stopped = seconds < 0  # stopped by a limit: not reused, tried again next run
@@ -112,11 +129,13 @@ def audit_batch(
     changed: bool = False,
     limits: FileLimits = DEFAULT_LIMITS,
     progress: bool = False,
+    points: str = "all",
 ) -> list[WorkbookResult]:
-    """Results in the order of ``paths``."""
+    """Results in the order of ``paths`` (``points``: see ``iter_audits``)."""
 
     def audit_many(subset: Sequence[Path]) -> Iterator[tuple[Any, ...]]:
-        return iter_audits(subset, policy, bindings, jobs, limits, records=ledger is not None)
+        recorded = ledger is not None
+        return iter_audits(subset, policy, bindings, jobs, limits, recorded, points)
 
     if ledger is None:
         stream: Iterator[tuple[int, WorkbookResult]] = ((i, r) for i, r, *_ in audit_many(paths))
