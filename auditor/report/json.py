@@ -9,11 +9,11 @@ The schema of the contract lives in tests/schema/audit.schema.json.
 
 from __future__ import annotations
 
-import json
 from typing import Any, BinaryIO
 
 from auditor.model import AuditResult
 from auditor.report.common import plain
+from auditor.report.json_text import indented_json
 
 
 def audit_document(result: AuditResult) -> dict[str, Any]:
@@ -23,10 +23,7 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
 
 
 def render_json(result: AuditResult) -> str:
-    text = json.dumps(
-        audit_document(result), indent=2, sort_keys=False, allow_nan=False, ensure_ascii=False
-    )
-    return text + "\n"
+    return indented_json(audit_document(result)) + "\n"  # json.dumps(…, indent=2), faster
 
 
 class JsonReporter:
