@@ -56,6 +56,7 @@ class Evaluator(ExpressionEvaluator):
         self._values: dict[_Key, Any] = {}
         self._open: set[_Key] = set()  # cells being evaluated: meeting one again is a cycle
         self._ranges: dict[Ref, RangeValue] = {}
+        self._blocks_read: dict[Ref, np.ndarray] = {}  # range_values, outside cycles
         self._computing = False  # inside the evaluation loop of _compute
         self._open_cells_met = 0  # how often a cell still open was read (a cycle)
         layout = FormulaLayout.of(workbook)
@@ -111,7 +112,19 @@ class Evaluator(ExpressionEvaluator):
         return value
 
     def range_values(self, ref: Ref) -> np.ndarray:
-        """The block's cell values as a 2-D object array (None for empty), formulas evaluated."""
+        """The block's cell values as a 2-D object array (None for empty), formulas evaluated.
+        Each caller gets its own array; a block is read once (a data column is asked for by the
+        recognisers, the extraction and the design inputs alike)."""
+        cached = self._blocks_read.get(ref)
+        if cached is not None:
+            return cached.copy()
+        open_cells_before = self._open_cells_met
+        block = self._read_block(ref)
+        if self._open_cells_met == open_cells_before:  # a block read mid-cycle is not reused
+            self._blocks_read[ref] = block.copy()
+        return block
+
+    def _read_block(self, ref: Ref) -> np.ndarray:
         if ref.external is not None:
             raise Unverifiable(f"{ref.address} is in another workbook, which is not at hand")
         sheet = self.workbook.sheet(ref.sheet)
