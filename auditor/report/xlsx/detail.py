@@ -97,8 +97,10 @@ def _style(styles: Styles, name: str) -> Any:
 
 def stat_rows(regression: RegressionResult) -> list[tuple[str, ReportedValue | None, Any]]:
     """Every reported statistic and every intended one, in reading order."""
-    keys = set(regression.reported)
-    keys |= {k for k, v in regression.intended.items() if finite_or_none(v) is not None}
+    # In the model's own order before sorting (not a set, whose order varies from run to run
+    # with string hashing): statistics stat_order ranks alike keep it, and the file its bytes.
+    intended_keys = [k for k, v in regression.intended.items() if finite_or_none(v) is not None]
+    keys = dict.fromkeys([*regression.reported, *intended_keys])
     rows = []
     for key in sorted(keys, key=stat_order):
         reported = regression.reported.get(key)
