@@ -4,8 +4,10 @@ total keeps that test O(1) per row)."""
 
 from __future__ import annotations
 
+import bisect
 import re
 from dataclasses import dataclass
+from itertools import repeat
 from typing import Any, cast
 
 import numpy as np
@@ -15,6 +17,16 @@ from auditor.extract.totals import format_changes, summary_formula
 from auditor.grid import column_letter
 from auditor.model import DataPoint
 from auditor.read.workbook import Workbook
+
+_WINDOW, _MAX_WINDOW = 1024, 1 << 16  # rows tested by numpy at a time
+_ONE_BY_ONE = 64  # rows taken one at a time after a total-like row early in a window
+
+
+def _next(offsets: list[int], offset: int) -> int:
+    """The first of the sorted ``offsets`` after ``offset`` (a large number when none is)."""
+    index = bisect.bisect_right(offsets, offset)
+    return offsets[index] if index < len(offsets) else 1 << 62
+
 
 TOTAL_LABEL = re.compile(r"^\s*(grand\s+)?(total|sum|mean|average|avg|σ|Σ)\b", re.I)
 
@@ -48,6 +60,32 @@ class _RunningTotal:
             self.first = value
         elif value != self.first:
             self.varied = True
+
+    def plain_prefix(self, ys: np.ndarray) -> int:
+        """Add ``ys`` in turn up to the first that ``looks_like_total`` (not added); return how
+        many were added. The same sums, in the same order, as ``add`` one at a time."""
+        m = len(ys)
+        if m == 0:
+            return 0
+        running = np.add.accumulate(np.concatenate(([self.total], ys)))  # left to right
+        before, counts = running[:-1], self.count + np.arange(m)
+        first = ys[0] if self.first is None else self.first
+        differs = ys != first
+        if self.first is None:
+            differs[0] = False  # the first value is the first, even when it is NaN
+        varied = np.concatenate(([self.varied], self.varied | np.logical_or.accumulate(differs)))
+        with np.errstate(all="ignore"):
+            mean = before / np.maximum(counts, 1)
+            as_total = np.abs(ys - before) <= 1e-9 * np.maximum(np.abs(before), 1e-300)
+            as_mean = np.abs(ys - mean) <= 1e-12 * np.maximum(np.abs(mean), 1e-300)
+        hits = np.flatnonzero((counts >= 2) & (as_total | (as_mean & varied[:-1])))
+        added = int(hits[0]) if hits.size else m
+        if added:
+            self.total = float(running[added])
+            self.count += added
+            self.first = float(first) if self.first is None else self.first
+            self.varied = bool(varied[added])
+        return added
 
     def looks_like_total(self, y: float) -> bool:
         if self.count < 2:
@@ -107,24 +145,57 @@ class IntendedRows:
         # _row_label returns "" unless a label cell holds text, so only those rows (and rows
         # whose y matches the running sum or mean) need it.
         text_rows = _text_label_rows(self.workbook, self.sheet, first, last, self.label_col)
-        result, running, referenced = self.result, self.running, self.rows_referenced
-        points = result.points
-        xs_used, ys_used = self.xs_used, self.ys_used
-        x_rows = map(list, zip(*x_columns, strict=True)) if x_columns else ([] for _ in rows)
-        for offset, (r, xs, y) in enumerate(zip(rows, x_rows, y_column, strict=True)):
+        x_rows = (
+            [list(t) for t in zip(*x_columns, strict=True)] if x_columns else [[] for _ in rows]
+        )
+        # Between two such rows, runs of plain rows: their total-or-mean test done by numpy a
+        # window at a time (_RunningTotal.plain_prefix), the rows then added in one loop.
+        special = sorted(mixed | {r - first for r in text_rows if first <= r <= last})
+        offset, window = 0, _WINDOW
+        while offset < len(rows):
+            r = first + offset
             if offset in mixed:
-                self._add_cell_by_cell(r, xs, y)
-            elif r in text_rows or running.looks_like_total(y):
-                self._add_possible_total(r, xs, y)
-            else:  # what _add_cell_by_cell gives for a row of floats that is not a total
-                in_refs = r in referenced
-                if in_refs:
-                    result.n_as_written += 1
-                reason = "" if in_refs else "outside the formula's range"
-                points.append(DataPoint(r, xs, y, True, in_refs, reason))
-                xs_used.append(xs)
-                ys_used.append(y)
-                running.add(y)
+                self._add_cell_by_cell(r, x_rows[offset], y_column[offset])
+                offset += 1
+                continue
+            if r in text_rows:
+                self._add_possible_total(r, x_rows[offset], y_column[offset])
+                offset += 1
+                continue
+            end = min(_next(special, offset), offset + window, len(rows))
+            clear = self.running.plain_prefix(np.array(y_column[offset:end], dtype=float))
+            self._add_plain(first, offset, offset + clear, x_rows, y_column)
+            offset += clear
+            if offset == end:
+                window = min(window * 4, _MAX_WINDOW)
+                continue
+            # Row ``offset`` looks like a total; after an early one, the next rows go one by one
+            # (a column of zeros is "a total" on every row: no window would pay).
+            window = _WINDOW
+            ahead = _ONE_BY_ONE if clear < 8 else 1
+            stop = min(_next(special, offset), offset + ahead, len(rows))
+            for one in range(offset, stop):
+                y = y_column[one]
+                if self.running.looks_like_total(y):
+                    self._add_possible_total(first + one, x_rows[one], y)
+                else:
+                    self._add_plain(first, one, one + 1, x_rows, y_column)
+                    self.running.add(y)
+            offset = stop
+
+    def _add_plain(
+        self, first: int, start: int, stop: int, x_rows: list[list[Any]], y_column: list[Any]
+    ) -> None:
+        """What _add_cell_by_cell gives for rows of floats that are not totals (the running sum
+        is kept by the caller)."""
+        rows = range(first + start, first + stop)
+        seen = [r in self.rows_referenced for r in rows]
+        reasons = ["" if in_refs else "outside the formula's range" for in_refs in seen]
+        xs, ys = x_rows[start:stop], y_column[start:stop]
+        self.result.points.extend(map(DataPoint, rows, xs, ys, repeat(True), seen, reasons))
+        self.result.n_as_written += sum(seen)
+        self.xs_used.extend(x_rows[start:stop])
+        self.ys_used.extend(y_column[start:stop])
 
     def _is_total(self, r: int, label: str, y: float) -> bool:
         """A total or summary row needs evidence, never arithmetic coincidence alone (0.72 =
