@@ -61,11 +61,16 @@ class _Numeric:
     @staticmethod
     def of(block: np.ndarray) -> _Numeric:
         flat = block.ravel()
+        kinds = set(map(type, flat))
+        if kinds == {float}:  # the common block: numbers only, judged once per type present
+            return _Numeric(flat.astype(float), np.ones(flat.size, dtype=bool), -1, None)
         is_number = np.fromiter((type(v) is float for v in flat), dtype=bool, count=flat.size)
         values = np.full(flat.size, np.nan)
         values[is_number] = flat[is_number].astype(float)
-        is_error = np.fromiter((type(v) is ErrorValue for v in flat), dtype=bool, count=flat.size)
-        error_at = int(np.argmax(is_error)) if is_error.any() else -1
+        error_at = -1
+        if ErrorValue in kinds:
+            is_error = np.fromiter((type(v) is ErrorValue for v in flat), bool, count=flat.size)
+            error_at = int(np.argmax(is_error))
         error = flat[error_at] if error_at >= 0 else None
         return _Numeric(values, is_number, error_at, error)
 
