@@ -26,3 +26,31 @@ def test_the_audit_path_imports_no_heavy_module_it_does_not_use() -> None:
         "tabulate": False,
         "sqlite3": False,
     }
+
+
+THREADS_PROBE = """
+import json, os
+import auditor.cli.main
+names = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS")
+print(json.dumps({name: os.environ.get(name) for name in names}))
+"""
+
+
+def _threads_setting(environment: dict[str, str]) -> dict[str, str]:
+    done = subprocess.run(
+        [sys.executable, "-c", THREADS_PROBE], capture_output=True, text=True, check=True,
+        env=environment,
+    )  # fmt: skip
+    setting: dict[str, str] = json.loads(done.stdout.strip().splitlines()[-1])
+    return setting
+
+
+def test_the_command_line_asks_blas_for_one_thread_unless_told_otherwise() -> None:
+    import os
+
+    plain = {
+        k: v for k, v in os.environ.items() if k not in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS")
+    }
+    assert _threads_setting(plain) == {"OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1"}
+    chosen = {**plain, "OPENBLAS_NUM_THREADS": "4"}
+    assert _threads_setting(chosen) == {"OPENBLAS_NUM_THREADS": "4", "OMP_NUM_THREADS": "1"}
