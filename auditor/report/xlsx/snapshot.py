@@ -16,6 +16,7 @@ from xlsxwriter.utility import xl_rowcol_to_cell
 from auditor.model import DataPoint, RegressionResult
 from auditor.report.xlsx.charts import Block, ChartSource
 from auditor.report.xlsx.layout import SheetWriter
+from auditor.report.xlsx.snapshot_rows import snapshot_points
 
 
 @dataclass(frozen=True)
@@ -45,6 +46,23 @@ def _x(point: DataPoint, column: int) -> float | None:
     return point.x[column] if column < len(point.x) else None
 
 
+def _description(regression: RegressionResult) -> str:
+    text = (
+        "Every row of the data table as regaudit read it. A row whose two yes/no columns differ "
+        "is one the author's formula and the intended fit treat differently (shaded)."
+    )
+    listed = len(snapshot_points(regression.data))
+    if listed == len(regression.data):
+        return text
+    return (
+        f"{listed:,} of the table's {len(regression.data):,} rows: every row regaudit treated "
+        "otherwise than a plain used point, the most influential used points and the first and "
+        "last rows. The used points to the right are all of them; the formulas and charts read "
+        "those. A row whose two yes/no columns differ is one the author's formula and the "
+        "intended fit treat differently (shaded)."
+    )
+
+
 def _table(out: SheetWriter, regression: RegressionResult, top: int) -> int:
     """The full snapshot table; returns the column of its last ("why") column."""
     styles = out.styles
@@ -54,7 +72,7 @@ def _table(out: SheetWriter, regression: RegressionResult, top: int) -> int:
     flags = {"source row", "in intended fit", "seen by author's formula", "why"}
     for col, text in enumerate(headers):
         out.header(top, col, text, numeric=text not in flags)
-    for offset, point in enumerate(regression.data, start=1):
+    for offset, point in enumerate(snapshot_points(regression.data), start=1):
         row = top + offset
         differs = point.used != point.used_as_written
         flag = styles.mismatch if differs else styles.top
@@ -80,14 +98,7 @@ def write_snapshot(
     styles = out.styles
     k = regression.x_columns
     out.put(top, 0, "Data snapshot", styles.section, fit=False)
-    out.put(
-        top + 1,
-        0,
-        "Every row of the data table as regaudit read it. A row whose two yes/no columns differ "
-        "is one the author's formula and the intended fit treat differently (shaded).",
-        styles.muted,
-        fit=False,
-    )
+    out.put(top + 1, 0, _description(regression), styles.muted, fit=False)
     header_row = top + 2
     reason_col = _table(out, regression, header_row)
     first = header_row + 1
