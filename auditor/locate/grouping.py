@@ -75,12 +75,17 @@ class PairGroups:
 
 
 def _box(uses: list[PairUse]) -> tuple[str, int, int, int, int] | None:
+    """The cells a block's calls span, widened by one cell along the block: a column of
+    statistics reaches one row above and below, not into the column beside it (a grid of
+    regressions, one per column, puts a neighbour's calls there)."""
     if not uses:
         return None
     sheet = uses[0].cell.sheet
     rows = [u.cell.row for u in uses if u.cell.sheet == sheet]
     cols = [u.cell.col for u in uses if u.cell.sheet == sheet]
-    return sheet, min(rows) - 1, min(cols) - 1, max(rows) + 1, max(cols) + 1
+    r1, c1, r2, c2 = min(rows), min(cols), max(rows), max(cols)
+    column, row = c1 == c2 and r1 < r2, r1 == r2 and c1 < c2
+    return sheet, r1 - (not row), c1 - (not column), r2 + (not row), c2 + (not column)
 
 
 def _inside(use: PairUse, box: tuple[str, int, int, int, int] | None) -> bool:
