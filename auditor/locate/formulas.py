@@ -9,6 +9,7 @@ from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Call, Node, Ref, parse, references
 from auditor.locate.formula_dependents import refs_roles, role_of_dependent, stat_addresses
+from auditor.locate.grid_labels import statistic_label
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
 from auditor.locate.roles import (
     linest_block_role,
@@ -233,7 +234,7 @@ class FormulaLocator:
                     continue
                 role = role_of_dependent(self.workbook, spec, cell, node)
                 taken.add(key)
-                label = label_for(self.workbook, cell)
+                label = statistic_label(self.workbook, cell)
                 if (
                     role
                     and role in spec.stats

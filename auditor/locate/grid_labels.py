@@ -1,0 +1,58 @@
+"""The statistic label of a cell in a grid of regressions, across its neighbours' cells.
+
+A results sheet often holds several regressions side by side: statistics in rows with their
+labels in the first column and one regression per column, or the other way round (statistics in
+columns under labels in the first row, one regression per row). Only the first regression's
+cells touch their labels; a later column's SE sits behind the earlier columns' SE cells. Its
+label is the text that starts the run of filled cells it belongs to: walking left along its row
+(or up its column) over cells that hold formulas or numbers, the first text met.
+
+A run broken by an empty cell, or a text that names no statistic, gives no label: the words must
+say which statistic the row (or column) holds.
+"""
+
+from __future__ import annotations
+
+from auditor.locate.roles import role_from_label
+from auditor.locate.spec import label_for
+from auditor.read.workbook import Cell, Workbook
+
+MAX_GRID_RUN = 40  # regressions side by side a grid label is followed across
+
+
+def _run_start_text(workbook: Workbook, cell: Cell, step: tuple[int, int]) -> str | None:
+    """The text at the start of the run of filled non-text cells that ``cell`` ends."""
+    sheet = workbook.sheet(cell.sheet)
+    if sheet is None:
+        return None
+    row, col = cell.row, cell.col
+    for _ in range(MAX_GRID_RUN):
+        row, col = row + step[0], col + step[1]
+        if row < 1 or col < 1:
+            return None
+        other = sheet.get(row, col)
+        if other is None or other.value is None and other.formula is None:
+            return None  # the run is broken: no grid here
+        if isinstance(other.value, str) and not other.formula:
+            return other.value
+    return None
+
+
+def grid_label(workbook: Workbook, cell: Cell) -> str | None:
+    """The statistic label of ``cell`` at the start of its row or the top of its column, when
+    that text names a statistic (None otherwise): with A3 'Standard error of the slope',
+    B3 ``=STEYX(…)/SQRT(DEVSQ(…))`` and C3 ``=STDEV(…)/SQRT(DEVSQ(…))``, C3's label is A3's."""
+    for step in ((0, -1), (-1, 0)):
+        text = _run_start_text(workbook, cell, step)
+        if text and role_from_label(text):
+            return text
+    return None
+
+
+def statistic_label(workbook: Workbook, cell: Cell) -> str | None:
+    """The words beside a cell (:func:`label_for`) when they name a statistic, else its grid
+    label, else the words beside it whatever they say."""
+    beside = label_for(workbook, cell)
+    if beside and role_from_label(beside):
+        return beside
+    return grid_label(workbook, cell) or beside
