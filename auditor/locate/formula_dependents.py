@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 from auditor.formula.syntax import Binary, Call, Node, RefNode, references, walk
-from auditor.locate.roles import linest_index_role, role_from_label, role_from_shape
 from auditor.locate.grid_labels import statistic_label
+from auditor.locate.roles import linest_index_role, role_from_label, role_from_shape
 from auditor.locate.spec import RegressionSpec, literal_int
 from auditor.model import stat_base
 from auditor.read.workbook import Cell, Workbook

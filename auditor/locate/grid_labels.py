@@ -4,8 +4,9 @@ A results sheet often holds several regressions side by side: statistics in rows
 labels in the first column and one regression per column, or the other way round (statistics in
 columns under labels in the first row, one regression per row). Only the first regression's
 cells touch their labels; a later column's SE sits behind the earlier columns' SE cells. Its
-label is the text that starts the run of filled cells it belongs to: walking left along its row
-(or up its column) over cells that hold formulas or numbers, the first text met.
+label is the text that starts the run of formula cells it belongs to: walking left along its row
+(or up its column) over the neighbours' formulas, the first text met. A typed number on the way
+ends the search: a row of readings behind a sample ID is a data table, not a grid.
 
 A run broken by an empty cell, or a text that names no statistic, gives no label: the words must
 say which statistic the row (or column) holds.
@@ -35,6 +36,8 @@ def _run_start_text(workbook: Workbook, cell: Cell, step: tuple[int, int]) -> st
             return None  # the run is broken: no grid here
         if isinstance(other.value, str) and not other.formula:
             return other.value
+        if not other.formula:
+            return None  # a typed number: a data table (sample IDs, readings), not a grid
     return None
 
 
