@@ -16,13 +16,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from auditor.errors import FormulaError
 from auditor.extract.intended import TOTAL_LABEL
 from auditor.extract.record import Extracted, Reader, cell_number, range_text
 from auditor.extract.tables import paired
-from auditor.extract.totals import SUMMARY_FUNCTIONS
+from auditor.extract.totals import format_changes, summary_formula
 from auditor.formula.r1c1 import to_r1c1
-from auditor.formula.syntax import Call, parse, references
 from auditor.grid import column_letter
 from auditor.locate.spec import RegressionSpec
 from auditor.model import DataPoint
@@ -55,22 +53,6 @@ def _claimed(spec: RegressionSpec, col: int) -> bool:
     return False
 
 
-def _summary_across(workbook: Workbook, sheet: Sheet, row: int, col: int) -> bool:
-    """The cell holds =SUM(…)/AVERAGE(…)/… over cells to its left in its own row."""
-    cell = sheet.get(row, col)
-    if cell is None or not cell.formula:
-        return False
-    try:
-        node = parse(cell.formula, sheet.name, workbook)
-    except FormulaError:
-        return False
-    if not (isinstance(node, Call) and node.name.removeprefix("_xlfn.") in SUMMARY_FUNCTIONS):
-        return False
-    return any(
-        ref.r1 <= row <= ref.r2 and ref.c2 < col and ref.c2 > ref.c1 for ref in references(node)
-    )
-
-
 def _word_for(sheet: Sheet, top: int, col: int) -> str:
     """A total word above the column's first data row (the header row of a table in rows)."""
     for row in range(top - 1, max(0, top - 1 - LABEL_REACH), -1):
@@ -78,16 +60,6 @@ def _word_for(sheet: Sheet, top: int, col: int) -> str:
         if isinstance(value, str) and cell_number(value)[0] is None:
             return value
     return ""
-
-
-def _format_changes(sheet: Sheet, row: int, col: int) -> bool:
-    cell = sheet.get(row, col)
-    for left in range(col - 1, max(0, col - 4), -1):
-        other = sheet.get(row, left)
-        if other is not None and other.value is not None:
-            mine = (cell.number_format if cell is not None else "") or "General"
-            return mine != (other.number_format or "General")
-    return False
 
 
 class _Across:
@@ -107,7 +79,8 @@ class _Across:
         word = _word_for(self.sheet, min(rows), col)
         if word and TOTAL_LABEL.match(word):
             return word.strip()
-        if any(_summary_across(self.workbook, self.sheet, r, col) for r in rows):
+        book, name = self.workbook, self.sheet.name
+        if any(summary_formula(book, name, r, col, across=True) for r in rows):
             return "sums the cells before it"
         if len(self.ys) >= 2:
             total = float(np.sum(self.ys))
@@ -115,7 +88,7 @@ class _Across:
             coincides = abs(y - total) <= 1e-9 * max(abs(total), 1e-300) or (
                 abs(y - mean) <= 1e-12 * max(abs(mean), 1e-300) and len(set(self.ys)) > 1
             )
-            if coincides and _format_changes(self.sheet, self.spec.y.r1, col):
+            if coincides and format_changes(book, name, self.spec.y.r1, col, across=True):
                 return "equals the sum or mean before it"
         return None
 
