@@ -27,6 +27,7 @@ from auditor.locate.spec import (
     overlaps,
     pair_uses,
 )
+from auditor.locate.typed_inputs import typed_df_cells
 from auditor.model import STAT_KEYS
 from auditor.read.workbook import Cell, Workbook
 
@@ -87,6 +88,8 @@ class FormulaLocator:
             )
             self._assign_anchor_roles(spec)
             self._follow_dependents(spec)
+            for typed_df in typed_df_cells(self.workbook, self.parsed, spec):
+                self._put(spec, "df", StatCell("df", typed_df, "chain"))
             specs.append(spec)
         return specs
 

@@ -45,6 +45,7 @@ class Bench:
     cells: dict[str, str] = field(default_factory=dict)  # statistic -> Summary!B3
     se_from_sd_y: bool = False  # the planted slip: SE built from the SD of y
     df_from: int | None = None  # the planted slip: p reads another bench's df cell
+    typed_df: float | None = None  # the df cell holds this typed number, not =COUNT(x)-2
 
 
 def spreadsheet_fit(x: np.ndarray, y: np.ndarray, se_from_sd_y: bool = False) -> dict[str, float]:
@@ -131,10 +132,14 @@ def write_grid(
         source = group[bench.df_from] if bench.df_from is not None else bench
         df_cell = source.cells["df"].split("!")[1]
         shown = spreadsheet_fit(bench.x, bench.y, bench.se_from_sd_y)
-        if bench.df_from is not None:
-            df = float(len(source.x) - 2)
+        if bench.df_from is not None or bench.typed_df is not None:
+            df = float(len(source.x) - 2) if bench.typed_df is None else bench.typed_df
             shown["p_slope"] = float(2.0 * sps.t.sf(abs(shown["t_slope"]), df))
+            shown["df"] = df if bench.typed_df is not None else shown["df"]
         for stat in STATS:
+            if stat == "df" and bench.typed_df is not None:
+                summary.write_number(*places[i][stat], bench.typed_df)
+                continue
             summary.write_formula(
                 *places[i][stat], _formula(stat, form, bench, local, df_cell), None, shown[stat]
             )

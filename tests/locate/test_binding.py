@@ -113,6 +113,33 @@ def test_a_p_whose_df_cell_is_the_neighbours_is_bound_through_its_t(tmp_path: Pa
     assert p_cell not in {v.cell for v in first.reported.values()}
 
 
+@pytest.mark.parametrize("across", [False, True], ids=["one-per-column", "one-per-row"])
+def test_a_typed_df_behind_the_first_column_is_bound_through_the_p_that_reads_it(
+    tmp_path: Path, across: bool
+) -> None:
+    group = benches(5, 3)
+    right_df = float(len(group[1].x) - 2)
+    group[1].typed_df = right_df
+    group[2].typed_df = float(len(group[2].x) - 1)  # typed n − 1: the p uses one df too many
+    path = tmp_path / "grid.xlsx"
+    write_grid(path, group, across=across, seed=1)
+    specs = locate(read_workbook(path))
+    for bench in group[1:]:
+        holders = _bound_to(specs, bench.cells["df"])
+        assert [h.y.address for h in holders] == [bench.y_range]
+    result = audit_workbook(path, POLICY)
+    clean = _regression_of(result.regressions, group[1])
+    assert clean.reported["df"].verdict == "confirmed"
+    assert clean.reported["df"].value == right_df
+    slipped = _regression_of(result.regressions, group[2])
+    assert slipped.reported["df"].verdict == "mismatch"
+    # scipy: the p shown uses n − 1 df, the intended one n − 2
+    assert slipped.reported["p_slope"].intended == pytest.approx(
+        spreadsheet_fit(group[2].x, group[2].y)["p_slope"], rel=1e-9
+    )
+    assert any(f.severity in ("major", "critical") for f in slipped.findings)
+
+
 def _spec(
     name: str, x: tuple[int, int, int], y: tuple[int, int, int], stats: dict[str, str]
 ) -> RegressionSpec:
