@@ -19,10 +19,11 @@ from auditor.locate.spec import label_for
 from auditor.read.workbook import Cell, Workbook
 
 MAX_GRID_RUN = 40  # regressions side by side a grid label is followed across
+LABEL_LINE = 8  # labels either side of a grid label read to see that they name statistics
 
 
-def _run_start_text(workbook: Workbook, cell: Cell, step: tuple[int, int]) -> str | None:
-    """The text at the start of the run of filled non-text cells that ``cell`` ends."""
+def _run_start(workbook: Workbook, cell: Cell, step: tuple[int, int]) -> Cell | None:
+    """The text cell at the start of the run of formula cells that ``cell`` ends."""
     sheet = workbook.sheet(cell.sheet)
     if sheet is None:
         return None
@@ -35,10 +36,29 @@ def _run_start_text(workbook: Workbook, cell: Cell, step: tuple[int, int]) -> st
         if other is None or other.value is None and other.formula is None:
             return None  # the run is broken: no grid here
         if isinstance(other.value, str) and not other.formula:
-            return other.value
+            return other
         if not other.formula:
             return None  # a typed number: a data table (sample IDs, readings), not a grid
     return None
+
+
+def _names_several_statistics(workbook: Workbook, label: Cell, step: tuple[int, int]) -> bool:
+    """The line of labels ``label`` belongs to (its column when the run went along a row, its
+    row when it went up a column) names at least two different statistics: a grid's labels,
+    not a column of sample or site names that happen to read like one ("S-2")."""
+    sheet = workbook.sheet(label.sheet)
+    if sheet is None:
+        return False
+    roles = set()
+    for offset in range(-LABEL_LINE, LABEL_LINE + 1):
+        row, col = (
+            (label.row + offset, label.col) if step[0] == 0 else (label.row, label.col + offset)
+        )
+        value = sheet.value(row, col) if row >= 1 and col >= 1 else None
+        role = role_from_label(value) if isinstance(value, str) else None
+        if role:
+            roles.add(role)
+    return len(roles) >= 2
 
 
 def grid_label(workbook: Workbook, cell: Cell) -> str | None:
@@ -46,9 +66,11 @@ def grid_label(workbook: Workbook, cell: Cell) -> str | None:
     that text names a statistic (None otherwise): with A3 'Standard error of the slope',
     B3 ``=STEYX(…)/SQRT(DEVSQ(…))`` and C3 ``=STDEV(…)/SQRT(DEVSQ(…))``, C3's label is A3's."""
     for step in ((0, -1), (-1, 0)):
-        text = _run_start_text(workbook, cell, step)
-        if text and role_from_label(text):
-            return text
+        label = _run_start(workbook, cell, step)
+        if label is None or not isinstance(label.value, str) or not role_from_label(label.value):
+            continue
+        if _names_several_statistics(workbook, label, step):
+            return label.value
     return None
 
 

@@ -96,7 +96,13 @@ def _formula(stat: str, form: str, bench: Bench, cells: dict[str, str], df_cell:
 
 
 def write_grid(
-    path: Path, group: list[Bench], *, across: bool, seed: int, wording: str = "terse"
+    path: Path,
+    group: list[Bench],
+    *,
+    across: bool,
+    seed: int,
+    wording: str = "terse",
+    names: str = "Bench {}",
 ) -> list[Bench]:
     """A workbook with ``group`` side by side on ``Summary``: one regression per column
     (``across=False``: statistics in rows, labels in column A) or one per row (``across=True``:
@@ -121,7 +127,7 @@ def write_grid(
         summary.write(*((0, 1 + k) if across else (1 + k, 0)), label)
     places = {}
     for i, bench in enumerate(group):
-        summary.write(*((1 + i, 0) if across else (0, 1 + i)), f"Bench {i + 1}")
+        summary.write(*((1 + i, 0) if across else (0, 1 + i)), names.format(i + 1))
         places[i] = {
             stat: ((1 + i, 1 + k) if across else (1 + k, 1 + i)) for k, stat in enumerate(STATS)
         }

@@ -63,6 +63,22 @@ def test_a_grid_binds_every_cell_to_the_regression_of_its_own_column_or_row(
             assert key == stat
 
 
+def test_row_names_that_read_like_a_statistic_are_not_taken_for_its_label(
+    tmp_path: Path,
+) -> None:
+    """One regression per row named "S-1", "S-2", …: "S" alone would read as the residual SD,
+    but a column of names holds one reading, a grid's labels several."""
+    group = benches(11, 3)
+    group[2].se_from_sd_y = True
+    path = tmp_path / "grid.xlsx"
+    write_grid(path, group, across=True, seed=2, names="S-{}")
+    specs = locate(read_workbook(path))
+    holders = _bound_to(specs, group[2].cells["se_slope"])
+    assert len(holders) == 1
+    keys = [k for k, c in holders[0].stats.items() if c.cell.address == group[2].cells["se_slope"]]
+    assert keys == ["se_slope"]
+
+
 def _regression_of(result: list[RegressionResult], bench: Bench) -> RegressionResult:
     return next(r for r in result if r.y_range == bench.y_range)
 
