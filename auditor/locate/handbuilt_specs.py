@@ -39,10 +39,31 @@ def _put(spec: RegressionSpec, found: Recognised) -> None:
         spec.uses.append(PairUse(found.cell, "hand-built", found.y, found.x))
 
 
+SYMMETRIC = frozenset({"CORREL", "PEARSON", "RSQ"})
+
+
+def _only_symmetric(spec: RegressionSpec) -> bool:
+    return spec.found_by == "formulas" and all(u.function in SYMMETRIC for u in spec.uses)
+
+
+def _same_data_either_way(spec: RegressionSpec, other: RegressionSpec) -> bool:
+    return (overlaps(spec.x, other.x) and overlaps(spec.y, other.y)) or (
+        overlaps(spec.x, other.y) and overlaps(spec.y, other.x)
+    )
+
+
 def join(found: list[RegressionSpec], other: RegressionSpec) -> bool:
     """Give a regression found otherwise (same data) the recognised cells of a hand-built one;
     an intercept built from a slope cell never stands alone. True: ``other`` is consumed."""
-    for spec in found:
+    for index, spec in enumerate(found):
+        if _only_symmetric(spec) and _same_data_either_way(spec, other):
+            # R² alone (CORREL(x, y)^2, RSQ) says nothing of which range is x: the hand-built
+            # slope does; the regression is the hand-built one, with the R² cells as its own.
+            for stat in spec.stats.values():
+                attach(other, stat.key.split("@")[0], stat)
+            other.uses.extend(spec.uses)
+            found[index] = other
+            return True
         same = overlaps(spec.x, other.x) and overlaps(spec.y, other.y)
         orientable = _orientable(spec)
         if not same and orientable and overlaps(spec.x, other.y) and overlaps(spec.y, other.x):

@@ -4,7 +4,8 @@ sheet, in either orientation, written with XlsxWriter.
 Invented scenario: a greenhouse trial logs watering (mL/day) against shoot growth (mm/week) for
 several benches. Each bench's data sit in two columns of sheet ``Benches``; sheet ``Summary``
 holds one regression per column (statistics in rows, labels in column A) or one per row
-(statistics in columns, labels in row 1). Forms vary by bench (SLOPE family, INDEX(LINEST));
+(statistics in columns, labels in row 1). Forms vary by bench (SLOPE family, INDEX(LINEST),
+a slope built by hand as COVARIANCE.S/VAR.S with R² as CORREL(x, y)^2);
 t is built from the slope and SE cells, p from the t and df cells.
 
 Stored values are what a spreadsheet would save, computed here by numpy least squares and
@@ -78,6 +79,12 @@ def benches(seed: int, count: int) -> list[Bench]:
 def _formula(stat: str, form: str, bench: Bench, cells: dict[str, str], df_cell: str) -> str:
     ys, xs = bench.y_range, bench.x_range
     lin = f"LINEST({ys},{xs},TRUE,TRUE)"
+    if form == "hand" and stat in ("slope", "intercept", "r_squared"):
+        return {
+            "slope": f"=_xlfn.COVARIANCE.S({xs},{ys})/_xlfn.VAR.S({xs})",
+            "intercept": f"=AVERAGE({ys})-{cells['slope']}*AVERAGE({xs})",
+            "r_squared": f"=CORREL({xs},{ys})^2",
+        }[stat]
     if stat == "slope":
         return f"=INDEX({lin},1,1)" if form == "index" else f"=SLOPE({ys},{xs})"
     if stat == "intercept":
@@ -133,7 +140,7 @@ def write_grid(
         }
         bench.cells = {stat: "Summary!" + xl_rowcol_to_cell(*at) for stat, at in places[i].items()}
     for i, bench in enumerate(group):
-        form = "index" if rng.random() < 0.5 else "slope"
+        form = ("index", "slope", "hand")[int(rng.integers(3))]
         local = {stat: cell.split("!")[1] for stat, cell in bench.cells.items()}
         source = group[bench.df_from] if bench.df_from is not None else bench
         df_cell = source.cells["df"].split("!")[1]
