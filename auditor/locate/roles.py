@@ -72,6 +72,8 @@ _OTHER_LANGUAGES: list[tuple[re.Pattern[str], str]] = [
     (re.compile(r"^(valor p|p-wert|valeur p)\b"), "p-value"),
     (re.compile(r"^(grados de libertad|freiheitsgrade|degr[ée]s de libert[ée])"), "df"),
     (re.compile(r"^(r cuadrado|bestimmtheitsma(ß|ss)|coefficient de d[ée]termination)"), "r²"),
+    # "Coefficient R²" is R², not a coefficient of the line
+    (re.compile(r"^(coefficient|coeficiente|koeffizient) r ?(²|\^2|2)"), "r²"),
 ]
 
 
