@@ -88,8 +88,6 @@ class FormulaLocator:
             )
             self._assign_anchor_roles(spec)
             self._follow_dependents(spec)
-            for typed_df in typed_df_cells(self.workbook, self.parsed, spec):
-                self._put(spec, "df", StatCell("df", typed_df, "chain"))
             specs.append(spec)
         return specs
 
@@ -253,6 +251,8 @@ class FormulaLocator:
                     added = True
             if not added:
                 break
+        for typed_df in typed_df_cells(self.workbook, self.parsed, spec):
+            self._put(spec, "df", StatCell("df", typed_df, "chain"))  # the df a p reads
 
     def _near(self, spec: RegressionSpec, cell: Cell) -> bool:
         """A data-only formula (COUNT(x)-2) belongs to the block it sits in."""

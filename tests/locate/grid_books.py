@@ -110,6 +110,7 @@ def write_grid(
     seed: int,
     wording: str = "terse",
     names: str = "Bench {}",
+    form: str | None = None,
 ) -> list[Bench]:
     """A workbook with ``group`` side by side on ``Summary``: one regression per column
     (``across=False``: statistics in rows, labels in column A) or one per row (``across=True``:
@@ -140,7 +141,8 @@ def write_grid(
         }
         bench.cells = {stat: "Summary!" + xl_rowcol_to_cell(*at) for stat, at in places[i].items()}
     for i, bench in enumerate(group):
-        form = ("index", "slope", "hand")[int(rng.integers(3))]
+        drawn = ("index", "slope", "hand")[int(rng.integers(3))]
+        form_here = form or drawn
         local = {stat: cell.split("!")[1] for stat, cell in bench.cells.items()}
         source = group[bench.df_from] if bench.df_from is not None else bench
         df_cell = source.cells["df"].split("!")[1]
@@ -154,7 +156,10 @@ def write_grid(
                 summary.write_number(*places[i][stat], bench.typed_df)
                 continue
             summary.write_formula(
-                *places[i][stat], _formula(stat, form, bench, local, df_cell), None, shown[stat]
+                *places[i][stat],
+                _formula(stat, form_here, bench, local, df_cell),
+                None,
+                shown[stat],
             )
     book.close()
     return group

@@ -129,16 +129,17 @@ def test_a_p_whose_df_cell_is_the_neighbours_is_bound_through_its_t(tmp_path: Pa
     assert p_cell not in {v.cell for v in first.reported.values()}
 
 
+@pytest.mark.parametrize("form", ["slope", "index", "hand"])
 @pytest.mark.parametrize("across", [False, True], ids=["one-per-column", "one-per-row"])
 def test_a_typed_df_behind_the_first_column_is_bound_through_the_p_that_reads_it(
-    tmp_path: Path, across: bool
+    tmp_path: Path, across: bool, form: str
 ) -> None:
     group = benches(5, 3)
     right_df = float(len(group[1].x) - 2)
     group[1].typed_df = right_df
     group[2].typed_df = float(len(group[2].x) - 1)  # typed n − 1: the p uses one df too many
     path = tmp_path / "grid.xlsx"
-    write_grid(path, group, across=across, seed=1)
+    write_grid(path, group, across=across, seed=1, form=form)
     specs = locate(read_workbook(path))
     for bench in group[1:]:
         holders = _bound_to(specs, bench.cells["df"])
