@@ -96,19 +96,6 @@ def _inside(use: PairUse, box: tuple[str, int, int, int, int] | None) -> bool:
     )
 
 
-def _in_line(use: PairUse, rest: list[PairUse]) -> bool:
-    """``use`` continues the row (or column) its own block's calls lie on: in a grid of
-    regressions, one per row, the R² at the row's far end is that row's, however far."""
-    sheet = use.cell.sheet
-    if any(u.cell.sheet != sheet for u in rest):
-        return False
-    rows = {u.cell.row for u in rest}
-    cols = {u.cell.col for u in rest}
-    return (len(rows) == 1 and use.cell.row in rows and len(cols) > 1) or (
-        len(cols) == 1 and use.cell.col in cols and len(rows) > 1
-    )
-
-
 def adopt_strays(groups: list[list[PairUse]]) -> list[list[PairUse]]:
     """A call sitting inside another block but naming this block's data (a block copied with an
     absolute reference left pointing back) belongs to the block it sits in: the mismatch of
@@ -116,10 +103,11 @@ def adopt_strays(groups: list[list[PairUse]]) -> list[list[PairUse]]:
     for group in groups:
         for use in list(group):
             rest = [u for u in group if u is not use]
-            if not rest or _inside(use, _box(rest)) or _in_line(use, rest):
+            if not rest or _inside(use, _box(rest)):
                 continue
             for other in groups:
-                # a lone call is no block: it adopts nothing (a grid's last column is no stray)
+                # a lone call is no block: it adopts nothing (an R² alone at the end of one
+                # row of a grid is no home for the next row's R²)
                 if other is not group and len(other) > 1 and _inside(use, _box(other)):
                     group.remove(use)
                     other.append(use)
