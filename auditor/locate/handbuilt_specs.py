@@ -39,26 +39,22 @@ def _put(spec: RegressionSpec, found: Recognised) -> None:
         spec.uses.append(PairUse(found.cell, "hand-built", found.y, found.x))
 
 
-def _same_data_either_way(spec: RegressionSpec, other: RegressionSpec) -> bool:
-    return (overlaps(spec.x, other.x) and overlaps(spec.y, other.y)) or (
-        overlaps(spec.x, other.y) and overlaps(spec.y, other.x)
-    )
-
-
 def join(found: list[RegressionSpec], other: RegressionSpec) -> bool:
     """Give a regression found otherwise (same data) the recognised cells of a hand-built one;
     an intercept built from a slope cell never stands alone. True: ``other`` is consumed."""
-    for index, spec in enumerate(found):
-        if _orientable(spec) and _same_data_either_way(spec, other):
-            # A regression seen only through CORREL(a, b)^2 (or RSQ) has no direction of its
-            # own: the hand-built slope's COVARIANCE/VAR says which range is x. The regression
-            # is the hand-built one, with its followed dependents; the R² cells join it.
-            for stat in spec.stats.values():
-                attach(other, stat.key.split("@")[0], stat)
-            other.uses.extend(spec.uses)
-            found[index] = other
-            return True
+    for spec in found:
         same = overlaps(spec.x, other.x) and overlaps(spec.y, other.y)
+        orientable = _orientable(spec)
+        if not same and orientable and overlaps(spec.x, other.y) and overlaps(spec.y, other.x):
+            # A regression seen only through CORREL(a, b)^2 has no direction of its own: the
+            # hand-built slope's COVARIANCE/VAR says which range is x.
+            spec.x, spec.y, same = spec.y, spec.x, True
+        if same and orientable:  # the regression is the hand-built one; the correlation joins
+            spec.found_by = other.found_by
+        if same and orientable and spec.intercept == other.intercept:
+            for stat in other.stats.values():  # with the hand-built one's dependents: the R²
+                attach(spec, stat.key.split("@")[0], stat)  # alone had none of its own
+            return True
         if same and spec.x_columns == 1 and spec.intercept == other.intercept:
             for stat in other.stats.values():
                 if stat.how == "hand-built":  # its followed dependents are the other's own
@@ -79,14 +75,9 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
 
 
 def _orientable(spec: RegressionSpec) -> bool:
-    """Found by its formulas only through symmetric calls (CORREL, PEARSON, RSQ): x and y are
-    a guess."""
+    """Found only through symmetric calls (CORREL, PEARSON, RSQ): x and y are a guess."""
     symmetric = CORRELATION_FUNCS | {"RSQ"}
-    return (
-        spec.found_by == "formulas"
-        and bool(spec.uses)
-        and all(u.function in symmetric for u in spec.uses)
-    )
+    return bool(spec.uses) and all(u.function in symmetric for u in spec.uses)
 
 
 def handbuilt_specs(
