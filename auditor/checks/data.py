@@ -54,7 +54,8 @@ def rows_outside_range(context: RegressionContext) -> list[Finding]:
             evidence={"rows_left_out": len(rows), "first_row": rows[0], "last_row": rows[-1]}
             | ({"columns_left_out": rows_text(rows, across)} if across else {}),
             fix=f"Extend the ranges to {context.data.intended_x_range} and "
-            f"{context.data.intended_y_range} (or use a table so new rows are included).",
+            f"{context.data.intended_y_range} (or use a table so new "
+            f"{point_word(across)}s are included).",
         )
     ]
 

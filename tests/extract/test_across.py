@@ -128,6 +128,7 @@ def test_a_range_short_of_a_table_in_rows_is_named_with_the_columns_left_out(
     left_out = [xl_col_to_name(left + 1 + k) for k in range(len(x) - short, len(x))]
     said = f"column {left_out[0]}" if short == 1 else f"columns {left_out[0]}–{left_out[-1]}"
     assert said in findings[0].message
+    assert f"Feed Trial!{first}{top + 2}:{end}{top + 2}" in findings[0].fix
     expected = "critical" if _decision_changes(shown, right) else "major"
     assert findings[0].severity == expected
 
@@ -144,6 +145,9 @@ def test_a_total_column_inside_the_range_is_named_and_left_out(tmp_path: Path, s
     findings = _named(regression, "total-row")
     assert len(findings) == 1
     assert f"Feed Trial!{letter}{top + 2}" in findings[0].cells
+    before = xl_col_to_name(left + len(x))  # the last data column: the total's left out
+    first = xl_col_to_name(left + 1)
+    assert f"Feed Trial!{first}{top + 2}:{before}{top + 2}" in findings[0].fix
     expected = "critical" if _decision_changes(shown, right) else "major"
     assert findings[0].severity == expected
 
