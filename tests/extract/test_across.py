@@ -190,3 +190,87 @@ def test_a_range_short_that_hides_the_effect_is_critical(tmp_path: Path, short: 
     findings = _named(_the_regression(path), "range-short")
     assert [f.severity for f in findings] == ["critical"]
     assert "At alpha = 0.05 this changes the conclusion" in str(findings[0].evidence)
+
+
+def test_a_number_stored_as_text_in_a_table_in_rows_is_parsed_and_named(tmp_path: Path) -> None:
+    """SLOPE skips the pair whose y is the text "12.5"; the intended table reads it as 12.5."""
+    x, y, top, left = _data(7)
+    k = len(x) // 2
+    y[k] = 12.5
+    path = tmp_path / "text.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    sheet = book.add_worksheet("Feed Trial")
+    n = len(x)
+    for i in range(n):
+        sheet.write_number(top, left + 1 + i, float(x[i]))
+        if i == k:
+            sheet.write_string(top + 1, left + 1 + i, "12.5")
+        else:
+            sheet.write_number(top + 1, left + 1 + i, float(y[i]))
+    first, end = xl_col_to_name(left + 1), xl_col_to_name(left + n)
+    xs, ys = f"{first}{top + 1}:{end}{top + 1}", f"{first}{top + 2}:{end}{top + 2}"
+    keep = np.arange(n) != k
+    shown = _fit(x[keep], y[keep])  # what SLOPE stores: the text pair left out
+    sheet.write_formula(top + 4, 1, f"=SLOPE({ys},{xs})", None, shown["slope"])
+    sheet.write_formula(top + 5, 1, f"=INTERCEPT({ys},{xs})", None, shown["intercept"])
+    book.close()
+    regression = _the_regression(path)
+    assert regression.n == n
+    assert regression.intended["slope"] == pytest.approx(_fit(x, y)["slope"], rel=1e-9)
+    assert regression.reported["slope"].as_written == pytest.approx(shown["slope"], rel=1e-9)
+    findings = _named(regression, "text-number")
+    assert findings and f"Feed Trial!{xl_col_to_name(left + 1 + k)}{top + 2}" in findings[0].cells
+
+
+def test_two_regressions_side_by_side_in_the_same_rows_keep_their_own_columns(
+    tmp_path: Path,
+) -> None:
+    """Columns that another regression's ranges hold are its data, not columns added later."""
+    x, y, top, left = _data(11)
+    n = len(x)
+    half = n // 2
+    path = tmp_path / "halves.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    sheet = book.add_worksheet("Feed Trial")
+    for i in range(n):
+        sheet.write_number(top, left + 1 + i, float(x[i]))
+        sheet.write_number(top + 1, left + 1 + i, float(y[i]))
+    for block, (lo, hi) in enumerate(((0, half), (half, n))):
+        first, end = xl_col_to_name(left + 1 + lo), xl_col_to_name(left + hi)
+        xs, ys = f"{first}{top + 1}:{end}{top + 1}", f"{first}{top + 2}:{end}{top + 2}"
+        fit = _fit(x[lo:hi], y[lo:hi])
+        sheet.write_formula(top + 4 + 3 * block, 1, f"=SLOPE({ys},{xs})", None, fit["slope"])
+        sheet.write_formula(
+            top + 5 + 3 * block, 1, f"=INTERCEPT({ys},{xs})", None, fit["intercept"]
+        )
+    book.close()
+    result = audit_workbook(path, POLICY)
+    assert sorted(r.n for r in result.regressions) == sorted([half, n - half])
+    for regression in result.regressions:
+        assert regression.reported["slope"].verdict == "confirmed"
+        assert [f for f in regression.findings if f.severity in ("major", "critical")] == []
+
+
+def test_columns_of_formulas_copied_across_extend_a_table_in_rows(tmp_path: Path) -> None:
+    """x built by one formula copied across (=C3+12.5), y typed: the two columns after the
+    range are made like the last one, so the range stops short of the table."""
+    x0, step, n, short = 40.0, 12.5, 10, 2
+    x = x0 + step * np.arange(n)
+    y = np.round(3.0 + 0.05 * x + np.random.default_rng(5).normal(0, 0.4, n), 2)
+    path = tmp_path / "copied.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    sheet = book.add_worksheet("Feed Trial")
+    sheet.write_number(2, 1, x0)
+    for i in range(1, n):
+        prev = f"{xl_col_to_name(i)}3"
+        sheet.write_formula(2, 1 + i, f"={prev}+{step}", None, float(x[i]))
+    for i in range(n):
+        sheet.write_number(3, 1 + i, float(y[i]))
+    end = xl_col_to_name(n - short)
+    shown = _fit(x[: n - short], y[: n - short])
+    sheet.write_formula(6, 1, f"=SLOPE(B4:{end}4,B3:{end}3)", None, shown["slope"])
+    book.close()
+    regression = _the_regression(path)
+    assert regression.n == n
+    assert regression.intended_x_range == f"Feed Trial!B3:{xl_col_to_name(n)}3"
+    assert _named(regression, "range-short")
