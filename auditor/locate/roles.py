@@ -44,7 +44,7 @@ _LABELS: list[tuple[re.Pattern[str], str]] = [
     (re.compile(r"^(df|d\.f\.|degrees of freedom|dof)\b"), "df"),
     (re.compile(r"^(n|count|points|number of (points|observations|standards))\b"), "n"),
     (
-        re.compile(r"^(r ?(²|\^2|2|-?sq(uared)?)|rsq|coefficient (of determination|r ?(²|\^2)))"),
+        re.compile(r"^(r ?(²|\^2|2|-?sq(uared)?)|rsq|coefficient (of determination|r ?(²|\^2|2\b)))"),
         "r_squared",
     ),
     (re.compile(r"^(r|correl(ation)?|pearson)\b"), "r"),
@@ -72,8 +72,6 @@ _OTHER_LANGUAGES: list[tuple[re.Pattern[str], str]] = [
     (re.compile(r"^(valor p|p-wert|valeur p)\b"), "p-value"),
     (re.compile(r"^(grados de libertad|freiheitsgrade|degr[ée]s de libert[ée])"), "df"),
     (re.compile(r"^(r cuadrado|bestimmtheitsma(ß|ss)|coefficient de d[ée]termination)"), "r²"),
-    # "Coefficient R²" is R², not a coefficient of the line
-    (re.compile(r"^(coefficient|coeficiente|koeffizient) r ?(²|\^2|2)"), "r²"),
 ]
 
 
