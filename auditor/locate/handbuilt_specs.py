@@ -9,6 +9,7 @@ from auditor.formula.syntax import Node, Ref
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.grouping import CORRELATION_FUNCS
 from auditor.locate.handbuilt import HandbuiltFinder, Key, Recognised
+from auditor.locate.handbuilt_orientation import turn_if_swapped
 from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
 
@@ -71,6 +72,7 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
     if hasattr(locator, "anchor_cells"):  # the formula recogniser ran: its cells are known
         for spec in handbuilt:
             locator.follow_dependents(spec)
+            turn_if_swapped(spec, locator.parsed)
     return handbuilt + attach_only
 
 
