@@ -7,7 +7,7 @@ from auditor.context import RegressionContext
 from auditor.diagnose.fixes import intended_ranges
 from auditor.grid import column_letter
 from auditor.model import Finding, Severity
-from auditor.wording import rows_text
+from auditor.wording import point_word, rows_text
 
 
 def _severity(context: RegressionContext) -> Severity:
@@ -27,7 +27,8 @@ def rows_outside_range(context: RegressionContext) -> list[Finding]:
     spec = context.spec
     # A row inside one of the two ranges is not left out by a short range: a y range moved a
     # row against x reads it on one side (xy-rows-misaligned says so).
-    spans = [(r.r1, r.r2) for r in (spec.x, spec.y)]
+    across = spec.in_rows  # a table in rows: each point is a column
+    spans = [(r.c1, r.c2) if across else (r.r1, r.r2) for r in (spec.x, spec.y)]
     outside = [
         p
         for p in context.data.points
@@ -46,12 +47,15 @@ def rows_outside_range(context: RegressionContext) -> list[Finding]:
             cells=[spec.y.address],
             message=(
                 f"The formulas use {spec.y.address}, but the data table continues: "
-                f"{len(rows)} row(s) ({rows_text(rows)}) hold data the regression leaves out. "
+                f"{len(rows)} {point_word(across)}(s) ({rows_text(rows, across)}) hold data the "
+                "regression leaves out. "
                 f"The full table is {context.data.intended_y_range}."
             ),
-            evidence={"rows_left_out": len(rows), "first_row": rows[0], "last_row": rows[-1]},
+            evidence={"rows_left_out": len(rows), "first_row": rows[0], "last_row": rows[-1]}
+            | ({"columns_left_out": rows_text(rows, across)} if across else {}),
             fix=f"Extend the ranges to {context.data.intended_x_range} and "
-            f"{context.data.intended_y_range} (or use a table so new rows are included).",
+            f"{context.data.intended_y_range} (or use a table so new "
+            f"{point_word(across)}s are included).",
         )
     ]
 
@@ -86,9 +90,10 @@ def text_numbers_skipped(context: RegressionContext) -> list[Finding]:
 
 def _end_above_totals(context: RegressionContext) -> str:
     meant = intended_ranges(context.spec, context.data)
+    last = f"the last data {point_word(context.spec.in_rows)}"
     if meant is None:
-        return "End the ranges at the last data row."
-    return f"End the ranges at the last data row: {meant[1].address} and {meant[0].address}."
+        return f"End the ranges at {last}."
+    return f"End the ranges at {last}: {meant[1].address} and {meant[0].address}."
 
 
 @check("total-row-in-range", "A total or mean row lies inside the range of the regression.")
@@ -99,20 +104,29 @@ def total_row_in_range(context: RegressionContext) -> list[Finding]:
     Passing: the range stops at the last data row.
     """
     spec = context.spec
-    inside = [r for r in context.data.total_rows if spec.y.r1 <= r <= spec.y.r2]
+    across = spec.in_rows  # a table in rows: the total is a column
+    first, last = (spec.y.c1, spec.y.c2) if across else (spec.y.r1, spec.y.r2)
+    inside = [r for r in context.data.total_rows if first <= r <= last]
     if not inside:
         return []
+    said = rows_text(inside, across)
+    where = (
+        [f"{spec.y.sheet}!{column_letter(c)}{spec.y.r1}" for c in inside]
+        if across
+        else [f"{spec.y.sheet}!{column_letter(spec.y.c1)}{r}" for r in inside]
+    )
     return [
         Finding(
             check="total-row-in-range",
             kind="total-row",
             severity=_severity(context),
-            cells=[f"{spec.y.sheet}!{column_letter(spec.y.c1)}{r}" for r in inside],
+            cells=where,
             message=(
-                f"Row(s) {rows_text(inside)} of {spec.y.address} hold a total or mean, which "
-                "the formulas fit as a data point."
+                f"{said[0].upper()}{said[1:]} of {spec.y.address} "
+                f"{'holds' if len(inside) == 1 else 'hold'} a total or mean, which the formulas "
+                "fit as a data point."
             ),
-            evidence={"rows": inside},
+            evidence={"columns" if across else "rows": inside},
             fix=_end_above_totals(context),
         )
     ]

@@ -49,6 +49,8 @@ def intended_ranges(spec: RegressionSpec, data: Extracted) -> tuple[Ref, Ref] | 
     used = [p.row for p in data.points if p.used]
     if not used or used != list(range(used[0], used[-1] + 1)) or data.parsed:
         return None  # a text cell read as a number needs converting, not a new range
+    if spec.in_rows:
+        return _intended_across(spec, used)
     if (
         spec.x.sheet.lower() != spec.y.sheet.lower()
         or spec.x.r1 != spec.y.r1
@@ -61,6 +63,20 @@ def intended_ranges(spec: RegressionSpec, data: Extracted) -> tuple[Ref, Ref] | 
     return (
         Ref(spec.x.sheet, first, spec.x.c1, last, spec.x.c2),
         Ref(spec.y.sheet, first, spec.y.c1, last, spec.y.c1),
+    )
+
+
+def _intended_across(spec: RegressionSpec, used: list[int]) -> tuple[Ref, Ref] | None:
+    """The x and y rows over exactly the columns of the intended fit (a table in rows)."""
+    if spec.x.sheet.lower() != spec.y.sheet.lower() or (spec.x.c1, spec.x.c2) != (
+        spec.y.c1,
+        spec.y.c2,
+    ):
+        return None
+    first, last = used[0], used[-1]
+    return (
+        Ref(spec.x.sheet, spec.x.r1, first, spec.x.r1, last),
+        Ref(spec.y.sheet, spec.y.r1, first, spec.y.r1, last),
     )
 
 

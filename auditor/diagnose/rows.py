@@ -17,8 +17,9 @@ import numpy as np
 from auditor.diagnose.basis import Basis, Candidate, Evidence, g, pair, stat_name
 from auditor.diagnose.fixes import intended_ranges
 from auditor.diagnose.rowsearch import BoolArray, RowTable
+from auditor.grid import column_index, column_letter
 from auditor.model import ReportedValue
-from auditor.wording import rows_text
+from auditor.wording import point_word, rows_text
 
 if TYPE_CHECKING:  # only annotations: the checks package imports auditor.diagnose.engine (no cycle)
     from auditor.context import RegressionContext
@@ -69,6 +70,12 @@ def subset_candidate(
     exact: float,
     stale: bool,
 ) -> Candidate:
+    across = context.spec.in_rows  # a table in rows: each point is a column
+
+    def say(positions: list[int]) -> str:
+        return rows_text(positions, across)
+
+    word, at = point_word(across), (column_letter if across else str)
     rows = np.array(table.rows)
     left_out = [int(r) for r in rows[table.used & ~mask]]
     added = [int(r) for r in rows[~table.used & mask]]
@@ -79,27 +86,31 @@ def subset_candidate(
     n = context.data.n
     ranges = f"{basis.y_range} and {basis.x_range}"
     evidence: Evidence = {
-        "rows_left_out": rows_text(left_out) if left_out else "",
-        "rows_added": rows_text(added) if added else "",
+        "rows_left_out": say(left_out) if left_out else "",
+        "rows_added": say(added) if added else "",
         "n_used": int(mask.sum()),
     }
     if totals:
         message = (
-            f"the ranges take in the total {rows_text(totals)}: with it the {name} is "
-            f"{shown}; the {n} data rows give {intended}"
+            f"the ranges take in the total {say(totals)}: with it the {name} is "
+            f"{shown}; the {n} data {word}s give {intended}"
         )
         meant = intended_ranges(context.spec, context.data)
         if meant is not None:  # the rows of the table without the total, not the faulty range
             ranges = f"{meant[1].address} and {meant[0].address}"
         return Candidate(
-            "total-row", exact, message, f"end the ranges above the total row: {ranges}", evidence
+            "total-row",
+            exact,
+            message,
+            f"end the ranges {'before' if across else 'above'} the total {word}: {ranges}",
+            evidence,
         )
     if texts:
-        cells = [cell for cell, _ in context.data.parsed if _row_of(cell) in texts]
-        where = ", ".join(cells) or rows_text(texts)
+        cells = [cell for cell, _ in context.data.parsed if _row_of(cell, across) in texts]
+        where = ", ".join(cells) or say(texts)
         message = (
             f"{where} holds a number stored as text, which SLOPE, INTERCEPT, STEYX and RSQ "
-            f"skip: without {rows_text(texts)} the {name} is {shown}; with it read as "
+            f"skip: without {say(texts)} the {name} is {shown}; with it read as "
             f"a number, {intended}"
         )
         fix = f"convert {where} to a number (re-type it), so that every formula sees it"
@@ -107,8 +118,8 @@ def subset_candidate(
     if left_out and not added and stale:
         word = "stored" if value.source == "stored" else "typed"
         message = (
-            f"the {word} {name} {shown} matches the data without {rows_text(left_out)} "
-            f"(added or changed later?); all {n} rows give {intended}"
+            f"the {word} {name} {shown} matches the data without {say(left_out)} "
+            f"(added or changed later?); all {n} {word}s give {intended}"
         )
         formula = FORMULAS.get(basis.stat, "a formula over {y} and {x}")
         fix = (
@@ -119,14 +130,14 @@ def subset_candidate(
     if left_out and not added:
         kept = [int(r) for r in rows[mask]]
         if all(r > kept[-1] for r in left_out):
-            where = f"the ranges stop at row {kept[-1]}"
+            where = f"the ranges stop at {word} {at(kept[-1])}"
         elif all(r < kept[0] for r in left_out):
-            where = f"the ranges start at row {kept[0]}"
+            where = f"the ranges start at {word} {at(kept[0])}"
         else:
-            where = f"the ranges cover rows {kept[0]}–{kept[-1]} only"
+            where = f"the ranges cover {word}s {at(kept[0])}–{at(kept[-1])} only"
         message = (
-            f"{where}, leaving out {rows_text(left_out)}: over the {len(kept)} rows left "
-            f"the {name} is {shown}; the whole table ({n} rows) gives {intended}"
+            f"{where}, leaving out {say(left_out)}: over the {len(kept)} {word}s left "
+            f"the {name} is {shown}; the whole table ({n} {word}s) gives {intended}"
         )
         return Candidate(
             "range-short",
@@ -136,12 +147,15 @@ def subset_candidate(
             evidence,
         )
     message = (
-        f"the {name} {shown} is the fit over {rows_text([int(r) for r in rows[mask]])}"
-        f", not over the table's {n} rows ({intended})"
+        f"the {name} {shown} is the fit over {say([int(r) for r in rows[mask]])}"
+        f", not over the table's {n} {word}s ({intended})"
     )
     return Candidate("range-mismatch", exact, message, f"make every formula use {ranges}", evidence)
 
 
-def _row_of(cell: str) -> int:
-    digits = re.search(r"(\d+)$", cell)
-    return int(digits.group(1)) if digits else -1
+def _row_of(cell: str, across: bool = False) -> int:
+    """The row of ``Sheet!B7`` (7), or with ``across`` its column (2)."""
+    found = re.search(r"([A-Z]+)(\d+)$", cell)
+    if found is None:
+        return -1
+    return column_index(found.group(1)) if across else int(found.group(2))

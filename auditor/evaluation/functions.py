@@ -7,7 +7,15 @@ reference); lazy functions take the argument nodes (IF evaluates one branch only
 
 from __future__ import annotations
 
-from auditor.evaluation import covariance, distributions, logic, maths, regression, summaries
+from auditor.evaluation import (
+    covariance,
+    distributions,
+    logic,
+    maths,
+    pairsums,
+    regression,
+    summaries,
+)
 from auditor.evaluation.values import LazyFn, RangedFn, ScalarFn
 
 _SCALAR: dict[str, tuple[ScalarFn, int, int]] = {**maths.SCALAR, **distributions.SCALAR}
@@ -17,6 +25,6 @@ _RANGED: dict[str, tuple[RangedFn, int, int]] = {
     **logic.RANGED,
     **covariance.RANGED,
 }
-_LAZY: dict[str, tuple[LazyFn, int, int]] = {**logic.LAZY, **summaries.LAZY}
+_LAZY: dict[str, tuple[LazyFn, int, int]] = {**logic.LAZY, **summaries.LAZY, **pairsums.LAZY}
 
 SUPPORTED_FUNCTIONS = frozenset(_SCALAR) | frozenset(_RANGED) | frozenset(_LAZY)

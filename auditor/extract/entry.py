@@ -11,6 +11,7 @@ from typing import Any
 import numpy as np
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported, Unverifiable
+from auditor.extract.across import across
 from auditor.extract.fallback import StoredFallback
 from auditor.extract.intended import IntendedRows
 from auditor.extract.pasted import pasted_points
@@ -72,7 +73,7 @@ def _extract(
 ) -> Extracted:
     x_ref, y_ref = spec.x, spec.y
     if spec.in_rows:
-        return paired(workbook, evaluator, spec)
+        return across(workbook, evaluator, spec)
     k = x_ref.c2 - x_ref.c1 + 1
     x_cols = list(range(x_ref.c1, x_ref.c2 + 1))
     same_frame = x_ref.sheet.lower() == y_ref.sheet.lower()

@@ -22,8 +22,11 @@ SUMMARY_FUNCTIONS = frozenset(
 )
 
 
-def summary_formula(workbook: Workbook, sheet: str, row: int, col: int) -> bool:
-    """The cell at (row, col) holds =SUM(…)/AVERAGE(…)/… over cells above it in its column."""
+def summary_formula(
+    workbook: Workbook, sheet: str, row: int, col: int, *, across: bool = False
+) -> bool:
+    """The cell at (row, col) holds =SUM(…)/AVERAGE(…)/… over cells above it in its column
+    (``across``: over cells to its left in its row, a table laid out in rows)."""
     found = workbook.sheet(sheet)
     cell = found.get(row, col) if found is not None else None
     if cell is None or not cell.formula:
@@ -34,19 +37,27 @@ def summary_formula(workbook: Workbook, sheet: str, row: int, col: int) -> bool:
         return False
     if not (isinstance(node, Call) and node.name.removeprefix("_xlfn.") in SUMMARY_FUNCTIONS):
         return False
+    if across:
+        return any(
+            ref.r1 <= row <= ref.r2 and ref.c2 < col and ref.c2 > ref.c1 for ref in references(node)
+        )
     return any(
         ref.c1 <= col <= ref.c2 and ref.r2 < row and ref.r2 > ref.r1 for ref in references(node)
     )
 
 
-def format_changes(workbook: Workbook, sheet: str, row: int, col: int) -> bool:
-    """The cell's number format differs from that of the nearest filled cell above it."""
+def format_changes(
+    workbook: Workbook, sheet: str, row: int, col: int, *, across: bool = False
+) -> bool:
+    """The cell's number format differs from that of the nearest filled cell above it (to its
+    left with ``across``)."""
     found = workbook.sheet(sheet)
     if found is None:
         return False
     cell = found.get(row, col)
-    for above in range(row - 1, max(0, row - 4), -1):
-        other = found.get(above, col)
+    start = col if across else row
+    for before in range(start - 1, max(0, start - 4), -1):
+        other = found.get(row, before) if across else found.get(before, col)
         if other is not None and other.value is not None:
             mine = (cell.number_format if cell is not None else "") or "General"
             return mine != (other.number_format or "General")

@@ -3,8 +3,9 @@
 from __future__ import annotations
 
 from auditor.formula.syntax import Binary, Call, Node, RefNode, references, walk
+from auditor.locate.grid_labels import statistic_label
 from auditor.locate.roles import linest_index_role, role_from_label, role_from_shape
-from auditor.locate.spec import RegressionSpec, label_for, literal_int
+from auditor.locate.spec import RegressionSpec, literal_int
 from auditor.model import stat_base
 from auditor.read.workbook import Cell, Workbook
 
@@ -61,7 +62,7 @@ def t_keys_in(spec: RegressionSpec, node: Node) -> list[str]:
 def role_of_dependent(
     workbook: Workbook, spec: RegressionSpec, cell: Cell, node: Node
 ) -> str | None:
-    label = label_for(workbook, cell)
+    label = statistic_label(workbook, cell)
     label_role = role_from_label(label) if label else None
     shape = role_from_shape(node)
     used = {stat_base(k) for k in refs_roles(spec, node)}

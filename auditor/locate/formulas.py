@@ -9,6 +9,7 @@ from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Call, Node, Ref, parse, references
 from auditor.locate.formula_dependents import refs_roles, role_of_dependent, stat_addresses
+from auditor.locate.grid_labels import statistic_label
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
 from auditor.locate.roles import (
     linest_block_role,
@@ -26,6 +27,7 @@ from auditor.locate.spec import (
     overlaps,
     pair_uses,
 )
+from auditor.locate.typed_inputs import typed_df_cells
 from auditor.model import STAT_KEYS
 from auditor.read.workbook import Cell, Workbook
 
@@ -233,7 +235,7 @@ class FormulaLocator:
                     continue
                 role = role_of_dependent(self.workbook, spec, cell, node)
                 taken.add(key)
-                label = label_for(self.workbook, cell)
+                label = statistic_label(self.workbook, cell)
                 if (
                     role
                     and role in spec.stats
@@ -249,6 +251,8 @@ class FormulaLocator:
                     added = True
             if not added:
                 break
+        for typed_df in typed_df_cells(self.workbook, self.parsed, spec):
+            self._put(spec, "df", StatCell("df", typed_df, "chain"))  # the df a p reads
 
     def _near(self, spec: RegressionSpec, cell: Cell) -> bool:
         """A data-only formula (COUNT(x)-2) belongs to the block it sits in."""

@@ -75,12 +75,17 @@ class PairGroups:
 
 
 def _box(uses: list[PairUse]) -> tuple[str, int, int, int, int] | None:
+    """The cells a block's calls span, widened by one cell along the block: a column of
+    statistics reaches one row above and below, not into the column beside it (a grid of
+    regressions, one per column, puts a neighbour's calls there)."""
     if not uses:
         return None
     sheet = uses[0].cell.sheet
     rows = [u.cell.row for u in uses if u.cell.sheet == sheet]
     cols = [u.cell.col for u in uses if u.cell.sheet == sheet]
-    return sheet, min(rows) - 1, min(cols) - 1, max(rows) + 1, max(cols) + 1
+    r1, c1, r2, c2 = min(rows), min(cols), max(rows), max(cols)
+    column, row = c1 == c2 and r1 < r2, r1 == r2 and c1 < c2
+    return sheet, r1 - (not row), c1 - (not column), r2 + (not row), c2 + (not column)
 
 
 def _inside(use: PairUse, box: tuple[str, int, int, int, int] | None) -> bool:
@@ -101,7 +106,9 @@ def adopt_strays(groups: list[list[PairUse]]) -> list[list[PairUse]]:
             if not rest or _inside(use, _box(rest)):
                 continue
             for other in groups:
-                if other is not group and _inside(use, _box(other)):
+                # a lone call is no block: it adopts nothing (an R² alone at the end of one
+                # row of a grid is no home for the next row's R²)
+                if other is not group and len(other) > 1 and _inside(use, _box(other)):
                     group.remove(use)
                     other.append(use)
                     break

@@ -9,6 +9,7 @@ from auditor.formula.syntax import Node, Ref
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.grouping import CORRELATION_FUNCS
 from auditor.locate.handbuilt import HandbuiltFinder, Key, Recognised
+from auditor.locate.handbuilt_orientation import turn_if_swapped
 from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
 
@@ -51,6 +52,10 @@ def join(found: list[RegressionSpec], other: RegressionSpec) -> bool:
             spec.x, spec.y, same = spec.y, spec.x, True
         if same and orientable:  # the regression is the hand-built one; the correlation joins
             spec.found_by = other.found_by
+        if same and orientable and spec.intercept == other.intercept:
+            for stat in other.stats.values():  # with the hand-built one's dependents: the R²
+                attach(spec, stat.key.split("@")[0], stat)  # alone had none of its own
+            return True
         if same and spec.x_columns == 1 and spec.intercept == other.intercept:
             for stat in other.stats.values():
                 if stat.how == "hand-built":  # its followed dependents are the other's own
@@ -67,12 +72,14 @@ def find(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec]:
     if hasattr(locator, "anchor_cells"):  # the formula recogniser ran: its cells are known
         for spec in handbuilt:
             locator.follow_dependents(spec)
+            turn_if_swapped(spec, locator.parsed)
     return handbuilt + attach_only
 
 
 def _orientable(spec: RegressionSpec) -> bool:
-    """Found only through symmetric calls (CORREL, PEARSON): x and y are a guess."""
-    return bool(spec.uses) and all(u.function in CORRELATION_FUNCS for u in spec.uses)
+    """Found only through symmetric calls (CORREL, PEARSON, RSQ): x and y are a guess."""
+    symmetric = CORRELATION_FUNCS | {"RSQ"}
+    return bool(spec.uses) and all(u.function in symmetric for u in spec.uses)
 
 
 def handbuilt_specs(

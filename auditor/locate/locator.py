@@ -31,6 +31,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from auditor.locate import (
+    binding,
     declared,
     handbuilt_specs,
     labels,
@@ -140,6 +141,7 @@ def locate(
     for recogniser in recognisers:
         if recogniser.finish is not None:
             specs = recogniser.finish(locator, specs)
+    specs = binding.single_owner(specs, locator.parsed)  # no cell bound to two regressions
     for spec in specs:
         spec.neighbour_ranges = [
             ref for other in specs if other is not spec for ref in (other.x, other.y)

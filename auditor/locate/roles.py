@@ -44,7 +44,9 @@ _LABELS: list[tuple[re.Pattern[str], str]] = [
     (re.compile(r"^(df|d\.f\.|degrees of freedom|dof)\b"), "df"),
     (re.compile(r"^(n|count|points|number of (points|observations|standards))\b"), "n"),
     (
-        re.compile(r"^(r ?(²|\^2|2|-?sq(uared)?)|rsq|coefficient (of determination|r ?(²|\^2)))"),
+        re.compile(
+            r"^(r ?(²|\^2|2|-?sq(uared)?)|rsq|coefficient (of determination|r ?(²|\^2|2\b)))"
+        ),
         "r_squared",
     ),
     (re.compile(r"^(r|correl(ation)?|pearson)\b"), "r"),

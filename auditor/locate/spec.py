@@ -18,7 +18,7 @@ MAX_FOLLOW_ROUNDS = 4
 class StatCell:
     key: str
     cell: Cell
-    how: str  # "formula", "linest-block", "name", "binding", "label"
+    how: str  # "formula", "linest-block", "name", "binding", "label", "chain" (a typed input)
     block_position: tuple[int, int] | None = None  # (row, col) inside an array block
     label: str = ""  # the author's words beside the cell ("t (analyte)")
     column_header: str = ""  # for a LINEST block cell: the text above its column of the block

@@ -129,8 +129,22 @@ def attach_by_value(
         first = matched[0][1]
         if first.formula is None and plain_number(first.value) and _in_data_run(workbook, first):
             continue  # a number in a column of data that happens to agree
-        keys = {key for key, _, _ in matched}
+        keys = {key for key, _, _ in matched} | _keys_beside(first, by_cell)
         needed = MIN_DIGITS_PAIRED if len(keys) > 1 else MIN_DIGITS_ALONE
         for key, cell, value in matched:
             if significant_digits(value) >= needed:
                 put_copy(spec, key, cell, value)
+
+
+def _keys_beside(cell: Cell, by_cell: dict[str, list[tuple[str, Cell, float]]]) -> set[str]:
+    """The figures that cells of the same little block (within two rows and columns) match: a
+    slope typed beside a matching intercept and R² is a copy of the label as much as an
+    equation holding both figures is."""
+    found: set[str] = set()
+    for matched in by_cell.values():
+        other = matched[0][1]
+        if other.address == cell.address or other.sheet != cell.sheet:
+            continue
+        if abs(other.row - cell.row) <= 2 and abs(other.col - cell.col) <= 2:
+            found.update(key for key, _, _ in matched)
+    return found

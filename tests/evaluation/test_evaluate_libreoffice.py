@@ -167,6 +167,13 @@ SCALAR_FORMULAS: dict[str, str] = {
     "slope by sumproduct": (
         f"=SUMPRODUCT(({XS}-AVERAGE({XS}))*({YS}-AVERAGE({YS})))/SUMPRODUCT(({XS}-AVERAGE({XS}))^2)"
     ),
+    "residual ss by sumxmy2": (f"=SUMXMY2({YS},INTERCEPT({YS},{XS})+SLOPE({YS},{XS})*{XS})"),
+    "se by sumxmy2": (
+        f"=SQRT(SUMXMY2({YS},INTERCEPT({YS},{XS})+SLOPE({YS},{XS})*{XS})/(COUNT({XS})-2))"
+        f"/SQRT(DEVSQ({XS}))"
+    ),
+    "sumx2my2": f"=SUMX2MY2({XS},{YS})",
+    "sumx2py2": f"=SUMX2PY2({XS},{YS})",
     "slope dynamic end": "=SLOPE(Data!$B$2:INDEX(Data!$B:$B,13),Data!$A$2:INDEX(Data!$A:$A,13))",
     "slope offset": "=SLOPE(OFFSET(Data!$B$2,0,0,12,1),OFFSET(Data!$A$2,0,0,12,1))",
     "iferror": "=IFERROR(1/0,-1)",
@@ -207,6 +214,22 @@ class Difference:
 
 
 KNOWN_DIFFERENCES: dict[str, Difference] = {
+    "sumxmy2 skips text": Difference(
+        "=SUMXMY2(Data!$C$2:$C$13,Data!$A$2:$A$13)",
+        sum(
+            (y - x) ** 2
+            for x, y in zip(X, Y_MIXED, strict=True)
+            if isinstance(y, float)  # the pairs with a number on both sides
+        ),
+        ErrorValue("#VALUE!"),
+        "Excel leaves out a pair with text, a logical or a blank (from memory)",
+    ),
+    "sumxmy2 unequal sizes": Difference(
+        "=SUMXMY2(Data!$B$2:$B$13,Data!$A$2:$A$12)",
+        ErrorValue("#N/A"),
+        ErrorValue("#VALUE!"),
+        "Excel documents #N/A for arrays of different sizes (from memory)",
+    ),
     "sum typed text": Difference(
         '=SUM("3",1)', 4.0, ErrorValue("#VALUE!"), "Excel counts typed text-numbers in SUM"
     ),

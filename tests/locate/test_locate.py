@@ -88,6 +88,8 @@ def test_a_new_recogniser_plugs_in_and_late_ones_skip_taken_cells() -> None:
         ("Coefficient R²", "r_squared"),  # not the coefficient of a slope
         ("Slope (mg/L per h)", "slope"),
         ("Pendientes pagadas", None),  # not the word alone: a longer word is no label
+        ("Coefficient R2", "r_squared"),
+        ("Coefficient", "slope"),
     ],
 )
 def test_statistic_labels_in_other_languages(label: str, role: str | None) -> None:

@@ -264,6 +264,28 @@ def test_a_typed_r_squared_and_an_inverse_prediction_are_copies(tmp_path: Path) 
     }
 
 
+def test_a_short_slope_typed_beside_its_intercept_and_r_squared_is_a_copy(
+    tmp_path: Path,
+) -> None:
+    """0.989 alone (three digits) could be a coincidence; typed in the block of the matching
+    intercept and R² (four digits each) it is the label's slope."""
+    fit = sm.OLS(np.array(Y), sm.add_constant(X)).fit()
+    slope, intercept = round(float(fit.params[1]), 3), round(float(fit.params[0]), 4)
+    r_squared = round(float(fit.rsquared), 4)
+    assert slope == 0.989  # statsmodels: the slope at three significant digits
+    numbers = {"E2": slope, "E3": intercept, "E4": r_squared}
+    path = _simple(tmp_path / "block.xlsx", Y, {}, numbers=numbers)
+    regression = _audit(path).regressions[0]
+    found = {(k, v.cell, v.verdict) for k, v in regression.reported.items()}
+    assert found == {
+        ("slope", "Kiln Log!E2", "confirmed"),
+        ("intercept", "Kiln Log!E3", "confirmed"),
+        ("r_squared", "Kiln Log!E4", "confirmed"),
+    }
+    alone = _simple(tmp_path / "alone.xlsx", Y, {}, numbers={"E2": slope})
+    assert _audit(alone).regressions[0].reported == {}  # three digits alone: not enough
+
+
 def test_a_label_copied_as_text_is_read_figure_by_figure(tmp_path: Path) -> None:
     fit = sm.OLS(np.array(Y), sm.add_constant(X)).fit()
     assert round(float(fit.rsquared), 4) == 0.9985  # statsmodels: R² of Y on x
