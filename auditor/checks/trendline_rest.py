@@ -6,10 +6,10 @@ from typing import Any
 
 from auditor.checks.base import check
 from auditor.context import RegressionContext
+from auditor.grid import column_letter
 from auditor.locate.trendline_figures import TrendFigures, figures, matches
 from auditor.locate.trendline_series import TrendlineUse
 from auditor.locate.trendline_table import TableRest
-from auditor.grid import column_letter
 from auditor.model import Finding, Severity
 from auditor.wording import rows_text
 
