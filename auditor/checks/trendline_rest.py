@@ -99,7 +99,7 @@ def _finding(
     severity = _severity(drawn, whole, rest, differs)
     lines = "column(s)" if rest.across else "row(s)"
     where = (
-        "column(s) " + ", ".join(column_letter(p) for p in rest.positions)
+        ", ".join(column_letter(p) for p in rest.positions)
         if rest.across
         else rows_text(rest.positions)
     )

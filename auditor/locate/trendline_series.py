@@ -172,6 +172,9 @@ def _resolve(workbook: Workbook, values: SeriesValues | None, sheet: str) -> Ref
     return node.ref if isinstance(node, RefNode) and not node.ref.external else None
 
 
+series_block = _resolve  # the same, for the modules that read every chart series' block
+
+
 def _cells(ref: Ref) -> list[tuple[int, int]]:
     """A series block's cells in series order: down a column, or across a row."""
     if ref.cols == 1 or ref.rows > 1:

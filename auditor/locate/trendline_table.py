@@ -17,7 +17,7 @@ from auditor.extract.totals import continues_pattern
 from auditor.formula.r1c1 import to_r1c1
 from auditor.formula.syntax import Ref
 from auditor.locate.spec import RegressionSpec, overlaps
-from auditor.locate.trendline_series import TrendlineUse, survey
+from auditor.locate.trendline_series import TrendlineUse, series_block
 from auditor.read.workbook import Cell, Workbook
 
 MAX_REST = 10_000  # positions walked past a series at most (a table, not a whole sheet)
@@ -151,7 +151,14 @@ def table_rest(workbook: Workbook, use: TrendlineUse, others: list[Ref]) -> Tabl
 
 def attach_rests(workbook: Workbook, specs: list[RegressionSpec]) -> None:
     """Record on every trendline regression's series what of its table it leaves out."""
-    uses = survey(workbook)
+    series = [
+        (chart, one, block)
+        for chart in workbook.charts
+        for one in chart.series
+        for values in (one.x, one.y)
+        for block in [series_block(workbook, values, chart.sheet)]
+        if block is not None
+    ]
     for spec in specs:
         if spec.found_by != "trendline" or not spec.trendlines:
             continue
@@ -163,11 +170,5 @@ def attach_rests(workbook: Workbook, specs: list[RegressionSpec]) -> None:
             for block in (other.x, other.y)
             if block.sheet
         ]
-        others += [
-            block
-            for other_use in uses
-            if other_use.series is not use.series
-            for block in (other_use.x_ref, other_use.y_ref)
-            if block is not None
-        ]
+        others += [block for _, one, block in series if one is not use.series]
         use.table_rest = table_rest(workbook, use, others)
