@@ -13,14 +13,17 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from auditor.extract.totals import continues_pattern
+from auditor.extract.intended import TOTAL_LABEL
+from auditor.extract.totals import continues_pattern, format_changes, summary_formula
 from auditor.formula.r1c1 import to_r1c1
 from auditor.formula.syntax import Ref
+from auditor.grid import column_letter
 from auditor.locate.spec import RegressionSpec, overlaps
 from auditor.locate.trendline_series import TrendlineUse, series_block
-from auditor.read.workbook import Cell, Workbook
+from auditor.read.workbook import Cell, Sheet, Workbook
 
 MAX_REST = 10_000  # positions walked past a series at most (a table, not a whole sheet)
+MAX_LINES = 30  # lines of a table read for labels and notes beside the series
 
 
 @dataclass
@@ -36,8 +39,11 @@ class TableRest:
     notes: list[str] = field(default_factory=list)  # "Sheet!A14 'outlier'": text beside the rest
 
 
-def _number(cell: Cell | None) -> float | None:
-    value = cell.value if cell is not None else None
+def _number(cell: Cell | None, stored: bool) -> float | None:
+    """A typed number, or a formula's stored value when the file holds stored values."""
+    if cell is None or (cell.formula and not stored):
+        return None
+    value = cell.value
     if isinstance(value, bool) or not isinstance(value, int | float):
         return None
     return float(value)
@@ -86,24 +92,40 @@ def _aligned(use: TrendlineUse) -> tuple[Ref, Ref, bool] | None:
     return None
 
 
-def _notes(workbook: Workbook, x: Ref, y: Ref, across: bool, last: int, rest: TableRest) -> None:
-    """Text beside the positions left out, in the lines around the table, where the series'
-    last position has none: a note such as "outlier" or "excluded"."""
-    sheet = workbook.sheet(x.sheet)
-    if sheet is None:
-        return
+def _text(sheet: Sheet, line: int, position: int, across: bool) -> str:
+    cell = sheet.get(line, position) if across else sheet.get(position, line)
+    value = cell.value if cell is not None else None
+    return value.strip() if isinstance(value, str) else ""
+
+
+def _lines(sheet: Sheet, x: Ref, y: Ref, across: bool, last: int) -> range:
+    """The lines (columns, or rows for data in rows) of the table around x and y: those filled
+    next to them at the series' last position, and one more on each side (a note column)."""
+    low = min(x.r1, y.r1) if across else min(x.c1, y.c1)
+    high = max(x.r1, y.r1) if across else max(x.c1, y.c1)
+
+    def filled(line: int) -> bool:
+        cell = sheet.get(line, last) if across else sheet.get(last, line)
+        return cell is not None and cell.value is not None
+
+    while low > 1 and high - low < MAX_LINES and filled(low - 1):
+        low -= 1
+    while high - low < MAX_LINES and filled(high + 1):
+        high += 1
+    return range(max(1, low - 1), high + 2)
+
+
+def _total_row(workbook: Workbook, x: Ref, y: Ref, across: bool, position: int) -> bool:
+    """Data down columns: a SUM/AVERAGE-type formula over the rows above, or a number format
+    unlike the row above (:mod:`auditor.extract.totals`). Across, a summary formula differs
+    from the typed or copied cells before it, which the pattern test already stops at."""
     if across:
-        lines = range(max(1, min(x.r1, y.r1) - 1), max(x.r1, y.r1) + 2)
-    else:
-        lines = range(max(1, min(x.c1, y.c1) - 1), max(x.c1, y.c1) + 2)
-    for line in lines:
-        before = sheet.get(line, last) if across else sheet.get(last, line)
-        if before is not None and isinstance(before.value, str) and before.value.strip():
-            continue
-        for position in rest.positions:
-            cell = sheet.get(line, position) if across else sheet.get(position, line)
-            if cell is not None and isinstance(cell.value, str) and cell.value.strip():
-                rest.notes.append(f"{cell.address} '{cell.value.strip()[:40]}'")
+        return False
+    return any(
+        summary_formula(workbook, ref.sheet, position, ref.c1)
+        or format_changes(workbook, ref.sheet, position, ref.c1)
+        for ref in (x, y)
+    )
 
 
 def table_rest(workbook: Workbook, use: TrendlineUse, others: list[Ref]) -> TableRest | None:
@@ -117,6 +139,8 @@ def table_rest(workbook: Workbook, use: TrendlineUse, others: list[Ref]) -> Tabl
         return None
     last = x.c2 if across else x.r2
     end = min(sheet.max_col if across else sheet.max_row, last + MAX_REST)
+    lines = _lines(sheet, x, y, across, last)
+    labelled = {line for line in lines if _text(sheet, line, last, across)}
     rest = TableRest(across)
     position = last
     while position < end:
@@ -126,7 +150,7 @@ def table_rest(workbook: Workbook, use: TrendlineUse, others: list[Ref]) -> Tabl
             if across
             else [sheet.get(after, x.c1), sheet.get(after, y.c1)]
         )
-        values = [_number(cell) for cell in cells]
+        values = [_number(cell, workbook.stored_values) for cell in cells]
         if values[0] is None or values[1] is None:
             break
         made = (
@@ -134,10 +158,21 @@ def table_rest(workbook: Workbook, use: TrendlineUse, others: list[Ref]) -> Tabl
             if across
             else continues_pattern(workbook, [(x.sheet, x.c1), (y.sheet, y.c1)], position, after)
         )
-        if not made or any(
-            overlaps(_at(block, across, after), other) for block in (x, y) for other in others
+        texts = {line: _text(sheet, line, after, across) for line in lines}
+        if (
+            not made
+            or any(TOTAL_LABEL.match(text) for text in texts.values())
+            or _total_row(workbook, x, y, across, after)
+            or any(
+                overlaps(_at(block, across, after), other) for block in (x, y) for other in others
+            )
         ):
             break
+        rest.notes += [
+            f"{_address(x.sheet, line, after, across)} '{text[:40]}'"
+            for line, text in texts.items()
+            if text and line not in labelled
+        ]
         rest.positions.append(after)
         rest.xs.append(values[0])
         rest.ys.append(values[1])
@@ -145,8 +180,12 @@ def table_rest(workbook: Workbook, use: TrendlineUse, others: list[Ref]) -> Tabl
     if not rest.positions:
         return None
     rest.x_table, rest.y_table = _extend(x, across, position), _extend(y, across, position)
-    _notes(workbook, x, y, across, last, rest)
     return rest
+
+
+def _address(sheet: str, line: int, position: int, across: bool) -> str:
+    row, col = (line, position) if across else (position, line)
+    return f"{sheet}!{column_letter(col)}{row}"
 
 
 def attach_rests(workbook: Workbook, specs: list[RegressionSpec]) -> None:

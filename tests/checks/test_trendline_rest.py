@@ -3,8 +3,8 @@
 Generated variety (seeded): scatter charts with a linear trendline over data down columns or
 across rows, on sheets with plain, spaced and non-Latin names; the series stops 1 to 3 rows (or
 columns) short of its table; the rows left out follow another line, or turn the slope around.
-Deliberate subsets stay silent: a blank row, a label row ("excluded"), or a second series over the
-rest. Expected fits: ``numpy.polyfit`` on the numbers the test wrote.
+Deliberate subsets stay silent: a blank row, a label row ("excluded"), a second series over the
+rest, a row of means labelled so. Expected fits: ``numpy.polyfit`` on the numbers the test wrote.
 """
 
 from __future__ import annotations
@@ -75,10 +75,18 @@ def _table(seed: int) -> Table:
 
 def _write(path: Path, table: Table, variant: str = "short") -> Table:
     """The table and its chart; ``variant`` splits the rest off: "blank", "label", "second",
-    or plots the whole table ("whole")."""
+    plots the whole table ("whole"), or puts a labelled row of means after the series ("mean")."""
     book = xlsxwriter.Workbook(str(path))
     sheet = book.add_worksheet(table.sheet)
     xs, ys = list(table.x), list(table.y)
+    if variant == "mean":  # the row after the series holds the means, labelled so
+        k = table.plotted
+        xs, ys = xs[:k] + [float(np.mean(xs[:k]))], ys[:k] + [float(np.mean(ys[:k]))]
+        label = table.line - 1 if table.line else table.line + 2
+        for index in range(k + 1):
+            at = table.first + index
+            where = (label, at) if table.across else (at, label)
+            sheet.write(*where, "Mean" if index == k else f"S-{index + 1:02d}")
     gap = 1 if variant in ("blank", "label") else 0
     for index, (x, y) in enumerate(zip(xs, ys, strict=True)):
         at = table.first + index + (gap if index >= table.plotted else 0)
@@ -144,7 +152,7 @@ def test_series_short_of_its_table(tmp_path: Path, seed: int) -> None:
         assert finding.severity == "major"
 
 
-@pytest.mark.parametrize("variant", ["blank", "label", "second", "whole"])
+@pytest.mark.parametrize("variant", ["blank", "label", "second", "whole", "mean"])
 @pytest.mark.parametrize("seed", [0, 1, 2])
 def test_a_subset_split_off_or_the_whole_table_is_silent(
     tmp_path: Path, variant: str, seed: int
