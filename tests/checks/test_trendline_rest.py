@@ -185,3 +185,33 @@ def test_rows_with_a_note_beside_them_draw_only_a_minor_finding(tmp_path: Path) 
     found = _findings(path)
     assert [f.severity for f in found] == ["minor"]
     assert "outlier" in found[0].message
+
+
+def test_rows_another_regression_uses_are_not_the_series_rest(tmp_path: Path) -> None:
+    table = _table(2)  # three rows past the series, data down columns
+    assert not table.across and len(table.x) - table.plotted == 3
+    path = tmp_path / "formula.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    sheet = book.add_worksheet(table.sheet)
+    for index, (x, y) in enumerate(zip(table.x, table.y, strict=True)):
+        sheet.write_row(table.first + index, table.line, [x, y])
+    rest = f"{{}}{table.first + table.plotted + 1}:{{}}{table.first + len(table.x)}"
+    x_letter, y_letter = (xl_rowcol_to_cell(0, table.line + i)[:-1] for i in (0, 1))
+    ys, xs = rest.format(y_letter, y_letter), rest.format(x_letter, x_letter)
+    sheet.write(0, table.line + 5, "Slope of the later rows")
+    sheet.write_formula(0, table.line + 6, f"=SLOPE({ys},{xs})")
+    chart = book.add_chart({"type": "scatter"})
+    chart.add_series(
+        {
+            "categories": table.ref(0, 0, table.plotted),
+            "values": table.ref(1, 0, table.plotted),
+            "trendline": {"type": "linear"},
+        }
+    )
+    sheet.insert_chart("H20", chart)
+    book.close()
+    result = audit_workbook(path, load_policy("general"))
+    assert any(r.y_range.endswith(ys) for r in result.regressions), [
+        r.y_range for r in result.regressions
+    ]
+    assert [f for f in result.all_findings() if f.check == CHECK] == []
