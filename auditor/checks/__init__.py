@@ -27,6 +27,7 @@ FAMILY_NAMES = (
     "pasted_tables",
     "predictions",
     "trendlines",
+    "trendline_rest",
     "typed_tables",
     "workbook_level",
 )

@@ -25,6 +25,7 @@ from __future__ import annotations
 import math
 import weakref
 from dataclasses import dataclass, field
+from typing import Any
 
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Unsupported
@@ -72,6 +73,7 @@ class TrendlineUse:
     status: str = "audited"  # or why not: "non-linear", "too few points", "model line", …
     why: str = ""
     runs_into: list[str] = field(default_factory=list)  # other regressions' data the extra reach
+    table_rest: Any = None  # what of its table continues past it (locate.trendline_table)
 
     @property
     def linear(self) -> Trendline | None:
@@ -168,6 +170,9 @@ def _resolve(workbook: Workbook, values: SeriesValues | None, sheet: str) -> Ref
     except FormulaError:
         return None
     return node.ref if isinstance(node, RefNode) and not node.ref.external else None
+
+
+series_block = _resolve  # the same, for the modules that read every chart series' block
 
 
 def _cells(ref: Ref) -> list[tuple[int, int]]:

@@ -67,6 +67,7 @@ def finish(locator: FormulaLocator, specs: list[RegressionSpec]) -> list[Regress
     series are traced into the regressions they reach; typed copies of the trendlines' figures
     are attached (:mod:`auditor.locate.trendline_copies`)."""
     from auditor.locate.trendline_copies import attach_copies
+    from auditor.locate.trendline_table import attach_rests
 
     kept: list[RegressionSpec] = []
     for spec in specs:
@@ -92,6 +93,7 @@ def finish(locator: FormulaLocator, specs: list[RegressionSpec]) -> list[Regress
             if use.length_mismatch:
                 use.runs_into = _reached_blocks(use, spec, kept)
     attach_copies(locator.workbook, kept, locator.parsed)
+    attach_rests(locator.workbook, kept)
     return kept
 
 
