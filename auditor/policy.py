@@ -31,6 +31,7 @@ KNOWN: dict[str, tuple[type, float, float]] = {
     "slope_that_matters": (float, 0.0, math.inf),
     "max_ci_relative_half_width": (float, 0.0, 1e6),
     "lack_of_fit_alpha": (float, 1e-6, 0.5),
+    "curvature_major_alpha": (float, 1e-9, 0.5),
     "require_linearity_evidence": (int, 0, 1),
     "extrapolation_tolerance": (float, 0.0, 10.0),
     # Calibration curves (auditor.design.calibration, auditor.checks.calibration): set only by a
@@ -93,6 +94,11 @@ DEFAULTS.update(
         ),
         "lack_of_fit_alpha": Threshold(
             0.05, "regaudit default (key absent): common practice, lack-of-fit F test at 5 %"
+        ),
+        "curvature_major_alpha": Threshold(
+            0.01,
+            "regaudit default (key absent): a bend named at the 5 % level is major only at 1 %; "
+            "a 5 % test fires on one straight curve in twenty by chance",
         ),
         "require_linearity_evidence": Threshold(
             0.0, "regaudit default (key absent): linearity need not be demonstrated"

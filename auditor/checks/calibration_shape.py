@@ -22,14 +22,21 @@ def _lack_of_fit_named(context: RegressionContext) -> bool:
 @check(
     "residual-shape",
     "The residuals bend: a significant quadratic term, or too few runs of residual signs.",
-    thresholds=("shape_alpha", "spread_alpha", "curvature_sd_ratio", "lack_of_fit_alpha"),
+    thresholds=(
+        "shape_alpha",
+        "spread_alpha",
+        "curvature_sd_ratio",
+        "lack_of_fit_alpha",
+        "curvature_major_alpha",
+    ),
 )
 def residual_shape(context: RegressionContext) -> list[Finding]:
     """A straight line over a curve leaves its residuals in long runs of one sign.
 
     Failing: detector saturation: residuals − + + + − over 10 levels (3 runs), quadratic term
     t = −233, residual SD 4776 for the line and 58 for the quadratic (major: the bend dominates
-    the scatter). Passing: residual signs alternate at random and the quadratic term has p = 0.62.
+    the scatter; major only when the quadratic term's p is under curvature_major_alpha, 1 %).
+    Passing: residual signs alternate at random and the quadratic term has p = 0.62.
     A bend that the lack-of-fit test against replicates already names is shown as info.
     """
     reviewed = _reviewed(context)
@@ -64,7 +71,8 @@ def residual_shape(context: RegressionContext) -> list[Finding]:
         bend is not None
         and bend.s_line >= context.policy.get("curvature_sd_ratio") * bend.s_quadratic
     )
-    severity = "major" if bent and dominant and not uneven else "minor"
+    strong = bend is not None and bend.p_value < context.policy.get("curvature_major_alpha")
+    severity = "major" if bent and dominant and strong and not uneven else "minor"
     if _lack_of_fit_named(context):
         severity = "info"
         parts.append("the lack-of-fit test against the replicates says the same")

@@ -130,13 +130,19 @@ def prediction_outside_x_range(context: RegressionContext) -> list[Finding]:
 @check(
     "line-lacks-fit",
     "Replicates show that a straight line does not fit the level means.",
-    thresholds=("lack_of_fit_alpha", "alpha", "require_linearity_evidence"),
+    thresholds=(
+        "lack_of_fit_alpha",
+        "alpha",
+        "require_linearity_evidence",
+        "curvature_major_alpha",
+    ),
 )
 def line_lacks_fit(context: RegressionContext) -> list[Finding]:
     """The lack-of-fit F test compares the level means with the line, against pure error.
 
     Failing: triplicates at 5 levels of a response that flattens at the top: F = 31 on 3 and
-    10 df, p < 0.001. Passing: duplicates at 6 levels lying on a line (p = 0.6).
+    10 df, p < 0.001. Passing: duplicates at 6 levels lying on a line (p = 0.6). Between
+    curvature_major_alpha (1 %) and lack_of_fit_alpha (5 %) the finding is minor: weak evidence.
     """
     judged = _judged(context)
     return [] if judged is None else lack_of_fit_findings(context, *judged)

@@ -180,11 +180,12 @@ def lack_of_fit_findings(
     policy, lack = context.policy, metrics.lack
     level = policy.find("lack_of_fit_alpha") or policy.alpha
     if lack is not None and lack.p < level:
+        strong = lack.p < (policy.find("curvature_major_alpha") or level)
         return [
             Finding(
                 check="line-lacks-fit",
                 kind="lack-of-fit",
-                severity="major",
+                severity="major" if strong else "minor",
                 cells=[context.data.intended_y_range],
                 message=(
                     f"The straight line does not describe the level means: lack-of-fit F = "
@@ -193,6 +194,12 @@ def lack_of_fit_findings(
                     f"{num(lack.pure_error_sd)}, the line misses them by s = "
                     f"{num(metrics.residual_sd)} overall. SE, t, p and every prediction assume "
                     "the line is right."
+                    + (
+                        ""
+                        if strong
+                        else " The evidence is weak (p above 1 %): check the "
+                        "residual plot before acting on it."
+                    )
                 ),
                 evidence={
                     "f": lack.f,
