@@ -16,6 +16,16 @@ SEVERITY_RANK: dict[str, int] = {name: rank for rank, name in enumerate(SEVERITI
 
 Verdict = Literal["confirmed", "mismatch", "unverifiable"]
 WorkbookStatus = Literal["audited", "unreadable", "no-regressions"]
+# Why a workbook with status "unreadable" was not audited: the file itself ("file": damaged,
+# encrypted, not a workbook), a per-file time or memory limit ("limit"), a fault in regaudit
+# ("regaudit": the file may be fine), or a cluster that lost the task ("cluster").
+FailureCause = Literal["file", "limit", "regaudit", "cluster"]
+FAILURE_WORDS: dict[str, str] = {
+    "file": "could not be read",
+    "limit": "stopped at a per-file limit",
+    "regaudit": "not audited: a fault in regaudit, not necessarily in the file",
+    "cluster": "not audited: the cluster lost the task",
+}
 FoundBy = Literal[
     "names", "formulas", "bindings", "labels", "trendline", "pasted-table", "hand-built"
 ]
@@ -215,6 +225,11 @@ class WorkbookResult:
     stored_values: bool = True
     regressions: list[RegressionResult] = field(default_factory=list)
     findings: list[Finding] = field(default_factory=list)  # workbook-level findings
+    failure: FailureCause | None = None  # set with status "unreadable": why, in one word
+
+    def failure_words(self) -> str:
+        """How the summary names a workbook that was not audited."""
+        return FAILURE_WORDS.get(self.failure or "file", FAILURE_WORDS["file"])
 
     def all_findings(self) -> list[Finding]:
         return list(self.findings) + [f for r in self.regressions for f in r.findings]
@@ -225,6 +240,7 @@ class WorkbookResult:
             "sha256": self.sha256,
             "status": self.status,
             "error": self.error,
+            "failure": self.failure,
             "stored_values": self.stored_values,
             "regressions": [r.to_dict() for r in self.regressions],
             "findings": [f.to_dict() for f in self.findings],

@@ -140,7 +140,7 @@ def audit_workbook(
         workbook = read_workbook(path)
     except UnreadableWorkbook as exc:
         digest = sha256_of(path) if path.is_file() else ""
-        return WorkbookResult(str(path), digest, "unreadable", error=str(exc))
+        return WorkbookResult(str(path), digest, "unreadable", error=str(exc), failure="file")
     evaluator = Evaluator(workbook)
     locator = Locator(workbook, bindings)
     locator.evaluator = evaluator  # recognisers that test what a formula computes share it

@@ -30,24 +30,34 @@ Task = tuple[str, Policy, list[dict[str, Any]] | None]
 DEFAULT_LIMITS = FileLimits()  # 600 s and 4 GiB per file
 
 
-def _audit_one(args: Task) -> WorkbookResult:
+def audit_guarded(
+    path: str, policy: Policy, bindings: list[dict[str, Any]] | None
+) -> WorkbookResult:
+    """audit_workbook, with a broken file and a fault of regaudit's each told apart in words;
+    MemoryError goes on to the caller (the pool reports it as the per-file limit)."""
     from auditor.pipeline.audit import audit_workbook
 
-    path, policy, bindings = args
     try:
         return audit_workbook(path, policy, bindings)
     except MemoryError:
-        raise  # the pool reports it as the per-file memory limit, in words
+        raise
     except RegauditError as exc:
-        return WorkbookResult(path, "", "unreadable", error=str(exc))
+        return WorkbookResult(path, "", "unreadable", error=str(exc), failure="file")
     except Exception as exc:  # a bug: keep the traceback, keep the batch going
         traceback.print_exc(file=sys.stderr)
         return WorkbookResult(
             path,
-            "",
+            sha256_of(Path(path)) if Path(path).is_file() else "",
             "unreadable",
-            error=f"internal error while auditing ({type(exc).__name__}: {exc}); please report it",
+            error=f"regaudit failed while auditing it ({type(exc).__name__}: {exc}); the file "
+            "itself may be fine: please report this, with the traceback printed above",
+            failure="regaudit",
         )
+
+
+def _audit_one(args: Task) -> WorkbookResult:
+    path, policy, bindings = args
+    return audit_guarded(path, policy, bindings)
 
 
 def _audit_timed(args: Task) -> tuple[WorkbookResult, float]:
@@ -78,7 +88,8 @@ def _without_unread_points(work: Callable[[Task], tuple[Any, ...]], args: Task) 
 def _stopped(args: Task, failure: Failure) -> tuple[WorkbookResult, float]:
     path = Path(args[0])
     digest = sha256_of(path) if path.is_file() else ""
-    return WorkbookResult(str(path), digest, "unreadable", error=failure.reason), -1.0
+    stopped = WorkbookResult(str(path), digest, "unreadable", error=failure.reason, failure="limit")
+    return stopped, -1.0
 
 
 def _stopped_recorded(args: Task, failure: Failure) -> tuple[WorkbookResult, float, str | None]:

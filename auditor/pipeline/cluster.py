@@ -19,9 +19,7 @@ from __future__ import annotations
 
 import logging
 import os
-import sys
 import tempfile
-import traceback
 from collections.abc import Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -29,7 +27,7 @@ from pathlib import Path
 from typing import Any
 
 from auditor import __version__
-from auditor.errors import RegauditError, UsageError
+from auditor.errors import UsageError
 from auditor.model import WorkbookResult
 from auditor.policy import Policy
 
@@ -141,20 +139,9 @@ def check_workers(client: Any) -> None:
 
 def _audit(path: Path, shown: str, settings: _Settings) -> WorkbookResult:
     """audit_workbook with the same error handling as a local batch, naming ``shown``."""
-    from auditor.pipeline.audit import audit_workbook
+    from auditor.pipeline.batch import audit_guarded
 
-    try:
-        result = audit_workbook(path, settings.policy, settings.bindings)
-    except RegauditError as exc:
-        result = WorkbookResult(str(path), "", "unreadable", error=str(exc))
-    except Exception as exc:  # a bug: keep the traceback in the worker's log, keep the batch
-        traceback.print_exc(file=sys.stderr)
-        result = WorkbookResult(
-            str(path),
-            "",
-            "unreadable",
-            error=f"internal error while auditing ({type(exc).__name__}: {exc}); please report it",
-        )
+    result = audit_guarded(str(path), settings.policy, settings.bindings)
     result.path = shown
     if result.error:
         result.error = result.error.replace(str(path), shown)
@@ -170,6 +157,7 @@ def audit_shared_path(absolute: str, shown: str, settings: _Settings) -> Workboo
             "unreadable",
             error=f"{shown} is not visible on the Dask worker as {absolute!r}; put the "
             "workbooks on a path every worker shares, or use --ship-bytes",
+            failure="file",
         )
     return _audit(Path(absolute), shown, settings)
 
@@ -196,6 +184,7 @@ def _lost(shown: str, exc: BaseException) -> WorkbookResult:
         "unreadable",
         error=f"the cluster could not audit it ({type(exc).__name__}: {exc}); run it again, "
         "or audit this file locally to see why",
+        failure="cluster",
     )
 
 

@@ -197,7 +197,8 @@ def _workbook_section(
         f"{INDENT}SHA-256 {workbook.sha256 or 'not computed (the file could not be read)'}",
     ]
     if workbook.status == "unreadable":
-        lines += _wrap(f"could not be read: {workbook.error or 'no reason was recorded'}", INDENT)
+        reason = workbook.error or "no reason was recorded"
+        lines += _wrap(f"{workbook.failure_words()}: {reason}", INDENT)
     elif workbook.error:
         lines += _wrap(f"note: {workbook.error}", INDENT)
     if not workbook.stored_values and workbook.status != "unreadable":

@@ -50,6 +50,7 @@ def test_values_round_trip() -> None:
         "sha256": "b" * 64,
         "status": "unreadable",
         "error": UNREADABLE_ERROR,
+        "failure": "file",
         "stored_values": True,
         "regressions": [],
         "findings": [],

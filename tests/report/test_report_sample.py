@@ -119,7 +119,11 @@ def sample_result() -> AuditResult:
         ],
     )
     unreadable = WorkbookResult(
-        path=UNREADABLE_PATH, sha256="b" * 64, status="unreadable", error=UNREADABLE_ERROR
+        path=UNREADABLE_PATH,
+        sha256="b" * 64,
+        status="unreadable",
+        error=UNREADABLE_ERROR,
+        failure="file",
     )
     return AuditResult(
         version="0.1.0",

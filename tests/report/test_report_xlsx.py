@@ -151,7 +151,7 @@ def test_overview_lists_what_was_audited(book: openpyxl.Workbook) -> None:
     assert ("Inputs", "lab") in rows
     assert ("audited", 1) in rows and ("unreadable", 1) in rows and ("no-regressions", 0) in rows
     assert ("critical", 1) in rows and ("info", 1) in rows
-    assert (UNREADABLE_PATH, UNREADABLE_ERROR) in rows
+    assert (UNREADABLE_PATH, f"could not be read: {UNREADABLE_ERROR}") in rows
     assert ("confirmed", 1) in rows and ("mismatch", 1) in rows  # regressions by verdict
     caution = next(label for label, _ in rows if str(label).startswith("Caution: "))
     assert "licensed professional practice decide" in caution

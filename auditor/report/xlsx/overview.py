@@ -200,10 +200,11 @@ def overview_sheet(
     _audited(out, result)
     _counts(out, result)
 
-    out.section("Files that could not be read")
+    out.section("Files not audited, and why")
     unreadable = [w for w in result.workbooks if w.status == "unreadable"]
     for workbook in unreadable:
-        out.line(workbook.path, workbook.error or "no reason was recorded", styles.wrapped)
+        reason = f"{workbook.failure_words()}: {workbook.error or 'no reason was recorded'}"
+        out.line(workbook.path, reason, styles.wrapped)
     if not unreadable:
         out.line("none", label_format=styles.top)
     if result.skipped:
