@@ -7,6 +7,7 @@ open source workbooks. ``to_dict`` gives the JSON contract of ``audit.json`` (se
 from __future__ import annotations
 
 import math
+from collections import Counter
 from dataclasses import dataclass, field
 from typing import Any, Literal
 
@@ -16,16 +17,7 @@ SEVERITY_RANK: dict[str, int] = {name: rank for rank, name in enumerate(SEVERITI
 
 Verdict = Literal["confirmed", "mismatch", "unverifiable"]
 WorkbookStatus = Literal["audited", "unreadable", "no-regressions"]
-# Why a workbook with status "unreadable" was not audited: the file itself ("file": damaged,
-# encrypted, not a workbook), a per-file time or memory limit ("limit"), a fault in regaudit
-# ("regaudit": the file may be fine), or a cluster that lost the task ("cluster").
-FailureCause = Literal["file", "limit", "regaudit", "cluster"]
-FAILURE_WORDS: dict[str, str] = {
-    "file": "could not be read",
-    "limit": "stopped at a per-file limit",
-    "regaudit": "not audited: a fault in regaudit, not necessarily in the file",
-    "cluster": "not audited: the cluster lost the task",
-}
+FailureCause = Literal["file", "limit", "regaudit", "cluster"]  # why "unreadable"
 FoundBy = Literal[
     "names", "formulas", "bindings", "labels", "trendline", "pasted-table", "hand-built"
 ]
@@ -225,11 +217,7 @@ class WorkbookResult:
     stored_values: bool = True
     regressions: list[RegressionResult] = field(default_factory=list)
     findings: list[Finding] = field(default_factory=list)  # workbook-level findings
-    failure: FailureCause | None = None  # set with status "unreadable": why, in one word
-
-    def failure_words(self) -> str:
-        """How the summary names a workbook that was not audited."""
-        return FAILURE_WORDS.get(self.failure or "file", FAILURE_WORDS["file"])
+    failure: FailureCause | None = None  # with "unreadable": the file, a limit, regaudit, …
 
     def all_findings(self) -> list[Finding]:
         return list(self.findings) + [f for r in self.regressions for f in r.findings]
@@ -287,9 +275,7 @@ class AuditResult:
         by_severity = {name: 0 for name in SEVERITIES}
         for finding in self.all_findings():
             by_severity[finding.severity] += 1
-        by_status: dict[str, int] = {}
-        for workbook in self.workbooks:
-            by_status[workbook.status] = by_status.get(workbook.status, 0) + 1
+        by_status = dict(Counter(workbook.status for workbook in self.workbooks))
         return {
             "workbooks": len(self.workbooks),
             "regressions": sum(len(w.regressions) for w in self.workbooks),
@@ -310,6 +296,4 @@ class AuditResult:
 
 
 def worst(findings: list[Finding]) -> Severity | None:
-    if not findings:
-        return None
-    return min(findings, key=lambda f: SEVERITY_RANK[f.severity]).severity
+    return min(findings, key=lambda f: SEVERITY_RANK[f.severity]).severity if findings else None

@@ -27,7 +27,7 @@ from auditor.report.common import (
     status_counts,
 )
 from auditor.report.text_calibration import policy_lines, run_summary
-from auditor.report.verdicts import row_verdict
+from auditor.report.verdicts import failure_words, row_verdict
 
 WIDTH = 100
 INDENT = "    "
@@ -198,7 +198,7 @@ def _workbook_section(
     ]
     if workbook.status == "unreadable":
         reason = workbook.error or "no reason was recorded"
-        lines += _wrap(f"{workbook.failure_words()}: {reason}", INDENT)
+        lines += _wrap(f"{failure_words(workbook)}: {reason}", INDENT)
     elif workbook.error:
         lines += _wrap(f"note: {workbook.error}", INDENT)
     if not workbook.stored_values and workbook.status != "unreadable":

@@ -19,7 +19,7 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from auditor.model import RegressionResult, stat_base
+from auditor.model import RegressionResult, WorkbookResult, stat_base
 
 SHORT_NAMES: dict[str, str] = {
     "slope": "slope",
@@ -107,3 +107,16 @@ def verdict_categories(
     for regression in regressions:
         counts[row_verdict(regression, shown).category] += 1
     return {name: count for name, count in counts.items() if count}
+
+
+FAILURE_WORDS: dict[str, str] = {
+    "file": "could not be read",
+    "limit": "stopped at a per-file limit",
+    "regaudit": "not audited: a fault in regaudit, not necessarily in the file",
+    "cluster": "not audited: the cluster lost the task",
+}
+
+
+def failure_words(workbook: WorkbookResult) -> str:
+    """How reports name a workbook that was not audited, from its failure cause."""
+    return FAILURE_WORDS[workbook.failure or "file"]

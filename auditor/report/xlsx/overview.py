@@ -20,7 +20,7 @@ from auditor.report.common import (
     copy_caveat,
     status_counts,
 )
-from auditor.report.verdicts import CATEGORIES, verdict_categories
+from auditor.report.verdicts import CATEGORIES, failure_words, verdict_categories
 from auditor.report.xlsx.layout import LINE_HEIGHT, print_setup, text_lines
 from auditor.report.xlsx.links import DetailRef, internal_link
 from auditor.report.xlsx.style import VERDICT_PALETTE, Styles, put
@@ -203,7 +203,7 @@ def overview_sheet(
     out.section("Files not audited, and why")
     unreadable = [w for w in result.workbooks if w.status == "unreadable"]
     for workbook in unreadable:
-        reason = f"{workbook.failure_words()}: {workbook.error or 'no reason was recorded'}"
+        reason = f"{failure_words(workbook)}: {workbook.error or 'no reason was recorded'}"
         out.line(workbook.path, reason, styles.wrapped)
     if not unreadable:
         out.line("none", label_format=styles.top)
