@@ -131,3 +131,15 @@ def test_the_cycle_finder_finds_cycles(
     graph: dict[str, set[str]], expected: list[str] | None
 ) -> None:
     assert find_cycle(graph) == expected
+
+
+MAX_MODULE_LINES = 300  # small modules (DEVELOPERS.md): split a module before it grows past this
+
+
+def test_no_module_is_longer_than_the_limit() -> None:
+    long = {
+        str(path.relative_to(PACKAGE)): n
+        for path in PACKAGE.rglob("*.py")
+        if (n := len(path.read_text(encoding="utf-8").splitlines())) > MAX_MODULE_LINES
+    }
+    assert not long, f"modules over {MAX_MODULE_LINES} lines: {long}"
