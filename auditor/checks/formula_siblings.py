@@ -261,12 +261,13 @@ def _anchoring(
     context: WorkbookContext, members: list[Member], reported: set[str]
 ) -> list[Finding]:
     live = [m for m in members if m.cell not in reported]
-    relative = [m for m in live if _anchors(m) and not any(_anchors(m))]
+    anchors = {id(m): _anchors(m) for m in live}  # each member's formula read once
+    relative = [m for m in live if anchors[id(m)] and not any(anchors[id(m)])]
     if not relative:
         return []
     out = []
     for member in live:
-        if not any(_anchors(member)):
+        if not any(anchors[id(member)]):
             continue
         same_sheet = [
             b

@@ -14,6 +14,7 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Literal
 
 from auditor.compare.precision import parse_text_number
@@ -57,6 +58,13 @@ def claim_in_text(text: str) -> ClaimKind | None:
     """'Conclusion: humidity has no effect' -> 'no-effect'; 'slope is significant' -> 'effect'."""
     if not isinstance(text, str) or len(text) > 400:
         return None
+    return _claim_in(text)
+
+
+@lru_cache(maxsize=4096)
+def _claim_in(text: str) -> ClaimKind | None:
+    """claim_in_text's reading of one text: each design check of each regression asks again
+    about the same words around it."""
     if any(p.search(text) for p in _NO_EFFECT):
         return "no-effect"
     if any(p.search(text) for p in _EFFECT):

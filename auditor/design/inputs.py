@@ -78,6 +78,24 @@ def _numbers(value: object) -> list[float]:
     return out
 
 
+def _cells_in(
+    cells: Mapping[tuple[int, int], Cell], r1: int, c1: int, r2: int, c2: int
+) -> Iterator[tuple[tuple[int, int], Cell]]:
+    """The cells inside a box: probed one place at a time when the box is smaller than the
+    sheet (a window around a result block), else by one walk over the sheet's cells."""
+    r1, c1 = max(r1, 1), max(c1, 1)
+    if (r2 - r1 + 1) * (c2 - c1 + 1) < len(cells):
+        for row in range(r1, r2 + 1):
+            for col in range(c1, c2 + 1):
+                cell = cells.get((row, col))
+                if cell is not None:
+                    yield (row, col), cell
+        return
+    for (row, col), cell in cells.items():
+        if r1 <= row <= r2 and c1 <= col <= c2:
+            yield (row, col), cell
+
+
 class DesignInputReader:
     """Reads design inputs for each regression of one workbook (formulas parsed once)."""
 
@@ -106,8 +124,9 @@ class DesignInputReader:
         anchors = [s.cell for s in spec.stats.values()] + [u.cell for u in spec.uses]
         if not anchors:
             anchors = [Cell(spec.y.sheet, spec.y.r1, spec.y.c2 + 1, None)]
-        inputs.texts = self._texts(anchors)
-        self._stated_values(inputs, anchors)
+        window = list(self._window(anchors))  # walked once, read twice
+        inputs.texts = self._texts(window)
+        self._stated_values(inputs, window)
         inputs.predictions = list(self._predictions(spec))
         return inputs
 
@@ -123,17 +142,16 @@ class DesignInputReader:
         c1 = min(a.col for a in same) - WINDOW_COLS[0]
         c2 = max(a.col for a in same) + WINDOW_COLS[1]
         found = []
-        for (row, col), cell in sheet.cells.items():
-            if r1 <= row <= r2 and c1 <= col <= c2:
-                distance = min(abs(row - a.row) + abs(col - a.col) for a in same)
-                found.append((distance, row, col, cell))
+        for (row, col), cell in _cells_in(sheet.cells, r1, c1, r2, c2):
+            distance = min(abs(row - a.row) + abs(col - a.col) for a in same)
+            found.append((distance, row, col, cell))
         for distance, _, _, cell in sorted(found, key=lambda item: item[:3]):
             yield distance, cell
 
-    def _texts(self, anchors: list[Cell]) -> list[tuple[str, str]]:
+    def _texts(self, window: list[tuple[int, Cell]]) -> list[tuple[str, str]]:
         return [
             (cell.value, cell.address)
-            for _, cell in self._window(anchors)
+            for _, cell in window
             if isinstance(cell.value, str) and not cell.formula and cell.value.strip()
         ]
 
@@ -145,8 +163,8 @@ class DesignInputReader:
                 return value, cell
         return None
 
-    def _stated_values(self, inputs: DesignInputs, anchors: list[Cell]) -> None:
-        for _, cell in self._window(anchors):
+    def _stated_values(self, inputs: DesignInputs, window: list[tuple[int, Cell]]) -> None:
+        for _, cell in window:
             if not isinstance(cell.value, str) or cell.formula:
                 continue
             if inputs.slope_that_matters is None and _MATTERS.search(cell.value):

@@ -10,6 +10,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable
 from dataclasses import dataclass
+from functools import lru_cache
 
 from auditor.grid import A1_CELL, A1_COLUMN, A1_ROW, MAX_COL, MAX_ROW, column_index
 
@@ -109,8 +110,10 @@ def _a1_corner(text: str, kind: str) -> Corner | None:
     return None
 
 
+@lru_cache(maxsize=16_384)
 def parse_a1(operand: str) -> Reference | None:
-    """A reference operand in A1 notation, or None for a name, table reference or error."""
+    """A reference operand in A1 notation, or None for a name, table reference or error.
+    (Kept per text: references are immutable and the checks rewrite the same formulas often.)"""
     parts = _split_outside_quotes(operand, ":")
     if len(parts) > 2:
         return None

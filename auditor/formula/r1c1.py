@@ -16,6 +16,7 @@ function (``A1:INDEX(``); both are split here.
 from __future__ import annotations
 
 from collections.abc import Callable
+from functools import lru_cache
 
 from openpyxl.formula.tokenizer import Token
 
@@ -68,6 +69,18 @@ def rewrite_references(
 
 def references(formula: str, expand: Callable[[str], str | None] | None = None) -> list[Reference]:
     """Every A1 reference operand of the formula, in order (names expanded by ``expand``)."""
+    if expand is None:
+        return list(_plain_references(formula))
+    return _references(formula, expand)
+
+
+@lru_cache(maxsize=4096)
+def _plain_references(formula: str) -> tuple[Reference, ...]:
+    """references() without names, kept per text (the checks read the same formulas often)."""
+    return tuple(_references(formula, None))
+
+
+def _references(formula: str, expand: Callable[[str], str | None] | None) -> list[Reference]:
     found: list[Reference] = []
 
     def keep(ref: Reference) -> None:

@@ -14,6 +14,7 @@ from auditor.locate.roles import (
     role_from_label,
 )
 from auditor.locate.spec import RegressionSpec, StatCell, label_for
+from auditor.locate.text_cells import text_cells
 from auditor.model import stat_base
 from auditor.read.workbook import Cell
 
@@ -24,7 +25,7 @@ def from_labels(locator: FormulaLocator, taken: set[str]) -> list[RegressionSpec
     for sheet in locator.workbook.sheets.values():
         labels = [
             cell
-            for cell in sheet.cells.values()
+            for cell in text_cells(locator.workbook, sheet)
             if isinstance(cell.value, str) and role_from_label(cell.value) == "slope"
         ]  # the few "Slope" labels, in reading order: not a sort of every cell
         for cell in sorted(labels, key=lambda c: (c.row, c.col)):

@@ -89,10 +89,13 @@ def _mostly_numbers(sheet: Sheet, ref: Ref) -> bool:
         range(count) if count <= SAMPLE else [i * (count - 1) // SAMPLE for i in range(SAMPLE + 1)]
     )
     cells = [(ref.r1 + k // ref.cols, ref.c1 + k % ref.cols) for k in picks]
-    numbers = 0
-    for row, col in cells:
+    numbers, left = 0, len(cells)
+    for row, col in cells:  # stops once the answer is known either way
+        if 2 * numbers >= len(cells) or 2 * (numbers + left) < len(cells):
+            break
         value = sheet.value(row, col)
         numbers += isinstance(value, (int, float)) and not isinstance(value, bool)
+        left -= 1
     return 2 * numbers >= len(cells)
 
 

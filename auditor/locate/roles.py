@@ -8,6 +8,7 @@ both divisions or inverse-t calls) and names typed constants.
 from __future__ import annotations
 
 import re
+from functools import lru_cache
 
 from auditor.formula.syntax import Binary, Call, Node, Number, Unary, calls
 
@@ -77,6 +78,7 @@ _OTHER_LANGUAGES: list[tuple[re.Pattern[str], str]] = [
 ]
 
 
+@lru_cache(maxsize=8192)  # the same labels are read by several recognisers
 def role_from_label(text: str) -> str | None:
     """'SE of slope' -> 'se_slope'; 'p-value' -> 'p_slope'; 'Pendiente' -> 'slope'; None when
     not a statistic label."""

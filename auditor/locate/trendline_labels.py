@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 
 from auditor.locate.spec import RegressionSpec
+from auditor.locate.text_cells import text_cells
 from auditor.locate.trendline_figures import (
     MIN_DIGITS_ALONE,
     MIN_DIGITS_PAIRED,
@@ -32,7 +33,7 @@ def equation_texts(workbook: Workbook) -> list[tuple[Cell, dict[str, float]]]:
     """Text cells holding a trendline label copied as text: "y = 1.49x + 21.9", "R² = 0.88"."""
     found: list[tuple[Cell, dict[str, float]]] = []
     for sheet in workbook.sheets.values():
-        for cell in sheet.cells.values():
+        for cell in text_cells(workbook, sheet):
             if cell.formula is not None or not isinstance(cell.value, str) or "=" not in cell.value:
                 continue
             typed: dict[str, float] = {}

@@ -23,6 +23,7 @@ from auditor.locate.blocks import role_in_list
 from auditor.locate.labels import looks_like_claim
 from auditor.locate.pasted_spec import in_pasted_table
 from auditor.locate.roles import role_from_label
+from auditor.locate.text_cells import text_cells
 from auditor.locate.typed_record import TypedTable, interval
 from auditor.read.workbook import Cell, Sheet, Workbook
 
@@ -53,11 +54,11 @@ def find_typed_tables(workbook: Workbook, taken: set[str]) -> list[TypedTable]:
     found: list[TypedTable] = []
     for sheet in workbook.sheets.values():
         labelled: dict[tuple[int, int], str] = {}
-        for (row, col), cell in sheet.cells.items():
+        for cell in text_cells(workbook, sheet):
             if isinstance(cell.value, str) and cell.formula is None and len(cell.value) <= 60:
                 role = role_from_label(cell.value)
                 if role in TABLE_ROLES:
-                    labelled[(row, col)] = role_in_list(sheet, row, col, role)
+                    labelled[(cell.row, cell.col)] = role_in_list(sheet, cell.row, cell.col, role)
         if not any(role == "slope" for role in labelled.values()):
             continue
         for by_rows in (False, True):
