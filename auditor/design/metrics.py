@@ -150,7 +150,10 @@ def compute_design(
     """Every design metric of one regression (see the module docstring)."""
     n = data.n
     if data.x.size and np.isfinite(data.x).all():
-        levels = len(np.unique(data.x, axis=0))  # one sort, not a set of n tuples
+        # One sort, not a set of n tuples; one column sorted as numbers (np.unique along an
+        # axis sorts rows as records: about thirty times slower at 200,000 rows).
+        single = data.x.ndim == 2 and data.x.shape[1] == 1
+        levels = len(np.unique(data.x[:, 0])) if single else len(np.unique(data.x, axis=0))
     else:
         levels = len({tuple(row) for row in data.x.tolist()})
     rows = _used_rows(data)

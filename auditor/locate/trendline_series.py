@@ -149,11 +149,11 @@ def survey(workbook: Workbook, evaluator: Evaluator | None = None) -> list[Trend
     known = _SURVEYS.get(key)
     if known is not None:
         return known
-    evaluator = evaluator or Evaluator(workbook)
     found: list[TrendlineUse] = []
     for chart in workbook.charts:
         for series in chart.series:
-            if series.trendlines:
+            if series.trendlines:  # an evaluator (an index of every formula) only when needed
+                evaluator = evaluator or Evaluator(workbook)
                 found.append(_read_use(workbook, evaluator, chart, series))
     _SURVEYS[key] = found
     weakref.finalize(workbook, _SURVEYS.pop, key, None)
