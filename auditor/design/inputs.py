@@ -218,12 +218,14 @@ class DesignInputReader:
         for key, node in self.parsed.items():
             if (key[0].lower(), key[1], key[2]) in own:
                 continue
-            address = f"{key[0]}!{coord(key[1], key[2])}"
             found = list(
                 self._predictions_in(
                     node, key[0], spec, slope_cells, intercept_cells, self._shapes(key, node)
                 )
             )
+            if not found:
+                continue
+            address = f"{key[0]}!{coord(key[1], key[2])}"
             shown, reads = self._bare_call(key, node) if len(found) == 1 else (None, None)
             for x, how in found:
                 yield Prediction(address, x, how, shown, reads)

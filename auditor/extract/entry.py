@@ -30,7 +30,8 @@ def _column_values(evaluator: Reader, sheet: str, col: int, r1: int, r2: int) ->
     if r2 < r1:
         return []  # a range past the sheet's last row (a damaged or empty sheet) holds nothing
     ref = Ref(sheet, r1, col, r2, col)
-    return [row[0] for row in evaluator.range_values(ref)]
+    values: list[object] = evaluator.range_values(ref)[:, 0].tolist()  # the cells' own objects
+    return values
 
 
 def _is_data_row(values: list[object]) -> bool:
