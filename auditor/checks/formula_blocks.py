@@ -19,6 +19,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from functools import cached_property
 
 from auditor.formula.operands import Corner, Reference
 from auditor.formula.r1c1 import canonical, rewrite_references
@@ -47,7 +48,7 @@ class Block:
     def data_sheet(self) -> str:
         return self.spec.y.sheet
 
-    @property
+    @cached_property  # asked for every reference of every member; the ranges do not change
     def data_box(self) -> tuple[int, int, int, int]:
         """(first row, first column, last row, last column) of the x and y ranges together."""
         x, y = self.spec.x, self.spec.y

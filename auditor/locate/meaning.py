@@ -88,15 +88,15 @@ def _mostly_numbers(sheet: Sheet, ref: Ref) -> bool:
     picks = (
         range(count) if count <= SAMPLE else [i * (count - 1) // SAMPLE for i in range(SAMPLE + 1)]
     )
-    cells = [(ref.r1 + k // ref.cols, ref.c1 + k % ref.cols) for k in picks]
-    numbers, left = 0, len(cells)
-    for row, col in cells:  # stops once the answer is known either way
-        if 2 * numbers >= len(cells) or 2 * (numbers + left) < len(cells):
+    total = len(picks)
+    numbers, left = 0, total
+    for k in picks:  # stops once the answer is known either way
+        if 2 * numbers >= total or 2 * (numbers + left) < total:
             break
-        value = sheet.value(row, col)
+        value = sheet.value(ref.r1 + k // ref.cols, ref.c1 + k % ref.cols)
         numbers += isinstance(value, (int, float)) and not isinstance(value, bool)
         left -= 1
-    return 2 * numbers >= len(cells)
+    return 2 * numbers >= total
 
 
 def beside(workbook: Workbook, ref: Ref, other: Ref) -> list[Header]:
