@@ -15,6 +15,7 @@ import numpy as np
 from auditor.extract.record import Extracted, cell_number
 from auditor.extract.totals import format_changes, summary_formula
 from auditor.grid import column_letter
+from auditor.locate.text_cells import text_cells
 from auditor.model import DataPoint
 from auditor.read.workbook import Workbook
 
@@ -280,14 +281,9 @@ def _text_label_rows(
     found = workbook.sheet(sheet)
     if found is None:
         return set()
-    get = found.cells.get
-    rows = range(first, last + 1)
-    text_rows: set[int] = set()
-    for col in range(max(1, label_col - 3), label_col + 1):
-        cells = [get((row, col)) for row in rows]
-        text_rows.update(
-            row
-            for row, cell in zip(rows, cells, strict=True)
-            if cell is not None and isinstance(cell.value, str)
-        )
-    return text_rows
+    low = max(1, label_col - 3)
+    return {  # the sheet's few text cells, indexed once, not four columns probed row by row
+        cell.row
+        for cell in text_cells(workbook, found)
+        if first <= cell.row <= last and low <= cell.col <= label_col
+    }
