@@ -24,6 +24,7 @@ import numpy as np
 
 from auditor.compare.precision import parse_text_number
 from auditor.design.prediction_refs import cell_key, coord, is_cell, other_operand, refers_to
+from auditor.design.window import cells_in
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Fault, Unsupported
 from auditor.formula.syntax import Binary, Call, Node, RefNode, parse, walk
@@ -78,24 +79,6 @@ def _numbers(value: object) -> list[float]:
     return out
 
 
-def _cells_in(
-    cells: Mapping[tuple[int, int], Cell], r1: int, c1: int, r2: int, c2: int
-) -> Iterator[tuple[tuple[int, int], Cell]]:
-    """The cells inside a box: probed one place at a time when the box is smaller than the
-    sheet (a window around a result block), else by one walk over the sheet's cells."""
-    r1, c1 = max(r1, 1), max(c1, 1)
-    if (r2 - r1 + 1) * (c2 - c1 + 1) < len(cells):
-        for row in range(r1, r2 + 1):
-            for col in range(c1, c2 + 1):
-                cell = cells.get((row, col))
-                if cell is not None:
-                    yield (row, col), cell
-        return
-    for (row, col), cell in cells.items():
-        if r1 <= row <= r2 and c1 <= col <= c2:
-            yield (row, col), cell
-
-
 class DesignInputReader:
     """Reads design inputs for each regression of one workbook (formulas parsed once)."""
 
@@ -142,7 +125,7 @@ class DesignInputReader:
         c1 = min(a.col for a in same) - WINDOW_COLS[0]
         c2 = max(a.col for a in same) + WINDOW_COLS[1]
         found = []
-        for (row, col), cell in _cells_in(sheet.cells, r1, c1, r2, c2):
+        for (row, col), cell in cells_in(sheet.cells, r1, c1, r2, c2):
             distance = min(abs(row - a.row) + abs(col - a.col) for a in same)
             found.append((distance, row, col, cell))
         for distance, _, _, cell in sorted(found, key=lambda item: item[:3]):
