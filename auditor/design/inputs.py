@@ -124,12 +124,15 @@ class DesignInputReader:
         r2 = max(a.row for a in same) + WINDOW_ROWS[1]
         c1 = min(a.col for a in same) - WINDOW_COLS[0]
         c2 = max(a.col for a in same) + WINDOW_COLS[1]
-        found = []
-        for (row, col), cell in cells_in(sheet.cells, r1, c1, r2, c2):
-            distance = min(abs(row - a.row) + abs(col - a.col) for a in same)
-            found.append((distance, row, col, cell))
-        for distance, _, _, cell in sorted(found, key=lambda item: item[:3]):
-            yield distance, cell
+        inside = list(cells_in(sheet.cells, r1, c1, r2, c2))
+        if not inside:
+            return
+        places = np.array([key for key, _ in inside], dtype=np.int64)
+        corners = np.array([(a.row, a.col) for a in same], dtype=np.int64)
+        # The distance to the nearest anchor (rows plus columns); by distance, row, column.
+        distance = np.abs(places[:, None, :] - corners[None, :, :]).sum(axis=2).min(axis=1)
+        for i in np.lexsort((places[:, 1], places[:, 0], distance)).tolist():
+            yield int(distance[i]), inside[i][1]
 
     def _texts(self, window: list[tuple[int, Cell]]) -> list[tuple[str, str]]:
         return [
