@@ -11,16 +11,15 @@ the rest of the table fixes (k, the residual df, n), so the edited number is com
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
-
-from auditor.read.workbook import Sheet
 
 IDENTITY_RELATIVE = 1e-6  # pasted doubles satisfy their identities far tighter than this
 MAX_X_COLUMNS = 16  # the add-ins accept at most 16 x columns (from memory)
 MAX_GAP_ROWS = 40  # how far above its coefficients an analysis of variance or statistics sits
 
 
-Grid = dict[tuple[int, int], float]
+Grid = Mapping[tuple[int, int], float]  # a NumberGrid (auditor.locate.pasted_numbers) or a dict
 
 
 def close(a: float, b: float, rel: float = IDENTITY_RELATIVE, floor: float = 0.0) -> bool:
@@ -70,18 +69,6 @@ class ResidualOutput:
     standard: list[float] | None  # residuals over the root of SSE / (n − 1), when pasted
     probability_col: int | None = None  # percentile column; the sorted y values follow it
     sorted_y: list[float] | None = None
-
-
-def constant_numbers(sheet: Sheet) -> Grid:
-    """Numbers typed or pasted as values (formulas, logicals and text left out)."""
-    return {
-        key: float(cell.value)
-        for key, cell in sheet.cells.items()
-        if cell.formula is None
-        and isinstance(cell.value, (int, float))
-        and not isinstance(cell.value, bool)
-        and math.isfinite(float(cell.value))
-    }
 
 
 def _coefficient_row(grid: Grid, r: int, c: int) -> CoefficientRow | None:

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 from auditor.locate.pasted_anchors import anchors
 from auditor.locate.pasted_degrees import confidence_levels, residual_df
+from auditor.locate.pasted_numbers import number_grid
 from auditor.locate.pasted_parts import (
     MAX_GAP_ROWS,
     Anova,
@@ -33,7 +34,6 @@ from auditor.locate.pasted_parts import (
     anova_r2,
     close,
     coefficient_tables,
-    constant_numbers,
     edited_anova,
     edited_stats,
     stats_at,
@@ -65,7 +65,7 @@ def find_tables(workbook: Workbook) -> list[PastedTable]:
     """Every pasted regression table in the workbook, in sheet order."""
     found: list[PastedTable] = []
     for sheet in workbook.sheets.values():
-        grid = constant_numbers(sheet)
+        grid = number_grid(sheet)
         if len(grid) < 8:
             continue
         coefficient_places, anova_places, stats_places = anchors(grid)

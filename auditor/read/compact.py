@@ -158,6 +158,21 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
             if index == _OBJECT:
                 yield value  # type: ignore[misc]
 
+    def constant_values(self) -> Iterator[tuple[tuple[int, int], CellValue]]:
+        """(row, col) and value of every cell with no formula, in order, no Cell built for
+        the packed ones."""
+        if self._dict is not None:
+            for key, cell in self._dict.items():
+                if cell.formula is None:
+                    yield key, cell.value
+            return
+        for packed, value, index in zip(self._keys, self._values, self._formats, strict=True):
+            if index == _OBJECT:
+                if value.formula is not None:  # type: ignore[union-attr]
+                    continue
+                value = value.value  # type: ignore[union-attr]
+            yield (packed >> _COLUMN_BITS, packed & _COLUMN_MASK), value  # type: ignore[misc]
+
     def __contains__(self, key: object) -> bool:
         if self._dict is not None:
             return key in self._dict
