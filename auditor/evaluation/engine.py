@@ -142,7 +142,12 @@ class Evaluator(ExpressionEvaluator):
         out = np.empty((rows, cols), dtype=object)
         cells = sheet.cells
         row_span = range(ref.r1, r2 + 1)
+        column_values = getattr(cells, "column_values", None)  # the compact store's slice
         for j, col in enumerate(range(ref.c1, c2 + 1)):
+            stored = column_values(col, ref.r1, r2) if column_values is not None else None
+            if stored is not None:
+                out[:, j] = [_constant(value) for value in stored]
+                continue
             found = [cells.get((row, col)) for row in row_span]
             if any(c is not None for c in found):
                 out[:, j] = [None if c is None else _constant(c.value) for c in found]

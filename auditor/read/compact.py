@@ -22,6 +22,8 @@ from array import array
 from bisect import bisect_left
 from collections.abc import ItemsView, Iterator, MutableMapping, ValuesView
 
+import numpy as np
+
 from auditor.read.sheet import built_cell
 from auditor.read.workbook import Cell, CellValue
 
@@ -157,6 +159,26 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
         for value, index in zip(self._values, self._formats, strict=True):
             if index == _OBJECT:
                 yield value  # type: ignore[misc]
+
+    def column_values(self, col: int, first: int, last: int) -> list[CellValue] | None:
+        """The stored value of each cell of column ``col``, rows ``first``..``last`` (None where
+        there is no cell), found for the whole range at once and no Cell built; None once the
+        store has become a dict (then read the cells)."""
+        if self._dict is not None or not 0 <= first <= last < _MAX_PACKED >> _COLUMN_BITS:
+            return None
+        out: list[CellValue] = [None] * (last - first + 1)
+        if not 0 < col <= _COLUMN_MASK or not self._keys:
+            return out
+        keys = np.frombuffer(self._keys, dtype=np.int64)
+        wanted = (np.arange(first, last + 1, dtype=np.int64) << _COLUMN_BITS) | col
+        at = np.minimum(np.searchsorted(keys, wanted), len(keys) - 1)
+        hit = np.flatnonzero(keys[at] == wanted)
+        del keys  # the view pins the array: it could not grow while one exists
+        values, formats = self._values, self._formats
+        for offset, position in zip(hit.tolist(), at[hit].tolist(), strict=True):
+            value = values[position]
+            out[offset] = value.value if formats[position] == _OBJECT else value
+        return out
 
     def constant_values(self) -> Iterator[tuple[tuple[int, int], CellValue]]:
         """(row, col) and value of every cell with no formula, in order, no Cell built for

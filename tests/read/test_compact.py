@@ -72,7 +72,7 @@ def test_in_order_cells_are_kept_packed_and_read_back() -> None:
 
 def test_out_of_order_and_removal_turn_the_store_into_a_dict() -> None:
     rng = random.Random(7)
-    store, plain = CompactCells("S"), {}
+    store, plain = CompactCells("S"), dict[tuple[int, int], Cell]()
     cells = [_cell(rng.randint(1, 50), rng.randint(1, 6), rng.random()) for _ in range(300)]
     _fill(store, plain, cells)
     assert store._dict is not None  # a key before the last one
@@ -138,3 +138,27 @@ def test_the_equality_check_sees_every_kind_of_difference() -> None:
     assert changed(names=[]) == ["names differ"] or not base.names
     assert changed(stored_values=not base.stored_values) == ["stored values differ"]
     assert changed(sheets={}) == [f"sheets {list(base.sheets)} vs []"]
+
+
+def test_a_column_slice_gives_each_cells_stored_value_as_reading_cell_by_cell() -> None:
+    rng = random.Random(7)
+    store, plain = CompactCells("S"), dict[tuple[int, int], Cell]()
+    cells = [
+        _cell(
+            r, c, rng.choice([r * 0.25, r, "t", None, True]), "=1+1" if rng.random() < 0.1 else None
+        )
+        for r in range(2, 300)
+        for c in (1, 2, 4, 16384)
+        if rng.random() < 0.8
+    ]
+    _fill(store, plain, cells)
+    for col, first, last in ((1, 1, 310), (2, 2, 2), (4, 150, 299), (16384, 1, 5), (3, 1, 50)):
+        expected = [
+            plain[(r, col)].value if (r, col) in plain else None for r in range(first, last + 1)
+        ]
+        assert store.column_values(col, first, last) == expected
+    assert store.column_values(0, 1, 3) == [None] * 3
+    assert store.column_values(16385, 1, 3) == [None] * 3
+    assert CompactCells("S").column_values(1, 1, 2) == [None, None]
+    store.add_constant(1, 1, 9.0, "General")  # out of order: the store becomes a dict
+    assert store.column_values(1, 1, 3) is None
