@@ -105,19 +105,20 @@ class NumberGrid(Mapping[tuple[int, int], float]):
             yield (packed >> _COLUMN_BITS, packed & _COLUMN_MASK)
 
 
-def _entries(sheet: Sheet) -> tuple[array[int], array[int], array[float]]:
-    """Rows, columns and values of the constant numbers, in the sheet's order."""
+def entries(sheet: Sheet, formulas: bool = False) -> tuple[array[int], array[int], array[float]]:
+    """Rows, columns and values of the constant numbers (``formulas``: and of the formulas'
+    stored numbers), in the sheet's order."""
     rows, cols, values = array("q"), array("q"), array("d")
     cells = sheet.cells
     if isinstance(cells, CompactCells):
-        for (row, col), value in cells.constant_values():
+        for (row, col), value in cells.constant_values(formulas):
             if _is_number(value):
                 rows.append(row)
                 cols.append(col)
                 values.append(float(value))  # type: ignore[arg-type]
         return rows, cols, values
     for (row, col), cell in cells.items():
-        if cell.formula is None and _is_number(cell.value):
+        if (formulas or cell.formula is None) and _is_number(cell.value):
             rows.append(row)
             cols.append(col)
             values.append(float(cell.value))  # type: ignore[arg-type]
@@ -127,7 +128,7 @@ def _entries(sheet: Sheet) -> tuple[array[int], array[int], array[float]]:
 def number_grid(sheet: Sheet) -> Mapping[tuple[int, int], float]:
     """Numbers typed or pasted as values (formulas, logicals and text left out): a
     :class:`NumberGrid`, or the plain dict for an empty sheet or one of huge extent."""
-    rows, cols, values = _entries(sheet)
+    rows, cols, values = entries(sheet)
     if len(rows) > 0:
         row_array = np.frombuffer(rows, dtype=np.int64)
         col_array = np.frombuffer(cols, dtype=np.int64)

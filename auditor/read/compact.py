@@ -180,17 +180,19 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
             out[offset] = value.value if formats[position] == _OBJECT else value
         return out
 
-    def constant_values(self) -> Iterator[tuple[tuple[int, int], CellValue]]:
-        """(row, col) and value of every cell with no formula, in order, no Cell built for
-        the packed ones."""
+    def constant_values(
+        self, formulas: bool = False
+    ) -> Iterator[tuple[tuple[int, int], CellValue]]:
+        """(row, col) and value of every cell with no formula (``formulas``: of every cell, a
+        formula's stored value), in order, no Cell built for the packed ones."""
         if self._dict is not None:
             for key, cell in self._dict.items():
-                if cell.formula is None:
+                if formulas or cell.formula is None:
                     yield key, cell.value
             return
         for packed, value, index in zip(self._keys, self._values, self._formats, strict=True):
             if index == _OBJECT:
-                if value.formula is not None:  # type: ignore[union-attr]
+                if not formulas and value.formula is not None:  # type: ignore[union-attr]
                     continue
                 value = value.value  # type: ignore[union-attr]
             yield (packed >> _COLUMN_BITS, packed & _COLUMN_MASK), value  # type: ignore[misc]

@@ -11,14 +11,16 @@ from __future__ import annotations
 
 import math
 import random
+from types import SimpleNamespace
 
 import pytest
 
-from auditor.locate import pasted_anchors
+from auditor.locate import pasted_anchors, pasted_data
 from auditor.locate.pasted_anchors import anchors
+from auditor.locate.pasted_data import DataIndex, Run, _runs
 from auditor.locate.pasted_numbers import NumberGrid, number_grid
 from auditor.read.compact import CompactCells
-from auditor.read.workbook import Cell, Sheet
+from auditor.read.workbook import Cell, Sheet, Workbook
 
 
 def _plain_numbers(sheet: Sheet) -> dict[tuple[int, int], float]:
@@ -48,7 +50,7 @@ def _generated(seed: int, rows: int) -> list[Cell]:
             elif kind < 0.3:
                 value = rng.choice([True, False, "text", math.inf, -math.nan, None, -0.0])
             elif kind < 0.35:
-                formula = "=1+1"
+                value, formula = 2.0, "=1+1"
             cells.append(Cell("S", r, c, value, formula, "General"))  # type: ignore[arg-type]
     # A pasted coefficients row (b, SE, t, p, bounds) and an analysis of variance's df column.
     pasted = (2.0, 0.5, 4.0, 0.01, 0.8, 3.2)
@@ -111,3 +113,37 @@ def test_a_sheet_of_huge_extent_keeps_the_dict_in_sheet_order() -> None:
     assert type(grid) is dict
     assert list(grid.items()) == [((5, 3), 15.0), ((900_000, 30), 27_000_000.0), ((2, 1), 7.0)]
     assert number_grid(Sheet("S", {})) == {}
+
+
+def _old_index_runs(sheet: Sheet, skip: set[tuple[int, int]]) -> list[Run]:
+    """The index as built from a dict of every number (formulas' stored values included)."""
+    numbers = {
+        key: float(cell.value)  # type: ignore[arg-type]
+        for key, cell in sheet.cells.items()
+        if isinstance(cell.value, (int, float))
+        and not isinstance(cell.value, bool)
+        and key not in skip
+        and math.isfinite(float(cell.value))
+    }
+    return _runs("S", numbers, by_rows=False) + _runs("S", numbers, by_rows=True)
+
+
+@pytest.mark.parametrize("dense", [True, False])
+def test_the_data_index_holds_the_runs_the_dict_of_numbers_gives(
+    dense: bool, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    if not dense:
+        monkeypatch.setattr(pasted_data, "MAX_DENSE_CELLS", 0)  # the cell-by-cell path
+    skip = {(r, c) for r in range(10, 20) for c in (2, 3)}
+    table = SimpleNamespace(sheet="S", footprint=skip, n=4)
+    for sheet in _sheets(_generated(6, 80)):
+        workbook = Workbook("w.xlsx", "", {"S": sheet}, [], True)
+        index = DataIndex.build(workbook, [table])  # type: ignore[list-item]
+        expected = [run for run in _old_index_runs(sheet, skip) if len(run.values) >= 4]
+        key = lambda run: (run.by_rows, run.line, run.start)  # noqa: E731
+        assert sorted(map(key, index.runs)) == sorted(map(key, expected))
+        assert len(index.runs) > 20
+        values = {key(run): run.values.tolist() for run in expected}
+        assert all(run.values.tolist() == values[key(run)] for run in index.runs)
+        formula_numbers = [c for c in sheet.cells.values() if c.formula and c.value == 2.0]
+        assert formula_numbers  # the formulas' stored numbers are data too
