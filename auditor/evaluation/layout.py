@@ -35,7 +35,13 @@ class FormulaLayout:
         members: dict[_Key, _Bounds] = {}
         for sheet in workbook.sheets.values():
             by_col: dict[int, list[int]] = {}
-            for (row, col), cell in sheet.cells.items():
+            # A compact store holds every formula cell as an object: only those are walked.
+            stored = getattr(sheet.cells, "stored_cells", None)
+            if stored is not None:
+                found = ((c.row, c.col, c) for c in stored())
+            else:
+                found = ((r, c, cell) for (r, c), cell in sheet.cells.items())
+            for row, col, cell in found:
                 if cell.formula:
                     by_col.setdefault(col, []).append(row)
                     bounds = _block_bounds(cell)
