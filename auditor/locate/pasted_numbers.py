@@ -40,14 +40,13 @@ def _is_number(value: object) -> bool:
 class NumberGrid(Mapping[tuple[int, int], float]):
     """(row, col) -> float of a sheet's constant numbers; see the module's docstring."""
 
-    def __init__(self, keys: np.ndarray, values: np.ndarray) -> None:
-        order = np.argsort(keys, kind="stable")
-        self._keys = keys[order]
-        self._values = values[order]
-        rows = self._keys >> _COLUMN_BITS
-        cols = self._keys & _COLUMN_MASK
-        self.top, self.bottom = int(rows[0]), int(rows[-1])
-        self.left, self.right = int(cols.min()), int(cols.max())
+    def __init__(self, keys: np.ndarray, values: np.ndarray, left: int, right: int) -> None:
+        if len(keys) > 1 and not bool(np.all(keys[1:] > keys[:-1])):  # not in row-major order
+            order = np.argsort(keys, kind="stable")
+            keys, values = keys[order], values[order]
+        self._keys, self._values = keys, values
+        self.top, self.bottom = int(keys[0]) >> _COLUMN_BITS, int(keys[-1]) >> _COLUMN_BITS
+        self.left, self.right = left, right
 
     @property
     def height(self) -> int:
@@ -138,5 +137,6 @@ def number_grid(sheet: Sheet) -> Mapping[tuple[int, int], float]:
         if extent <= MAX_DENSE_CELLS and top >= 0 and bottom < _MAX_ROW and left > 0:
             if right <= _COLUMN_MASK:
                 keys = (row_array << _COLUMN_BITS) | col_array
-                return NumberGrid(keys, np.frombuffer(values, dtype=np.float64).copy())
+                floats = np.frombuffer(values, dtype=np.float64)  # holds ``values``, no copy
+                return NumberGrid(keys, floats, left, right)
     return dict(zip(zip(rows, cols, strict=True), values, strict=True))

@@ -128,6 +128,16 @@ def _old_index_runs(sheet: Sheet, skip: set[tuple[int, int]]) -> list[Run]:
     return _runs("S", numbers, by_rows=False) + _runs("S", numbers, by_rows=True)
 
 
+def test_cells_out_of_row_order_give_the_same_grid() -> None:
+    cells = _generated(8, 40)
+    plain, _ = _sheets(cells)
+    shuffled = Sheet("S", dict(reversed(list(plain.cells.items()))))
+    grid, expected = number_grid(shuffled), _plain_numbers(plain)
+    assert isinstance(grid, NumberGrid) and list(grid) == sorted(expected)
+    assert all(grid[key] == value for key, value in expected.items())
+    assert anchors(grid) == anchors(expected)
+
+
 @pytest.mark.parametrize("dense", [True, False])
 def test_the_data_index_holds_the_runs_the_dict_of_numbers_gives(
     dense: bool, monkeypatch: pytest.MonkeyPatch
