@@ -19,28 +19,13 @@ import numpy as np
 from auditor.extract.intended import TOTAL_LABEL
 from auditor.extract.record import Extracted, Reader, cell_number, range_text
 from auditor.extract.tables import paired
-from auditor.extract.totals import format_changes, summary_formula
-from auditor.formula.r1c1 import to_r1c1
+from auditor.extract.totals import continues_pattern, format_changes, summary_formula
 from auditor.grid import column_letter
 from auditor.locate.spec import RegressionSpec
 from auditor.model import DataPoint
 from auditor.read.workbook import Sheet, Workbook
 
 LABEL_REACH = 3  # rows above the x row (and columns before the data) read for a column's word
-
-
-def _continues(sheet: Sheet, rows: list[int], col: int) -> bool:
-    """Column ``col + 1`` is made like column ``col`` in every data row."""
-    for row in rows:
-        left, right = sheet.get(row, col), sheet.get(row, col + 1)
-        left_formula = left.formula if left is not None else None
-        right_formula = right.formula if right is not None else None
-        if bool(left_formula) != bool(right_formula):
-            return False
-        if left_formula and right_formula:
-            if to_r1c1(left_formula, row, col) != to_r1c1(right_formula, row, col + 1):
-                return False
-    return True
 
 
 def _claimed(spec: RegressionSpec, col: int) -> bool:
@@ -147,7 +132,7 @@ def across(workbook: Workbook, evaluator: Reader, spec: RegressionSpec) -> Extra
     while (
         last < sheet.max_col
         and numeric(last + 1)
-        and _continues(sheet, rows, last)
+        and continues_pattern(workbook, [(sheet.name, r) for r in rows], last, last + 1, True)
         and not _claimed(spec, last + 1)
     ):
         last += 1

@@ -65,21 +65,24 @@ def format_changes(
 
 
 def continues_pattern(
-    workbook: Workbook, columns: list[tuple[str, int]], row: int, below: int
+    workbook: Workbook, lines: list[tuple[str, int]], at: int, then: int, across: bool = False
 ) -> bool:
-    """Row ``below`` is made like row ``row`` in every column: typed numbers under typed
-    numbers, or the same formula copied down (the same text in relative R1C1 form)."""
-    for sheet_name, col in columns:
+    """Row ``then`` is made like row ``at`` in every column of ``lines`` ((sheet, column)
+    pairs): typed numbers under typed numbers, or the same formula copied down (the same text in
+    relative R1C1 form). ``across``: data in rows, so ``lines`` are (sheet, row) pairs and
+    ``at`` and ``then`` columns (the same formula copied across)."""
+    for sheet_name, line in lines:
         sheet = workbook.sheet(sheet_name)
         if sheet is None:
             return False
-        upper, lower = sheet.get(row, col), sheet.get(below, col)
-        upper_formula = upper.formula if upper is not None else None
-        lower_formula = lower.formula if lower is not None else None
-        if bool(upper_formula) != bool(lower_formula):
+        first, second = ((line, at), (line, then)) if across else ((at, line), (then, line))
+        one, two = sheet.get(*first), sheet.get(*second)
+        one_formula = one.formula if one is not None else None
+        two_formula = two.formula if two is not None else None
+        if bool(one_formula) != bool(two_formula):
             return False
-        if upper_formula and lower_formula:
-            if to_r1c1(upper_formula, row, col) != to_r1c1(lower_formula, below, col):
+        if one_formula and two_formula:
+            if to_r1c1(one_formula, *first) != to_r1c1(two_formula, *second):
                 return False
     return True
 

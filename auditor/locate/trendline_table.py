@@ -15,7 +15,6 @@ from dataclasses import dataclass, field
 
 from auditor.extract.intended import TOTAL_LABEL
 from auditor.extract.totals import continues_pattern, format_changes, summary_formula
-from auditor.formula.r1c1 import to_r1c1
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
 from auditor.locate.spec import RegressionSpec, overlaps
@@ -47,23 +46,6 @@ def _number(cell: Cell | None, stored: bool) -> float | None:
     if isinstance(value, bool) or not isinstance(value, int | float):
         return None
     return float(value)
-
-
-def _made_across(workbook: Workbook, cells: list[tuple[str, int]], col: int, after: int) -> bool:
-    """Column ``after`` is made like column ``col`` in every row: the rows-of-data counterpart of
-    :func:`continues_pattern` (typed under typed, or the same formula copied across)."""
-    for sheet_name, row in cells:
-        sheet = workbook.sheet(sheet_name)
-        if sheet is None:
-            return False
-        one, two = sheet.get(row, col), sheet.get(row, after)
-        first = one.formula if one is not None else None
-        second = two.formula if two is not None else None
-        if bool(first) != bool(second):
-            return False
-        if first and second and to_r1c1(first, row, col) != to_r1c1(second, row, after):
-            return False
-    return True
 
 
 def _extend(ref: Ref, across: bool, to: int) -> Ref:
@@ -153,11 +135,8 @@ def table_rest(workbook: Workbook, use: TrendlineUse, others: list[Ref]) -> Tabl
         values = [_number(cell, workbook.stored_values) for cell in cells]
         if values[0] is None or values[1] is None:
             break
-        made = (
-            _made_across(workbook, [(x.sheet, x.r1), (y.sheet, y.r1)], position, after)
-            if across
-            else continues_pattern(workbook, [(x.sheet, x.c1), (y.sheet, y.c1)], position, after)
-        )
+        ends = [(x.sheet, x.r1), (y.sheet, y.r1)] if across else [(x.sheet, x.c1), (y.sheet, y.c1)]
+        made = continues_pattern(workbook, ends, position, after, across)
         texts = {line: _text(sheet, line, after, across) for line in lines}
         if (
             not made
