@@ -11,7 +11,6 @@ import os
 import shutil
 import sys
 import time
-from importlib import resources
 from pathlib import Path
 
 from auditor import __version__
@@ -102,6 +101,8 @@ def cmd_audit(args: argparse.Namespace) -> int:
 
 
 def demo_workbooks() -> list[Path]:
+    from importlib import resources
+
     folder = resources.files("auditor.fixtures").joinpath("workbooks")
     return sorted(Path(str(p)) for p in folder.iterdir() if str(p).endswith(".xlsx"))
 

@@ -16,11 +16,14 @@ import math
 import re
 import sys
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from auditor.design.planner import PlanRequest, best, candidates, needed_sxx, reach_hint
 from auditor.errors import UsageError
-from auditor.policy import Policy, load_policy
+
+if TYPE_CHECKING:  # the planner (scipy's distributions) is imported when a plan is made, so
+    # that registering the command costs the other commands' start-up nothing
+    from auditor.design.planner import PlanRequest
+    from auditor.policy import Policy
 
 MAX_N = 100_000
 MAX_N_VALUES = 60
@@ -59,6 +62,8 @@ def _positive(name: str, value: float | None) -> None:
 
 def request_from_args(args: argparse.Namespace, policy: Policy) -> PlanRequest:
     """The plan's inputs: the options, filled in from --from WORKBOOK --regression ID."""
+    from auditor.design.planner import PlanRequest
+
     n_values = parse_n(args.n) if args.n else None
     low, high, sigma, origin = args.x_low, args.x_high, args.sd, ""
     if args.source:
@@ -151,6 +156,8 @@ def _x_text(x: list[float]) -> str:
 
 
 def render(request: PlanRequest, policy: Policy) -> str:
+    from auditor.design.planner import best, candidates, needed_sxx, reach_hint
+
     found = candidates(request, policy)
     power_pct = f"{100 * policy.get('power'):.0f} %"
     lines = [
@@ -211,6 +218,8 @@ def render(request: PlanRequest, policy: Policy) -> str:
 
 
 def as_json(request: PlanRequest, policy: Policy) -> dict[str, Any]:
+    from auditor.design.planner import best, candidates
+
     found = candidates(request, policy)
     pick = best(found)
     return {
@@ -283,6 +292,8 @@ def add_plan_parser(subparsers: Any) -> None:
 
 def run_plan(args: argparse.Namespace) -> int:
     """Print the plan; usage errors raise UsageError (exit 2 in the CLI)."""
+    from auditor.policy import load_policy
+
     policy = load_policy(args.policy)
     request = request_from_args(args, policy)
     if args.json:

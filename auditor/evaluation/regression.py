@@ -8,7 +8,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy import linalg
 
 from auditor.evaluation.coerce import _as_2d, _num, _numeric_view, _truthy
 from auditor.evaluation.operators import _lift
@@ -122,6 +121,8 @@ def _independent_columns(xc: np.ndarray) -> list[int]:
     nonzero = np.flatnonzero(norms > 0.0)
     if nonzero.size == 0:
         return []
+    from scipy import linalg  # here: a workbook without LINEST or TREND does not need it
+
     _, r, pivots = linalg.qr(xc[:, nonzero] / norms[nonzero], mode="economic", pivoting=True)
     diag = np.abs(np.diag(r))
     tolerance = diag[0] * max(xc.shape) * 1e-13
@@ -129,6 +130,8 @@ def _independent_columns(xc: np.ndarray) -> list[int]:
 
 
 def _least_squares(y: np.ndarray, x: np.ndarray, const: bool) -> _Fit:
+    from scipy import linalg  # here: a workbook without LINEST or TREND does not need it
+
     n, k = x.shape
     x_mean = x.mean(axis=0) if const else np.zeros(k)
     y_mean = float(y.mean()) if const else 0.0

@@ -193,10 +193,12 @@ def run_limited(
                 else:
                     result = outcome[0]
                 worker.index = worker.deadline = None
-                yield index, result
+                # The next file first, then the result: the worker audits while the caller
+                # records this one, instead of waiting for it.
                 if pending and worker in pool.workers:
                     following = pending.pop()
                     pool.give(worker, following, tasks[following])
+                yield index, result
     finally:
         pool.close()
 

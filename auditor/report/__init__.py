@@ -22,7 +22,7 @@ from typing import Any, BinaryIO, Protocol
 from auditor.errors import UsageError
 from auditor.model import AuditResult
 from auditor.report.common import AnnotatedCopy
-from auditor.report.output import atomic_output, refuse_inputs
+from auditor.report.output import ProtectedFiles, atomic_output, refuse_inputs
 
 
 class Reporter(Protocol):
@@ -94,7 +94,7 @@ def write_reports(
     if unknown:
         known = ", ".join(sorted(REPORTERS))
         raise UsageError(f"unknown report format {unknown[0]!r}; choose from {known}")
-    inputs = audited_files(result) | {Path(source) for source in input_paths}
+    inputs = ProtectedFiles(audited_files(result) | {Path(source) for source in input_paths})
     out_dir = Path(out_dir)
     chosen = [  # keeps order, drops repeats; the workbook lists the annotated copies
         _with_copies(REPORTERS[name], copies, detail, out_dir)

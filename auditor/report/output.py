@@ -30,25 +30,54 @@ from typing import Any, BinaryIO
 from auditor.errors import UsageError
 
 
-def _same_file(first: Path, second: Path) -> bool:
-    # Resolved paths catch "./a.xlsx" versus "a.xlsx" and symbolic links; samefile also catches
-    # hard links and case-insensitive file systems, but only works when both exist.
-    if first.resolve() == second.resolve():
-        return True
+class ProtectedFiles:
+    """The audited files a report must never overwrite, resolved once: a run's reports are each
+    checked against every input, hundreds of them in a batch.
+
+    A target is one of them when its resolved path is (catching "./a.xlsx" against "a.xlsx" and
+    symbolic links) or, both existing, it is the same file (``os.path.samefile``: hard links and
+    case-insensitive file systems too). The file named is the first input in the given order
+    that matches."""
+
+    def __init__(self, inputs: Iterable[Path | str]) -> None:
+        self.sources: list[Path | str] = []
+        self._by_path: dict[Path, int] = {}
+        self._by_file: dict[tuple[int, int], int] = {}
+        for index, source in enumerate(inputs):
+            self.sources.append(source)
+            self._by_path.setdefault(Path(source).resolve(), index)
+            identity = _file_identity(Path(source))
+            if identity is not None:
+                self._by_file.setdefault(identity, index)
+
+    def matching(self, target: Path) -> Path | str | None:
+        """The first input ``target`` is, or None."""
+        hits = [self._by_path.get(target.resolve())]
+        identity = _file_identity(target)
+        if identity is not None:
+            hits.append(self._by_file.get(identity))
+        found = [hit for hit in hits if hit is not None]
+        return self.sources[min(found)] if found else None
+
+
+def _file_identity(path: Path) -> tuple[int, int] | None:
+    """(device, inode) as ``os.path.samefile`` compares them, or None when ``path`` is missing."""
     try:
-        return os.path.samefile(first, second)
+        status = os.stat(path)
     except OSError:
-        return False
+        return None
+    return status.st_dev, status.st_ino
 
 
-def refuse_inputs(target: Path, inputs: Iterable[Path | str]) -> None:
+def refuse_inputs(target: Path, inputs: Iterable[Path | str] | ProtectedFiles) -> None:
     """Raise UsageError when ``target`` is one of the audited input files."""
-    for source in inputs:
-        if _same_file(target, Path(source)):
-            raise UsageError(
-                f"refusing to write the report {str(target)!r} over the audited file "
-                f"{str(source)!r}; choose another output folder with --out"
-            )
+    protected = inputs if isinstance(inputs, ProtectedFiles) else ProtectedFiles(inputs)
+    source = protected.matching(Path(target))
+    if source is not None:
+        raise UsageError(
+            f"refusing to write the report {str(target)!r} over the audited file "
+            f"{str(source)!r}; choose another output folder with --out"
+        )
 
 
 def _default_mode(target: Path) -> int:
@@ -154,7 +183,9 @@ def prepare_out_dir(out_dir: Path) -> None:
 
 
 @contextlib.contextmanager
-def atomic_output(target: Path, inputs: Iterable[Path | str] = ()) -> Iterator[BinaryIO]:
+def atomic_output(
+    target: Path, inputs: Iterable[Path | str] | ProtectedFiles = ()
+) -> Iterator[BinaryIO]:
     """Yield a binary handle whose content replaces ``target`` when the block ends without error.
 
     ``inputs`` are the audited files; writing onto one of them raises UsageError before anything

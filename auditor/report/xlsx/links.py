@@ -81,21 +81,36 @@ def plain_cell(cell: str) -> tuple[str, str]:
 
 
 _LINK_BASE: contextvars.ContextVar[Path | None] = contextvars.ContextVar("base", default=None)
+# The addresses made inside one link_base block, by workbook path: every regression of a
+# workbook links to the same file, and resolving its path asks the file system each time.
+_TARGETS: contextvars.ContextVar[dict[str, str] | None] = contextvars.ContextVar(
+    "targets", default=None
+)
 
 
 @contextlib.contextmanager
 def link_base(folder: Path | None) -> Iterator[None]:
     """Source links written inside the block are relative to ``folder`` (the report's folder)."""
     token = _LINK_BASE.set(None if folder is None else Path(folder).resolve())
+    targets = _TARGETS.set({})
     try:
         yield
     finally:
+        _TARGETS.reset(targets)
         _LINK_BASE.reset(token)
 
 
 def file_target(path: str) -> str:
     """The workbook's address: relative to the report's folder when known, else a file URI."""
-    base = _LINK_BASE.get()
+    made = _TARGETS.get()
+    if made is None:
+        return _file_target(path, _LINK_BASE.get())
+    if path not in made:
+        made[path] = _file_target(path, _LINK_BASE.get())
+    return made[path]
+
+
+def _file_target(path: str, base: Path | None) -> str:
     source = Path(path).resolve()
     if base is not None:
         try:
