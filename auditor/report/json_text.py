@@ -16,6 +16,8 @@ import math
 from json.encoder import encode_basestring  # C when available
 from typing import Any
 
+from auditor.report.common import finite_or_none, plain
+
 _INDENT = "  "
 
 
@@ -65,3 +67,48 @@ def indented_json(document: Any) -> str:
         return _text(document, "\n")
     except _NotPlain:
         return json.dumps(document, indent=2, sort_keys=False, allow_nan=False, ensure_ascii=False)
+
+
+def _plain_text(value: Any, newline: str) -> str:
+    """``_text(plain(value), newline)``, the two walks made one. The values of exactly the
+    built-in scalar types come first (plain leaves them as they are, but a non-finite number);
+    then plain's branches in plain's order, and a scalar it leaves is written by ``_text``."""
+    kind = type(value)
+    if kind is str:
+        text: str = encode_basestring(value)
+        return text
+    if kind is float:
+        return float.__repr__(value) if math.isfinite(value) else "null"
+    if kind is int:
+        return int.__repr__(value)
+    if value is None:
+        return "null"
+    if kind is bool:
+        return "true" if value else "false"
+    if isinstance(value, dict):
+        if any(type(key) is not str for key in value):
+            value = {str(key): item for key, item in value.items()}  # as plain: keys may merge
+        if not value:
+            return "{}"
+        inner = newline + _INDENT
+        items = [
+            encode_basestring(key) + ": " + _plain_text(item, inner) for key, item in value.items()
+        ]
+        return "{" + inner + ("," + inner).join(items) + newline + "}"
+    if isinstance(value, (list, tuple)):
+        if not value:
+            return "[]"
+        inner = newline + _INDENT
+        items = [_plain_text(item, inner) for item in value]
+        return "[" + inner + ("," + inner).join(items) + newline + "]"
+    if hasattr(value, "tolist") and not isinstance(value, (str, bytes)):
+        return _plain_text(value.tolist(), newline)
+    return _text(finite_or_none(value), newline)
+
+
+def plain_indented_json(document: Any) -> str:
+    """``indented_json(plain(document))``, in one walk over ``document``."""
+    try:
+        return _plain_text(document, "\n")
+    except _NotPlain:
+        return indented_json(plain(document))

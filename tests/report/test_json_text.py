@@ -7,11 +7,13 @@ import json
 import math
 import random
 
+import numpy as np
 import pytest
 from test_report_xlsx_support import fixture_audit
 
+from auditor.report.common import plain
 from auditor.report.json import audit_document
-from auditor.report.json_text import indented_json
+from auditor.report.json_text import indented_json, plain_indented_json
 
 
 def _reference(document: object) -> str:
@@ -70,3 +72,58 @@ def test_non_finite_numbers_and_unknown_values_are_refused_as_before() -> None:
         with pytest.raises((ValueError, TypeError)) as theirs:
             _reference(bad)
         assert type(ours.value) is type(theirs.value)
+
+
+class Label(str):
+    """A key whose str() is not its text (plain() writes the str())."""
+
+    def __str__(self) -> str:
+        return "label " + super().__str__()
+
+
+def _plain_reference(document: object) -> str:
+    return indented_json(plain(document))
+
+
+def test_one_walk_writes_what_plain_then_indented_json_write() -> None:
+    chooser = random.Random(15)
+
+    def value(depth: int) -> object:
+        kind = chooser.randrange(11 if depth < 4 else 7)
+        if kind == 0:
+            return chooser.choice([None, True, False, math.nan, -math.inf, math.inf])
+        if kind == 1:
+            return chooser.choice([np.float64(chooser.random()), np.int64(7), np.bool_(True)])
+        if kind == 2:
+            return chooser.uniform(-1e6, 1e6) * 10 ** chooser.randint(-300, 300)
+        if kind == 3:
+            return chooser.choice([np.float64(math.nan), chooser.randint(-(10**20), 10**20)])
+        if kind in (4, 5, 6):
+            return "".join(chooser.choice('ab"\\\n\té☃ ') for _ in range(chooser.randrange(6)))
+        if kind == 7:
+            return np.array([[1.5, math.nan], [2.0, 3.0]])[: chooser.randrange(3)]
+        if kind == 8:
+            return tuple(value(depth + 1) for _ in range(chooser.randrange(4)))
+        if kind == 9:
+            return [value(depth + 1) for _ in range(chooser.randrange(4))]
+        keys: list[object] = [f"k{i}" for i in range(chooser.randrange(4))]
+        if chooser.random() < 0.3:  # keys plain() turns into text, two of them into the same
+            keys += chooser.choice([[1, "1", 2.5, None], [Label("dark"), "label dark"]])
+        return {key: value(depth + 1) for key in keys}
+
+    for _ in range(400):
+        document = value(0)
+        assert plain_indented_json(document) == _plain_reference(document)
+
+
+def test_one_walk_writes_the_fixture_audit_the_same() -> None:
+    document = fixture_audit().to_dict()
+    assert plain_indented_json(document) == _plain_reference(document)
+
+
+def test_one_walk_refuses_unknown_values_as_before() -> None:
+    for bad in ({"v": object()}, [1, {2: {1, 2}}]):
+        with pytest.raises(TypeError):
+            plain_indented_json(bad)
+        with pytest.raises(TypeError):
+            _plain_reference(bad)
