@@ -14,7 +14,6 @@ allocation beyond it raises ``MemoryError`` in that worker instead of exhausting
 
 from __future__ import annotations
 
-import multiprocessing
 import os
 import signal
 import sys
@@ -22,8 +21,10 @@ import threading
 import time
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
-from multiprocessing.connection import Connection, wait
-from typing import Any, Generic, TypeVar
+from typing import TYPE_CHECKING, Any, Generic, TypeVar
+
+if TYPE_CHECKING:  # multiprocessing is imported when a pool starts: one file needs none
+    from multiprocessing.connection import Connection
 
 T = TypeVar("T")
 R = TypeVar("R")
@@ -168,6 +169,8 @@ def run_limited(
     ``on_failure(task, Failure)``. ``fn`` must be picklable (a module-level function)."""
     if not tasks:
         return
+    from multiprocessing.connection import wait
+
     pool: _Pool[T, R] = _Pool(fn, max(1, min(jobs, len(tasks))), limits, context or _context())
     pending = list(range(len(tasks)))[::-1]  # popped from the end: input order
     try:
@@ -257,6 +260,8 @@ def _context() -> Any:
     """fork starts a worker in milliseconds with regaudit already imported. Forking a process
     that runs other threads can deadlock the child (Python 3.12 warns of it), so then a fork
     server, which is itself single-threaded, forks the workers; spawn where neither exists."""
+    import multiprocessing
+
     methods = multiprocessing.get_all_start_methods()
     if "fork" in methods and (sys.version_info < (3, 12) or _os_threads() == 1):
         return multiprocessing.get_context("fork")
