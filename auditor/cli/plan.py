@@ -19,11 +19,10 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from auditor.errors import UsageError
+from auditor.policy import Policy, load_policy
 
-if TYPE_CHECKING:  # the planner (scipy's distributions) is imported when a plan is made, so
-    # that registering the command costs the other commands' start-up nothing
+if TYPE_CHECKING:  # the planner (scipy) is imported when a plan is made, not at start-up
     from auditor.design.planner import PlanRequest
-    from auditor.policy import Policy
 
 MAX_N = 100_000
 MAX_N_VALUES = 60
@@ -292,8 +291,6 @@ def add_plan_parser(subparsers: Any) -> None:
 
 def run_plan(args: argparse.Namespace) -> int:
     """Print the plan; usage errors raise UsageError (exit 2 in the CLI)."""
-    from auditor.policy import load_policy
-
     policy = load_policy(args.policy)
     request = request_from_args(args, policy)
     if args.json:
