@@ -112,7 +112,6 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
     from auditor.read.open import assert_safe_xml
     from auditor.report import write_reports
     from auditor.report.output import prepare_out_dir, staged_outputs
-    from auditor.review.baseline import apply_baseline, describe_outcome, load_baseline
     from auditor.review.identity import assign_identities, audit_root
     from auditor.review.waivers import apply_waivers, default_waiver_file, load_waivers
 
@@ -136,7 +135,11 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
     root = audit_root(inputs)
     waiver_path = Path(options.waivers_file) if options.waivers_file else default_waiver_file(root)
     waivers = load_waivers(waiver_path, required=options.waivers_file is not None)
-    baseline = load_baseline(Path(options.baseline_file)) if options.baseline_file else None
+    baseline = None
+    if options.baseline_file:
+        from auditor.review.baseline import load_baseline
+
+        baseline = load_baseline(Path(options.baseline_file))
     if options.cluster:
         from auditor.pipeline.cluster import audit_on_cluster
 
@@ -173,6 +176,8 @@ def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = Non
             file=sys.stderr,
         )
     if baseline is not None:
+        from auditor.review.baseline import apply_baseline, describe_outcome
+
         outcome = apply_baseline(result, baseline, root)
         result = outcome.result
         for line in describe_outcome(outcome):

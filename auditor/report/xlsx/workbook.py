@@ -27,7 +27,6 @@ from xlsxwriter import Workbook
 from auditor.model import AuditResult
 from auditor.report.common import AnnotatedCopy
 from auditor.report.xlsx.calibration import curves_sheet
-from auditor.report.xlsx.detail import detail_sheet
 from auditor.report.xlsx.links import detail_refs, link_base
 from auditor.report.xlsx.overview import overview_sheet
 from auditor.report.xlsx.style import Styles
@@ -93,8 +92,11 @@ class XlsxReporter:
         regressions_sheet(book, result, styles, refs)
         findings_sheet(book, result, styles, detailed)
         curves_sheet(book, result, styles, refs)  # only when some curve is a calibration
-        for ref in detailed:
-            detail_sheet(book, styles, ref)
+        if detailed:  # charts, live formulas, data snapshots: imported when a sheet needs them
+            from auditor.report.xlsx.detail import detail_sheet
+
+            for ref in detailed:
+                detail_sheet(book, styles, ref)
         book.close()
 
 
