@@ -14,6 +14,7 @@ allocation beyond it raises ``MemoryError`` in that worker instead of exhausting
 
 from __future__ import annotations
 
+import gc
 import os
 import signal
 import sys
@@ -173,6 +174,10 @@ def run_limited(
 
     pool: _Pool[T, R] = _Pool(fn, max(1, min(jobs, len(tasks))), limits, context or _context())
     pending = list(range(len(tasks)))[::-1]  # popped from the end: input order
+    # What the workers inherit (every imported module's objects) is frozen before they fork, as
+    # the gc module advises for a process that forks without exec: a worker's full collections
+    # then leave those objects, and the memory pages they share with this process, alone.
+    gc.freeze()
     try:
         for _ in range(pool.jobs):
             first = pending.pop()
@@ -204,6 +209,7 @@ def run_limited(
                 yield index, result
     finally:
         pool.close()
+        gc.unfreeze()
 
 
 def _outcome(worker: _Worker, ready: list[Any], limits: FileLimits) -> tuple[Any] | Failure | None:

@@ -74,3 +74,18 @@ def test_a_stuck_file_does_not_hold_up_real_audits() -> None:
 
 def test_default_jobs_is_the_cores_this_process_may_use() -> None:
     assert default_jobs() == len(os.sched_getaffinity(0))
+
+
+def frozen_in_worker(_task: int) -> int:
+    import gc
+
+    return gc.get_freeze_count()
+
+
+def test_workers_inherit_a_frozen_heap_and_the_parent_gets_its_own_back() -> None:
+    import gc
+
+    before = gc.get_freeze_count()
+    seen = dict(run_limited(frozen_in_worker, [0, 1, 2], 2, FileLimits(), failed))
+    assert all(count > 1000 for count in seen.values())  # the imported modules' objects, at least
+    assert gc.get_freeze_count() == before
