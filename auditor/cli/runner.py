@@ -3,6 +3,7 @@ on a cluster), identities, waivers and a baseline applied, reports written."""
 
 from __future__ import annotations
 
+import contextlib
 import os
 import sys
 import tomllib
@@ -106,6 +107,19 @@ def _points_read(options: RunOptions) -> str:
 
 def run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None = None) -> AuditResult:
     """Audit ``inputs`` as ``options`` say; write the reports into ``out_dir``."""
+    from auditor.pipeline import collector
+
+    with contextlib.ExitStack() as run:
+        with collector.paused():  # the audit's modules, at once (see pipeline.collector)
+            import auditor.checks
+            import auditor.pipeline.audit
+            import auditor.pipeline.batch  # noqa: F401
+
+            run.enter_context(collector.frozen())  # before any collection walks them
+        return _run_audit(inputs, out_dir, options)
+
+
+def _run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None) -> AuditResult:
     from auditor.checks import catalogue
     from auditor.pipeline.inputs import scan_inputs
     from auditor.policy import load_policy

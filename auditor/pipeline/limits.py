@@ -14,7 +14,6 @@ allocation beyond it raises ``MemoryError`` in that worker instead of exhausting
 
 from __future__ import annotations
 
-import gc
 import os
 import signal
 import sys
@@ -23,6 +22,8 @@ import time
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Generic, TypeVar
+
+from auditor.pipeline.collector import frozen
 
 if TYPE_CHECKING:  # multiprocessing is imported when a pool starts: one file needs none
     from multiprocessing.connection import Connection
@@ -177,39 +178,39 @@ def run_limited(
     # What the workers inherit (every imported module's objects) is frozen before they fork, as
     # the gc module advises for a process that forks without exec: a worker's full collections
     # then leave those objects, and the memory pages they share with this process, alone.
-    gc.freeze()
-    try:
-        for _ in range(pool.jobs):
-            first = pending.pop()
-            pool.give(pool.start(), first, tasks[first])
-        while any(w.index is not None for w in pool.workers):
-            deadlines = [w.deadline for w in pool.workers if w.deadline is not None]
-            timeout = max(0.0, min(deadlines) - time.monotonic()) if deadlines else None
-            handles = [w.conn for w in pool.workers] + [w.process.sentinel for w in pool.workers]
-            ready = wait(handles, timeout)
-            for worker in list(pool.workers):
-                outcome = _outcome(worker, ready, limits)
-                if outcome is None or worker.index is None:
-                    continue
-                index = worker.index
-                if isinstance(outcome, Failure):
-                    result = on_failure(tasks[index], outcome)
-                    if outcome.kind != "memory":  # after a MemoryError the worker is still usable
-                        pool.retire(worker)
-                        if pending:
-                            worker = pool.start()
-                else:
-                    result = outcome[0]
-                worker.index = worker.deadline = None
-                # The next file first, then the result: the worker audits while the caller
-                # records this one, instead of waiting for it.
-                if pending and worker in pool.workers:
-                    following = pending.pop()
-                    pool.give(worker, following, tasks[following])
-                yield index, result
-    finally:
-        pool.close()
-        gc.unfreeze()
+    with frozen():
+        try:
+            for _ in range(pool.jobs):
+                first = pending.pop()
+                pool.give(pool.start(), first, tasks[first])
+            while any(w.index is not None for w in pool.workers):
+                deadlines = [w.deadline for w in pool.workers if w.deadline is not None]
+                timeout = max(0.0, min(deadlines) - time.monotonic()) if deadlines else None
+                handles: list[Any] = [w.conn for w in pool.workers]
+                handles += [w.process.sentinel for w in pool.workers]
+                ready = wait(handles, timeout)
+                for worker in list(pool.workers):
+                    outcome = _outcome(worker, ready, limits)
+                    if outcome is None or worker.index is None:
+                        continue
+                    index = worker.index
+                    if isinstance(outcome, Failure):
+                        result = on_failure(tasks[index], outcome)
+                        if outcome.kind != "memory":  # a MemoryError leaves the worker usable
+                            pool.retire(worker)
+                            if pending:
+                                worker = pool.start()
+                    else:
+                        result = outcome[0]
+                    worker.index = worker.deadline = None
+                    # The next file first, then the result: the worker audits while the caller
+                    # records this one, instead of waiting for it.
+                    if pending and worker in pool.workers:
+                        following = pending.pop()
+                        pool.give(worker, following, tasks[following])
+                    yield index, result
+        finally:
+            pool.close()
 
 
 def _outcome(worker: _Worker, ready: list[Any], limits: FileLimits) -> tuple[Any] | Failure | None:
