@@ -7,8 +7,13 @@ the context (no cache outside it).
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
+from operator import attrgetter
 from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
 
 from auditor.design.inputs import DesignInputs
 from auditor.design.metrics import DesignMetrics, compute_design
@@ -17,9 +22,30 @@ from auditor.extract.record import Extracted
 from auditor.fit.ols import FitResult
 from auditor.formula.syntax import Node
 from auditor.locate.spec import RegressionSpec
-from auditor.model import RegressionResult, ReportedValue
+from auditor.model import DataPoint, RegressionResult, ReportedValue
 from auditor.policy import Policy
 from auditor.read.workbook import Workbook
+
+
+@dataclass(frozen=True)
+class PointRows:
+    """The row of each data point (its column in a table laid out in rows) and whether the
+    intended fit uses it, as arrays in the order of the points: one walk over the points,
+    shared by the design metrics and the checks that look for rows left out or taken in."""
+
+    rows: NDArray[np.int64]
+    used: NDArray[np.bool_]
+
+    @classmethod
+    def of(cls, points: Sequence[DataPoint]) -> PointRows:
+        count = len(points)
+        rows = np.fromiter(map(attrgetter("row"), points), dtype=np.int64, count=count)
+        used = np.fromiter(map(attrgetter("used"), points), dtype=np.bool_, count=count)
+        return cls(rows, used)
+
+    def used_rows(self) -> list[int]:
+        """The rows of the used points, in order (as ``[p.row for p in points if p.used]``)."""
+        return self.rows[self.used].tolist()  # type: ignore[no-any-return]
 
 
 @dataclass
@@ -35,12 +61,25 @@ class RegressionContext:
     design_inputs: DesignInputs | None = None  # claim text, stated working range, predictions
     design: DesignMetrics | None = None  # set by design_metrics(), once
     calibration: Any = None  # CalibrationInputs (auditor.design.calibration) for a calibration
+    rows: PointRows | None = None  # set by point_rows(), once
 
     def design_metrics(self) -> DesignMetrics:
         """The design metrics of this regression, computed on first use and kept."""
         if self.design is None:
-            self.design = compute_design(self.data, self.fit, self.policy, self.design_inputs)
+            self.design = compute_design(
+                self.data,
+                self.fit,
+                self.policy,
+                self.design_inputs,
+                used_rows=self.point_rows().used_rows(),
+            )
         return self.design
+
+    def point_rows(self) -> PointRows:
+        """The points' rows and use as arrays, made on first use and kept."""
+        if self.rows is None:
+            self.rows = PointRows.of(self.data.points)
+        return self.rows
 
 
 @dataclass

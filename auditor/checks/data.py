@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import numpy as np
+
 from auditor.checks.base import check
 from auditor.context import RegressionContext
 from auditor.diagnose.fixes import intended_ranges
 from auditor.grid import column_letter
-from auditor.model import Finding, Severity
+from auditor.model import DataPoint, Finding, Severity
 from auditor.wording import point_word, rows_text
 
 
@@ -17,6 +19,23 @@ def _severity(context: RegressionContext) -> Severity:
     return "minor"
 
 
+def left_out(context: RegressionContext) -> list[DataPoint]:
+    """The used points of the table outside both ranges the formulas use, in order. A row
+    inside one of the two ranges is not left out by a short range: a y range moved a row
+    against x reads it on one side (xy-rows-misaligned says so)."""
+    spec = context.spec
+    spans = [(r.c1, r.c2) if spec.in_rows else (r.r1, r.r2) for r in (spec.x, spec.y)]
+    index, points = context.point_rows(), context.data.points
+    inside = np.zeros(index.rows.shape, dtype=np.bool_)
+    for first, last in spans:
+        inside |= (index.rows >= first) & (index.rows <= last)
+    return [
+        points[i]
+        for i in np.flatnonzero(index.used & ~inside).tolist()
+        if "outside the formula" in points[i].reason
+    ]
+
+
 @check("rows-outside-range", "Data rows of the table lie outside the range the formulas use.")
 def rows_outside_range(context: RegressionContext) -> list[Finding]:
     """Rows added below (or above) a fixed range are silently left out of the fit.
@@ -25,17 +44,8 @@ def rows_outside_range(context: RegressionContext) -> list[Finding]:
     Passing: the range covers every data row of the table.
     """
     spec = context.spec
-    # A row inside one of the two ranges is not left out by a short range: a y range moved a
-    # row against x reads it on one side (xy-rows-misaligned says so).
     across = spec.in_rows  # a table in rows: each point is a column
-    spans = [(r.c1, r.c2) if across else (r.r1, r.r2) for r in (spec.x, spec.y)]
-    outside = [
-        p
-        for p in context.data.points
-        if p.used
-        and "outside the formula" in p.reason
-        and not any(r1 <= p.row <= r2 for r1, r2 in spans)
-    ]
+    outside = left_out(context)
     if not outside:
         return []
     rows = [p.row for p in outside]

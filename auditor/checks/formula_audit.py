@@ -9,6 +9,9 @@ there. Severity follows the reported values the fault reaches (:mod:`formula_sup
 from __future__ import annotations
 
 from dataclasses import dataclass
+from itertools import chain
+
+import numpy as np
 
 from auditor.checks.base import check
 from auditor.checks.formula_support import (
@@ -21,7 +24,7 @@ from auditor.checks.formula_support import (
 from auditor.context import RegressionContext
 from auditor.formula.syntax import Binary, Call, Node, Number, Ref, Unary
 from auditor.grid import column_letter
-from auditor.model import Finding, stat_base
+from auditor.model import DataPoint, Finding, stat_base
 from auditor.wording import fmt, rows_text
 
 # Which argument of each distribution function is the residual degrees of freedom (0-based).
@@ -187,6 +190,35 @@ def _cut(ref: Ref, first: int, last: int) -> str:
     )
 
 
+@dataclass(frozen=True)
+class OffTable:
+    """Where a regression's data table is, and the rows its ranges take in beyond it."""
+
+    first: int  # the table's first row (its used points and total rows)
+    last: int
+    outside: list[int]  # rows of both ranges off the table that no used point holds, in order
+    by_row: dict[int, DataPoint]  # the points off the table, by row
+
+
+def off_table(context: RegressionContext) -> OffTable | None:
+    """The table's rows and the rows the ranges take in beyond it; None when there is no table
+    or x and y are on different sheets. Rows past the sheet's last used row are not in the
+    table's points: they are blank."""
+    spec, data = context.spec, context.data
+    index = context.point_rows()
+    table = index.rows[index.used | np.isin(index.rows, data.total_rows)]
+    if not table.size or spec.x.sheet.lower() != spec.y.sheet.lower():
+        return None
+    first, last = int(table.min()), int(table.max())
+    # Only the points off the table are asked for by row (every used point is on it).
+    beyond = np.flatnonzero((index.rows < first) | (index.rows > last)).tolist()
+    by_row = {data.points[i].row: data.points[i] for i in beyond}
+    low, high = max(spec.x.r1, spec.y.r1), min(spec.x.r2, spec.y.r2)
+    before, after = range(low, min(high, first - 1) + 1), range(max(low, last + 1), high + 1)
+    outside = [r for r in chain(before, after) if r not in by_row or not by_row[r].used]
+    return OffTable(first, last, outside, by_row)
+
+
 @check(
     "range-beyond-table",
     "A range runs past the data table into blank or text rows, or takes whole columns.",
@@ -199,20 +231,12 @@ def range_beyond_table(context: RegressionContext) -> list[Finding]:
     ``=SLOPE(B:B,A:A)`` (the header row and everything below the table).
     Passing: ``=SLOPE(B4:B17,A4:A17)``; a total row inside the range is total-row-in-range's.
     """
-    spec, data = context.spec, context.data
-    table = [p.row for p in data.points if p.used or p.row in data.total_rows]
-    if not table or spec.x.sheet.lower() != spec.y.sheet.lower():
+    spec = context.spec
+    table = off_table(context)
+    if table is None:
         return []
-    first, last = min(table), max(table)
-    by_row = {p.row: p for p in data.points}
-    ranges = [spec.x, spec.y]
-    whole = any(r.whole_column for r in ranges)
-    # Rows past the sheet's last used row are not in the table's points: they are blank.
-    outside = [
-        r
-        for r in range(max(spec.x.r1, spec.y.r1), min(spec.x.r2, spec.y.r2) + 1)
-        if (r < first or r > last) and (r not in by_row or not by_row[r].used)
-    ]
+    first, last, outside, by_row = table.first, table.last, table.outside, table.by_row
+    whole = any(r.whole_column for r in (spec.x, spec.y))
     if spec.found_by == "hand-built":
         # A covariance over a variance: rows with an x but a text y are in the variance, not
         # skipped; diagnosed as rows-differ where they change the slope.
@@ -220,7 +244,8 @@ def range_beyond_table(context: RegressionContext) -> list[Finding]:
     if not outside and not whole:
         return []
     blank = [r for r in outside if r not in by_row or by_row[r].reason == "empty"]
-    text = [r for r in outside if r not in blank]
+    blank_rows = set(blank)
+    text = [r for r in outside if r not in blank_rows]
     uses = [u for u in spec.uses if u.x == spec.x and u.y == spec.y] or spec.uses
     cells = list(dict.fromkeys(u.cell.address for u in uses))
     reached = [c for cell in cells for c in reached_cells(spec, cell)]

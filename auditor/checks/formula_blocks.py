@@ -19,7 +19,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from functools import cached_property
+from functools import cached_property, partial
 
 from auditor.formula.operands import Corner, Reference
 from auditor.formula.r1c1 import canonical, rewrite_references
@@ -55,6 +55,11 @@ class Block:
         return min(x.r1, y.r1), min(x.c1, y.c1), max(x.r2, y.r2), max(x.c2, y.c2)
 
     title: str = ""  # the block's own title where it is unique in the workbook, else its place
+    # Each reference's frame and target, found once: the sibling check reads a member's
+    # references for both frame forms, its links into siblings and its anchors.
+    placed: dict[tuple[Reference, str], tuple[str, Ref | None]] = field(
+        default_factory=dict, repr=False, compare=False
+    )
 
     @property
     def name(self) -> str:
@@ -143,16 +148,26 @@ def resolve(ref: Reference, block: Block, cell_sheet: str) -> Ref | None:
     return Ref(sheet, r1, c1, r2, c2)
 
 
-def _frame_of(ref: Reference, block: Block, cell_sheet: str) -> str:
+def placed(ref: Reference, block: Block, cell_sheet: str) -> tuple[str, Ref | None]:
+    """The frame a reference is read in ('data', 'block' or 'other', see the module doc) and
+    the grid block it names (:func:`resolve`), kept on the block after the first time."""
+    key = (ref, cell_sheet)
+    found = block.placed.get(key)
+    if found is None:
+        target = resolve(ref, block, cell_sheet)
+        if target is None:
+            frame = "other"
+        elif block.owns_data(target.sheet, target.r1, target.c1, target.r2, target.c2):
+            frame = "data"
+        else:
+            frame = "block" if target.sheet.lower() == block.sheet.lower() else "other"
+        found = block.placed[key] = (frame, target)
+    return found
+
+
+def frame_of(ref: Reference, block: Block, cell_sheet: str) -> str:
     """'data', 'block' or 'other': which frame a reference is read in (see the module doc)."""
-    target = resolve(ref, block, cell_sheet)
-    if target is None:
-        return "other"
-    if block.owns_data(target.sheet, target.r1, target.c1, target.r2, target.c2):
-        return "data"
-    if target.sheet.lower() == block.sheet.lower():
-        return "block"
-    return "other"
+    return placed(ref, block, cell_sheet)[0]
 
 
 def _corner_form(corner: Corner, origin: tuple[int, int], tag: str) -> str:
@@ -173,10 +188,9 @@ def frame_text(ref: Reference, block: Block, cell_sheet: str, coarse: bool = Fal
     """One reference in frame form; ``coarse`` writes every reference into the block's own data
     as ``{data}``, so that two forms compare equal when they differ only in which of its own
     rows a formula reads (a range fault of the regression, not of the copy)."""
-    frame = _frame_of(ref, block, cell_sheet)
+    frame, target = placed(ref, block, cell_sheet)
     fr1, fc1, fr2, _ = block.data_box
     if frame == "data":
-        target = resolve(ref, block, cell_sheet)
         if coarse:
             return "{data}"
         if target is not None and _is(target, block.spec.x):
@@ -191,7 +205,7 @@ def frame_text(ref: Reference, block: Block, cell_sheet: str, coarse: bool = Fal
         end = "" if ref.end is None else ":" + _corner_form(ref.end, block.top, "r")
         return "{block " + start + end + "}"
     plain = Reference(ref.prefix or f"'{cell_sheet}'!", _bare(ref.start), _bare_opt(ref.end))
-    return _a1(plain).upper()
+    return a1_as_written(plain).upper()
 
 
 def _bare(corner: Corner) -> Corner:
@@ -202,7 +216,9 @@ def _bare_opt(corner: Corner | None) -> Corner | None:
     return None if corner is None else _bare(corner)
 
 
-def _a1(ref: Reference) -> str:
+def a1_as_written(ref: Reference) -> str:
+    """A reference in A1 with its prefix and ``$`` signs."""
+
     def one(c: Corner) -> str:
         col = "" if c.col is None else ("$" if c.col_absolute else "") + column_letter(c.col)
         row = "" if c.row is None else ("$" if c.row_absolute else "") + str(c.row)
@@ -223,75 +239,23 @@ def frame_form(
 ) -> str:
     """The formula with spelling normalised, defined names replaced by what they refer to, and
     each reference in its frame (module doc)."""
-    return rewrite_references(
-        canonical(formula),
-        lambda ref: frame_text(ref, block, cell_sheet, coarse),
-        expand=lambda operand: names(operand, cell_sheet),
-    )
+    return frame_forms(formula, block, cell_sheet, names, (coarse,))[0]
 
 
-def frame_of(ref: Reference, block: Block, cell_sheet: str) -> str:
-    return _frame_of(ref, block, cell_sheet)
-
-
-def _quoted(sheet: str) -> str:
-    plain = sheet.replace("_", "").isalnum() and not sheet[0].isdigit()
-    return sheet if plain else "'" + sheet.replace("'", "''") + "'"
-
-
-def translate(formula: str, source: Block, cell_sheet: str, target: Block) -> str:
-    """A sibling's formula rewritten for ``target``: its data and its own block's cells."""
-    sr1, sc1, sr2, _ = source.data_box
-    tr1, tc1, tr2, _ = target.data_box
-
-    def move(ref: Reference) -> str | None:
-        frame = _frame_of(ref, source, cell_sheet)
-        if frame == "other":
-            return None
-        if frame == "data":
-            prefix = ""
-            if ref.prefix or target.data_sheet.lower() != target.sheet.lower():
-                prefix = _quoted(target.data_sheet) + "!"
-            start_rows, end_rows, cols = tr1 - sr1, tr2 - sr2, tc1 - sc1
-        else:
-            prefix = "" if not ref.prefix else _quoted(target.sheet) + "!"
-            start_rows = end_rows = target.top[0] - source.top[0]
-            cols = target.top[1] - source.top[1]
-
-        def shift(c: Corner, rows: int) -> Corner:
-            row = None if c.row is None else c.row + rows
-            col = None if c.col is None else c.col + cols
-            return Corner(row, col, c.row_absolute, c.col_absolute)
-
-        end = None if ref.end is None else shift(ref.end, end_rows)
-        return _a1(Reference(prefix, shift(ref.start, start_rows), end))
-
-    return rewrite_references(formula, move)
-
-
-def repoint(formula: str, cell_sheet: str, wrong: Block, right: Block) -> str:
-    """The formula with each reference into ``wrong``'s data moved onto ``right``'s data."""
-    wr1, wc1, wr2, _ = wrong.data_box
-    rr1, rc1, rr2, _ = right.data_box
-
-    def move(ref: Reference) -> str | None:
-        target = resolve(ref, wrong, cell_sheet)
-        if target is None or not wrong.owns_data(
-            target.sheet, target.r1, target.c1, target.r2, target.c2
-        ):
-            return None
-        prefix = ref.prefix
-        if prefix or right.data_sheet.lower() != cell_sheet.lower():
-            prefix = _quoted(right.data_sheet) + "!"
-            if right.data_sheet.lower() == cell_sheet.lower():
-                prefix = ""
-
-        def shift(c: Corner, rows: int) -> Corner:
-            row = None if c.row is None else c.row + rows
-            col = None if c.col is None else c.col + rc1 - wc1
-            return Corner(row, col, c.row_absolute, c.col_absolute)
-
-        end = None if ref.end is None else shift(ref.end, rr2 - wr2)
-        return _a1(Reference(prefix, shift(ref.start, rr1 - wr1), end))
-
-    return rewrite_references(formula, move)
+def frame_forms(
+    formula: str,
+    block: Block,
+    cell_sheet: str,
+    names: Names = no_names,
+    coarse: tuple[bool, ...] = (False, True),
+) -> list[str]:
+    """:func:`frame_form` for each of ``coarse``, the spelling normalised once."""
+    text = canonical(formula)
+    return [
+        rewrite_references(
+            text,
+            partial(frame_text, block=block, cell_sheet=cell_sheet, coarse=each),
+            expand=lambda operand: names(operand, cell_sheet),
+        )
+        for each in coarse
+    ]

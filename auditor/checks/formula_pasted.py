@@ -13,7 +13,8 @@ from __future__ import annotations
 
 from auditor.checks.agreement_words import describe
 from auditor.checks.base import check
-from auditor.checks.formula_blocks import Block, blocks_of, sibling_groups, translate
+from auditor.checks.block_moves import translate
+from auditor.checks.formula_blocks import Block, blocks_of, sibling_groups
 from auditor.checks.formula_support import local_text, reached_cells, severity_in_result
 from auditor.context import WorkbookContext
 from auditor.model import Finding, ReportedValue, Severity, stat_base

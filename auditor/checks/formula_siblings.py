@@ -17,18 +17,17 @@ from collections import Counter
 from dataclasses import dataclass
 
 from auditor.checks.base import check
+from auditor.checks.block_moves import repoint, translate
 from auditor.checks.formula_blocks import (
     Block,
     Names,
     Position,
     blocks_of,
-    frame_form,
+    frame_forms,
     frame_of,
     no_names,
-    repoint,
-    resolve,
+    placed,
     sibling_groups,
-    translate,
 )
 from auditor.checks.formula_equivalence import computes_the_same
 from auditor.checks.formula_support import reached_cells, severity_in_result
@@ -77,8 +76,7 @@ def _members(group: list[Block], covered: set[str], names: Names) -> dict[Positi
             if not formula or stat.cell.address in covered:
                 continue
             try:
-                form = frame_form(formula, block, stat.cell.sheet, names=names)
-                coarse = frame_form(formula, block, stat.cell.sheet, coarse=True, names=names)
+                form, coarse = frame_forms(formula, block, stat.cell.sheet, names)
             except FormulaError:
                 continue
             cell = stat.cell
@@ -138,7 +136,7 @@ def _points_back(member: Member, owners: _Owners) -> tuple[Reference, Block] | N
     """The first reference of the member's formula into another sibling's data or results."""
     own = member.block
     for ref in member.references():
-        target = resolve(ref, own, member.sheet)
+        target = placed(ref, own, member.sheet)[1]
         if target is None:
             continue
         box = (target.sheet, target.r1, target.c1, target.r2, target.c2)

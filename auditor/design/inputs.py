@@ -35,6 +35,7 @@ from auditor.read.workbook import Cell, Workbook
 WINDOW_ROWS = (6, 14)  # rows above the result block, rows below it
 WINDOW_COLS = (6, 8)
 MAX_PREDICTIONS = 10_000  # a whole column of fitted values is read, not a million rows
+_PREDICTING = ("FORECAST", "FORECAST.LINEAR", "TREND")  # the calls that predict from a line
 
 _MATTERS = re.compile(
     r"(slope|effect|change|difference)\s+(that\s+matters|of\s+interest|to\s+detect)|"
@@ -46,6 +47,14 @@ _WORKING_RANGE = re.compile(
     r"(working|calibrat\w*|reporting|measuring)\s+range|range\s+of\s+use", re.I
 )
 _RANGE_TEXT = re.compile(r"^\s*(-?[\d.,]+)\s*(?:-|–|—|to|\.\.)\s*(-?[\d.,]+)")
+
+
+def _may_predict(node: Node) -> bool:
+    """Whether a sub-formula has a shape :meth:`DesignInputReader._predictions_in` reads: a
+    FORECAST or TREND call, a product or a quotient."""
+    if isinstance(node, Call):
+        return node.name in _PREDICTING
+    return isinstance(node, Binary) and node.op in ("*", "/")
 
 
 @dataclass(frozen=True)
@@ -100,7 +109,7 @@ class DesignInputReader:
                 except FormulaError:
                     continue  # reported by the formula checks; nothing to predict from here
         self.parsed = parsed
-        self._shape_cache: dict[tuple[str, int, int], list[Node]] = {}
+        self._candidates: list[tuple[tuple[str, int, int], Node, list[Node]]] | None = None
 
     def read(self, spec: RegressionSpec) -> DesignInputs:
         inputs = DesignInputs()
@@ -201,13 +210,11 @@ class DesignInputReader:
         own = {cell_key(s.cell) for s in spec.stats.values()} | {
             cell_key(u.cell) for u in spec.uses
         }
-        for key, node in self.parsed.items():
+        for key, node, shapes in self._prediction_cells():
             if (key[0].lower(), key[1], key[2]) in own:
                 continue
             found = list(
-                self._predictions_in(
-                    node, key[0], spec, slope_cells, intercept_cells, self._shapes(key, node)
-                )
+                self._predictions_in(node, key[0], spec, slope_cells, intercept_cells, shapes)
             )
             if not found:
                 continue
@@ -216,18 +223,17 @@ class DesignInputReader:
             for x, how in found:
                 yield Prediction(address, x, how, shown, reads)
 
-    def _shapes(self, key: tuple[str, int, int], node: Node) -> list[Node]:
-        """The sub-formulas a prediction can be (calls, products, quotients), found once per
-        cell rather than once per regression: long formulas (LET) cost a walk each."""
-        found = self._shape_cache.get(key)
-        if found is None:
-            found = [
-                sub
-                for sub in walk(node)
-                if isinstance(sub, Call) or (isinstance(sub, Binary) and sub.op in ("*", "/"))
-            ]
-            self._shape_cache[key] = found
-        return found
+    def _prediction_cells(self) -> list[tuple[tuple[str, int, int], Node, list[Node]]]:
+        """The formula cells holding a sub-formula a prediction can be, each with those
+        sub-formulas, in the order of ``parsed``: found once per workbook, not once per
+        regression (most formulas, a SLOPE or an RSQ, hold none; long ones cost a walk each)."""
+        if self._candidates is None:
+            self._candidates = []
+            for key, node in self.parsed.items():
+                shapes = [sub for sub in walk(node) if _may_predict(sub)]
+                if shapes:
+                    self._candidates.append((key, node, shapes))
+        return self._candidates
 
     def _bare_call(
         self, key: tuple[str, int, int], node: Node

@@ -42,7 +42,9 @@ def level_groups(x: ArrayLike) -> dict[float, list[int]]:
     return groups
 
 
-def designed_replicates(x: ArrayLike) -> bool:
+def designed_replicates(
+    x: ArrayLike, counted: tuple[NDArray[np.float64], NDArray[np.int64]] | None = None
+) -> bool:
     """Whether repeated x levels look planned rather than coincidental ties.
 
     Replicates are a design when at least half of the levels are repeated, about equally often
@@ -51,9 +53,11 @@ def designed_replicates(x: ArrayLike) -> bool:
     replicates). Values rounded to a grid tie too, but unevenly (a bell of counts). A single
     repeated row among 8 levels, or the ties of rounded daily returns (12 % of 17,000 levels
     repeated), are coincidences: their "pure error" says nothing about the line, so no
-    lack-of-fit test is made on them.
+    lack-of-fit test is made on them. ``counted``: what :func:`level_counts` gave for x, when
+    the caller has it already.
     """
-    counted = level_counts(x)  # one sort; level_groups only for x with a NaN or an infinity
+    if counted is None:
+        counted = level_counts(x)  # one sort; level_groups only for x with a NaN or an infinity
     sizes = (
         counted[1].tolist() if counted is not None else [len(g) for g in level_groups(x).values()]
     )

@@ -17,7 +17,7 @@ leverage are given. ``design_metrics`` returns the JSON-ready dict ``RegressionR
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass, fields
 
 import numpy as np
 
@@ -45,6 +45,8 @@ from auditor.model import clean_number
 from auditor.policy import Policy
 
 MAX_ADVICE_N = 10_000
+# Fields of DesignMetrics that to_dict flattens or leaves out (records, lists, the flag).
+_NESTED = frozenset({"drop", "lack", "outside", "working_range", "simple"})
 
 
 @dataclass
@@ -96,15 +98,16 @@ class DesignMetrics:
 
     def to_dict(self) -> dict[str, float | int | str | None]:
         """JSON-ready (no NaN, no nested objects): the ``design`` part of audit.json."""
+        # The fields one by one, not dataclasses.asdict: that deep-copies the nested records
+        # (the predictions, the drop-one summary) only for them to be left out or flattened.
         out: dict[str, float | int | str | None] = {}
-        for key, value in asdict(self).items():
-            if key in ("drop", "lack", "outside", "working_range", "simple"):
-                continue
-            out[key] = clean_number(value)
+        for item in fields(self):
+            if item.name not in _NESTED:
+                out[item.name] = clean_number(getattr(self, item.name))
         out["x_range"] = clean_number(self.x_range)
         if self.drop is not None:
-            for key, value in asdict(self.drop).items():
-                out[f"drop_one_{key}"] = clean_number(value)
+            for item in fields(self.drop):
+                out[f"drop_one_{item.name}"] = clean_number(getattr(self.drop, item.name))
         if self.lack is not None:
             out["lack_of_fit_f"] = clean_number(self.lack.f)
             out["lack_of_fit_p"] = clean_number(self.lack.p)
@@ -145,18 +148,28 @@ def relative_slope_that_matters(x: np.ndarray, y: np.ndarray, elasticity: float)
 
 
 def compute_design(
-    data: Extracted, fit: FitResult, policy: Policy, inputs: DesignInputs | None = None
+    data: Extracted,
+    fit: FitResult,
+    policy: Policy,
+    inputs: DesignInputs | None = None,
+    used_rows: list[int] | None = None,
 ) -> DesignMetrics:
-    """Every design metric of one regression (see the module docstring)."""
+    """Every design metric of one regression (see the module docstring); ``used_rows``: the
+    rows of the used points, when the caller has them already."""
     n = data.n
-    if data.x.size and np.isfinite(data.x).all():
-        # One sort, not a set of n tuples; one column sorted as numbers (np.unique along an
-        # axis sorts rows as records: about thirty times slower at 200,000 rows).
-        single = data.x.ndim == 2 and data.x.shape[1] == 1
-        levels = len(np.unique(data.x[:, 0])) if single else len(np.unique(data.x, axis=0))
+    single = data.x.ndim == 2 and data.x.shape[1] == 1
+    # The distinct x values and their counts, one sort shared by the level count, the spacing
+    # and the replicate tests (None: x holds a NaN or an infinity, or several columns).
+    counted = level_counts(data.x[:, 0]) if single and data.x.size else None
+    if counted is not None:
+        levels = len(counted[0])
+    elif data.x.size and np.isfinite(data.x).all():
+        # One sort, not a set of n tuples (np.unique along an axis sorts rows as records:
+        # about thirty times slower at 200,000 rows than one column sorted as numbers).
+        levels = len(np.unique(data.x, axis=0))
     else:
         levels = len({tuple(row) for row in data.x.tolist()})
-    rows = _used_rows(data)
+    rows = _used_rows(data) if used_rows is None else used_rows
     metrics = DesignMetrics(n=n, levels=levels, simple=False)
     if len(fit.leverage) == n and n:
         top = int(np.argmax(fit.leverage))
@@ -165,7 +178,6 @@ def compute_design(
     if data.x.shape[1] != 1 or n == 0:
         return metrics
     x, y = data.x[:, 0], data.y
-    counted = level_counts(x)
     if counted is None:
         groups = level_groups(x)
         distinct = np.array(sorted(groups))
@@ -183,19 +195,19 @@ def compute_design(
         metrics.spacing_evenness = float(gaps.min() / gaps.max())
     if fit.status != "ok" or not fit.sxx > 0.0 or not fit.residual_sd > 0.0 or fit.df < 1:
         return metrics
-    _fill_simple(metrics, data, fit, policy, x, y, rows)
+    _fill_simple(metrics, fit, policy, x, y, rows, counted)
     _fill_inputs(metrics, inputs, policy)
     return metrics
 
 
 def _fill_simple(
     metrics: DesignMetrics,
-    data: Extracted,
     fit: FitResult,
     policy: Policy,
     x: np.ndarray,
     y: np.ndarray,
     rows: list[int],
+    counted: tuple[np.ndarray, np.ndarray] | None,
 ) -> None:
     metrics.simple = True
     parameters = 2 if fit.intercept else 1
@@ -219,7 +231,7 @@ def _fill_simple(
     slopes_without, _, _, p_without = left_out
     metrics.top_share_slope_without = _finite(slopes_without[top])
     metrics.top_share_p_without = _finite(p_without[top])
-    if designed_replicates(x):  # coincidental ties are no pure error
+    if designed_replicates(x, counted):  # coincidental ties are no pure error
         metrics.lack = lack_of_fit(x, y, fit.ss_residual, fit.intercept)
     stated = policy.find("slope_that_matters")
     if stated:

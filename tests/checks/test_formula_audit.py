@@ -18,8 +18,9 @@ import numpy as np
 import pytest
 import statsmodels.api as sm
 
+from auditor.checks.block_moves import translate
 from auditor.checks.formula_audit import typed_counts
-from auditor.checks.formula_blocks import blocks_of, frame_form, sibling_groups, translate
+from auditor.checks.formula_blocks import blocks_of, frame_form, sibling_groups
 from auditor.checks.formula_support import replace_argument
 from auditor.context import WorkbookContext
 from auditor.evaluation.evaluator import Evaluator
