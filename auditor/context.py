@@ -15,6 +15,7 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
+from auditor.design.claims import Claim
 from auditor.design.inputs import DesignInputs
 from auditor.design.metrics import DesignMetrics, compute_design
 from auditor.evaluation.evaluator import Evaluator
@@ -62,6 +63,7 @@ class RegressionContext:
     design: DesignMetrics | None = None  # set by design_metrics(), once
     calibration: Any = None  # CalibrationInputs (auditor.design.calibration) for a calibration
     rows: PointRows | None = None  # set by point_rows(), once
+    claim: Claim | None = None  # what the regression is said to show, set by the design checks
 
     def design_metrics(self) -> DesignMetrics:
         """The design metrics of this regression, computed on first use and kept."""

@@ -33,12 +33,14 @@ def _judged(context: RegressionContext) -> tuple[DesignMetrics, Claim] | None:
     """The metrics and the claim, or None when the fit has no slope to judge."""
     if context.fit.status != "ok" or context.spec.x_columns != 1:
         return None
-    inputs = _inputs(context)
     metrics = context.design_metrics()
     if not metrics.simple:
         return None
-    texts = inputs.texts if inputs is not None else []
-    return metrics, read_claim(context.reported, context.policy.alpha, texts)
+    if context.claim is None:  # read once; the six design checks each ask
+        inputs = _inputs(context)
+        texts = inputs.texts if inputs is not None else []
+        context.claim = read_claim(context.reported, context.policy.alpha, texts)
+    return metrics, context.claim
 
 
 @check(
