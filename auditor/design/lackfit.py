@@ -59,15 +59,18 @@ def designed_replicates(
     if counted is None:
         counted = level_counts(x)  # one sort; level_groups only for x with a NaN or an infinity
     sizes = (
-        counted[1].tolist() if counted is not None else [len(g) for g in level_groups(x).values()]
+        counted[1]
+        if counted is not None
+        else np.array([len(g) for g in level_groups(x).values()], dtype=np.int64)
     )
-    if not sizes:
+    if not sizes.size:
         return False
-    replicated = sum(1 for size in sizes if size >= 2)
-    balanced = max(sizes) <= 3 * min(sizes)  # a plan repeats levels alike; rounding does not
-    if 2 * replicated >= len(sizes) and replicated >= 1 and balanced:
+    replicated = int(np.count_nonzero(sizes >= 2))
+    largest, smallest = int(sizes.max()), int(sizes.min())
+    balanced = largest <= 3 * smallest  # a plan repeats levels alike; rounding does not
+    if 2 * replicated >= sizes.size and replicated >= 1 and balanced:
         return True
-    return len(sizes) <= 10 and max(sizes) >= 3
+    return sizes.size <= 10 and largest >= 3
 
 
 def level_counts(x: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.int64]] | None:

@@ -181,12 +181,11 @@ def compute_design(
     if counted is None:
         groups = level_groups(x)
         distinct = np.array(sorted(groups))
-        counts = [len(g) for g in groups.values()]
+        counts = np.array([len(g) for g in groups.values()])
     else:
-        distinct, counts_array = counted
-        counts = counts_array.tolist()
-    metrics.replicated_levels = sum(1 for c in counts if c > 1)
-    metrics.max_replicates = max(counts)
+        distinct, counts = counted
+    metrics.replicated_levels = int(np.count_nonzero(counts > 1))
+    metrics.max_replicates = int(counts.max())
     metrics.x_min, metrics.x_max = float(x.min()), float(x.max())
     metrics.x_mean = float(fit.x_mean) if math.isfinite(fit.x_mean) else float(np.mean(x))
     metrics.sxx = float(fit.sxx) if math.isfinite(fit.sxx) else None

@@ -7,7 +7,10 @@ special function that ``scipy.stats`` calls for that distribution (scipy 1.10 to
 ``nct.cdf`` is ``nctdtr``, ``f.sf`` is ``fdtrc``, ``norm.cdf`` is ``ndtr``), with the same
 handling of the boundaries (a probability of 0 or 1, an infinite x, df ≤ 0), so the numbers are
 bit for bit those of ``scipy.stats``; tests/test_fit_distributions.py compares them on grids.
-Scalars give a numpy float64, as ``scipy.stats`` does; arrays give arrays.
+Scalars give a numpy float64, as ``scipy.stats`` does; arrays give arrays. Plain numbers (a
+Python int or float, a numpy float64) take a short path that calls the same special function
+on them and tests the same boundaries in plain comparisons: the audit asks for a few thousand
+single tails, and the array handling costs several times the tail itself.
 """
 
 from __future__ import annotations
@@ -18,6 +21,13 @@ import numpy as np
 from scipy import special
 
 _NAN = np.float64(np.nan)
+_INF = np.float64(np.inf)
+_PLAIN = frozenset({float, int, np.float64})  # exact types: no bool, no array
+
+
+def _plain(*values: Any) -> bool:
+    """Whether every argument is a plain number (the short path applies)."""
+    return all(type(value) in _PLAIN for value in values)
 
 
 def _bad_df(*dfs: Any) -> Any:
@@ -35,16 +45,25 @@ def _finish(value: Any, bad: Any) -> Any:
 
 def t_sf(x: Any, df: Any) -> Any:
     """P(T > x) for Student's t with ``df`` degrees of freedom (``scipy.stats.t.sf``)."""
+    if _plain(x, df):
+        return special.stdtr(df, -float(x)) if df > 0 else _NAN
     return _finish(special.stdtr(df, -np.asarray(x, dtype=np.float64)), _bad_df(df))
 
 
 def t_cdf(x: Any, df: Any) -> Any:
     """P(T ≤ x) (``scipy.stats.t.cdf``)."""
+    if _plain(x, df):
+        return special.stdtr(df, float(x)) if df > 0 else _NAN
     return _finish(special.stdtr(df, np.asarray(x, dtype=np.float64)), _bad_df(df))
 
 
 def t_ppf(q: Any, df: Any) -> Any:
     """The x with P(T ≤ x) = q (``scipy.stats.t.ppf``): −inf at 0, inf at 1, nan outside."""
+    if _plain(q, df):
+        q = float(q)
+        if not (df > 0 and 0.0 <= q <= 1.0):
+            return _NAN
+        return _INF if q == 1.0 else -_INF if q == 0.0 else special.stdtrit(df, q)
     q = np.asarray(q, dtype=np.float64)
     value = np.where(q == 1.0, np.inf, np.where(q == 0.0, -np.inf, special.stdtrit(df, q)))
     return _finish(value, _bad_df(df) | ~((q >= 0.0) & (q <= 1.0)))
@@ -78,16 +97,25 @@ def nct_sf(x: float, df: float, noncentrality: float) -> Any:
     """P(T > x) for the noncentral t (``scipy.stats.nct.sf``), clipped to [0, 1] as it is."""
     with np.errstate(over="ignore"):
         value = np.clip(special._ufuncs._nct_sf(x, df, noncentrality), 0, 1)
+    if _plain(x, df, noncentrality):
+        return value if df > 0 and noncentrality == noncentrality else _NAN
     return _finish(value, _bad_df(df) | np.isnan(noncentrality))
 
 
 def nct_cdf(x: float, df: float, noncentrality: float) -> Any:
     """P(T ≤ x) for the noncentral t (``scipy.stats.nct.cdf``)."""
-    return _finish(special.nctdtr(df, noncentrality, x), _bad_df(df) | np.isnan(noncentrality))
+    value = special.nctdtr(df, noncentrality, x)
+    if _plain(x, df, noncentrality):
+        return value if df > 0 and noncentrality == noncentrality else _NAN
+    return _finish(value, _bad_df(df) | np.isnan(noncentrality))
 
 
 def f_sf(x: Any, dfn: Any, dfd: Any) -> Any:
     """P(F > x) (``scipy.stats.f.sf``): 1 at x ≤ 0."""
+    if _plain(x, dfn, dfd):
+        if not (dfn > 0 and dfd > 0) or x != x:
+            return _NAN
+        return np.float64(1.0) if x <= 0.0 else special.fdtrc(dfn, dfd, float(x))
     x = np.asarray(x, dtype=np.float64)
     value = np.where(x <= 0.0, 1.0, special.fdtrc(dfn, dfd, np.maximum(x, 0.0)))
     return _finish(value, _bad_df(dfn, dfd) | np.isnan(x))

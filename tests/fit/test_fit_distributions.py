@@ -68,3 +68,36 @@ def test_normal_tails_equal_scipy_stats() -> None:
 def test_a_known_value_from_a_printed_table() -> None:
     # t(0.975, 10) = 2.228 in every printed table of Student's t (common practice).
     assert round(float(fd.t_ppf(0.975, 10)), 3) == 2.228
+
+
+INT_DFS = [-1, 0, 1, 2, 7, 28, 199_998]
+
+
+def _both(ours: object, general: object) -> bool:
+    """Equal bit for bit (nan with nan), and both a numpy float64 as scipy.stats gives."""
+    return type(ours) is np.float64 and same(ours, general)
+
+
+@pytest.mark.parametrize("df", DFS + INT_DFS)
+def test_plain_numbers_give_what_arrays_give(df: float) -> None:
+    """Python ints and floats and numpy float64 take the short path; a 0-d array the general
+    one; scipy.stats is the reference for both."""
+    for x in XS:
+        for plain in (x, np.float64(x)) + ((int(x),) if np.isfinite(x) else ()):
+            assert _both(fd.t_sf(plain, df), fd.t_sf(np.asarray(plain), df)), (plain, df)
+            assert _both(fd.t_cdf(plain, df), fd.t_cdf(np.asarray(plain), df)), (plain, df)
+            assert same(fd.t_sf(plain, df), stats.t.sf(plain, df)), (plain, df)
+    for q in QS:
+        for plain in (q, np.float64(q)):
+            assert _both(fd.t_ppf(plain, df), fd.t_ppf(np.asarray(q), df)), (plain, df)
+            assert same(fd.t_ppf(plain, df), stats.t.ppf(q, df)), (plain, df)
+    for x, delta in itertools.product([-6.0, -2.3, 0.0, 1.5, 2.57, 9.0], DELTAS + [np.nan]):
+        general = fd.nct_sf(np.asarray(x), df, delta)
+        assert _both(fd.nct_sf(x, df, delta), general), (x, df, delta)
+        assert _both(fd.nct_cdf(x, df, delta), fd.nct_cdf(np.asarray(x), df, delta))
+        assert same(fd.nct_sf(x, df, delta), stats.nct.sf(x, df, delta)), (x, df, delta)
+    for x in [-1.0, 0.0, 1e-8, 0.4, 1.0, 4.2, 90.0, np.inf, np.nan]:
+        for dfn in (1, 3, 0, 2.5):
+            general = fd.f_sf(np.asarray(x), dfn, df)
+            assert _both(fd.f_sf(x, dfn, df), general), (x, dfn, df)
+            assert same(fd.f_sf(x, dfn, df), stats.f.sf(x, dfn, df)), (x, dfn, df)
