@@ -23,6 +23,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from auditor.compare.precision import parse_text_number
+from auditor.design.prediction_index import PredictionCells
 from auditor.design.prediction_refs import cell_key, coord, is_cell, other_operand, refers_to
 from auditor.design.window import cells_in
 from auditor.errors import FormulaError
@@ -35,7 +36,6 @@ from auditor.read.workbook import Cell, Workbook
 WINDOW_ROWS = (6, 14)  # rows above the result block, rows below it
 WINDOW_COLS = (6, 8)
 MAX_PREDICTIONS = 10_000  # a whole column of fitted values is read, not a million rows
-_PREDICTING = ("FORECAST", "FORECAST.LINEAR", "TREND")  # the calls that predict from a line
 
 _MATTERS = re.compile(
     r"(slope|effect|change|difference)\s+(that\s+matters|of\s+interest|to\s+detect)|"
@@ -47,14 +47,6 @@ _WORKING_RANGE = re.compile(
     r"(working|calibrat\w*|reporting|measuring)\s+range|range\s+of\s+use", re.I
 )
 _RANGE_TEXT = re.compile(r"^\s*(-?[\d.,]+)\s*(?:-|–|—|to|\.\.)\s*(-?[\d.,]+)")
-
-
-def _may_predict(node: Node) -> bool:
-    """Whether a sub-formula has a shape :meth:`DesignInputReader._predictions_in` reads: a
-    FORECAST or TREND call, a product or a quotient."""
-    if isinstance(node, Call):
-        return node.name in _PREDICTING
-    return isinstance(node, Binary) and node.op in ("*", "/")
 
 
 @dataclass(frozen=True)
@@ -109,7 +101,7 @@ class DesignInputReader:
                 except FormulaError:
                     continue  # reported by the formula checks; nothing to predict from here
         self.parsed = parsed
-        self._candidates: list[tuple[tuple[str, int, int], Node, list[Node]]] | None = None
+        self._prediction_cells: PredictionCells | None = None  # made on first use
 
     def read(self, spec: RegressionSpec) -> DesignInputs:
         inputs = DesignInputs()
@@ -210,7 +202,9 @@ class DesignInputReader:
         own = {cell_key(s.cell) for s in spec.stats.values()} | {
             cell_key(u.cell) for u in spec.uses
         }
-        for key, node, shapes in self._prediction_cells():
+        if self._prediction_cells is None:
+            self._prediction_cells = PredictionCells(self.parsed)
+        for key, node, shapes in self._prediction_cells.for_slopes(slope_cells):
             if (key[0].lower(), key[1], key[2]) in own:
                 continue
             found = list(
@@ -222,18 +216,6 @@ class DesignInputReader:
             shown, reads = self._bare_call(key, node) if len(found) == 1 else (None, None)
             for x, how in found:
                 yield Prediction(address, x, how, shown, reads)
-
-    def _prediction_cells(self) -> list[tuple[tuple[str, int, int], Node, list[Node]]]:
-        """The formula cells holding a sub-formula a prediction can be, each with those
-        sub-formulas, in the order of ``parsed``: found once per workbook, not once per
-        regression (most formulas, a SLOPE or an RSQ, hold none; long ones cost a walk each)."""
-        if self._candidates is None:
-            self._candidates = []
-            for key, node in self.parsed.items():
-                shapes = [sub for sub in walk(node) if _may_predict(sub)]
-                if shapes:
-                    self._candidates.append((key, node, shapes))
-        return self._candidates
 
     def _bare_call(
         self, key: tuple[str, int, int], node: Node
