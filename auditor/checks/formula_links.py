@@ -8,6 +8,8 @@ belongs to is left unaudited and the finding says so.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+
 from auditor.checks.base import check
 from auditor.context import WorkbookContext
 from auditor.formula.syntax import NameNode, Node, RefNode, calls, walk
@@ -28,6 +30,21 @@ def _external_markers(node: Node) -> list[str]:
     return found
 
 
+def _may_link(context: WorkbookContext) -> Iterator[tuple[tuple[str, int, int], Node]]:
+    """The parsed formulas that can read another workbook. A link is written with a bracketed
+    marker (``[1]Data!A1``), in a formula's text or in a defined name it uses: when no defined
+    name holds a bracket, only the formulas whose text does are walked, not every tree."""
+    workbook = context.workbook
+    names = getattr(workbook, "names", None)
+    if workbook is None or names is None or any("[" in name.refers_to for name in names):
+        yield from context.parsed.items()
+        return
+    for key, node in context.parsed.items():
+        cell = workbook.cell(*key)
+        if cell is None or cell.formula is None or "[" in cell.formula:
+            yield key, node
+
+
 @check(
     "other-workbook-ref",
     "A regression reads data or results from another workbook, which cannot be verified here.",
@@ -45,7 +62,7 @@ def other_workbook_ref(context: WorkbookContext) -> list[Finding]:
     }
     links: dict[str, str] = getattr(context.workbook, "external_links", None) or {}
     by_marker: dict[str, list[tuple[bool, str]]] = {}
-    for (sheet, row, col), node in context.parsed.items():
+    for (sheet, row, col), node in _may_link(context):
         markers = _external_markers(node)
         if not markers:
             continue
