@@ -203,7 +203,7 @@ class DesignInputReader:
             cell_key(u.cell) for u in spec.uses
         }
         if self._prediction_cells is None:
-            self._prediction_cells = PredictionCells(self.parsed)
+            self._prediction_cells = PredictionCells(self.parsed, self.workbook)
         for key, node, shapes in self._prediction_cells.for_slopes(slope_cells):
             if (key[0].lower(), key[1], key[2]) in own:
                 continue

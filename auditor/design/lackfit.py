@@ -84,6 +84,22 @@ def level_counts(x: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.int64]] 
     return distinct, counts
 
 
+def count_levels(
+    x: NDArray[np.float64],
+) -> tuple[int, tuple[NDArray[np.float64], NDArray[np.int64]] | None]:
+    """The number of distinct rows of an (n, k) x, and for one column what
+    :func:`level_counts` gives (None for several columns), from one sort."""
+    single = x.ndim == 2 and x.shape[1] == 1
+    counted = level_counts(x[:, 0]) if single and x.size else None
+    if counted is not None:
+        return len(counted[0]), counted
+    if x.size and np.isfinite(x).all():
+        # One sort, not a set of n tuples (np.unique along an axis sorts rows as records:
+        # about thirty times slower at 200,000 rows than one column sorted as numbers).
+        return len(np.unique(x, axis=0)), None
+    return len({tuple(row) for row in x.tolist()}), None
+
+
 def _replicated_groups(x: NDArray[np.float64]) -> tuple[int, list[NDArray[np.intp]]] | None:
     """The number of levels and the row indices of each level that occurs more than once."""
     if not np.isfinite(x).all():

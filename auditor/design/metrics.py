@@ -4,11 +4,10 @@ SE(b1) = s/√Sxx: for the same scatter, x values spread further apart give a st
 regression this module measures the spread (Sxx, range, levels, replicates, evenness), how much
 any one point carries (leverage, share of Sxx, the slope and p-value without it), what the design
 can detect (power at the slope that matters, the minimum detectable slope — noncentral t, see
-auditor.design.power), what it would need (Sxx, n over the present range, or range with the present
-n),
-the CI of the slope, the lack-of-fit test when levels are replicated (auditor.design.lackfit), and
-the
-predictions the workbook makes beyond the x range (auditor.design.inputs).
+auditor.design.power), what it would need (Sxx, n over the present range, or range with the
+present n), the CI of the slope, the lack-of-fit test when levels are replicated
+(auditor.design.lackfit), and the predictions the workbook makes beyond the x range
+(auditor.design.inputs).
 
 Simple regression (one x column) only; with several x columns only n, levels and the largest
 leverage are given. ``design_metrics`` returns the JSON-ready dict ``RegressionResult.design``.
@@ -25,9 +24,9 @@ from auditor.design.dropone import DropOne, drop_one, leave_one_out
 from auditor.design.inputs import DesignInputs, Prediction
 from auditor.design.lackfit import (
     LackOfFit,
+    count_levels,
     designed_replicates,
     lack_of_fit,
-    level_counts,
     level_groups,
 )
 from auditor.design.power import (
@@ -157,18 +156,7 @@ def compute_design(
     """Every design metric of one regression (see the module docstring); ``used_rows``: the
     rows of the used points, when the caller has them already."""
     n = data.n
-    single = data.x.ndim == 2 and data.x.shape[1] == 1
-    # The distinct x values and their counts, one sort shared by the level count, the spacing
-    # and the replicate tests (None: x holds a NaN or an infinity, or several columns).
-    counted = level_counts(data.x[:, 0]) if single and data.x.size else None
-    if counted is not None:
-        levels = len(counted[0])
-    elif data.x.size and np.isfinite(data.x).all():
-        # One sort, not a set of n tuples (np.unique along an axis sorts rows as records:
-        # about thirty times slower at 200,000 rows than one column sorted as numbers).
-        levels = len(np.unique(data.x, axis=0))
-    else:
-        levels = len({tuple(row) for row in data.x.tolist()})
+    levels, counted = count_levels(data.x)  # one sort for the levels, spacing and replicates
     rows = _used_rows(data) if used_rows is None else used_rows
     metrics = DesignMetrics(n=n, levels=levels, simple=False)
     if len(fit.leverage) == n and n:

@@ -10,9 +10,10 @@ model), in the workbook's order, each with its sub-formulas of those shapes foun
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Iterator, Mapping
 
 from auditor.formula.syntax import Binary, Call, Node, RefNode, walk
+from auditor.read.workbook import Workbook
 
 CellKey = tuple[str, int, int]  # (sheet, row, column) as the parsed formulas are keyed
 OperandKey = tuple[str, int, int]  # (sheet in lower case, row, column) of a one-cell operand
@@ -35,15 +36,37 @@ def _operand(node: Node) -> OperandKey | None:
     return None
 
 
+def _written(text: str) -> bool:
+    """Whether formula text can hold a prediction's shape: a product, a quotient, a FORECAST or
+    a TREND (a superset: the characters may sit in a text constant or a sheet name)."""
+    upper = text.upper()
+    return "*" in upper or "/" in upper or "FORECAST" in upper or "TREND" in upper
+
+
+def _may_hold_shapes(
+    parsed: Mapping[CellKey, Node], workbook: Workbook | None
+) -> Iterator[tuple[CellKey, Node]]:
+    """The parsed formulas whose tree can hold a prediction's shape. A tree is its cell's text
+    with defined names replaced by theirs: when no defined name's text could hold one, a cell
+    whose own text cannot is not walked (most formulas of a large model)."""
+    if workbook is None or any(_written(name.refers_to) for name in workbook.names):
+        yield from parsed.items()
+        return
+    for key, node in parsed.items():
+        cell = workbook.cell(*key)
+        if cell is None or cell.formula is None or _written(cell.formula):
+            yield key, node
+
+
 class PredictionCells:
     """The formula cells holding a sub-formula a prediction can be, with those sub-formulas,
     and for each one-cell factor of a product or divisor of a quotient the cells using it."""
 
-    def __init__(self, parsed: Mapping[CellKey, Node]) -> None:
+    def __init__(self, parsed: Mapping[CellKey, Node], workbook: Workbook | None = None) -> None:
         self.cells: list[Candidate] = []
         self.calls: list[int] = []  # positions of the cells with a FORECAST or TREND call
         self.by_operand: dict[OperandKey, list[int]] = {}
-        for key, node in parsed.items():
+        for key, node in _may_hold_shapes(parsed, workbook):
             shapes = [sub for sub in walk(node) if may_predict(sub)]
             if not shapes:
                 continue
