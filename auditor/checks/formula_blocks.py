@@ -57,7 +57,7 @@ class Block:
     title: str = ""  # the block's own title where it is unique in the workbook, else its place
     # Each reference's frame and target, found once: the sibling check reads a member's
     # references for both frame forms, its links into siblings and its anchors.
-    placed: dict[tuple[Reference, str], tuple[str, Ref | None]] = field(
+    frames: dict[tuple[Reference, str], tuple[str, Ref | None]] = field(
         default_factory=dict, repr=False, compare=False
     )
 
@@ -152,7 +152,7 @@ def placed(ref: Reference, block: Block, cell_sheet: str) -> tuple[str, Ref | No
     """The frame a reference is read in ('data', 'block' or 'other', see the module doc) and
     the grid block it names (:func:`resolve`), kept on the block after the first time."""
     key = (ref, cell_sheet)
-    found = block.placed.get(key)
+    found = block.frames.get(key)
     if found is None:
         target = resolve(ref, block, cell_sheet)
         if target is None:
@@ -161,7 +161,7 @@ def placed(ref: Reference, block: Block, cell_sheet: str) -> tuple[str, Ref | No
             frame = "data"
         else:
             frame = "block" if target.sheet.lower() == block.sheet.lower() else "other"
-        found = block.placed[key] = (frame, target)
+        found = block.frames[key] = (frame, target)
     return found
 
 
