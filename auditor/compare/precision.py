@@ -17,6 +17,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
+from functools import lru_cache
 
 # Binary doubles cannot hold most decimal fractions exactly: 0.1 + 0.2 != 0.3.
 REPRESENTATION_SLACK = 1e-12
@@ -183,9 +184,48 @@ def _text_decimals(number_text: str) -> int:
     return len(fraction) + percent - (int(exponent) if exponent else 0)
 
 
+@dataclass(frozen=True)
+class _Shown:
+    """What one section of a number format shows: its decimals (percent and thousands scaling
+    counted in), or for scientific notation its decimals and its integer placeholders."""
+
+    decimals: int
+    scientific: bool = False
+    integer_digits: int = 1
+
+
 def _format_decimals(value: float, number_format: str) -> int | None:
     """Decimals a number format shows for this value; None for General, text and dates."""
-    section = _format_section(number_format or "General", value)
+    sections = _sections_shown(number_format or "General")
+    shown = sections[_section_of(len(sections), value)]
+    if shown is None or not shown.scientific:
+        return None if shown is None else shown.decimals
+    exponent = math.floor(math.log10(abs(value))) if value else 0
+    if shown.integer_digits > 1:
+        # Engineering style ("##0.0E+0"): the exponent is a multiple of the integer
+        # placeholders (from memory of the spreadsheet's number-format rules).
+        exponent -= exponent % shown.integer_digits
+    return shown.decimals - exponent
+
+
+def _section_of(count: int, value: float) -> int:
+    """Which section of "pos;neg;zero;text" shows this value."""
+    if value < 0 and count > 1:
+        return 1
+    if value == 0 and count > 2:
+        return 2
+    return 0
+
+
+@lru_cache(maxsize=1024)
+def _sections_shown(number_format: str) -> tuple[_Shown | None, ...]:
+    """What each section of a number format shows, read once per format (a workbook uses a
+    few formats over thousands of cells)."""
+    sections: list[str] = re.findall(r'(?:"[^"]*"|\\.|\[[^\]]*\]|[^;"\\\[])+', number_format)
+    return tuple(_section_shown(section) for section in sections or [""])
+
+
+def _section_shown(section: str) -> _Shown | None:
     # Literal text, escapes, padding, fill and [colour]/[condition]/[locale] show no digits.
     section = re.sub(r'"[^"]*"|\\.|_.|\*.|\[[^\]]*\]', "", section)
     lowered = section.lower()
@@ -198,25 +238,8 @@ def _format_decimals(value: float, number_format: str) -> int | None:
     whole, dot, fraction = number_part.partition(".")
     after_dot = len(re.findall(r"[0#?]", fraction)) if dot else 0
     if sci:
-        integer_digits = max(1, len(re.findall(r"[0#?]", whole)))
-        exponent = math.floor(math.log10(abs(value))) if value else 0
-        if integer_digits > 1:
-            # Engineering style ("##0.0E+0"): the exponent is a multiple of the integer
-            # placeholders (from memory of the spreadsheet's number-format rules).
-            exponent -= exponent % integer_digits
-        return after_dot - exponent
+        return _Shown(after_dot, True, max(1, len(re.findall(r"[0#?]", whole))))
     percent = 2 * lowered.count("%")
     scaling = re.search(r"[0#?.](,+)[^0#?]*$", number_part)  # "0.0," shows thousands
     thousands = 3 * len(scaling.group(1)) if scaling else 0
-    return after_dot + percent - thousands
-
-
-def _format_section(number_format: str, value: float) -> str:
-    """The section of "pos;neg;zero;text" that shows this value (quotes and brackets kept)."""
-    sections: list[str] = re.findall(r'(?:"[^"]*"|\\.|\[[^\]]*\]|[^;"\\\[])+', number_format)
-    sections = sections or [""]
-    if value < 0 and len(sections) > 1:
-        return sections[1]
-    if value == 0 and len(sections) > 2:
-        return sections[2]
-    return sections[0]
+    return _Shown(after_dot + percent - thousands)
