@@ -32,7 +32,7 @@ from auditor.read.workbook import Workbook
 class PointRows:
     """The row of each data point (its column in a table laid out in rows) and whether the
     intended fit uses it, as arrays in the order of the points: one walk over the points,
-    shared by the design metrics and the checks that look for rows left out or taken in."""
+    shared by the checks that look for rows left out or taken in."""
 
     rows: NDArray[np.int64]
     used: NDArray[np.bool_]
@@ -43,10 +43,6 @@ class PointRows:
         rows = np.fromiter(map(attrgetter("row"), points), dtype=np.int64, count=count)
         used = np.fromiter(map(attrgetter("used"), points), dtype=np.bool_, count=count)
         return cls(rows, used)
-
-    def used_rows(self) -> list[int]:
-        """The rows of the used points, in order (as ``[p.row for p in points if p.used]``)."""
-        return self.rows[self.used].tolist()  # type: ignore[no-any-return]
 
 
 @dataclass
@@ -68,13 +64,7 @@ class RegressionContext:
     def design_metrics(self) -> DesignMetrics:
         """The design metrics of this regression, computed on first use and kept."""
         if self.design is None:
-            self.design = compute_design(
-                self.data,
-                self.fit,
-                self.policy,
-                self.design_inputs,
-                used_rows=self.point_rows().used_rows(),
-            )
+            self.design = compute_design(self.data, self.fit, self.policy, self.design_inputs)
         return self.design
 
     def point_rows(self) -> PointRows:

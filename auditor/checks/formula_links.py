@@ -12,6 +12,7 @@ from collections.abc import Iterator
 
 from auditor.checks.base import check
 from auditor.context import WorkbookContext
+from auditor.design.formula_filter import formulas_that_may_hold
 from auditor.formula.syntax import NameNode, Node, RefNode, calls, walk
 from auditor.grid import column_letter
 from auditor.locate.locator import PAIR_FUNCS
@@ -31,18 +32,14 @@ def _external_markers(node: Node) -> list[str]:
 
 
 def _may_link(context: WorkbookContext) -> Iterator[tuple[tuple[str, int, int], Node]]:
-    """The parsed formulas that can read another workbook. A link is written with a bracketed
-    marker (``[1]Data!A1``), in a formula's text or in a defined name it uses: when no defined
-    name holds a bracket, only the formulas whose text does are walked, not every tree."""
-    workbook = context.workbook
-    names = getattr(workbook, "names", None)
-    if workbook is None or names is None or any("[" in name.refers_to for name in names):
-        yield from context.parsed.items()
-        return
-    for key, node in context.parsed.items():
-        cell = workbook.cell(*key)
-        if cell is None or cell.formula is None or "[" in cell.formula:
-            yield key, node
+    """The parsed formulas that can read another workbook: a link is written with a bracketed
+    marker (``[1]Data!A1``), in a formula's text or in a defined name it mentions
+    (:mod:`auditor.design.formula_filter`); the other trees are not walked."""
+    return formulas_that_may_hold(context.parsed, context.workbook, _bracketed)
+
+
+def _bracketed(text: str) -> bool:
+    return "[" in text
 
 
 @check(

@@ -151,13 +151,12 @@ def compute_design(
     fit: FitResult,
     policy: Policy,
     inputs: DesignInputs | None = None,
-    used_rows: list[int] | None = None,
 ) -> DesignMetrics:
-    """Every design metric of one regression (see the module docstring); ``used_rows``: the
-    rows of the used points, when the caller has them already."""
+    """Every design metric of one regression (see the module docstring)."""
     n = data.n
     levels, counted = count_levels(data.x)  # one sort for the levels, spacing and replicates
-    rows = _used_rows(data) if used_rows is None else used_rows
+    # The rows as the points hold them: a list made from an array would make a new int each.
+    rows = _used_rows(data)
     metrics = DesignMetrics(n=n, levels=levels, simple=False)
     if len(fit.leverage) == n and n:
         top = int(np.argmax(fit.leverage))

@@ -10,8 +10,9 @@ model), in the workbook's order, each with its sub-formulas of those shapes foun
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator, Mapping
+from collections.abc import Iterable, Mapping
 
+from auditor.design.formula_filter import formulas_that_may_hold
 from auditor.formula.syntax import Binary, Call, Node, RefNode, walk
 from auditor.read.workbook import Workbook
 
@@ -43,21 +44,6 @@ def _written(text: str) -> bool:
     return "*" in upper or "/" in upper or "FORECAST" in upper or "TREND" in upper
 
 
-def _may_hold_shapes(
-    parsed: Mapping[CellKey, Node], workbook: Workbook | None
-) -> Iterator[tuple[CellKey, Node]]:
-    """The parsed formulas whose tree can hold a prediction's shape. A tree is its cell's text
-    with defined names replaced by theirs: when no defined name's text could hold one, a cell
-    whose own text cannot is not walked (most formulas of a large model)."""
-    if workbook is None or any(_written(name.refers_to) for name in workbook.names):
-        yield from parsed.items()
-        return
-    for key, node in parsed.items():
-        cell = workbook.cell(*key)
-        if cell is None or cell.formula is None or _written(cell.formula):
-            yield key, node
-
-
 class PredictionCells:
     """The formula cells holding a sub-formula a prediction can be, with those sub-formulas,
     and for each one-cell factor of a product or divisor of a quotient the cells using it."""
@@ -66,7 +52,7 @@ class PredictionCells:
         self.cells: list[Candidate] = []
         self.calls: list[int] = []  # positions of the cells with a FORECAST or TREND call
         self.by_operand: dict[OperandKey, list[int]] = {}
-        for key, node in _may_hold_shapes(parsed, workbook):
+        for key, node in formulas_that_may_hold(parsed, workbook, _written):
             shapes = [sub for sub in walk(node) if may_predict(sub)]
             if not shapes:
                 continue

@@ -13,7 +13,6 @@ import pytest
 from auditor.checks.data import left_out
 from auditor.checks.formula_audit import off_table
 from auditor.context import PointRows, RegressionContext
-from auditor.design.metrics import compute_design
 from auditor.fit.ols import fit_ols
 from auditor.formula.syntax import Ref
 from auditor.model import DataPoint
@@ -89,7 +88,6 @@ def test_point_rows_match_the_points(seed: int) -> None:
     index = PointRows.of(ctx.data.points)
     assert index.rows.tolist() == [p.row for p in ctx.data.points]
     assert index.used.tolist() == [p.used for p in ctx.data.points]
-    assert index.used_rows() == [p.row for p in ctx.data.points if p.used]
     assert ctx.point_rows() is ctx.point_rows()  # made once
 
 
@@ -125,13 +123,3 @@ def test_a_range_below_the_table_and_one_above() -> None:
     found = off_table(ctx)
     assert found is not None
     assert (found.first, found.last, found.outside) == (4, 13, [2, 3, 14, 15, 16])
-
-
-@pytest.mark.parametrize("seed", range(30))
-def test_design_metrics_with_the_rows_given_are_the_same(seed: int) -> None:
-    ctx = _generated(seed)
-    plain = compute_design(ctx.data, ctx.fit, ctx.policy).to_dict()
-    given = compute_design(
-        ctx.data, ctx.fit, ctx.policy, used_rows=ctx.point_rows().used_rows()
-    ).to_dict()
-    assert given == plain
