@@ -7,8 +7,9 @@ Every .xlsx/.xlsm below each folder is read in place (never copied, never writte
 recognise) and ``engine="lxml"`` (the lxml reader for every part). The two readings must hold
 exactly the same cells (value, its type, formula, number format, array block), extents, names
 and array blocks (:func:`auditor.read.equality.workbook_differences`), or fail with the same
-message. Prints the counts, the parts that went to lxml and why, and the time of each reader;
-exits 1 on any difference.
+message; the index the scanner keeps of each sheet must hold what a walk over its cells finds
+(:func:`auditor.read.equality.index_differences`). Prints the counts, the parts that went to
+lxml and why, and the time of each reader; exits 1 on any difference.
 """
 
 from __future__ import annotations
@@ -20,8 +21,9 @@ from pathlib import Path
 
 from auditor.errors import UnreadableWorkbook
 from auditor.read import scan
-from auditor.read.equality import workbook_differences
+from auditor.read.equality import index_differences, workbook_differences
 from auditor.read.open import read_workbook
+from auditor.read.workbook import sheet_index
 
 
 def _read(path: Path, engine: str) -> tuple[object, float]:
@@ -54,7 +56,9 @@ def compare_folder(folder: Path) -> tuple[Counter[str], list[str], dict[str, flo
                 problems.append(f"{path}: {fast!s:.200} vs {slow!s:.200}")
             continue
         differences = workbook_differences(slow, fast)  # type: ignore[arg-type]
+        differences += index_differences(fast)  # type: ignore[arg-type]
         sheets = fast.sheets.values()  # type: ignore[attr-defined]
+        counts["sheets with the reader's index"] += sum(1 for s in sheets if sheet_index(s))
         counts["sheets"] += len(sheets)
         counts["cells"] += sum(len(s.cells) for s in sheets)
         counts["formula cells"] += sum(1 for s in sheets for c in s.cells.values() if c.formula)

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from auditor.grid import parse_cell
-from auditor.read.workbook import Cell, Workbook
+from auditor.read.workbook import Cell, Workbook, sheet_index
 
 _Key = tuple[str, int, int]  # (sheet, row, col)
 _Bounds = tuple[int, int, int, int]  # (r1, c1, r2, c2)
@@ -35,9 +35,13 @@ class FormulaLayout:
         members: dict[_Key, _Bounds] = {}
         for sheet in workbook.sheets.values():
             by_col: dict[int, list[int]] = {}
-            # A compact store holds every formula cell as an object: only those are walked.
+            index = sheet_index(sheet)
+            # The reader's list of formula cells; a compact store holds every formula cell as
+            # an object: only those are walked.
             stored = getattr(sheet.cells, "stored_cells", None)
-            if stored is not None:
+            if index is not None:
+                found = ((c.row, c.col, c) for c in index.formulas)
+            elif stored is not None:
                 found = ((c.row, c.col, c) for c in stored())
             else:
                 found = ((r, c, cell) for (r, c), cell in sheet.cells.items())

@@ -20,7 +20,7 @@ from collections.abc import Iterator, Mapping
 import numpy as np
 
 from auditor.read.compact import CompactCells
-from auditor.read.workbook import Sheet
+from auditor.read.workbook import Sheet, sheet_index
 
 MAX_DENSE_CELLS = 20_000_000  # the anchor search's dense bounding box (with its padding)
 PADDING = 6  # rows and columns of NaN after the last number (the identities read 4 ahead)
@@ -106,7 +106,10 @@ class NumberGrid(Mapping[tuple[int, int], float]):
 
 def entries(sheet: Sheet, formulas: bool = False) -> tuple[array[int], array[int], array[float]]:
     """Rows, columns and values of the constant numbers (``formulas``: and of the formulas'
-    stored numbers), in the sheet's order."""
+    stored numbers), in the sheet's order: from the reader's index when it has one."""
+    index = sheet_index(sheet)
+    if index is not None:
+        return index.numbers(formulas)
     rows, cols, values = array("q"), array("q"), array("d")
     cells = sheet.cells
     if isinstance(cells, CompactCells):

@@ -4,11 +4,15 @@ Used to prove the fast sheet scanner (:mod:`auditor.read.scan`) equal to the lxm
 fixtures, fuzzed and generated workbooks (``tests/read/test_scan.py``) and on folders of real
 files (``benchmarks/same_cells.py``). Stricter than ``==`` on cells: ``True == 1 == 1.0`` in
 Python, and ``0.0 == -0.0``, so a value is compared by its type and its ``repr`` as well.
+:func:`index_differences` proves the same of the index the scanner keeps while it reads
+(:class:`~auditor.read.workbook.SheetIndex`) against a walk over the cells.
 """
 
 from __future__ import annotations
 
-from auditor.read.workbook import Cell, Workbook
+import math
+
+from auditor.read.workbook import Cell, Sheet, Workbook, sheet_index
 
 
 def _cell_key(cell: Cell) -> tuple[object, ...]:
@@ -63,4 +67,44 @@ def workbook_differences(first: Workbook, second: Workbook, most: int = 20) -> l
     ):
         if a_part != b_part:
             found.append(f"{label} differ")
+    return found
+
+
+def _walked(sheet: Sheet) -> tuple[list[tuple[object, ...]], ...]:
+    """What the index should hold, found the straightforward way: a walk over every cell."""
+    numbers: list[tuple[object, ...]] = []
+    for (row, col), cell in sheet.cells.items():
+        value = cell.value
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            if math.isfinite(float(value)):
+                numbers.append((row, col, repr(float(value)), cell.formula is not None))
+    texts = [_cell_key(c) for c in sheet.cells.values() if isinstance(c.value, str)]
+    formulas = [_cell_key(c) for c in sheet.cells.values() if c.formula]
+    return numbers, texts, formulas
+
+
+def index_differences(workbook: Workbook) -> list[str]:
+    """Where the reader's index of a sheet says other than the sheet's cells (sheets without a
+    current index are skipped); empty when every index holds what a walk finds."""
+    found: list[str] = []
+    for name, sheet in workbook.sheets.items():
+        index = sheet_index(sheet)
+        if index is None:
+            continue
+        numbers = [
+            (row, col, repr(value), bool(flag))
+            for row, col, value, flag in zip(
+                index.rows, index.cols, index.values, index.from_formula, strict=True
+            )
+        ]
+        texts = [_cell_key(c) for c in index.texts]
+        formulas = [_cell_key(c) for c in index.formulas]
+        for label, held, walked in zip(
+            ("numbers", "text cells", "formula cells"),
+            (numbers, texts, formulas),
+            _walked(sheet),
+            strict=True,
+        ):
+            if held != walked:
+                found.append(f"{name}: the index's {label} differ from the cells'")
     return found

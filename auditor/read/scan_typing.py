@@ -11,6 +11,7 @@ from typing import Any, Protocol
 
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
 from auditor.read.scan_markup import Node, Unrecognised, plain_text, unescape
+from auditor.read.scan_plain import PlainFields, plain_cells, typed_run
 from auditor.read.sheet import (
     _SET_ARRAY,
     _SET_COL,
@@ -25,7 +26,7 @@ from auditor.read.sheet import (
     cell_position,
     typed_value,
 )
-from auditor.read.workbook import Cell, CellValue, Sheet
+from auditor.read.workbook import Cell, CellValue, Sheet, SheetIndex
 
 
 class SheetScanner(Protocol):
@@ -58,15 +59,51 @@ class CellMaker:
         self.row_number = 0
         self.row_text = "0"
         self.max_row = self.max_col = 0
+        self.index = SheetIndex()
+        self.made = 0  # cells put in the store, each time one is (a cell given twice: twice)
         book.styles.setdefault("", book.styles[None])  # "" is how the pattern says "no s"
 
+    def plain(self, found: list[PlainFields], row_attributes: list[str], last_row: str) -> None:
+        """A run of rows of plain cells (numbers and shared strings, no formula), typed a list
+        at a time (:mod:`auditor.read.scan_plain`); ``last_row``: the number of the run's last
+        row, as written."""
+        for text in set(row_attributes).difference(self.scanner.known_attributes):
+            if text and "r" in self.scanner.attributes_of(text):
+                raise Unrecognised("attribute 'r' given twice")
+        self.row_number = int(last_row)
+        self.row_text = last_row if last_row[0] != "0" else str(self.row_number)
+        if not found:
+            return
+        run = typed_run(self.book, found)
+        name, cells, index = self.scanner.sheet.name, self.cells, self.index
+        add_constant = getattr(cells, "add_constant", None)  # a CompactCells store
+        if add_constant is None:
+            made = plain_cells(name, run)
+            cells.update(zip(zip(run.rows, run.cols, strict=True), made, strict=True))
+            if run.shared:
+                index.texts.extend(cell for cell in made if type(cell.value) is str)
+        else:
+            for row, col, value, number_format in zip(
+                run.rows, run.cols, run.values, run.formats, strict=True
+            ):
+                add_constant(row, col, value, number_format)
+                if type(value) is str:
+                    index.texts.append(built_cell(name, row, col, value, None, number_format, None))
+        self.made += len(run.rows)
+        index.add_numbers(*run.number_positions(), run.numbers)
+        self.max_row = max(self.max_row, max(run.rows))
+        self.max_col = max(self.max_col, max(run.cols))
+
     def rows(self, found: list[Fields]) -> None:
-        """The hot loop: numbers and shared strings inline, anything else through
+        """Ordinary rows cell by cell: numbers and shared strings inline, anything else through
         :meth:`general`."""
         name, cells, book = self.scanner.sheet.name, self.cells, self.book
         strings, dates, styles, style_of = book.strings, book.dates, book.styles, book.style_of
         columns, known = COLUMN_CACHE, self.scanner.known_attributes
         add_constant = getattr(cells, "add_constant", None)  # a CompactCells store
+        index = self.index
+        texts, number_rows, number_cols = index.texts, index.rows, index.cols
+        number_values, from_formula = index.values, index.from_formula
         row_number, row_text = self.row_number, self.row_text
         max_row, max_col = self.max_row, self.max_col
         for (
@@ -113,22 +150,30 @@ class CellMaker:
                         value = NOT_A_NUMBER
                 else:
                     value = int(vtext)
+                number_format = styles.get(s) or style_of(s or None)
                 if add_constant is not None:
-                    add_constant(row, col, value, styles.get(s) or style_of(s or None))
-                    if col > max_col:
-                        max_col = col
-                    if row > max_row:
-                        max_row = row
-                    continue
-                cell = _new_cell(Cell)
-                _SET_SHEET(cell, name)
-                _SET_ROW(cell, row)
-                _SET_COL(cell, col)
-                _SET_VALUE(cell, value)
-                _SET_FORMULA(cell, None)
-                _SET_FORMAT(cell, styles.get(s) or style_of(s or None))
-                _SET_ARRAY(cell, None)
-                cells[(row, col)] = cell
+                    add_constant(row, col, value, number_format)
+                    cell = None
+                else:
+                    cell = _new_cell(Cell)
+                    _SET_SHEET(cell, name)
+                    _SET_ROW(cell, row)
+                    _SET_COL(cell, col)
+                    _SET_VALUE(cell, value)
+                    _SET_FORMULA(cell, None)
+                    _SET_FORMAT(cell, number_format)
+                    _SET_ARRAY(cell, None)
+                    cells[(row, col)] = cell
+                self.made += 1
+                if t == "s":
+                    texts.append(
+                        cell or built_cell(name, row, col, value, None, number_format, None)
+                    )
+                elif value is not NOT_A_NUMBER:
+                    number_rows.append(row)
+                    number_cols.append(col)
+                    number_values.append(value)  # type: ignore[arg-type]
+                    from_formula.append(0)
             if col > max_col:
                 max_col = col
             if row > max_row:
@@ -181,7 +226,7 @@ class CellMaker:
             formula, array_ref = self.scanner._formula(formula_el, row, col, value)
         if value is None and formula is None:
             return False
-        self.cells[(row, col)] = built_cell(
+        cell = built_cell(
             self.scanner.sheet.name,
             row,
             col,
@@ -190,7 +235,13 @@ class CellMaker:
             book.styles.get(s) or book.style_of(s),
             array_ref,
         )
+        self.cells[(row, col)] = cell
+        self.made += 1
+        self.index.add_cell(cell)
         return True
 
     def finish(self) -> None:
-        self.scanner.sheet.max_row, self.scanner.sheet.max_col = self.max_row, self.max_col
+        sheet = self.scanner.sheet
+        sheet.max_row, sheet.max_col = self.max_row, self.max_col
+        self.index.made, self.index.store = self.made, sheet.cells
+        sheet.index = self.index

@@ -16,6 +16,7 @@ what the file is and what to do. Macros in .xlsm files are never run: only works
 
 from __future__ import annotations
 
+from array import array
 from collections.abc import MutableMapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
@@ -73,6 +74,78 @@ class Cell:
         return f"{self.sheet}!{self.coord}"
 
 
+@dataclass(eq=False)
+class SheetIndex:
+    """What the fast reader saw of a sheet while it typed the cells, kept so that later stages
+    need not walk every cell again (on a sheet of data nearly every cell is a number, and the
+    searches want only the numbers, only the formulas or only the text):
+
+    - every cell holding a finite int or float (not a bool, text, error or empty cell), typed
+      constants and formulas' stored values alike: row, column, value and a formula flag as
+      packed arrays;
+    - the cells holding text (typed, shared, inline, or a formula's stored text);
+    - the cells holding a formula;
+
+    each in the sheet's own order (the order of ``Sheet.cells``). Read it through
+    :func:`sheet_index`, which gives it only while the cell store is the one it was made for and
+    holds as many cells as were made: a cell given twice, a merged cell dropped or a cell added
+    since makes it stale, and the callers walk the cells as before. Sheets built in memory
+    (tests) have none.
+    """
+
+    rows: array[int] = field(default_factory=lambda: array("q"))
+    cols: array[int] = field(default_factory=lambda: array("q"))
+    values: array[float] = field(default_factory=lambda: array("d"))
+    from_formula: array[int] = field(default_factory=lambda: array("b"))  # 1: a stored value
+    texts: list[Cell] = field(default_factory=list)
+    formulas: list[Cell] = field(default_factory=list)
+    made: int = 0  # cells the reader put in the store
+    store: MutableMapping[tuple[int, int], Cell] | None = None  # the store it describes
+
+    def add_numbers(self, rows: list[int], cols: list[int], values: array[float]) -> None:
+        """Typed constants, in order (every value a finite int or float)."""
+        self.rows.extend(rows)
+        self.cols.extend(cols)
+        self.values.extend(values)
+        self.from_formula.extend(bytes(len(rows)))
+
+    def add_cell(self, cell: Cell) -> None:
+        """Any cell as the reader made it."""
+        value = cell.value
+        kind = type(value)
+        if kind is str:
+            self.texts.append(cell)
+        elif (kind is float and value - value == 0.0) or kind is int:  # type: ignore[operator]
+            self.rows.append(cell.row)
+            self.cols.append(cell.col)
+            self.values.append(value)  # type: ignore[arg-type]
+            self.from_formula.append(cell.formula is not None)
+        if cell.formula:
+            self.formulas.append(cell)
+
+    def numbers(self, formulas: bool = False) -> tuple[array[int], array[int], array[float]]:
+        """Rows, columns and values of the typed numbers (``formulas``: and of the formulas'
+        stored numbers), in the sheet's order; new arrays, the caller's to keep."""
+        if formulas or not any(self.from_formula):
+            return self.rows[:], self.cols[:], self.values[:]
+        import numpy as np  # only here: the data classes load without it
+
+        typed = np.frombuffer(self.from_formula, dtype=np.int8) == 0
+        return (
+            array("q", np.frombuffer(self.rows, dtype=np.int64)[typed].tobytes()),
+            array("q", np.frombuffer(self.cols, dtype=np.int64)[typed].tobytes()),
+            array("d", np.frombuffer(self.values, dtype=np.float64)[typed].tobytes()),
+        )
+
+
+def sheet_index(sheet: Sheet) -> SheetIndex | None:
+    """The reader's index of ``sheet`` while it still describes the cells; else None."""
+    index = sheet.index
+    if index is None or index.store is not sheet.cells or index.made != len(sheet.cells):
+        return None
+    return index
+
+
 @dataclass
 class Sheet:
     name: str
@@ -81,6 +154,8 @@ class Sheet:
     cells: MutableMapping[tuple[int, int], Cell] = field(default_factory=dict)
     max_row: int = 0
     max_col: int = 0
+    # What the fast reader saw while typing the cells (SheetIndex; read it through sheet_index()).
+    index: SheetIndex | None = field(default=None, compare=False, repr=False)
 
     def get(self, row: int, col: int) -> Cell | None:
         return self.cells.get((row, col))
@@ -158,6 +233,10 @@ class Workbook:
     def formula_cells(self) -> list[Cell]:
         found: list[Cell] = []
         for sheet in self.sheets.values():
+            index = sheet_index(sheet)
+            if index is not None:
+                found.extend(index.formulas)
+                continue
             # A compact store (auditor.read.compact) holds every formula cell as an object.
             stored = getattr(sheet.cells, "stored_cells", None)
             cells = stored() if stored is not None else sheet.cells.values()

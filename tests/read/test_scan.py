@@ -26,7 +26,7 @@ from test_fuzz import SOURCES, mutate
 
 from auditor.errors import UnreadableWorkbook
 from auditor.read import scan
-from auditor.read.equality import workbook_differences
+from auditor.read.equality import index_differences, workbook_differences
 from auditor.read.open import read_workbook
 from auditor.read.workbook import ErrorValue, Workbook
 
@@ -54,6 +54,7 @@ def _assert_same(path: Path) -> tuple[Workbook | str, Counter[str]]:
         assert fast == slow
     else:
         assert workbook_differences(slow, fast) == []
+        assert index_differences(fast) == []
     return fast, handed
 
 
