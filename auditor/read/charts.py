@@ -29,6 +29,7 @@ from auditor.read.parts import SheetEntry, read_relationships
 from auditor.read.xmlsafe import parse_part
 
 CHART_NS = "{http://schemas.openxmlformats.org/drawingml/2006/chart}"
+_POINT, _VALUE = f"{CHART_NS}pt", f"{CHART_NS}v"
 MAX_CHART_PARTS = 500  # a workbook with more charts than this is not a regression workbook
 # Plots whose series carry x values of their own; the others plot against categories 1..n.
 XY_PLOTS = ("scatter", "bubble")
@@ -192,15 +193,28 @@ def _points(cache: Any) -> tuple[float | str | None, ...]:
         return ()
     count = _int_val(cache.find(f"{CHART_NS}ptCount")) or 0
     points: dict[int, float | str] = {}
-    for point in cache.iterfind(f"{CHART_NS}pt"):
-        index = _int_attr(point.get("idx"))
-        value_element = point.find(f"{CHART_NS}v")
-        if index is None or value_element is None or value_element.text is None:
+    # Children taken by position rather than found by path (the <c:v> is nearly always a
+    # point's first child): a chart of thousands of points is read several times faster.
+    for point in cache.iterchildren(_POINT):
+        value_element = point[0] if len(point) else None
+        if value_element is None or value_element.tag != _VALUE:
+            value_element = point.find(_VALUE)
+        if value_element is None or value_element.text is None:
             continue
-        points[index] = _number_or_text(value_element.text)
+        index_text = point.get("idx")
+        try:
+            index = int(index_text) if index_text is not None else None
+        except ValueError:
+            continue
+        if index is None:
+            continue
+        try:
+            points[index] = float(value_element.text)
+        except ValueError:
+            points[index] = value_element.text
     count = max([count, *(i + 1 for i in points)]) if points else count
     count = min(count, 1_048_576)  # never more points than a sheet has rows
-    return tuple(points.get(i) for i in range(count))
+    return tuple(map(points.get, range(count)))
 
 
 def _trendline(element: Any) -> Trendline:

@@ -10,12 +10,12 @@ from __future__ import annotations
 
 from typing import Any
 
-from openpyxl.formula.translate import Translator
 from openpyxl.utils.datetime import from_ISO8601, to_excel
 
 from auditor.errors import UnreadableWorkbook
 from auditor.grid import column_letter
 from auditor.read.book import COLUMN_CACHE, BookState, cell_bounds, column_number
+from auditor.read.shared_formulas import SharedFormula
 from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet
 from auditor.read.xmlsafe import iter_part, prune
 
@@ -110,7 +110,7 @@ class SheetReader:
     def __init__(self, book: BookState, name: str) -> None:
         self.book = book
         self.sheet = Sheet(name=name)
-        self.translators: dict[str, Translator] = {}
+        self.shared_formulas: dict[str, SharedFormula] = {}  # by "si"
         self.merges: list[str] = []
 
     def read(self, part: str) -> Sheet:
@@ -220,18 +220,18 @@ class SheetReader:
             book.add_array(self.sheet.name, array_ref)
         elif kind == "shared":
             index = element.get("si") or ""
-            translator = self.translators.get(index)
-            coord = f"{column_letter(col)}{row}"
-            if translator is not None:
+            shared = self.shared_formulas.get(index)
+            if shared is not None:
                 try:
-                    text = translator.translate_formula(coord)
+                    text = shared.at(row, col)
                 except Exception as exc:  # openpyxl's translator raises several types
                     raise UnreadableWorkbook(
-                        f"{book.label}: sheet {self.sheet.name!r}: the shared formula at {coord} "
-                        f"cannot be expanded ({type(exc).__name__}: {exc}); the file is damaged"
+                        f"{book.label}: sheet {self.sheet.name!r}: the shared formula at "
+                        f"{column_letter(col)}{row} cannot be expanded "
+                        f"({type(exc).__name__}: {exc}); the file is damaged"
                     ) from exc
             elif text != "=":
-                self.translators[index] = Translator(text, coord)
+                self.shared_formulas[index] = SharedFormula(text, row, col)
         elif kind == "dataTable":
             return None, None  # a what-if table: its cells keep their stored values
         book.formula_count += 1

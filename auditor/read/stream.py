@@ -4,8 +4,9 @@ openpyxl keeps either the formula or the stored value of a cell per load, so rea
 two full loads. This reader streams each sheet part once with ``lxml.etree.iterparse``
 (through :mod:`auditor.read.xmlsafe`, so entity tricks cannot work) and takes both from the same
 ``<c>`` element: the ``<f>`` child, the ``<v>`` child read according to the ``t`` attribute, and
-the ``s`` attribute's number format. Shared formulas are expanded with openpyxl's
-``Translator``, as openpyxl's own normal load does; array formulas keep their block.
+the ``s`` attribute's number format. Shared formulas are expanded as openpyxl's ``Translator``
+expands them in its own normal load (:mod:`auditor.read.shared_formulas`, a template made once
+per group); array formulas keep their block.
 
 Each sheet part is read first by the fast scanner (:mod:`auditor.read.scan`: regular
 expressions over the inflated XML, proven to give the same cells), and by the lxml loop of

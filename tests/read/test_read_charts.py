@@ -7,12 +7,15 @@ DrawingML schema); the expected values are what the test itself wrote into them.
 
 from __future__ import annotations
 
+import random
 import re
 from pathlib import Path
 
 import xlsxwriter
+from lxml import etree
 from package_builders import read_parts, write_package
 
+from auditor.read.charts import CHART_NS, _points
 from auditor.read.open import read_workbook
 
 SHEETS = ("Run Data", "O'Hare Line", "Данные", "測定")
@@ -140,3 +143,49 @@ def test_a_chart_part_with_a_document_type_is_refused(tmp_path: Path) -> None:
     path = _rewrite_chart(_book(tmp_path / "a.xlsx"), tmp_path / "dtd.xlsx", hostile)
     damaged = read_workbook(path).charts[0]
     assert damaged.series == () and "document type" in damaged.problem
+
+
+def _points_by_path(cache: etree._Element) -> tuple[float | str | None, ...]:
+    """The definition: each <c:pt>'s first <c:v> found by path, idx and text as written."""
+    count = int(cache.find(f"{CHART_NS}ptCount").get("val"))  # type: ignore[union-attr, arg-type]
+    points: dict[int, float | str] = {}
+    for point in cache.iterfind(f"{CHART_NS}pt"):
+        value = point.find(f"{CHART_NS}v")
+        try:
+            index = int(point.get("idx"))  # type: ignore[arg-type]
+        except (TypeError, ValueError):
+            continue
+        if value is None or value.text is None:
+            continue
+        try:
+            points[index] = float(value.text)
+        except ValueError:
+            points[index] = value.text
+    count = max([count, *(i + 1 for i in points)]) if points else count
+    return tuple(points.get(i) for i in range(count))
+
+
+def test_cached_points_are_read_as_their_definition_says() -> None:
+    """Generated caches with points out of order, repeated, without an index or a value, with
+    the value after another child or given twice, and values that are not numbers."""
+    rng = random.Random(5)
+    ns = CHART_NS[1:-1]
+    for _ in range(300):
+        points = []
+        for _ in range(rng.randint(0, 12)):
+            idx = rng.choice(
+                ["", ' idx="0"', f' idx="{rng.randint(0, 15)}"', ' idx="x"', ' idx=" 2"']
+            )
+            value = rng.choice(["1.5", "-2", "7e3", "abc", "", " 4 ", "inf", "<![CDATA[9]]>"])
+            inner = rng.choice(
+                [f"<c:v>{value}</c:v>", f'<c:formatCode x="1"/><c:v>{value}</c:v>', "<c:v/>", ""]
+            )
+            if rng.random() < 0.1:
+                inner += "<c:v>99</c:v>"
+            points.append(f"<c:pt{idx}>{inner}</c:pt>")
+        text = (
+            f'<c:numCache xmlns:c="{ns}"><c:ptCount val="{rng.randint(0, 10)}"/>'
+            f"{''.join(points)}</c:numCache>"
+        )
+        cache = etree.fromstring(text, etree.XMLParser(remove_comments=True, remove_pis=True))
+        assert _points(cache) == _points_by_path(cache), text

@@ -1,0 +1,114 @@
+"""Shared formulas: the anchor's text, moved to each cell of the block as openpyxl moves it.
+
+A workbook saved by a spreadsheet application writes a filled-down column once, on its first
+cell (``<f t="shared" ref="C2:C900" si="0">A2*B2</f>``), and the other cells name only the
+group (``<f t="shared" si="0"/>``). openpyxl's ``Translator`` gives each cell its own text: it
+walks the anchor's tokens and rewrites every relative reference by the cell's offset, with
+regular expressions, on every cell. That was a third of the reading time of workbooks saved by
+Excel. :class:`SharedFormula` does openpyxl's rewriting once, on the anchor, into a template:
+the text between references as fixed pieces, each relative row and column as a number to
+offset. A cell's text is then the pieces joined with the offset numbers.
+
+The output is ``Translator.translate_formula``'s, character for character, and so are its
+failures (the same tokenizer error when the anchor cannot be tokenised; ``TranslatorError``,
+"Formula out of range", when a reference would leave the sheet): the same regular expressions
+and column conversions decide what is a reference (``tests/read/test_shared_formulas.py``
+compares the two on generated formulas and offsets).
+"""
+
+from __future__ import annotations
+
+from openpyxl.formula.tokenizer import Token, Tokenizer
+from openpyxl.formula.translate import Translator, TranslatorError
+from openpyxl.utils import column_index_from_string, get_column_letter
+
+# A piece of a template: fixed text, or a relative row (True) or column (False) and its number
+# at the anchor.
+_Piece = str | tuple[bool, int]
+
+
+class SharedFormula:
+    """The text of a shared formula's anchor at (``row``, ``col``), ready to be moved."""
+
+    def __init__(self, formula: str, row: int, col: int) -> None:
+        self.row, self.col = row, col
+        tokens = Tokenizer(formula).items
+        self.fixed: str | None = None  # the text every cell gets, when nothing moves
+        self.pieces: list[_Piece] = []
+        if not tokens:
+            self.fixed = ""
+        elif tokens[0].type == Token.LITERAL:
+            self.fixed = tokens[0].value
+        else:
+            pieces: list[_Piece] = ["="]
+            for token in tokens:
+                if token.type == Token.OPERAND and token.subtype == Token.RANGE:
+                    pieces += _reference(token.value)
+                else:
+                    pieces.append(token.value)
+            self.pieces = _merged(pieces)
+            if len(self.pieces) == 1 and isinstance(self.pieces[0], str):
+                self.fixed = self.pieces[0]
+
+    def at(self, row: int, col: int) -> str:
+        """The formula as it reads in the cell at (``row``, ``col``)."""
+        if self.fixed is not None:
+            return self.fixed
+        row_delta, col_delta = row - self.row, col - self.col
+        out: list[str] = []
+        for piece in self.pieces:
+            if isinstance(piece, str):
+                out.append(piece)
+            elif piece[0]:
+                moved = piece[1] + row_delta
+                if moved <= 0:
+                    raise TranslatorError("Formula out of range")
+                out.append(str(moved))
+            else:
+                try:
+                    out.append(get_column_letter(piece[1] + col_delta))
+                except ValueError:
+                    raise TranslatorError("Formula out of range") from None
+        return "".join(out)
+
+
+def _reference(text: str) -> list[_Piece]:
+    """``Translator.translate_range`` as a template: the same tests in the same order."""
+    sheet, bang, reference = text.rpartition("!")
+    sheet_part = sheet + bang
+    match = Translator.ROW_RANGE_RE.match(reference)  # e.g. 3:4
+    if match is not None:
+        return [sheet_part, _row(match.group(1)), ":", _row(match.group(2))]
+    match = Translator.COL_RANGE_RE.match(reference)  # e.g. A:BC
+    if match is not None:
+        return [sheet_part, _col(match.group(1)), ":", _col(match.group(2))]
+    if ":" in reference:  # e.g. A1:B5, or ends given by names
+        pieces: list[_Piece] = [sheet_part]
+        for number, end in enumerate(reference.split(":")):
+            if number:
+                pieces.append(":")
+            pieces += _reference(end)
+        return pieces
+    match = Translator.CELL_REF_RE.match(reference)
+    if match is None:  # a name: openpyxl gives it without its sheet
+        return [reference]
+    return [sheet_part, _col(match.group(1)), _row(match.group(2))]
+
+
+def _row(text: str) -> _Piece:
+    return text if text.startswith("$") else (True, int(text))
+
+
+def _col(text: str) -> _Piece:
+    return text if text.startswith("$") else (False, column_index_from_string(text))
+
+
+def _merged(pieces: list[_Piece]) -> list[_Piece]:
+    """Neighbouring fixed pieces joined into one."""
+    out: list[_Piece] = []
+    for piece in pieces:
+        if isinstance(piece, str) and out and isinstance(out[-1], str):
+            out[-1] += piece
+        elif piece != "":
+            out.append(piece)
+    return out
