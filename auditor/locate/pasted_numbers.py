@@ -20,12 +20,12 @@ from collections.abc import Iterator, Mapping
 import numpy as np
 
 from auditor.read.compact import CompactCells
+from auditor.read.numbers import COLUMN_BITS as _COLUMN_BITS
+from auditor.read.numbers import COLUMN_MASK as _COLUMN_MASK
 from auditor.read.workbook import Sheet, sheet_index
 
 MAX_DENSE_CELLS = 20_000_000  # the anchor search's dense bounding box (with its padding)
 PADDING = 6  # rows and columns of NaN after the last number (the identities read 4 ahead)
-_COLUMN_BITS = 15  # columns 1..16,384 (XFD)
-_COLUMN_MASK = (1 << _COLUMN_BITS) - 1
 _MAX_ROW = 1 << 47  # beyond any sheet: a damaged file's rows keep the dict
 
 
@@ -109,7 +109,7 @@ def entries(sheet: Sheet, formulas: bool = False) -> tuple[array[int], array[int
     stored numbers), in the sheet's order: from the reader's index when it has one."""
     index = sheet_index(sheet)
     if index is not None:
-        return index.numbers(formulas)
+        return index.numbers.arrays(formulas)
     rows, cols, values = array("q"), array("q"), array("d")
     cells = sheet.cells
     if isinstance(cells, CompactCells):
@@ -130,6 +130,16 @@ def entries(sheet: Sheet, formulas: bool = False) -> tuple[array[int], array[int
 def number_grid(sheet: Sheet) -> Mapping[tuple[int, int], float]:
     """Numbers typed or pasted as values (formulas, logicals and text left out): a
     :class:`NumberGrid`, or the plain dict for an empty sheet or one of huge extent."""
+    index = sheet_index(sheet)
+    if index is not None:  # the reader's packed keys and values, not copied
+        keys, floats = index.numbers.packed()
+        if len(keys) > 0:
+            columns = keys & _COLUMN_MASK
+            top, bottom = int(keys.min()) >> _COLUMN_BITS, int(keys.max()) >> _COLUMN_BITS
+            left, right = int(columns.min()), int(columns.max())
+            extent = (bottom - top + PADDING) * (right - left + PADDING)
+            if extent <= MAX_DENSE_CELLS and bottom < _MAX_ROW:
+                return NumberGrid(keys, floats, left, right)
     rows, cols, values = entries(sheet)
     if len(rows) > 0:
         row_array = np.frombuffer(rows, dtype=np.int64)

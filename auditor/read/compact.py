@@ -24,15 +24,15 @@ from collections.abc import ItemsView, Iterator, MutableMapping, ValuesView
 
 import numpy as np
 
+from auditor.read.numbers import COLUMN_BITS as _COLUMN_BITS
+from auditor.read.numbers import COLUMN_MASK as _COLUMN_MASK
 from auditor.read.sheet import built_cell
 from auditor.read.workbook import Cell, CellValue
 
 # Inflated sheet XML from which the store is used (a million rows of two columns is ~90 MB);
 # $REGAUDIT_COMPACT_BYTES (internal) sets it, e.g. to 0 to audit every fixture with the store.
 COMPACT_PART_BYTES = int(os.environ.get("REGAUDIT_COMPACT_BYTES") or 48 << 20)
-_COLUMN_BITS = 15  # columns 1..16,384 (XFD)
 _OBJECT = 0xFFFF  # format index meaning "the list holds the Cell itself"
-_COLUMN_MASK = (1 << _COLUMN_BITS) - 1
 _MAX_PACKED = 1 << 62  # rows beyond any sheet (a damaged file) go to the dict
 
 

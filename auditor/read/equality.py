@@ -92,10 +92,7 @@ def index_differences(workbook: Workbook) -> list[str]:
         if index is None:
             continue
         numbers = [
-            (row, col, repr(value), bool(flag))
-            for row, col, value, flag in zip(
-                index.rows, index.cols, index.values, index.from_formula, strict=True
-            )
+            (row, col, repr(value), formula) for row, col, value, formula in index.numbers.entries()
         ]
         texts = [_cell_key(c) for c in index.texts]
         formulas = [_cell_key(c) for c in index.formulas]

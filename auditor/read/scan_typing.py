@@ -10,6 +10,7 @@ from __future__ import annotations
 from typing import Any, Protocol
 
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
+from auditor.read.numbers import COLUMN_BITS
 from auditor.read.scan_markup import Node, Unrecognised, plain_text, unescape
 from auditor.read.scan_plain import PlainFields, plain_cells, typed_run
 from auditor.read.sheet import (
@@ -90,7 +91,7 @@ class CellMaker:
                 if type(value) is str:
                     index.texts.append(built_cell(name, row, col, value, None, number_format, None))
         self.made += len(run.rows)
-        index.add_numbers(*run.number_positions(), run.numbers)
+        index.numbers.add_typed(*run.number_positions(), run.numbers)
         self.max_row = max(self.max_row, max(run.rows))
         self.max_col = max(self.max_col, max(run.cols))
 
@@ -102,8 +103,7 @@ class CellMaker:
         columns, known = COLUMN_CACHE, self.scanner.known_attributes
         add_constant = getattr(cells, "add_constant", None)  # a CompactCells store
         index = self.index
-        texts, number_rows, number_cols = index.texts, index.rows, index.cols
-        number_values, from_formula = index.values, index.from_formula
+        texts, number_keys, number_values = index.texts, index.numbers.keys, index.numbers.values
         row_number, row_text = self.row_number, self.row_text
         max_row, max_col = self.max_row, self.max_col
         for (
@@ -170,10 +170,8 @@ class CellMaker:
                         cell or built_cell(name, row, col, value, None, number_format, None)
                     )
                 elif value is not NOT_A_NUMBER:
-                    number_rows.append(row)
-                    number_cols.append(col)
+                    number_keys.append(row << COLUMN_BITS | col)
                     number_values.append(value)  # type: ignore[arg-type]
-                    from_formula.append(0)
             if col > max_col:
                 max_col = col
             if row > max_row:

@@ -16,7 +16,6 @@ what the file is and what to do. Macros in .xlsm files are never run: only works
 
 from __future__ import annotations
 
-from array import array
 from collections.abc import MutableMapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
@@ -25,6 +24,7 @@ if TYPE_CHECKING:
     from auditor.read.charts import Chart
 
 from auditor.grid import column_letter
+from auditor.read.numbers import NumberIndex
 
 ERROR_CODES = (
     "#NULL!",
@@ -81,8 +81,8 @@ class SheetIndex:
     searches want only the numbers, only the formulas or only the text):
 
     - every cell holding a finite int or float (not a bool, text, error or empty cell), typed
-      constants and formulas' stored values alike: row, column, value and a formula flag as
-      packed arrays;
+      constants and formulas' stored values alike, as packed arrays
+      (:class:`~auditor.read.numbers.NumberIndex`);
     - the cells holding text (typed, shared, inline, or a formula's stored text);
     - the cells holding a formula;
 
@@ -93,21 +93,11 @@ class SheetIndex:
     (tests) have none.
     """
 
-    rows: array[int] = field(default_factory=lambda: array("q"))
-    cols: array[int] = field(default_factory=lambda: array("q"))
-    values: array[float] = field(default_factory=lambda: array("d"))
-    from_formula: array[int] = field(default_factory=lambda: array("b"))  # 1: a stored value
+    numbers: NumberIndex = field(default_factory=NumberIndex)
     texts: list[Cell] = field(default_factory=list)
     formulas: list[Cell] = field(default_factory=list)
     made: int = 0  # cells the reader put in the store
     store: MutableMapping[tuple[int, int], Cell] | None = None  # the store it describes
-
-    def add_numbers(self, rows: list[int], cols: list[int], values: array[float]) -> None:
-        """Typed constants, in order (every value a finite int or float)."""
-        self.rows.extend(rows)
-        self.cols.extend(cols)
-        self.values.extend(values)
-        self.from_formula.extend(bytes(len(rows)))
 
     def add_cell(self, cell: Cell) -> None:
         """Any cell as the reader made it."""
@@ -116,26 +106,9 @@ class SheetIndex:
         if kind is str:
             self.texts.append(cell)
         elif (kind is float and value - value == 0.0) or kind is int:  # type: ignore[operator]
-            self.rows.append(cell.row)
-            self.cols.append(cell.col)
-            self.values.append(value)  # type: ignore[arg-type]
-            self.from_formula.append(cell.formula is not None)
+            self.numbers.add(cell.row, cell.col, value, cell.formula is not None)  # type: ignore[arg-type]
         if cell.formula:
             self.formulas.append(cell)
-
-    def numbers(self, formulas: bool = False) -> tuple[array[int], array[int], array[float]]:
-        """Rows, columns and values of the typed numbers (``formulas``: and of the formulas'
-        stored numbers), in the sheet's order; new arrays, the caller's to keep."""
-        if formulas or not any(self.from_formula):
-            return self.rows[:], self.cols[:], self.values[:]
-        import numpy as np  # only here: the data classes load without it
-
-        typed = np.frombuffer(self.from_formula, dtype=np.int8) == 0
-        return (
-            array("q", np.frombuffer(self.rows, dtype=np.int64)[typed].tobytes()),
-            array("q", np.frombuffer(self.cols, dtype=np.int64)[typed].tobytes()),
-            array("d", np.frombuffer(self.values, dtype=np.float64)[typed].tobytes()),
-        )
 
 
 def sheet_index(sheet: Sheet) -> SheetIndex | None:

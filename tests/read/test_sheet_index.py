@@ -21,7 +21,7 @@ from package_builders import package_parts, sheet_xml, write_package
 
 from auditor.evaluation.layout import FormulaLayout
 from auditor.grid import column_letter
-from auditor.locate.pasted_numbers import entries
+from auditor.locate.pasted_numbers import entries, number_grid
 from auditor.locate.text_cells import text_cells
 from auditor.read import compact, scan
 from auditor.read.equality import index_differences, workbook_differences
@@ -98,6 +98,8 @@ def _assert_index_agrees(path: Path) -> Workbook:
         other = walked.sheets[name]
         for formulas in (False, True):
             assert entries(sheet, formulas) == entries(other, formulas)
+        grid, walked_grid = number_grid(sheet), number_grid(other)
+        assert type(grid) is type(walked_grid) and list(grid.items()) == list(walked_grid.items())
         assert text_cells(fast, sheet) == text_cells(walked, other)
     assert FormulaLayout.of(fast) == FormulaLayout.of(walked)
     assert fast.formula_cells() == walked.formula_cells()
@@ -129,11 +131,11 @@ def test_the_index_of_a_known_sheet(tmp_path: Path) -> None:
     book = _assert_index_agrees(_book(tmp_path, "known", {"S": sheet_xml(rows)}))
     index = sheet_index(book.sheets["S"])
     assert index is not None
-    assert list(zip(index.rows, index.cols, index.values, index.from_formula, strict=True)) == [
-        (1, 2, 3.0, 0),
-        (1, 4, 44000.0, 0),  # a date is its serial number
-        (2, 1, 2.5, 0),
-        (2, 2, 5.0, 1),
+    assert index.numbers.entries() == [
+        (1, 2, 3.0, False),
+        (1, 4, 44000.0, False),  # a date is its serial number
+        (2, 1, 2.5, False),
+        (2, 2, 5.0, True),
     ]
     assert [c.coord for c in index.texts] == ["A1", "D2"]
     assert [c.coord for c in index.formulas] == ["B2", "D2"]
