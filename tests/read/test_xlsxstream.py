@@ -205,3 +205,22 @@ def test_cells_without_references_follow_their_neighbours(tmp_path: Path) -> Non
     cells = read_workbook(path).sheets["S"].cells
     assert {k: c.value for k, c in cells.items()} == {(1, 1): 1, (1, 2): 2, (2, 3): 3, (2, 4): 4}
     assert _differences(read_workbook(path, engine="openpyxl"), read_workbook(path)) == []
+
+
+def test_a_workbook_read_is_freed_when_dropped_and_leaves_no_cycles(tmp_path: Path) -> None:
+    """The reader freezes what is alive after a reading (the collector then leaves the cells
+    alone): the workbook must still be freed as soon as it is dropped, and the reference
+    cycles the reading made must be collected before the freeze, not kept for ever."""
+    import gc
+    import weakref
+
+    rows = "".join(f'<row r="{r}"><c r="A{r}"><v>{r}</v></c></row>' for r in range(1, 50))
+    path = write_package(tmp_path / "freed.xlsx", package_parts({"S": sheet_xml(rows)}))
+    gc.unfreeze()  # what earlier readings in this process froze: not this test's to judge
+    gc.collect()
+    book = read_workbook(path)
+    sheet = weakref.ref(book.sheets["S"])
+    gc.unfreeze()  # what was frozen goes back to the collector's care: none of it is garbage
+    assert gc.collect() == 0
+    del book
+    assert sheet() is None
