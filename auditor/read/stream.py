@@ -98,11 +98,15 @@ def _read_book(
 
 
 def _settle() -> None:
-    """After a reading: collect the few reference cycles it left (the sheet readers and their
-    cell makers), then freeze what is alive, so that the collector does not scan the cells again
-    and again while the workbook is audited (a sixth of the audit's time at 200,000 rows). Frozen
-    objects are still freed as soon as nothing refers to them; only a cycle through one of them
-    would wait, and nothing the audit makes refers back into a workbook."""
+    """After a reading inside a run that keeps its long-lived objects frozen
+    (:func:`auditor.pipeline.collector.frozen`, which unfreezes them when the run ends): collect
+    the few reference cycles the reading left (the sheet readers and their cell makers), then
+    freeze the workbook with the rest, so that the collector does not scan its cells again and
+    again while it is audited (a sixth of the audit's time at 200,000 rows). Frozen objects are
+    still freed as soon as nothing refers to them. Outside such a run (a notebook, a test) the
+    collector is left as it was."""
+    if gc.get_freeze_count() == 0:
+        return
     gc.collect()
     gc.freeze()
 

@@ -207,20 +207,31 @@ def test_cells_without_references_follow_their_neighbours(tmp_path: Path) -> Non
     assert _differences(read_workbook(path, engine="openpyxl"), read_workbook(path)) == []
 
 
-def test_a_workbook_read_is_freed_when_dropped_and_leaves_no_cycles(tmp_path: Path) -> None:
-    """The reader freezes what is alive after a reading (the collector then leaves the cells
-    alone): the workbook must still be freed as soon as it is dropped, and the reference
-    cycles the reading made must be collected before the freeze, not kept for ever."""
+def test_inside_a_frozen_run_a_workbook_read_is_frozen_freed_when_dropped_and_leaves_no_cycles(
+    tmp_path: Path,
+) -> None:
+    """Inside a run that freezes its long-lived objects the reader freezes the workbook too (the
+    collector then leaves the cells alone): it must still be freed as soon as it is dropped, and
+    the reference cycles the reading made must be collected before the freeze, not kept for
+    ever. Outside such a run the reader freezes nothing."""
     import gc
     import weakref
 
+    from auditor.pipeline.collector import frozen
+
     rows = "".join(f'<row r="{r}"><c r="A{r}"><v>{r}</v></c></row>' for r in range(1, 50))
     path = write_package(tmp_path / "freed.xlsx", package_parts({"S": sheet_xml(rows)}))
-    gc.unfreeze()  # what earlier readings in this process froze: not this test's to judge
+    gc.unfreeze()  # whatever earlier tests froze: not this test's to judge
     gc.collect()
-    book = read_workbook(path)
-    sheet = weakref.ref(book.sheets["S"])
-    gc.unfreeze()  # what was frozen goes back to the collector's care: none of it is garbage
-    assert gc.collect() == 0
-    del book
-    assert sheet() is None
+    read_workbook(path)
+    assert gc.get_freeze_count() == 0
+    gc.collect()  # that reading's cycles: frozen() would keep them until it ends
+    with frozen():
+        before = gc.get_freeze_count()
+        book = read_workbook(path)
+        assert gc.get_freeze_count() > before + 49  # the cells among what was frozen
+        sheet = weakref.ref(book.sheets["S"])
+        gc.unfreeze()  # what was frozen goes back to the collector's care: none of it is garbage
+        assert gc.collect() == 0
+        del book
+        assert sheet() is None
