@@ -208,17 +208,19 @@ def test_cells_without_references_follow_their_neighbours(tmp_path: Path) -> Non
 
 
 def test_inside_a_frozen_run_a_workbook_read_is_frozen_freed_when_dropped_and_leaves_no_cycles(
-    tmp_path: Path,
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     """Inside a run that freezes its long-lived objects the reader freezes the workbook too (the
     collector then leaves the cells alone): it must still be freed as soon as it is dropped, and
     the reference cycles the reading made must be collected before the freeze, not kept for
-    ever. Outside such a run the reader freezes nothing."""
+    ever. Outside such a run, or for a small workbook, the reader freezes nothing."""
     import gc
     import weakref
 
     from auditor.pipeline.collector import frozen
+    from auditor.read import stream
 
+    monkeypatch.setattr(stream, "SETTLE_CELLS", 10)  # the workbook below counts as large
     rows = "".join(f'<row r="{r}"><c r="A{r}"><v>{r}</v></c></row>' for r in range(1, 50))
     path = write_package(tmp_path / "freed.xlsx", package_parts({"S": sheet_xml(rows)}))
     gc.unfreeze()  # whatever earlier tests froze: not this test's to judge
@@ -228,6 +230,11 @@ def test_inside_a_frozen_run_a_workbook_read_is_frozen_freed_when_dropped_and_le
     gc.collect()  # that reading's cycles: frozen() would keep them until it ends
     with frozen():
         before = gc.get_freeze_count()
+        monkeypatch.setattr(stream, "SETTLE_CELLS", 50)
+        read_workbook(path)
+        assert gc.get_freeze_count() == before  # 49 cells: small
+        monkeypatch.setattr(stream, "SETTLE_CELLS", 10)
+        gc.collect()
         book = read_workbook(path)
         assert gc.get_freeze_count() > before + 49  # the cells among what was frozen
         sheet = weakref.ref(book.sheets["S"])
