@@ -10,12 +10,14 @@ from __future__ import annotations
 
 import bisect
 from dataclasses import dataclass
+from itertools import repeat
+from operator import attrgetter
 from typing import Any
 
 import numpy as np
 
 from auditor.errors import FormulaError, Unsupported, Unverifiable
-from auditor.evaluation.coerce import _constant, _result
+from auditor.evaluation.coerce import _constant, _result, constants
 from auditor.evaluation.expressions import ExpressionEvaluator
 from auditor.evaluation.layout import FormulaLayout, _Key
 from auditor.evaluation.values import (
@@ -31,6 +33,8 @@ from auditor.grid import column_letter
 from auditor.read.workbook import Cell, ErrorValue, Workbook
 
 MAX_BLOCK_CELLS = 20_000_000  # about 160 MB of object pointers; larger ranges are refused
+_NO_CELL = Cell("", 0, 0, None)  # what an absent cell reads as in a block: empty
+_VALUE_OF = attrgetter("value")
 
 
 class _Defer(Exception):
@@ -145,12 +149,10 @@ class Evaluator(ExpressionEvaluator):
         column_values = getattr(cells, "column_values", None)  # the compact store's slice
         for j, col in enumerate(range(ref.c1, c2 + 1)):
             stored = column_values(col, ref.r1, r2) if column_values is not None else None
-            if stored is not None:
-                out[:, j] = [_constant(value) for value in stored]
-                continue
-            found = [cells.get((row, col)) for row in row_span]
-            if any(c is not None for c in found):
-                out[:, j] = [None if c is None else _constant(c.value) for c in found]
+            if stored is None:  # each cell looked up, an absent one read as empty (None)
+                found = map(cells.get, zip(row_span, repeat(col)), repeat(_NO_CELL))
+                stored = list(map(_VALUE_OF, found))
+            out[:, j] = constants(stored)
         # Formula cells and array-block members hold stored values: replace them.
         for col, formula_rows in self._formula_rows.get(sheet.name, {}).items():
             if ref.c1 <= col <= c2:

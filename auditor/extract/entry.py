@@ -12,6 +12,7 @@ import numpy as np
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported, Unverifiable
 from auditor.extract.across import across
+from auditor.extract.bulk import collector_paused
 from auditor.extract.fallback import StoredFallback
 from auditor.extract.intended import IntendedRows
 from auditor.extract.pasted import pasted_points
@@ -128,7 +129,8 @@ def _extract(
     rows = IntendedRows(
         workbook, y_ref.sheet, x_cols, y_ref.c1, rows_referenced, result, cell_by_cell=cell_by_cell
     )
-    rows.add_all(first, last, x_block, y_column)
+    with collector_paused():  # a DataPoint and an x list per row: see auditor.extract.bulk
+        rows.add_all(first, last, x_block, y_column)
     result.x = np.array(rows.xs_used, dtype=float).reshape(-1, k)
     result.y = np.array(rows.ys_used, dtype=float)
     return result

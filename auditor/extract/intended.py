@@ -142,13 +142,13 @@ class IntendedRows:
         # number as one): those go cell by cell.
         mixed: set[int] = set()
         for column in [*x_columns, y_column]:
-            mixed.update(offset for offset, v in enumerate(column) if type(v) is not float)
+            if set(map(type, column)) - {float}:  # the types in one C pass; offsets if needed
+                mixed.update(offset for offset, v in enumerate(column) if type(v) is not float)
         # _row_label returns "" unless a label cell holds text, so only those rows (and rows
         # whose y matches the running sum or mean) need it.
         text_rows = _text_label_rows(self.workbook, self.sheet, first, last, self.label_col)
-        x_rows = (
-            [list(t) for t in zip(*x_columns, strict=True)] if x_columns else [[] for _ in rows]
-        )
+        # Each row's x values as a list of its own (the block's rows, in one C call).
+        x_rows: list[list[Any]] = x_block.tolist() if x_columns else [[] for _ in rows]
         # Between two such rows, runs of plain rows: their total-or-mean test done by numpy a
         # window at a time (_RunningTotal.plain_prefix), the rows then added in one loop.
         special = sorted(mixed | {r - first for r in text_rows if first <= r <= last})
@@ -190,7 +190,7 @@ class IntendedRows:
         """What _add_cell_by_cell gives for rows of floats that are not totals (the running sum
         is kept by the caller)."""
         rows = range(first + start, first + stop)
-        seen = [r in self.rows_referenced for r in rows]
+        seen = list(map(self.rows_referenced.__contains__, rows))
         reasons = ["" if in_refs else "outside the formula's range" for in_refs in seen]
         xs, ys = x_rows[start:stop], y_column[start:stop]
         self.result.points.extend(map(DataPoint, rows, xs, ys, repeat(True), seen, reasons))
