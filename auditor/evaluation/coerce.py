@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import math
 import re
+from itertools import compress, count, repeat
+from operator import is_
 from typing import Any
 
 import numpy as np
@@ -141,8 +143,14 @@ _AS_THEY_ARE = frozenset({float, str, bool, type(None), ErrorValue})
 
 
 def constants(values: list[Any]) -> list[Any]:
-    """``_constant`` of each value; the list itself when every value stays as it is (one pass
-    over the values' types in C instead of a call per cell)."""
-    if set(map(type, values)) <= _AS_THEY_ARE:
+    """``_constant`` of each value; the list itself when every value stays as it is. The
+    values' types are looked at in C (one pass, and one more per kind to change), and only the
+    cells of a kind that changes (ints, numpy scalars) go through ``_constant``."""
+    to_change = set(map(type, values)) - _AS_THEY_ARE
+    if not to_change:
         return values
-    return [_constant(value) for value in values]
+    out = list(values)
+    for kind in to_change:
+        for index in compress(count(), map(is_, map(type, values), repeat(kind))):
+            out[index] = _constant(values[index])
+    return out

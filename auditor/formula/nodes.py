@@ -130,18 +130,45 @@ def children(node: Node) -> tuple[Node, ...]:
     return ()
 
 
+def _push_children(stack: list[Node], node: Node) -> None:
+    """Put ``node``'s children on ``stack`` so that the first is popped first."""
+    kind = type(node)
+    if kind is Call:
+        stack.extend(reversed(node.args))  # type: ignore[union-attr]
+    elif kind is Binary:
+        stack.append(node.right)  # type: ignore[union-attr]
+        stack.append(node.left)  # type: ignore[union-attr]
+    elif kind is Unary or kind is Percent:
+        stack.append(node.operand)  # type: ignore[union-attr]
+    elif kind is ArrayNode:
+        stack.extend(reversed(children(node)))
+
+
 def walk(node: Node) -> Iterator[Node]:
     """Every node, depth-first, a parent before its children (iterative: trees can be deep)."""
     stack = [node]
     while stack:
         current = stack.pop()
         yield current
-        stack.extend(reversed(children(current)))
+        _push_children(stack, current)
+
+
+def _gather(node: Node, kind: type) -> list[Node]:
+    """The nodes of one kind, in the order ``walk`` meets them (one loop, no generator: these
+    are asked for thousands of times per workbook)."""
+    found: list[Node] = []
+    stack = [node]
+    while stack:
+        current = stack.pop()
+        if type(current) is kind:
+            found.append(current)
+        _push_children(stack, current)
+    return found
 
 
 def references(node: Node) -> list[Ref]:
-    return [n.ref for n in walk(node) if isinstance(n, RefNode)]
+    return [n.ref for n in _gather(node, RefNode)]  # type: ignore[union-attr]
 
 
 def calls(node: Node) -> list[Call]:
-    return [n for n in walk(node) if isinstance(n, Call)]
+    return _gather(node, Call)  # type: ignore[return-value]
