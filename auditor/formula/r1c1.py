@@ -158,12 +158,14 @@ def to_a1(formula: str, row: int, col: int) -> str:
     return rewrite_references(formula, a1_text, lambda text: parse_r1c1(text, row, col))
 
 
+@lru_cache(maxsize=16_384)
 def canonical(formula: str) -> str:
     """Formula text with spelling differences that change nothing removed, for comparisons.
 
     Function names upper case without ``_xlfn.``-style storage prefixes, ``TRUE()`` as ``TRUE``,
     names and references upper case, spaces dropped except where one is the intersection
-    operator. Text constants are kept exactly.
+    operator. Text constants are kept exactly. (Kept per text: the checks ask for each cell's
+    form more than once.)
     """
     tokens = _tokens(formula)
     out: list[str] = []

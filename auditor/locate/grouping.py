@@ -53,10 +53,15 @@ class PairGroups:
     def __init__(self, uses: list[PairUse]):
         self.uses = uses
         self.parent = list(range(len(uses)))
+        # Two calls name one regression only over ranges of the same sheets (x with x and y
+        # with y, or swapped): only calls of one set of sheets are compared.
+        earlier: dict[frozenset[str], list[int]] = {}
         for i, a in enumerate(uses):
-            for j in range(i):
+            sheets = frozenset((a.x.sheet.lower(), a.y.sheet.lower()))
+            for j in earlier.setdefault(sheets, []):
                 if same_regression(a, uses[j]):
                     self._union(i, j)
+            earlier[sheets].append(i)
 
     def _find(self, i: int) -> int:
         while self.parent[i] != i:
