@@ -34,7 +34,15 @@ from typing import Any
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.extract.fallback import StoredFallback
 from auditor.formula.syntax import Node, Ref, RefNode, Unary, calls, references
-from auditor.locate.handbuilt_sums import MIN_PAIRS, Moments, is_number, moments_of, same_number
+from auditor.locate.handbuilt_sums import (
+    MIN_PAIRS,
+    Moments,
+    Numbers,
+    is_number,
+    moments_between,
+    numbers_of,
+    same_number,
+)
 from auditor.locate.spec import overlaps
 from auditor.read.workbook import Cell, Workbook
 
@@ -105,6 +113,7 @@ class HandbuiltFinder:
         self._reach: dict[Key, Reach] = {}
         self._refs: dict[Key, list[Ref]] = {}
         self._values: dict[Ref, list[object] | None] = {}
+        self._numbers: dict[Ref, Numbers | None] = {}
         self._moments: dict[tuple[Ref, Ref], Moments | None] = {}
 
     # -- what a formula reads ---------------------------------------------------------------
@@ -170,16 +179,25 @@ class HandbuiltFinder:
         if ref not in self._values:
             try:
                 block = self.reader.range_values(ref)
-                self._values[ref] = list(block.reshape(-1))
+                self._values[ref] = block.reshape(-1).tolist()  # the cells' own objects
             except Unsupported:
                 self._values[ref] = None
         return self._values[ref]
 
+    def numbers(self, ref: Ref) -> Numbers | None:
+        """A range's numbers, found once however many pairs it is in."""
+        if ref not in self._numbers:
+            values = self.values(ref)
+            self._numbers[ref] = None if values is None else numbers_of(values)
+        return self._numbers[ref]
+
     def moments(self, y: Ref, x: Ref) -> Moments | None:
         if (y, x) not in self._moments:
-            y_values, x_values = self.values(y), self.values(x)
-            ok = y_values is not None and x_values is not None and len(y_values) == len(x_values)
-            self._moments[(y, x)] = moments_of(y_values, x_values) if ok else None  # type: ignore[arg-type]
+            y_numbers, x_numbers = self.numbers(y), self.numbers(x)
+            ok = (
+                y_numbers is not None and x_numbers is not None and len(y_numbers) == len(x_numbers)
+            )
+            self._moments[(y, x)] = moments_between(y_numbers, x_numbers) if ok else None  # type: ignore[arg-type]
         return self._moments[(y, x)]
 
     def cell_numbers(self, cell: Cell) -> list[float]:

@@ -101,12 +101,29 @@ def _number_mask(values: list[object]) -> np.ndarray | None:
     return np.fromiter((type(v) in numeric for v in values), dtype=bool, count=len(values))
 
 
-def _as_floats(values: list[object], mask: np.ndarray) -> np.ndarray:
-    """float() of the values the mask keeps, in their order."""
+@dataclass(frozen=True)
+class Numbers:
+    """One range's values as the sums read them: which are numbers (``is_number``), and each
+    number as a float (NaN where the cell holds none). Found once per range, then shared by
+    every pair the range is in."""
+
+    mask: np.ndarray
+    floats: np.ndarray
+
+    def __len__(self) -> int:
+        return int(self.mask.size)
+
+
+def numbers_of(values: list[object]) -> Numbers | None:
+    """The numbers of a range's values; None when one is an error value."""
+    mask = _number_mask(values)
+    if mask is None:
+        return None
     if mask.all():
-        return np.array(values, dtype=float)
-    kept: np.ndarray = np.array(values, dtype=object)[mask].astype(float)
-    return kept
+        return Numbers(mask, np.array(values, dtype=float))
+    floats = np.full(len(values), np.nan)
+    floats[mask] = np.array(values, dtype=object)[mask].astype(float)  # float() of each number
+    return Numbers(mask, floats)
 
 
 def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None:
@@ -114,13 +131,20 @@ def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None
     than three pairs, or x does not vary."""
     if len(y_values) != len(x_values):
         raise ValueError("y and x differ in length")
-    y_numbers, x_numbers = _number_mask(y_values), _number_mask(x_values)
+    y_numbers, x_numbers = numbers_of(y_values), numbers_of(x_values)
     if y_numbers is None or x_numbers is None:
         return None
-    paired = y_numbers & x_numbers
+    return moments_between(y_numbers, x_numbers)
+
+
+def moments_between(y: Numbers, x: Numbers) -> Moments | None:
+    """:func:`moments_of` for ranges whose numbers are found already."""
+    if len(y) != len(x):
+        raise ValueError("y and x differ in length")
+    paired = y.mask & x.mask
     if int(paired.sum()) < MIN_PAIRS:
         return None
-    ys, xs = _as_floats(y_values, paired), _as_floats(x_values, paired)
+    ys, xs = y.floats[paired], x.floats[paired]
     if np.array_equal(ys, xs):
         return None  # a column against itself (or its copy): slope 1 by construction
     if np.unique(xs).size < MIN_LEVELS:
@@ -131,7 +155,7 @@ def moments_of(y_values: list[object], x_values: list[object]) -> Moments | None
     sxx = float(dx @ dx)
     if sxx <= 0:
         return None
-    x_all, y_all = _as_floats(x_values, x_numbers), _as_floats(y_values, y_numbers)
+    x_all, y_all = x.floats[x.mask], y.floats[y.mask]
     dx_all, dy_all = x_all - x_all.mean(), y_all - y_all.mean()
     return Moments(
         n=int(xs.size),
