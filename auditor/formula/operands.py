@@ -12,6 +12,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
 
+from auditor.formula.tokens import _split_outside_quotes
 from auditor.grid import A1_CELL, A1_COLUMN, A1_ROW, MAX_COL, MAX_ROW, column_index
 
 _OFFSET = r"(\[-?\d+\]|\d+)?"
@@ -64,18 +65,6 @@ class Reference:
 
 
 Rewrite = Callable[[Reference], str | None]  # the new text of a reference; None keeps it
-
-
-def _split_outside_quotes(text: str, sep: str) -> list[str]:
-    parts, quoted, start = [], False, 0
-    for i, char in enumerate(text):
-        if char == "'":
-            quoted = not quoted  # a doubled '' inside a quoted name toggles twice: no effect
-        elif char == sep and not quoted:
-            parts.append(text[start:i])
-            start = i + 1
-    parts.append(text[start:])
-    return parts
 
 
 def _split_prefix(prefix: str) -> tuple[str | None, str]:

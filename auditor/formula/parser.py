@@ -219,12 +219,14 @@ class _Parser:
         while name.startswith(_STORAGE_PREFIXES):
             name = name.split(".", 1)[1]
         args: list[Node] = []
-        if self.peek() == _Tok(")"):
+        tok = self.peek()
+        if tok is not None and tok.kind == ")":
             self.pos += 1
             return Call(name, ())
         while True:
             tok = self.peek()
-            args.append(Missing() if tok in (_Tok(","), _Tok(")")) else self.expression(0))
+            empty = tok is not None and tok.kind in (",", ")")  # an argument left out
+            args.append(Missing() if empty else self.expression(0))
             closing = self.take()
             if closing.kind == ")":
                 return Call(name, tuple(args))

@@ -7,8 +7,8 @@ where it is the intersection operator. The binding powers the parser uses live h
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from functools import lru_cache
+from typing import NamedTuple
 
 from openpyxl.formula.tokenizer import Token, Tokenizer, TokenizerError
 
@@ -37,21 +37,31 @@ _PREFIX_BP = 70
 _STORAGE_PREFIXES = ("_XLFN.", "_XLWS.", "_XLUDF.")
 
 
-@dataclass(frozen=True)
-class _Tok:
+class _Tok(NamedTuple):
+    """One token the parser reads (a named tuple: formulas of hundreds of tokens are made of
+    them by the thousand, and a tuple is quicker to make than a frozen data class)."""
+
     kind: str  # NUM TEXT BOOL ERR REF FUNC ( ) , ; { } PREFIX INFIX POSTFIX
     value: str = ""
 
 
 def _split_outside_quotes(text: str, sep: str) -> list[str]:
-    parts, depth_quote, start = [], False, 0
-    for i, char in enumerate(text):
-        if char == "'":
-            depth_quote = not depth_quote  # '' inside a quoted name toggles twice: no effect
-        elif char == sep and not depth_quote:
-            parts.append(text[start:i])
-            start = i + 1
-    parts.append(text[start:])
+    """``text`` split at each ``sep`` outside single quotes (``'My Data'!A1`` at "!" gives
+    ``'My Data'`` and ``A1``). Each quote opens or closes a quoted stretch, so a doubled
+    ``''`` inside a quoted name closes and reopens it: no effect. An unclosed quote runs to
+    the end. Between quotes (the even pieces of ``text.split("'")``) every ``sep`` splits."""
+    if "'" not in text:
+        return text.split(sep)
+    parts = [""]
+    for index, piece in enumerate(text.split("'")):
+        if index:
+            parts[-1] += "'"
+        if index % 2:
+            parts[-1] += piece  # inside quotes: kept whole
+            continue
+        first, *rest = piece.split(sep)
+        parts[-1] += first
+        parts.extend(rest)
     return parts
 
 
@@ -82,8 +92,7 @@ def _tokens(text: str) -> list[_Tok]:
     for item in raw:
         kind, sub, value = item.type, item.subtype, item.value
         if kind == "OPERAND":
-            simple = {"NUMBER": "NUM", "TEXT": "TEXT", "LOGICAL": "BOOL", "ERROR": "ERR"}
-            out.append(_Tok(simple.get(sub, "REF"), value))
+            out.append(_Tok(_OPERAND_KINDS.get(sub, "REF"), value))
         elif kind == "FUNC" and sub == "OPEN":
             # The tokenizer glues a range operator onto a function: "A1:INDEX(" or ":(".
             head, colon, name = value[:-1].rpartition(":")
@@ -109,13 +118,16 @@ def _tokens(text: str) -> list[_Tok]:
         else:
             raise FormulaError(f"cannot parse formula {text!r}: unexpected token {value!r}")
     # Whitespace matters only between two operands, where it is the intersection operator.
-    ends = {"NUM", "TEXT", "BOOL", "ERR", "REF", ")", "}", "POSTFIX"}
-    starts = {"REF", "FUNC", "("}
     cleaned: list[_Tok] = []
     for i, tok in enumerate(out):
         if tok.kind != "WS":
             cleaned.append(tok)
-        elif cleaned and cleaned[-1].kind in ends and i + 1 < len(out):
-            if out[i + 1].kind in starts:
+        elif cleaned and cleaned[-1].kind in _ENDS and i + 1 < len(out):
+            if out[i + 1].kind in _STARTS:
                 cleaned.append(_Tok("INFIX", " "))
     return cleaned
+
+
+_OPERAND_KINDS = {"NUMBER": "NUM", "TEXT": "TEXT", "LOGICAL": "BOOL", "ERROR": "ERR"}
+_ENDS = frozenset({"NUM", "TEXT", "BOOL", "ERR", "REF", ")", "}", "POSTFIX"})  # an operand ends
+_STARTS = frozenset({"REF", "FUNC", "("})  # an operand starts

@@ -21,6 +21,7 @@ from auditor.formula.syntax import (
     references,
     walk,
 )
+from auditor.formula.tokens import _split_outside_quotes
 
 
 def _recursive(node: Node) -> list[Node]:
@@ -82,3 +83,27 @@ def test_references_in_order_with_repeats() -> None:
         "SUM",
         "IF",
     ]
+
+
+def _split_char_by_char(text: str, sep: str) -> list[str]:
+    """The straightforward split: one character at a time, each quote toggling."""
+    parts, quoted, start = [], False, 0
+    for i, char in enumerate(text):
+        if char == "'":
+            quoted = not quoted
+        elif char == sep and not quoted:
+            parts.append(text[start:i])
+            start = i + 1
+    parts.append(text[start:])
+    return parts
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_splitting_outside_quotes_matches_a_character_walk(seed: int) -> None:
+    rng = random.Random(seed)
+    for _ in range(200):
+        text = "".join(rng.choice("ab!:'' 1$") for _ in range(rng.randrange(0, 16)))
+        for sep in "!:":
+            assert _split_outside_quotes(text, sep) == _split_char_by_char(text, sep)
+    assert _split_outside_quotes("'My Data'!$B$2:B9", "!") == ["'My Data'", "$B$2:B9"]
+    assert _split_outside_quotes("'It''s:here'!A1:B2", ":") == ["'It''s:here'!A1", "B2"]
