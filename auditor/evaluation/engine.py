@@ -8,7 +8,6 @@ Blocks read for references are cached unless they were read in the middle of a c
 
 from __future__ import annotations
 
-import bisect
 from dataclasses import dataclass
 from itertools import repeat
 from operator import attrgetter
@@ -19,6 +18,7 @@ import numpy as np
 from auditor.errors import FormulaError, Unsupported, Unverifiable
 from auditor.evaluation.coerce import _constant, _result, constants
 from auditor.evaluation.expressions import ExpressionEvaluator
+from auditor.evaluation.formula_index import FormulaIndex
 from auditor.evaluation.layout import FormulaLayout, _Key
 from auditor.evaluation.values import (
     _REF,
@@ -65,7 +65,7 @@ class Evaluator(ExpressionEvaluator):
         self._open_cells_met = 0  # how often a cell still open was read (a cycle)
         layout = FormulaLayout.of(workbook)
         # Where the formula cells are (sheet -> column -> sorted rows) and the array blocks.
-        self._formula_rows = layout.formula_rows
+        self._index = FormulaIndex(layout.formula_rows, layout.blocks)  # what a range holds
         self._blocks = layout.blocks
         self._members = layout.members
 
@@ -154,13 +154,9 @@ class Evaluator(ExpressionEvaluator):
                 stored = list(map(_VALUE_OF, found))
             out[:, j] = constants(stored)
         # Formula cells and array-block members hold stored values: replace them.
-        for col, formula_rows in self._formula_rows.get(sheet.name, {}).items():
-            if ref.c1 <= col <= c2:
-                lo = bisect.bisect_left(formula_rows, ref.r1)
-                hi = bisect.bisect_right(formula_rows, r2)
-                for row in formula_rows[lo:hi]:
-                    out[row - ref.r1, col - ref.c1] = self._cell(sheet.name, row, col)
-        for b_r1, b_c1, b_r2, b_c2 in self._blocks.get(sheet.name, {}).values():
+        for row, col in self._index.formula_cells(sheet.name, ref.r1, ref.c1, r2, c2):
+            out[row - ref.r1, col - ref.c1] = self._cell(sheet.name, row, col)
+        for b_r1, b_c1, b_r2, b_c2 in self._index.blocks_over(sheet.name, ref.r1, ref.c1, r2, c2):
             for row in range(max(b_r1, ref.r1), min(b_r2, r2) + 1):
                 for col in range(max(b_c1, ref.c1), min(b_c2, c2) + 1):
                     out[row - ref.r1, col - ref.c1] = self._cell(sheet.name, row, col)
@@ -241,15 +237,8 @@ class Evaluator(ExpressionEvaluator):
         deps: list[_Key] = []
         for ref in references(node):
             sheet = self.workbook.sheet(ref.sheet) if ref.external is None else None
-            if sheet is None:
-                continue
-            for dep_col, rows in self._formula_rows.get(sheet.name, {}).items():
-                if ref.c1 <= dep_col <= ref.c2:
-                    lo, hi = bisect.bisect_left(rows, ref.r1), bisect.bisect_right(rows, ref.r2)
-                    deps.extend((sheet.name, r, dep_col) for r in rows[lo:hi])
-            for b_r1, b_c1, b_r2, b_c2 in self._blocks.get(sheet.name, {}).values():
-                if b_r1 <= ref.r2 and ref.r1 <= b_r2 and b_c1 <= ref.c2 and ref.c1 <= b_c2:
-                    deps.append((sheet.name, b_r1, b_c1))
+            if sheet is not None:
+                deps.extend(self._index.reached(sheet.name, ref))
         return deps
 
     def _finish(self, key: _Key) -> None:
