@@ -9,6 +9,7 @@ from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Call, Node, Ref, parse, references
 from auditor.locate.formula_dependents import refs_roles, role_of_dependent, stat_addresses
+from auditor.locate.formula_reads import FormulaReads
 from auditor.locate.grid_labels import statistic_label
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
 from auditor.locate.roles import (
@@ -24,7 +25,6 @@ from auditor.locate.spec import (
     RegressionSpec,
     StatCell,
     label_for,
-    overlaps,
     pair_uses,
 )
 from auditor.locate.typed_inputs import typed_df_cells
@@ -46,6 +46,7 @@ class FormulaLocator:
         self._refs_by_key: dict[Key, list[Ref]] = {}
         self._readers: dict[tuple[str, int, int], set[Key]] | None = None
         self._wide: set[Key] = set()
+        self._reads: FormulaReads | None = None  # what reads the data, once all are parsed
         for cell in workbook.formula_cells():
             try:
                 self.parsed[(cell.sheet, cell.row, cell.col)] = parse(
@@ -211,11 +212,9 @@ class FormulaLocator:
         taken |= {(u.cell.sheet, u.cell.row, u.cell.col) for u in spec.uses}
         self._reverse_index()
         sheets = {spec.sheet.lower(), spec.x.sheet.lower()}
-        data_readers = {
-            key
-            for key, refs in self._refs_by_key.items()
-            if key[0].lower() in sheets and any(overlaps(ref, d) for ref in refs for d in data)
-        }
+        if self._reads is None:
+            self._reads = FormulaReads(self._refs_by_key)
+        data_readers = self._reads.readers(data, sheets)
         for _ in range(MAX_FOLLOW_ROUNDS):
             added = False
             stat_readers = self._stat_readers(spec)

@@ -27,13 +27,14 @@ other numbers and are left alone.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from itertools import permutations
 from typing import Any
 
 from auditor.evaluation.evaluator import Evaluator, Unsupported
 from auditor.extract.fallback import StoredFallback
 from auditor.formula.syntax import Node, Ref, RefNode, Unary, calls, references
+from auditor.locate.handbuilt_reach import Key, Reach
 from auditor.locate.handbuilt_sums import (
     MIN_PAIRS,
     Moments,
@@ -46,36 +47,12 @@ from auditor.locate.handbuilt_sums import (
 from auditor.locate.spec import overlaps
 from auditor.read.workbook import Cell, Workbook
 
-Key = tuple[str, int, int]
 MAX_DEPTH = 3  # M2 = K2/J2, K2 = COVARIANCE.P(…): two levels; three is generous
 MAX_VECTORS = 8  # ranges one formula reads, at most: beyond that it is a table, not a slope
 # Cells calling these are regressions the formula recogniser finds already.
 REGRESSION_FUNCTIONS = frozenset(
     {"SLOPE", "INTERCEPT", "LINEST", "LOGEST", "TREND", "FORECAST", "FORECAST.LINEAR", "STEYX"}
 )
-
-
-@dataclass
-class Reach:
-    """What a formula reads: ranges of one row or one column (vectors) and the formula cells
-    it reaches through single-cell references."""
-
-    vectors: list[Ref] = field(default_factory=list)
-    cells: list[Key] = field(default_factory=list)
-    read_by: dict[Key, Ref] = field(default_factory=dict)  # fixed cell -> the column reading it
-
-    def add_vector(self, ref: Ref) -> None:
-        if ref not in self.vectors:
-            self.vectors.append(ref)
-
-    def add(self, other: Reach) -> None:
-        for ref in other.vectors:
-            self.add_vector(ref)
-        for key in other.cells:
-            if key not in self.cells:
-                self.cells.append(key)
-        for key, ref in other.read_by.items():
-            self.read_by.setdefault(key, ref)
 
 
 def _is_vector(ref: Ref) -> bool:
@@ -138,7 +115,7 @@ class HandbuiltFinder:
             if ref.is_cell:
                 target = self._key(ref.sheet, ref.r1, ref.c1)
                 if target is not None and target in self.parsed:
-                    out.cells.append(target)
+                    out.add_cell(target)
                     out.add(self.reach(target, depth + 1))
             elif _is_vector(ref):
                 out.add_vector(ref)
@@ -162,7 +139,7 @@ class HandbuiltFinder:
             if a == b:
                 target = self._key(a.sheet, a.r1, a.c1)
                 if target is not None and target in self.parsed:
-                    out.cells.append(target)
+                    out.add_cell(target)
                     out.read_by.setdefault(target, ref)
                     out.add(self.reach(target, depth + 1))
             elif (b.r1 - a.r1, b.c1 - a.c1) == span:
