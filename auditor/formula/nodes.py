@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import weakref
 from collections.abc import Iterator
 from dataclasses import dataclass
 
@@ -166,8 +167,21 @@ def _gather(node: Node, kind: type) -> list[Node]:
     return found
 
 
+# The references of each tree asked for, by the tree's identity: a parsed formula is one shared
+# tree (auditor.formula.syntax caches them), and the locator, the evaluator and the checks each
+# ask for its references. An entry goes when its tree is collected (weakref.finalize runs as the
+# tree is freed, before its id can be another object's).
+_REFERENCES: dict[int, tuple[Ref, ...]] = {}
+
+
 def references(node: Node) -> list[Ref]:
-    return [n.ref for n in _gather(node, RefNode)]  # type: ignore[union-attr]
+    """Every reference of the tree, in the order ``walk`` meets them (a list of its own)."""
+    found = _REFERENCES.get(id(node))
+    if found is None:
+        found = tuple(n.ref for n in _gather(node, RefNode))  # type: ignore[union-attr]
+        _REFERENCES[id(node)] = found
+        weakref.finalize(node, _REFERENCES.pop, id(node), None).atexit = False
+    return list(found)
 
 
 def calls(node: Node) -> list[Call]:
