@@ -51,6 +51,13 @@ class _Moments:
 
     @staticmethod
     def of(known_y: Any, known_x: Any) -> _Moments:
+        if isinstance(known_y, RangeValue) and isinstance(known_x, RangeValue):
+            found: _Moments = known_y.paired(known_x, _Moments.now)  # one pair's sums, once
+            return found
+        return _Moments.now(known_y, known_x)
+
+    @staticmethod
+    def now(known_y: Any, known_x: Any) -> _Moments:
         y, x = _pairs(known_y, known_x)
         if y.size == 0:
             raise Fault(_DIV0)

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Protocol
 
 import numpy as np
@@ -42,11 +42,24 @@ class RangeValue:
     ref: Ref
     values: np.ndarray  # 2-D object array; None for an empty cell
     _numeric: _Numeric | None = None
+    _paired: dict[tuple[int, Any], tuple[RangeValue, Any]] = field(
+        default_factory=dict, compare=False
+    )
 
     def numeric(self) -> _Numeric:
         if self._numeric is None:
             self._numeric = _Numeric.of(self.values)
         return self._numeric
+
+    def paired(self, other: RangeValue, compute: Callable[[RangeValue, RangeValue], Any]) -> Any:
+        """``compute(self, other)``, kept for this very ``other`` (SLOPE, INTERCEPT, RSQ and
+        STEYX of one pair of ranges read the same sums). The key is the other block's identity
+        (and the computation's), the block held here so that its id cannot pass to another."""
+        key = (id(other), compute)
+        found = self._paired.get(key)
+        if found is None or found[0] is not other:
+            found = self._paired[key] = (other, compute(self, other))
+        return found[1]
 
 
 @dataclass(frozen=True)
