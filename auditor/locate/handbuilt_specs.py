@@ -8,8 +8,9 @@ from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Node, Ref
 from auditor.locate.formulas import FormulaLocator
 from auditor.locate.grouping import CORRELATION_FUNCS
-from auditor.locate.handbuilt import HandbuiltFinder, Key, Recognised
+from auditor.locate.handbuilt import HandbuiltFinder, Recognised
 from auditor.locate.handbuilt_orientation import turn_if_swapped
+from auditor.locate.handbuilt_reach import Key
 from auditor.locate.spec import PairUse, RegressionSpec, StatCell, overlaps
 from auditor.read.workbook import Workbook
 
