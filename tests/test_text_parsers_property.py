@@ -62,6 +62,7 @@ def test_a_number_written_as_text_reads_back(value: float) -> None:
 @example("<0.001", 0.0005)
 @example("p < .05", 0.2)
 @example("E-01", 0.01)
+@example("0E310", 0.3)  # a rounding unit beyond any float: once an OverflowError
 def test_p_claims_are_judged_or_not_understood(claim: str, p: float) -> None:
     agreement = agree_text(claim, p)
     assert agreement.agrees in (True, False, None)

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import math
 import re
+import sys
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -24,6 +25,7 @@ REPRESENTATION_SLACK = 1e-12
 
 # Conventional significance level behind the words "significant" and "n.s." (common practice).
 CONVENTIONAL_ALPHA = 0.05
+MAX_EXPONENT = sys.float_info.max_10_exp  # 10.0 ** 309 overflows
 STAR_LEVELS = {"*": 0.05, "**": 0.01, "***": 0.001}  # common practice in published tables
 
 MINUS_SIGNS = "\u2212\u2012\u2013\ufe63\uff0d"  # minus sign, figure dash, en dash, small, wide
@@ -101,7 +103,10 @@ def agree_text(claim: str, true: float, label: str = "p") -> Agreement:
     if value is None:
         return _not_understood(claim)
     if op in ("=", ":"):
-        return _at_decimals(value, true, _text_decimals(number_text))
+        decimals = _text_decimals(number_text)
+        if decimals < -MAX_EXPONENT:  # "0E310": a unit of rounding beyond any float
+            return _not_understood(claim)
+        return _at_decimals(value, true, decimals)
     holds = {"<": true < value, ">": true > value, "<=": true <= value, ">=": true >= value}[op]
     return Agreement(holds, f"claim {label} {OPERATORS[op]} {value:g}", None)
 

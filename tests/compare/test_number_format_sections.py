@@ -43,3 +43,10 @@ def test_one_format_read_once_serves_every_value() -> None:
     assert precision._format_decimals(-0.00012345, "0.00E+00;-0.0E+00") == 5  # -1.2E-04
     info = precision._sections_shown.cache_info()
     assert (info.misses, info.hits) == (1, 2)
+
+
+def test_a_claim_whose_rounding_unit_is_beyond_any_float_is_not_understood() -> None:
+    # "0E310" would round to the nearest 1e310, larger than the largest double (about 1.8e308).
+    assert precision.agree_text("0E310", 0.3).agrees is None
+    assert "not understood" in precision.agree_text("0E310", 0.3).tolerance
+    assert precision.agree_text("0E308", 0.3).agrees is True  # 1e308 is still a double
