@@ -21,7 +21,6 @@ from auditor.extract.totals import claimed_elsewhere, continues_pattern
 from auditor.formula.syntax import Ref
 from auditor.locate.locator import RegressionSpec
 from auditor.model import DataPoint
-from auditor.pipeline import collector
 from auditor.read.workbook import Workbook
 
 MAX_GAP_SCAN = 1_048_576
@@ -129,11 +128,10 @@ def _extract(
     rows = IntendedRows(
         workbook, y_ref.sheet, x_cols, y_ref.c1, rows_referenced, result, cell_by_cell=cell_by_cell
     )
-    # A DataPoint and an x list per row, no reference cycle among them: at 200,000 rows the
-    # cycle collector's full collections while they were made (each walking every object
-    # alive, the workbook's cells too) took longer than making them.
-    with collector.paused():
-        rows.add_all(first, last, x_block, y_column)
+    # A DataPoint and an x list per row (no cycles among them): the audit runs with the cycle
+    # collector held back (pipeline.audit.audit_workbook), which would otherwise walk every
+    # object alive again and again while 200,000 of them are made.
+    rows.add_all(first, last, x_block, y_column)
     result.x = np.array(rows.xs_used, dtype=float).reshape(-1, k)
     result.y = np.array(rows.ys_used, dtype=float)
     return result
