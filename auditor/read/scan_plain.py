@@ -19,11 +19,12 @@ from typing import cast
 import numpy as np
 
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
-from auditor.read.sheet import NOT_A_NUMBER, built_cell
+from auditor.read.sheet import NOT_A_NUMBER
 from auditor.read.workbook import Cell, CellValue
 
 # The fields of a plain cell: column letters, row digits, s, t ("s", "n" or ""), v text.
 PlainFields = tuple[str, str, str, str, str]
+_new_tuple = tuple.__new__
 
 
 @dataclass
@@ -79,20 +80,12 @@ def typed_run(book: BookState, found: list[PlainFields]) -> PlainRun:
 
 
 def plain_cells(sheet: str, run: PlainRun) -> list[Cell]:
-    """The run's cells as :class:`Cell` objects (no formula, no array block)."""
-    no_formula = no_block = repeat(None)
-    return list(
-        map(
-            built_cell,
-            repeat(sheet),
-            run.rows,
-            run.cols,
-            run.values,
-            no_formula,
-            run.formats,
-            no_block,
-        )
+    """The run's cells as :class:`Cell` objects (no formula, no array block), each tuple
+    filled in C from the zipped fields."""
+    fields = zip(
+        repeat(sheet), run.rows, run.cols, run.values, repeat(None), run.formats, repeat(None)
     )
+    return list(map(_new_tuple, repeat(Cell), fields))
 
 
 def _floats(values: object) -> array[float]:

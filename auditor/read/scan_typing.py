@@ -14,13 +14,6 @@ from auditor.read.numbers import COLUMN_BITS
 from auditor.read.scan_markup import Node, Unrecognised, plain_text, unescape
 from auditor.read.scan_plain import PlainFields, plain_cells, typed_run
 from auditor.read.sheet import (
-    _SET_ARRAY,
-    _SET_COL,
-    _SET_FORMAT,
-    _SET_FORMULA,
-    _SET_ROW,
-    _SET_SHEET,
-    _SET_VALUE,
     NOT_A_NUMBER,
     _row_number,
     built_cell,
@@ -43,7 +36,7 @@ class SheetScanner(Protocol):
     ) -> tuple[str | None, str | None]: ...
 
 
-_new_cell = object.__new__
+_new_tuple = tuple.__new__
 # The fields of one match of the scanner's field pattern: a row's number, attributes and "/",
 # then a cell's column letters, row digits, s, t, "<f" marker, f attributes, f text, v text,
 # "<is>" marker, inline text. Absent groups are "".
@@ -155,14 +148,7 @@ class CellMaker:
                     add_constant(row, col, value, number_format)
                     cell = None
                 else:
-                    cell = _new_cell(Cell)
-                    _SET_SHEET(cell, name)
-                    _SET_ROW(cell, row)
-                    _SET_COL(cell, col)
-                    _SET_VALUE(cell, value)
-                    _SET_FORMULA(cell, None)
-                    _SET_FORMAT(cell, number_format)
-                    _SET_ARRAY(cell, None)
+                    cell = _new_tuple(Cell, (name, row, col, value, None, number_format, None))
                     cells[(row, col)] = cell
                 self.made += 1
                 if t == "s":

@@ -23,13 +23,7 @@ NOT_A_NUMBER = ErrorValue("#NUM!")
 MAX_CELLS = 10_000_000  # per workbook; about 2 GB as cell objects, beyond any real review file
 PRUNE_EVERY = 512  # rows between drops of parsed rows from the tree (memory stays flat)
 
-_new_cell = object.__new__
-# Cell is a frozen dataclass with slots; filling the slots directly skips the frozen
-# __setattr__ path, about half the cost of building a cell, which matters at millions of cells.
-_SET_SHEET, _SET_ROW, _SET_COL, _SET_VALUE, _SET_FORMULA, _SET_FORMAT, _SET_ARRAY = (
-    Cell.__dict__[name].__set__
-    for name in ("sheet", "row", "col", "value", "formula", "number_format", "array_ref")
-)
+_new_tuple = tuple.__new__
 
 
 def built_cell(
@@ -41,16 +35,8 @@ def built_cell(
     number_format: str,
     array_ref: str | None,
 ) -> Cell:
-    """``Cell(...)`` by filling the slots directly (half the cost of the frozen __init__)."""
-    cell = _new_cell(Cell)
-    _SET_SHEET(cell, sheet)
-    _SET_ROW(cell, row)
-    _SET_COL(cell, col)
-    _SET_VALUE(cell, value)
-    _SET_FORMULA(cell, formula)
-    _SET_FORMAT(cell, number_format)
-    _SET_ARRAY(cell, array_ref)
-    return cell
+    """``Cell(...)`` without the keyword handling of the named tuple's ``__new__``."""
+    return _new_tuple(Cell, (sheet, row, col, value, formula, number_format, array_ref))
 
 
 def cell_position(

