@@ -16,7 +16,7 @@ import posixpath
 import zipfile
 from urllib.parse import unquote
 
-from auditor.read.parts import read_relationships, rels_part
+from auditor.read.parts import BookParts, rels_part
 from auditor.read.xmlsafe import parse_part
 
 
@@ -42,15 +42,12 @@ def linked_file_name(target: str) -> str:
     return posixpath.basename(text) or text
 
 
-def external_links(archive: zipfile.ZipFile, book_part: str, label: str) -> dict[str, str]:
-    """``{"[1]": "partner.xlsx", ...}``: each external reference's file name, in order."""
-    root = parse_part(archive, book_part, f"{label}: part {book_part!r}")
-    rels = read_relationships(archive, book_part, label)
+def external_links(archive: zipfile.ZipFile, parts: BookParts, label: str) -> dict[str, str]:
+    """``{"[1]": "partner.xlsx", ...}``: each external reference's file name, in order, from
+    what :func:`auditor.read.parts.read_book` read of the workbook part."""
     found: dict[str, str] = {}
-    references = [e for e in root.iter() if _local(e.tag) == "externalReference"]
-    for number, element in enumerate(references, start=1):
-        rel_id = next((v for k, v in element.attrib.items() if _local(k) == "id"), "")
-        _, part = rels.get(rel_id, ("", ""))
+    for number, rel_id in enumerate(parts.external_ids, start=1):
+        _, part = parts.relationships.get(rel_id, ("", ""))
         if part and part in archive.NameToInfo:
             name = linked_file_name(_external_path(archive, part, label))
             if name:

@@ -49,6 +49,8 @@ class BookParts:
     names: list[tuple[str, str, int | None]] = field(default_factory=list)
     shared_strings: str | None = None
     styles: str | None = None
+    relationships: dict[str, tuple[str, str]] = field(default_factory=dict)  # of the part
+    external_ids: list[str] = field(default_factory=list)  # externalReference ids, in order
 
 
 def _local(tag: object) -> str:
@@ -107,7 +109,12 @@ def read_book(archive: zipfile.ZipFile, part: str, label: str) -> BookParts:
             "save the file as .xlsx from a spreadsheet application"
         )
     rels = read_relationships(archive, part, label)
-    book = BookParts(namespace=namespace)
+    book = BookParts(namespace=namespace, relationships=rels)
+    book.external_ids = [
+        next((v for k, v in element.attrib.items() if _local(k) == "id"), "")
+        for element in root.iter()
+        if _local(element.tag) == "externalReference"
+    ]
     for rel_type, target in rels.values():
         if rel_type.endswith("/sharedStrings"):
             book.shared_strings = target

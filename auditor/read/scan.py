@@ -47,6 +47,7 @@ _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
 # Characters XML forbids, and markup the scanner never reads itself: comments, CDATA,
 # processing instructions, namespace declarations.
 _ODD = ("\ufffe", "\uffff", "<!", "<?", "]]>", "xmlns")
+_ODD_ASCII = _ODD[2:]  # what an ASCII block can hold
 _ATTRIBUTES = r'((?: [A-Za-z][A-Za-z0-9]{0,31}(?::[A-Za-z][A-Za-z0-9]{0,31})?="[^"<&\t\n]*")*+)'
 
 
@@ -178,7 +179,8 @@ class SheetScanner(SheetReader):
                 buffer, checked_from, data_stop
             ):
                 raise Unrecognised("control characters")
-            if any(buffer.find(odd, checked_from, data_stop) >= 0 for odd in _ODD):
+            odd_texts = _ODD if not raw.isascii() else _ODD_ASCII
+            if any(buffer.find(odd, checked_from, data_stop) >= 0 for odd in odd_texts):
                 raise Unrecognised("markup or characters the scanner leaves to lxml")
             last_row = buffer.rfind(row_end)
             limit = closing if closing >= 0 else last_row + len(row_end) if last_row >= 0 else 0

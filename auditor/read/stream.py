@@ -92,7 +92,7 @@ def _read_book(
         stored_values=book.formula_count == 0 or book.valued_formulas > 0,
         array_anchors=book.arrays,
         charts=read_charts(archive, parts.sheets, label),
-        external_links=external_links(archive, book_part, label),
+        external_links=external_links(archive, parts, label),
         tables=tables,
     )
 
