@@ -65,6 +65,28 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
                 return
         self[(row, col)] = Cell(self._sheet, row, col, value, None, number_format, None)
 
+    def add_constants(
+        self, rows: list[int], cols: list[int], values: list[CellValue], formats: list[str]
+    ) -> None:
+        """Cells with no formula and no array block, in order: packed at once when they come
+        after the last key in increasing order (a run of the reader), else one by one."""
+        keys = (np.array(rows, dtype=np.int64) << _COLUMN_BITS) | np.array(cols, dtype=np.int64)
+        new = set(formats).difference(self._format_ids)
+        if (
+            self._dict is not None
+            or not len(keys)
+            or not self._last < keys[0] <= keys[-1] < _MAX_PACKED
+            or not (keys[1:] > keys[:-1]).all()
+            or any(self._format_id(name) < 0 for name in sorted(new))
+        ):
+            for row, col, value, number_format in zip(rows, cols, values, formats, strict=True):
+                self.add_constant(row, col, value, number_format)
+            return
+        self._keys.frombytes(keys.tobytes())
+        self._values.extend(values)
+        self._formats.extend(map(self._format_ids.__getitem__, formats))
+        self._last = int(keys[-1])
+
     def _format_id(self, number_format: str) -> int:
         """The index of a number format; -1 when the index is full (the cell keeps an object)."""
         if len(self._format_names) >= _OBJECT:

@@ -70,19 +70,22 @@ class CellMaker:
             return
         run = typed_run(self.book, found)
         name, cells, index = self.scanner.sheet.name, self.cells, self.index
-        add_constant = getattr(cells, "add_constant", None)  # a CompactCells store
-        if add_constant is None:
+        add_constants = getattr(cells, "add_constants", None)  # a CompactCells store
+        if add_constants is None:
             made = plain_cells(name, run)
             cells.update(zip(zip(run.rows, run.cols, strict=True), made, strict=True))
             if run.shared:
                 index.texts.extend(cell for cell in made if type(cell.value) is str)
         else:
-            for row, col, value, number_format in zip(
-                run.rows, run.cols, run.values, run.formats, strict=True
-            ):
-                add_constant(row, col, value, number_format)
-                if type(value) is str:
-                    index.texts.append(built_cell(name, row, col, value, None, number_format, None))
+            add_constants(run.rows, run.cols, run.values, run.formats)
+            if run.shared:
+                index.texts.extend(
+                    built_cell(name, row, col, value, None, number_format, None)
+                    for row, col, value, number_format in zip(
+                        run.rows, run.cols, run.values, run.formats, strict=True
+                    )
+                    if type(value) is str
+                )
         self.made += len(run.rows)
         index.numbers.add_typed(*run.number_positions(), run.numbers)
         self.max_row = max(self.max_row, max(run.rows))
