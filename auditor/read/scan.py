@@ -44,10 +44,11 @@ _SHEET_DATA = re.compile(rb"<(?:([A-Za-z_][A-Za-z0-9_.\-]*):)?sheetData([^<>]*)>
 # Control characters XML 1.0 forbids: deleting every other byte leaves nothing on a plain part.
 _PLAIN_BYTES = bytes(range(0x20, 0x100)) + b"\t\n\r"
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
-# Characters XML forbids, and markup the scanner never reads itself: comments, CDATA,
-# processing instructions, namespace declarations.
-_ODD = ("\ufffe", "\uffff", "<!", "<?", "]]>", "xmlns")
-_ODD_ASCII = _ODD[2:]  # what an ASCII block can hold
+# Characters XML forbids, and markup the scanner never reads itself: a CDATA end, namespace
+# declarations. Comments, CDATA sections and processing instructions ("<!", "<?") need no
+# search of their own: no pattern accepts them and the tokenizer refuses them (its tag
+# pattern wants a name after "<"), so any of them hands the part to lxml.
+_ODD = ("\ufffe", "\uffff", "]]>", "xmlns")
 _ATTRIBUTES = r'((?: [A-Za-z][A-Za-z0-9]{0,31}(?::[A-Za-z][A-Za-z0-9]{0,31})?="[^"<&\t\n]*")*+)'
 
 
@@ -179,8 +180,7 @@ class SheetScanner(SheetReader):
                 buffer, checked_from, data_stop
             ):
                 raise Unrecognised("control characters")
-            odd_texts = _ODD if not raw.isascii() else _ODD_ASCII
-            if any(buffer.find(odd, checked_from, data_stop) >= 0 for odd in odd_texts):
+            if any(buffer.find(odd, checked_from, data_stop) >= 0 for odd in _ODD):
                 raise Unrecognised("markup or characters the scanner leaves to lxml")
             last_row = buffer.rfind(row_end)
             limit = closing if closing >= 0 else last_row + len(row_end) if last_row >= 0 else 0

@@ -262,6 +262,14 @@ CASES = [
     ("CDATA", sheet_xml(ROW.format('<c r="A1"><v><![CDATA[5]]></v></c>')), False),
     ("comment", sheet_xml(ROW.format('<!-- note --><c r="A1"><v>5</v></c>')), False),
     ("processing instruction", sheet_xml(ROW.format('<?pi x?><c r="A1"><v>5</v></c>')), False),
+    ("comment in a value", sheet_xml(ROW.format('<c r="A1"><v>5<!-- x -->1</v></c>')), False),
+    ("comment between rows", sheet_xml(ROW.format('<c r="A1"><v>5</v></c>') + "<!--x-->"), False),
+    (
+        "instruction between rows",
+        sheet_xml("<?pi x?>" + ROW.format('<c r="A1"><v>5</v></c>')),
+        False,
+    ),
+    ("CDATA in a formula", sheet_xml(ROW.format('<c r="A1"><f><![CDATA[1+2]]></f></c>')), False),
     (
         "namespace declared inside the data",
         sheet_xml(ROW.format(f'<c r="A1" xmlns:q="{MAIN}"><q:v>5</q:v></c>')),
