@@ -69,12 +69,10 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
                 return
         self[(row, col)] = Cell(self._sheet, row, col, value, None, number_format, None)
 
-    def add_constants(
-        self, rows: list[int], cols: list[int], values: list[CellValue], formats: list[str]
-    ) -> None:
-        """Cells with no formula and no array block, in order: packed at once when they come
-        after the last key in increasing order (a run of the reader), else one by one."""
-        keys = (np.array(rows, dtype=np.int64) << _COLUMN_BITS) | np.array(cols, dtype=np.int64)
+    def add_constants(self, keys: Any, values: list[CellValue], formats: list[str]) -> None:
+        """Cells with no formula and no array block, in order (``keys``: numpy int64, packed):
+        at once when they follow the last key in increasing order (a run of the reader), else
+        one by one."""
         new = set(formats).difference(self._format_ids)
         if (
             self._dict is not None
@@ -83,8 +81,8 @@ class CompactCells(MutableMapping[tuple[int, int], Cell]):
             or not (keys[1:] > keys[:-1]).all()
             or any(self._format_id(name) < 0 for name in sorted(new))
         ):
-            for row, col, value, number_format in zip(rows, cols, values, formats, strict=True):
-                self.add_constant(row, col, value, number_format)
+            for key, value, number_format in zip(keys.tolist(), values, formats, strict=True):
+                self.add_constant(key >> _COLUMN_BITS, key & _COLUMN_MASK, value, number_format)
             return
         self._keys.frombytes(keys.tobytes())
         self._values.extend(values)

@@ -16,6 +16,13 @@ COLUMN_BITS = 15  # columns 1..16,384 (XFD)
 COLUMN_MASK = (1 << COLUMN_BITS) - 1
 
 
+def packed_keys(rows: list[int], cols: list[int]) -> Any:
+    """``row << 15 | column`` of each cell, as a numpy int64 array."""
+    import numpy as np  # here: the data classes load without numpy
+
+    return (np.array(rows, dtype=np.int64) << COLUMN_BITS) | np.array(cols, dtype=np.int64)
+
+
 class NumberIndex:
     """Packed (row, col) keys and values of a sheet's numbers; see the module's docstring."""
 
@@ -27,11 +34,9 @@ class NumberIndex:
     def __len__(self) -> int:
         return len(self.keys)
 
-    def add_typed(self, rows: list[int], cols: list[int], values: array[float]) -> None:
-        """Typed constants, in order."""
-        import numpy as np  # here: the data classes load without numpy
-
-        keys = (np.array(rows, dtype=np.int64) << COLUMN_BITS) | np.array(cols, dtype=np.int64)
+    def add_typed(self, keys: Any, values: array[float]) -> None:
+        """Typed constants, in order: their packed keys (a numpy int64 array, see
+        :func:`packed_keys`) and values."""
         self.keys.frombytes(keys.tobytes())
         self.values.extend(values)
 

@@ -14,11 +14,12 @@ from __future__ import annotations
 from array import array
 from dataclasses import dataclass
 from itertools import compress, repeat
-from typing import cast
+from typing import Any, cast
 
 import numpy as np
 
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
+from auditor.read.numbers import packed_keys
 from auditor.read.sheet import NOT_A_NUMBER
 from auditor.read.workbook import Cell, CellValue
 
@@ -39,11 +40,13 @@ class PlainRun:
     is_number: list[bool] | None  # which cells ``numbers`` holds; None: every cell
     shared: bool  # some cells hold shared strings
 
-    def number_positions(self) -> tuple[list[int], list[int]]:
-        """Rows and columns of the cells in ``numbers``."""
-        if self.is_number is None:
-            return self.rows, self.cols
-        return list(compress(self.rows, self.is_number)), list(compress(self.cols, self.is_number))
+    def keys(self) -> Any:
+        """The packed key of every cell (:func:`auditor.read.numbers.packed_keys`)."""
+        return packed_keys(self.rows, self.cols)
+
+    def number_keys(self, keys: Any) -> Any:
+        """Of ``keys`` (:meth:`keys`), those of the cells in ``numbers``."""
+        return keys if self.is_number is None else keys[np.array(self.is_number, dtype=bool)]
 
 
 def typed_run(book: BookState, found: list[PlainFields]) -> PlainRun:

@@ -70,6 +70,7 @@ class CellMaker:
             return
         run = typed_run(self.book, found)
         name, cells, index = self.scanner.sheet.name, self.cells, self.index
+        keys = run.keys()
         add_constants = getattr(cells, "add_constants", None)  # a CompactCells store
         if add_constants is None:
             made = plain_cells(name, run)
@@ -77,7 +78,7 @@ class CellMaker:
             if run.shared:
                 index.texts.extend(cell for cell in made if type(cell.value) is str)
         else:
-            add_constants(run.rows, run.cols, run.values, run.formats)
+            add_constants(keys, run.values, run.formats)
             if run.shared:
                 index.texts.extend(
                     built_cell(name, row, col, value, None, number_format, None)
@@ -87,7 +88,7 @@ class CellMaker:
                     if type(value) is str
                 )
         self.made += len(run.rows)
-        index.numbers.add_typed(*run.number_positions(), run.numbers)
+        index.numbers.add_typed(run.number_keys(keys), run.numbers)
         self.max_row = max(self.max_row, max(run.rows))
         self.max_col = max(self.max_col, max(run.cols))
 

@@ -10,6 +10,7 @@ from hypothesis import strategies as st
 
 from auditor.read import compact
 from auditor.read.compact import CompactCells
+from auditor.read.numbers import packed_keys
 from auditor.read.workbook import Cell, CellValue
 
 values = st.one_of(
@@ -40,7 +41,7 @@ def test_runs_added_at_once_are_the_cells_added_one_by_one(
     for number, (ordered, run) in enumerate(generated):
         run = _in_order(run) if ordered else run
         rows, cols = [c[0] for c in run], [c[1] for c in run]
-        at_once.add_constants(rows, cols, [c[2] for c in run], [c[3] for c in run])
+        at_once.add_constants(packed_keys(rows, cols), [c[2] for c in run], [c[3] for c in run])
         for row, col, value, number_format in run:
             one_by_one.add_constant(row, col, value, number_format)
             plain[(row, col)] = Cell("S", row, col, value, None, number_format)
@@ -63,7 +64,7 @@ def test_a_full_format_table_keeps_the_cells_as_objects(monkeypatch: pytest.Monk
     monkeypatch.setattr(compact, "_OBJECT", 2)  # room for two formats
     at_once, one_by_one = CompactCells("S"), CompactCells("S")
     formats = ["General", "0.00", "0%", "0.0"]
-    at_once.add_constants([1, 2, 3, 4], [1, 1, 1, 1], [1, 2, 3, 4], formats)
+    at_once.add_constants(packed_keys([1, 2, 3, 4], [1, 1, 1, 1]), [1, 2, 3, 4], formats)
     for row in range(1, 5):
         one_by_one.add_constant(row, 1, row, formats[row - 1])
     assert list(at_once.items()) == list(one_by_one.items())
