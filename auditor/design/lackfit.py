@@ -18,6 +18,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from auditor.fit.distributions import f_sf
+from auditor.fit.sums import exact_sum
 
 
 @dataclass(frozen=True)
@@ -136,10 +137,10 @@ def lack_of_fit(
     squares = []  # arrays, not a list of a million Python floats
     for rows in groups:
         members = y_values[rows]
-        mean = math.fsum(members) / members.size
+        mean = exact_sum(members) / members.size
         deviations = members - mean
         squares.append(deviations * deviations)
-    ss_pure_error = math.fsum(np.concatenate(squares)) if squares else 0.0
+    ss_pure_error = exact_sum(np.concatenate(squares)) if squares else 0.0
     # Rounding can leave SS_lof a hair below 0 when the level means lie on the line.
     ss_lack_of_fit = max(0.0, ss_residual - ss_pure_error)
     if ss_pure_error == 0.0:

@@ -22,6 +22,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from auditor.design.brent import brentq
 from auditor.fit.distributions import nct_cdf, nct_sf, t_ppf
+from auditor.fit.sums import exact_sum
 
 FloatArray = NDArray[np.float64]
 
@@ -109,10 +110,10 @@ def sxx_of(x: ArrayLike, intercept: bool = True) -> float:
     """Σ(x − x̄)² with an intercept (centred, two-pass), Σx² through the origin."""
     values = np.asarray(x, dtype=np.float64)
     if not intercept:
-        return math.fsum(values * values)
-    mean = math.fsum(values) / values.size
+        return exact_sum(values * values)
+    mean = exact_sum(values) / values.size
     deviations = values - mean
-    return math.fsum(deviations * deviations)
+    return exact_sum(deviations * deviations)
 
 
 def even_levels(n: int, low: float, high: float) -> FloatArray:

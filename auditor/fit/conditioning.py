@@ -29,6 +29,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from auditor.fit.distributions import t_pdf, t_ppf
+from auditor.fit.sums import exact_sum
 
 EPSILON = 2.220446049250313e-16  # double precision
 DOUBLE_DIGITS = 15.95  # log10(2**53)
@@ -196,7 +197,7 @@ def engine_allowances(
     """
     n, k = x.shape
     columns = [np.ones(n)] * (1 if intercept else 0) + [x[:, j] for j in range(k)]
-    norms = np.array([math.sqrt(math.fsum(c * c)) for c in columns])
+    norms = np.array([math.sqrt(exact_sum(c * c)) for c in columns])
     if not (math.isfinite(kappa) and np.all(norms > 0.0) and df > 0):
         return {}
     scale = factor * EPSILON * max(kappa, 1.0)
@@ -209,7 +210,7 @@ def engine_allowances(
     s = math.sqrt(max(ss_residual, 0.0) / df)
     # δr = −(I − P)·δA·b − (A⁺)'·δA'·r + (I − P)·δy: about eps·(√p·‖z‖ + ‖y‖ + κ·‖r‖), all of
     # the residuals of an exact fit; s moves by that over √df.
-    y_norm = math.sqrt(math.fsum(y * y))
+    y_norm = math.sqrt(exact_sum(y * y))
     noise = math.sqrt(len(norms)) * scaled_norm + y_norm + kappa * residual_norm
     sd = factor * EPSILON * noise / math.sqrt(df)
     se = roots * (sd + s * scale)

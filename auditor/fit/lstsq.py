@@ -22,6 +22,7 @@ from numpy.typing import NDArray
 from auditor.fit.conditioning import Conditioning, design_conditioning, simple_conditioning
 from auditor.fit.exact import solve_exact, within_budget
 from auditor.fit.refine import refine
+from auditor.fit.sums import exact_sum
 
 FloatArray = NDArray[np.float64]
 
@@ -61,8 +62,8 @@ def _mean(values: FloatArray) -> float:
     """Mean by fsum, refined by a second pass over the deviations (two-pass algorithm)."""
     if values.size == 0:
         return math.nan
-    first = math.fsum(values) / values.size
-    return first + math.fsum(values - first) / values.size
+    first = exact_sum(values) / values.size
+    return first + exact_sum(values - first) / values.size
 
 
 def solve_centred(x: FloatArray, y: FloatArray, intercept: bool) -> Solution:
@@ -89,7 +90,7 @@ def solve_centred(x: FloatArray, y: FloatArray, intercept: bool) -> Solution:
             undefined.sxx = 0.0  # a true fact, and what design checks need to say "no spread"
         return undefined
     y_c = y - y_mean if intercept else y
-    ss_total = math.fsum(y_c * y_c)
+    ss_total = exact_sum(y_c * y_c)
     if k == 1:
         return _solve_simple(x[:, 0], y, y_c, intercept, x_mean, y_mean, ss_total)
     return _solve_qr(x, y, y_c, intercept, y_mean, ss_total)
@@ -141,8 +142,8 @@ def _solve_simple(
     ss_total: float,
 ) -> Solution:
     x_c = x - x_mean if intercept else x
-    sxx = math.fsum(x_c * x_c)
-    sxy = math.fsum(x_c * y_c)
+    sxx = exact_sum(x_c * x_c)
+    sxy = exact_sum(x_c * y_c)
     slope = sxy / sxx
     intercept_value = y_mean - slope * x_mean if intercept else 0.0
     # Residuals from the centred quantities: no cancellation against a large offset in x or y.
@@ -207,7 +208,7 @@ def _solve_qr(
     if intercept:
         projected = r_inv.T @ means  # x̄' (Xc'Xc)^-1 x̄ = |R^-T x̄|²
         intercept_factor = 1.0 / n + float(projected @ projected)
-        intercept_value = y_mean - math.fsum(slopes * means)
+        intercept_value = y_mean - exact_sum(slopes * means)
     residuals = y_c - x_c @ slopes
     leverage = np.einsum("ij,ij->i", q, q) + (1.0 / n if intercept else 0.0)
     kappa, kappa_centred = design_conditioning(r_scaled, norms, means, n, intercept)
@@ -221,7 +222,7 @@ def _solve_qr(
         fitted=y - residuals,
         residuals=residuals,
         leverage=leverage,
-        ss_regression=math.fsum(qty * qty),
+        ss_regression=exact_sum(qty * qty),
         ss_total=ss_total,
         sxx=math.nan,
         x_mean=math.nan,
@@ -256,7 +257,7 @@ def _refined(
         solution.slopes, solution.residuals, solution.fitted = slopes, residuals, y - residuals
         if intercept:
             solution.intercept_value = b0
-        ss_residual = math.fsum(residuals * residuals)
+        ss_residual = exact_sum(residuals * residuals)
         solution.ss_regression = max(0.0, solution.ss_total - ss_residual)
         solution.conditioning = Conditioning(
             conditioning.condition_number, conditioning.condition_number_centred, "refined"

@@ -29,6 +29,7 @@ from numpy.typing import ArrayLike
 from auditor.fit.conditioning import AllowanceInputs, Conditioning
 from auditor.fit.inference import _f_test, _influence, _intervals, _r_squared, _tests
 from auditor.fit.lstsq import COLLINEAR_RATIO, FloatArray, Solution, solve_centred
+from auditor.fit.sums import exact_sum
 from auditor.model import STAT_KEYS, clean_number
 
 __all__ = [
@@ -196,7 +197,7 @@ def _finish(
     """Turn a solved fit into standard errors, tests, intervals and diagnostics."""
     status, message = sol.status, sol.message
     ss_total = sol.ss_total
-    ss_residual = math.fsum(sol.residuals * sol.residuals) if status == "ok" else math.nan
+    ss_residual = exact_sum(sol.residuals * sol.residuals) if status == "ok" else math.nan
     if status != "ok":
         pass  # the coefficients are undefined: every statistic below comes out NaN
     elif df == 0:
