@@ -50,32 +50,45 @@ def leave_one_out(
     n = x.size
     e, h = fit.residuals, fit.leverage
     centred = x - fit.x_mean if fit.intercept else x
-    slope = np.full(n, np.nan)
-    se = np.full(n, np.nan)
-    t = np.full(n, np.nan)
-    p = np.full(n, np.nan)
     df = fit.df - 1
     keep = h < 1.0 - LEVERAGE_ONE
-    if df < 1 or not np.any(keep):
-        return slope, se, t, p
-    one_minus_h = 1.0 - h[keep]
-    b1 = float(fit.slopes[0])
-    slope[keep] = b1 - centred[keep] * e[keep] / (fit.sxx * one_minus_h)
-    sse = np.maximum(fit.ss_residual - e[keep] ** 2 / one_minus_h, 0.0)
+    if df < 1 or not keep.any():
+        return np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
     factor = n / (n - 1) if fit.intercept else 1.0
-    sxx = fit.sxx - centred[keep] ** 2 * factor
+    if keep.all():  # the usual case: no point of leverage 1, nothing to select
+        return _without_each(centred, e, 1.0 - h, factor, fit, df)
+    slope, se, t, p = (np.full(n, np.nan) for _ in range(4))
+    kept = _without_each(centred[keep], e[keep], 1.0 - h[keep], factor, fit, df)
+    slope[keep], se[keep], t[keep], p[keep] = kept
+    return slope, se, t, p
+
+
+def _without_each(
+    centred: np.ndarray,
+    e: np.ndarray,
+    one_minus_h: np.ndarray,
+    factor: float,
+    fit: FitResult,
+    df: int,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Slope, SE, t and p without each of the points given (none of leverage 1); ``factor``
+    turns a point's squared deviation into what leaving it out takes from Sxx."""
+    b1 = float(fit.slopes[0])
+    slope = b1 - centred * e / (fit.sxx * one_minus_h)
+    sse = np.maximum(fit.ss_residual - e**2 / one_minus_h, 0.0)
+    sxx = fit.sxx - centred**2 * factor
     positive = sxx > 1e-12 * fit.sxx
-    se_keep = np.full(sse.shape, np.nan)
-    se_keep[positive] = np.sqrt(sse[positive] / df / sxx[positive])
-    se[keep] = se_keep
+    if positive.all():
+        se = np.sqrt(sse / df / sxx)
+    else:
+        se = np.full(sse.shape, np.nan)
+        se[positive] = np.sqrt(sse[positive] / df / sxx[positive])
     with np.errstate(divide="ignore", invalid="ignore"):
-        t_keep = np.where(se_keep > 0.0, slope[keep] / se_keep, np.nan)
-    t[keep] = t_keep
-    p_keep = np.where(np.isfinite(t_keep), 2.0 * t_sf(np.abs(t_keep), df), np.nan)
+        t = np.where(se > 0.0, slope / se, np.nan)
+    p = np.where(np.isfinite(t), 2.0 * t_sf(np.abs(t), df), np.nan)
     # An exact fit without the point: SE 0 and a non-zero slope leave no doubt (p = 0).
-    exact = (se_keep == 0.0) & (slope[keep] != 0.0)
-    p_keep[exact] = 0.0
-    p[keep] = p_keep
+    exact = (se == 0.0) & (slope != 0.0)
+    p[exact] = 0.0
     return slope, se, t, p
 
 
@@ -110,13 +123,15 @@ def drop_one(
     with np.errstate(invalid="ignore"):
         flips = np.flatnonzero(finite_b & (slope * b1 < 0.0)).tolist()
     flip_row = rows[max(flips, key=lambda i: abs(slope[i]))] if flips else None
+    slopes = slope if finite_b.all() else slope[finite_b]  # no selection when none is NaN
+    any_p = bool(finite_p.any())
     return DropOne(
-        slope_min=float(np.min(slope[finite_b])) if finite_b.any() else None,
-        slope_max=float(np.max(slope[finite_b])) if finite_b.any() else None,
-        p_min=float(np.min(p[finite_p])) if finite_p.any() else None,
-        p_max=float(np.max(p[finite_p])) if finite_p.any() else None,
-        p_min_row=rows[int(np.nanargmin(p))] if finite_p.any() else None,
-        p_max_row=rows[int(np.nanargmax(p))] if finite_p.any() else None,
+        slope_min=float(slopes.min()) if slopes.size else None,
+        slope_max=float(slopes.max()) if slopes.size else None,
+        p_min=float(np.min(p[finite_p])) if any_p else None,
+        p_max=float(np.max(p[finite_p])) if any_p else None,
+        p_min_row=rows[int(np.nanargmin(p))] if any_p else None,
+        p_max_row=rows[int(np.nanargmax(p))] if any_p else None,
         crossing_rows=len(crossing),
         crossing_row=crossing_row,
         crossing_p=crossing_p,

@@ -15,6 +15,7 @@ single tails, and the array handling costs several times the tail itself.
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import numpy as np
@@ -45,8 +46,10 @@ def _finish(value: Any, bad: Any) -> Any:
 
 def t_sf(x: Any, df: Any) -> Any:
     """P(T > x) for Student's t with ``df`` degrees of freedom (``scipy.stats.t.sf``)."""
+    if type(df) in _PLAIN and df > 0:  # one valid df: nothing to mask (array x included)
+        return special.stdtr(df, -(float(x) if type(x) in _PLAIN else np.asarray(x, np.float64)))
     if _plain(x, df):
-        return special.stdtr(df, -float(x)) if df > 0 else _NAN
+        return _NAN
     return _finish(special.stdtr(df, -np.asarray(x, dtype=np.float64)), _bad_df(df))
 
 
@@ -79,6 +82,8 @@ def t_isf(q: Any, df: Any) -> Any:
 def t_pdf(x: Any, df: Any) -> Any:
     """The density of Student's t (``scipy.stats.t.pdf``): its log-density formula, the normal's
     density at infinite df, 0 at an infinite x."""
+    if _plain(x, df) and math.isfinite(x) and 0 < df < math.inf:
+        return _student_density(float(x), float(df))
     x = np.asarray(x, dtype=np.float64)
     df = np.asarray(df, dtype=np.float64)
     inside = np.isfinite(x)
@@ -91,6 +96,16 @@ def t_pdf(x: Any, df: Any) -> Any:
         )
     value = np.where(inside, np.where(df == np.inf, normal, student), 0.0)
     return _finish(value, _bad_df(df) | np.isnan(x))
+
+
+def _student_density(x: float, df: float) -> Any:
+    """t_pdf of one finite x at one finite df > 0: the same ufuncs on the same doubles as the
+    array path (tests/fit/test_distribution_paths.py), without its masks."""
+    return np.exp(
+        np.log(special.poch(0.5 * df, 0.5))
+        - 0.5 * (np.log(df) + np.log(np.pi))
+        - (df + 1) / 2 * np.log1p(x * x / df)
+    )
 
 
 def nct_sf(x: float, df: float, noncentrality: float) -> Any:
