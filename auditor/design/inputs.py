@@ -25,7 +25,7 @@ import numpy as np
 from auditor.compare.precision import parse_text_number
 from auditor.design.prediction_index import PredictionCells
 from auditor.design.prediction_refs import cell_key, coord, is_cell, other_operand, refers_to
-from auditor.design.window import cells_in
+from auditor.design.window import TextCells
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator, Fault, Unsupported
 from auditor.formula.syntax import Binary, Call, Node, RefNode, parse, walk
@@ -101,6 +101,7 @@ class DesignInputReader:
                 except FormulaError:
                     continue  # reported by the formula checks; nothing to predict from here
         self.parsed = parsed
+        self._texts_by_row = TextCells(workbook)  # the words of each window, found by rows
         self._prediction_cells: PredictionCells | None = None  # made on first use
 
     def read(self, spec: RegressionSpec) -> DesignInputs:
@@ -116,7 +117,8 @@ class DesignInputReader:
 
     # -- words and stated values -------------------------------------------------------------
     def _window(self, anchors: list[Cell]) -> Iterator[tuple[int, Cell]]:
-        """Cells around the result block on its sheet, nearest (to any anchor) first."""
+        """Cells holding text around the result block on its sheet, nearest (to any anchor)
+        first: the words and labels both readers of the window look for."""
         sheet = self.workbook.sheet(anchors[0].sheet)
         if sheet is None:
             return
@@ -125,7 +127,7 @@ class DesignInputReader:
         r2 = max(a.row for a in same) + WINDOW_ROWS[1]
         c1 = min(a.col for a in same) - WINDOW_COLS[0]
         c2 = max(a.col for a in same) + WINDOW_COLS[1]
-        inside = list(cells_in(sheet.cells, r1, c1, r2, c2))
+        inside = self._texts_by_row.inside(sheet, r1, c1, r2, c2)
         if not inside:
             return
         places = np.array([key for key, _ in inside], dtype=np.int64)
