@@ -123,15 +123,18 @@ def drop_one(
     with np.errstate(invalid="ignore"):
         flips = np.flatnonzero(finite_b & (slope * b1 < 0.0)).tolist()
     flip_row = rows[max(flips, key=lambda i: abs(slope[i]))] if flips else None
-    slopes = slope if finite_b.all() else slope[finite_b]  # no selection when none is NaN
-    any_p = bool(finite_p.any())
+    # No selection, and argmin for nanargmin, when nothing is NaN (the usual case).
+    slopes = slope if finite_b.all() else slope[finite_b]
+    every_p = p.size > 0 and bool(finite_p.all())
+    any_p = every_p or bool(finite_p.any())
+    ps = p if every_p else p[finite_p]
     return DropOne(
         slope_min=float(slopes.min()) if slopes.size else None,
         slope_max=float(slopes.max()) if slopes.size else None,
-        p_min=float(np.min(p[finite_p])) if any_p else None,
-        p_max=float(np.max(p[finite_p])) if any_p else None,
-        p_min_row=rows[int(np.nanargmin(p))] if any_p else None,
-        p_max_row=rows[int(np.nanargmax(p))] if any_p else None,
+        p_min=float(ps.min()) if any_p else None,
+        p_max=float(ps.max()) if any_p else None,
+        p_min_row=rows[int(p.argmin() if every_p else np.nanargmin(p))] if any_p else None,
+        p_max_row=rows[int(p.argmax() if every_p else np.nanargmax(p))] if any_p else None,
         crossing_rows=len(crossing),
         crossing_row=crossing_row,
         crossing_p=crossing_p,

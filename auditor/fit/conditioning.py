@@ -196,8 +196,9 @@ def engine_allowances(
     Each bound is multiplied by ``factor`` (see :data:`ENGINE_FACTOR`).
     """
     n, k = x.shape
-    columns = [np.ones(n)] * (1 if intercept else 0) + [x[:, j] for j in range(k)]
-    norms = np.array([math.sqrt(exact_sum(c * c)) for c in columns])
+    # The constant's column: n ones, whose exact sum of squares is n itself.
+    constant = [math.sqrt(float(n))] if intercept else []
+    norms = np.array(constant + [math.sqrt(exact_sum(x[:, j] * x[:, j])) for j in range(k)])
     if not (math.isfinite(kappa) and np.all(norms > 0.0) and df > 0):
         return {}
     scale = factor * EPSILON * max(kappa, 1.0)
