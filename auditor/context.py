@@ -9,7 +9,6 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from operator import attrgetter
 from typing import Any
 
 import numpy as np
@@ -39,9 +38,10 @@ class PointRows:
 
     @classmethod
     def of(cls, points: Sequence[DataPoint]) -> PointRows:
-        count = len(points)
-        rows = np.fromiter(map(attrgetter("row"), points), dtype=np.int64, count=count)
-        used = np.fromiter(map(attrgetter("used"), points), dtype=np.bool_, count=count)
+        # Lists first: a list made by comprehension and then an array is quicker than fromiter
+        # over attrgetter, the same numbers.
+        rows = np.array([point.row for point in points], dtype=np.int64)
+        used = np.array([point.used for point in points], dtype=np.bool_)
         return cls(rows, used)
 
 
