@@ -110,11 +110,25 @@ def _student_density(x: float, df: float) -> Any:
 
 def nct_sf(x: float, df: float, noncentrality: float) -> Any:
     """P(T > x) for the noncentral t (``scipy.stats.nct.sf``), clipped to [0, 1] as it is."""
+    if _plain(x, df, noncentrality):
+        if not (df > 0 and noncentrality == noncentrality):
+            return _NAN
+        with np.errstate(over="ignore"):
+            return np.float64(_clip_unit(float(special._ufuncs._nct_sf(x, df, noncentrality))))
     with np.errstate(over="ignore"):
         value = np.clip(special._ufuncs._nct_sf(x, df, noncentrality), 0, 1)
-    if _plain(x, df, noncentrality):
-        return value if df > 0 and noncentrality == noncentrality else _NAN
     return _finish(value, _bad_df(df) | np.isnan(noncentrality))
+
+
+def _clip_unit(value: float) -> float:
+    """``np.clip(value, 0, 1)`` of one number, by comparisons (np.clip of a scalar costs more
+    than the tail itself): 0 below 0, 1 above 1, anything else kept (−0 and NaN included, as
+    np.clip keeps them)."""
+    if value > 1.0:
+        return 1.0
+    if value < 0.0:
+        return 0.0
+    return value
 
 
 def nct_cdf(x: float, df: float, noncentrality: float) -> Any:

@@ -59,3 +59,22 @@ def test_t_pdf_of_one_number_is_the_array_path(df: float) -> None:
         with np.errstate(all="ignore"):
             got = d.t_pdf(x, df)
         assert _bits(got) == _bits(_array_pdf(x, df)), (x, df)
+
+
+def test_the_unit_clip_is_numpys_clip() -> None:
+    rng = np.random.default_rng(5)
+    grid = [0.0, -0.0, 1.0, -1e-300, 1e-300, 1.0 + 2e-16, 1.0 - 1e-16, math.nan, math.inf]
+    grid += [-math.inf, 0.5, 2.0, -3.0] + rng.uniform(-0.5, 1.5, 300).tolist()
+    for value in grid:
+        assert _bits(d._clip_unit(value)) == _bits(np.clip(np.float64(value), 0, 1)), value
+
+
+@pytest.mark.parametrize("df", [1, 4, 23, 498, 2.5, 1e6])
+def test_nct_sf_of_plain_numbers_is_the_clipped_array_path(df: float) -> None:
+    rng = np.random.default_rng(11)
+    for x in [0.0, -2.0, 1.96, 40.0, -40.0, math.inf, -math.inf] + rng.normal(0, 4, 60).tolist():
+        for delta in [0.0, 0.5, 2.8, 12.0, 60.0]:
+            with np.errstate(over="ignore"):
+                clipped = np.clip(special._ufuncs._nct_sf(x, df, delta), 0, 1)
+            assert _bits(d.nct_sf(x, df, delta)) == _bits(clipped), (x, df, delta)
+    assert math.isnan(d.nct_sf(1.0, 0, 1.0)) and math.isnan(d.nct_sf(1.0, 3, math.nan))
