@@ -59,11 +59,15 @@ def _influence(
     """Internally studentised residuals and Cook's distances (common practice formulas)."""
     if df <= 0 or not math.isfinite(residual_sd) or residuals.size == 0:
         return np.zeros(0), np.zeros(0)
-    studentized = np.zeros(residuals.shape)
-    cooks = np.zeros(residuals.shape)
     # A point of leverage 1 is fitted exactly (residual 0 by construction); its weight shows in
     # the leverage itself, so its studentised residual and Cook's distance stay 0 rather than 0/0.
     inside = (leverage < 1.0 - 1e-12) & (residual_sd > 0.0)
+    if inside.all():  # the usual case: every point, no selection to make
+        one_minus_h = 1.0 - leverage
+        studentized = residuals / (residual_sd * np.sqrt(one_minus_h))
+        return studentized, studentized**2 * leverage / (p * one_minus_h)
+    studentized = np.zeros(residuals.shape)
+    cooks = np.zeros(residuals.shape)
     one_minus_h = 1.0 - leverage[inside]
     studentized[inside] = residuals[inside] / (residual_sd * np.sqrt(one_minus_h))
     cooks[inside] = studentized[inside] ** 2 * leverage[inside] / (p * one_minus_h)
