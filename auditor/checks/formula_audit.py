@@ -16,6 +16,7 @@ import numpy as np
 from auditor.checks.base import check
 from auditor.checks.formula_support import (
     local_text,
+    may_hold_number,
     parse_quietly,
     reached_cells,
     replace_argument,
@@ -129,8 +130,8 @@ def typed_count_in_formula(context: RegressionContext) -> list[Finding]:
     findings = []
     for key, stat in context.spec.stats.items():
         cell = stat.cell
-        if stat.how == "linest-block":
-            continue
+        if stat.how == "linest-block" or not cell.formula or not may_hold_number(cell.formula):
+            continue  # a count typed in a formula is a typed number: none, nothing to parse
         node = parse_quietly(cell.formula, cell.sheet)
         if node is None:
             continue

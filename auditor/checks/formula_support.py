@@ -32,6 +32,17 @@ def parse_quietly(formula: str | None, sheet: str) -> Node | None:
         return None
 
 
+def may_hold_number(formula: str) -> bool:
+    """Whether the tree :func:`parse_quietly` makes of ``formula`` can hold a typed number: a
+    Number node is made only of a NUMBER operand token (names stay names there). True when
+    the text cannot be tokenized: the parse then decides."""
+    try:
+        tokens = tokenize(formula)
+    except FormulaError:
+        return True
+    return any(t.type == Token.OPERAND and t.subtype == Token.NUMBER for t in tokens)
+
+
 def reached_cells(
     spec: RegressionSpec, start: str, parsed: dict[tuple[str, int, int], Node] | None = None
 ) -> list[str]:

@@ -113,6 +113,8 @@ def _other_readers(context: RegressionContext) -> list[Finding]:
         cell = stat.cell
         if cell.address in pair_cells or stat.how == "linest-block":
             continue
+        if ":" not in (cell.formula or ""):
+            continue  # no range of two cells or more (A1:A9, A:A): no column read, no parse
         node = parse_quietly(cell.formula, cell.sheet)
         if node is None:
             continue
