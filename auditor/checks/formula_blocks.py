@@ -189,10 +189,15 @@ def frame_text(ref: Reference, block: Block, cell_sheet: str, coarse: bool = Fal
     as ``{data}``, so that two forms compare equal when they differ only in which of its own
     rows a formula reads (a range fault of the regression, not of the copy)."""
     frame, target = placed(ref, block, cell_sheet)
+    if frame == "data" and coarse:
+        return "{data}"
+    return _framed(ref, block, cell_sheet, frame, target)
+
+
+def _framed(ref: Reference, block: Block, cell_sheet: str, frame: str, target: Ref | None) -> str:
+    """The fine frame form of a reference already placed (:func:`frame_text`)."""
     fr1, fc1, fr2, _ = block.data_box
     if frame == "data":
-        if coarse:
-            return "{data}"
         if target is not None and _is(target, block.spec.x):
             return "{x}"
         if target is not None and _is(target, block.spec.y):
@@ -239,23 +244,38 @@ def frame_form(
 ) -> str:
     """The formula with spelling normalised, defined names replaced by what they refer to, and
     each reference in its frame (module doc)."""
-    return frame_forms(formula, block, cell_sheet, names, (coarse,))[0]
+    return rewrite_references(
+        canonical(formula),
+        partial(frame_text, block=block, cell_sheet=cell_sheet, coarse=coarse),
+        expand=lambda operand: names(operand, cell_sheet),
+    )
 
 
-def frame_forms(
-    formula: str,
-    block: Block,
-    cell_sheet: str,
-    names: Names = no_names,
-    coarse: tuple[bool, ...] = (False, True),
-) -> list[str]:
-    """:func:`frame_form` for each of ``coarse``, the spelling normalised once."""
-    text = canonical(formula)
-    return [
-        rewrite_references(
-            text,
-            partial(frame_text, block=block, cell_sheet=cell_sheet, coarse=each),
-            expand=lambda operand: names(operand, cell_sheet),
-        )
-        for each in coarse
-    ]
+_MARK = "\x00"  # never in a formula read from a file (XML cannot hold it): a reference's place
+
+
+def frame_forms(formula: str, block: Block, cell_sheet: str, names: Names = no_names) -> list[str]:
+    """:func:`frame_form` fine and coarse, from one pass over the formula: each reference's
+    place is marked and the reference placed once, then each form fills the marks."""
+    if _MARK in formula:  # made by hand, not read: the plain way, form by form
+        return [frame_form(formula, block, cell_sheet, each, names) for each in (False, True)]
+    found: list[Reference] = []
+
+    def mark(ref: Reference) -> str:
+        found.append(ref)
+        return f"{_MARK}{len(found) - 1}{_MARK}"
+
+    pieces = rewrite_references(
+        canonical(formula), mark, expand=lambda operand: names(operand, cell_sheet)
+    ).split(_MARK)
+    fine, coarse = [], []
+    for ref in found:
+        frame, target = placed(ref, block, cell_sheet)
+        fine.append(_framed(ref, block, cell_sheet, frame, target))
+        coarse.append("{data}" if frame == "data" else fine[-1])
+    forms = []
+    for texts in (fine, coarse):
+        filled = list(pieces)
+        filled[1::2] = [texts[int(index)] for index in pieces[1::2]]
+        forms.append("".join(filled))
+    return forms

@@ -52,14 +52,16 @@ class Member:
     names: Names
 
     def references(self) -> list[Reference]:
+        if self.names is no_names:  # no defined names: the references kept per formula text
+            return references(self.formula)
         return references(self.formula, lambda operand: self.names(operand, self.sheet))
 
 
 def _names(context: WorkbookContext) -> Names:
     """Defined names as the references they stand for (sheet scope first)."""
     workbook = context.workbook
-    if workbook is None:
-        return no_names
+    if workbook is None or not workbook.names:
+        return no_names  # nothing to expand (every name would stay as written)
 
     def resolve(name: str, sheet: str) -> str | None:
         refers_to = workbook.resolve_name(name, sheet)

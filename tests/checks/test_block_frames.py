@@ -17,6 +17,7 @@ from auditor.checks.formula_blocks import (
     resolve,
     sibling_groups,
 )
+from auditor.errors import FormulaError
 from auditor.formula.operands import Reference
 from auditor.formula.r1c1 import references
 from auditor.locate.locator import Locator, locate
@@ -85,3 +86,28 @@ def test_the_corpus_has_sibling_blocks_in_every_frame() -> None:
                             for ref in references(stat.cell.formula)
                         }
     assert frames == {"data", "block", "other"}
+
+
+def test_a_formula_holding_the_mark_is_framed_the_plain_way() -> None:
+    """frame_forms marks each reference's place with NUL; a formula that holds one itself (no
+    file can, a caller might) gets the plain forms, not a misread template."""
+    block = next(group[0] for path in BOOKS for group in _groups(path))
+    stat = next(s for s in block.cells.values() if s.cell.formula)
+    formula, sheet = f'={(stat.cell.formula or "").lstrip("=")}&"\x00"', stat.cell.sheet
+    assert frame_forms(formula, block, sheet) == [
+        frame_form(formula, _fresh(block), sheet),
+        frame_form(formula, _fresh(block), sheet, coarse=True),
+    ]
+
+
+def test_references_without_names_are_the_expanded_ones() -> None:
+    """A workbook without defined names: the references kept per formula text (what a sibling
+    member reads then) are those an expansion that finds no name gives."""
+    for path in BOOKS:
+        for cell in read_workbook(path).formula_cells():
+            formula = cell.formula or ""
+            try:
+                plain = references(formula)
+            except FormulaError:
+                continue
+            assert plain == references(formula, lambda _operand: None), formula
