@@ -99,14 +99,13 @@ class DesignMetrics:
         """JSON-ready (no NaN, no nested objects): the ``design`` part of audit.json."""
         # The fields one by one, not dataclasses.asdict: that deep-copies the nested records
         # (the predictions, the drop-one summary) only for them to be left out or flattened.
-        out: dict[str, float | int | str | None] = {}
-        for item in fields(self):
-            if item.name not in _NESTED:
-                out[item.name] = clean_number(getattr(self, item.name))
+        out: dict[str, float | int | str | None] = {
+            name: clean_number(getattr(self, name)) for name in _FLAT_FIELDS
+        }
         out["x_range"] = clean_number(self.x_range)
         if self.drop is not None:
-            for item in fields(self.drop):
-                out[f"drop_one_{item.name}"] = clean_number(getattr(self.drop, item.name))
+            for name in _DROP_FIELDS:
+                out[f"drop_one_{name}"] = clean_number(getattr(self.drop, name))
         if self.lack is not None:
             out["lack_of_fit_f"] = clean_number(self.lack.f)
             out["lack_of_fit_p"] = clean_number(self.lack.p)
@@ -125,6 +124,11 @@ class DesignMetrics:
     def _beyond(self, x: float) -> float:
         low, high = self.x_min or 0.0, self.x_max or 0.0
         return max(low - x, x - high, 0.0)
+
+
+# The field names to_dict writes, in their order (dataclasses.fields builds them anew each call).
+_FLAT_FIELDS = tuple(item.name for item in fields(DesignMetrics) if item.name not in _NESTED)
+_DROP_FIELDS = tuple(item.name for item in fields(DropOne))
 
 
 def _used_rows(data: Extracted) -> list[int]:
