@@ -230,8 +230,9 @@ def engine_allowances(
     names = (["intercept"] if intercept else []) + [
         "slope" if k == 1 else f"slope[{j}]" for j in range(1, k + 1)
     ]
+    # As Python floats (tolist): the same doubles, and scalar arithmetic without numpy's.
     for name, b, allow_b, g_root, allow_se in zip(
-        names, coefficients, coef, roots, se, strict=True
+        names, coefficients.tolist(), coef.tolist(), roots.tolist(), se.tolist(), strict=True
     ):
         suffix = name[len("slope") :] if name.startswith("slope") else ""
         base = "slope" if name.startswith("slope") else "intercept"
