@@ -21,7 +21,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from auditor.design.brent import brentq
-from auditor.fit.distributions import nct_cdf, nct_sf, t_ppf
+from auditor.fit.distributions import nct_tails, t_ppf
 from auditor.fit.sums import exact_sum
 
 FloatArray = NDArray[np.float64]
@@ -45,8 +45,7 @@ def _power_beyond(noncentrality: float, df: int, alpha: float, critical: float) 
     delta = abs(float(noncentrality))
     if delta == 0.0:
         return alpha
-    upper = float(nct_sf(critical, df, delta))
-    lower = float(nct_cdf(-critical, df, delta))
+    upper, lower = nct_tails(critical, df, delta)
     return min(1.0, upper + lower)
 
 

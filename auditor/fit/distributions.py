@@ -120,6 +120,19 @@ def nct_sf(x: float, df: float, noncentrality: float) -> Any:
     return _finish(value, _bad_df(df) | np.isnan(noncentrality))
 
 
+def nct_tails(critical: float, df: float, noncentrality: float) -> tuple[float, float]:
+    """(P(T > c), P(T ≤ −c)) for the noncentral t, as ``nct_sf(c)`` and ``nct_cdf(-c)`` give
+    them, for one plain c, df > 0 and a noncentrality that is a number: the power of a
+    two-sided test, without the checks each of the two makes (a root search asks for it some
+    fifteen times)."""
+    if not (_plain(critical, df, noncentrality) and df > 0 and noncentrality == noncentrality):
+        upper, lower = nct_sf(critical, df, noncentrality), nct_cdf(-critical, df, noncentrality)
+        return float(upper), float(lower)
+    with np.errstate(over="ignore"):
+        upper = _clip_unit(float(special._ufuncs._nct_sf(critical, df, noncentrality)))
+    return upper, float(special.nctdtr(df, noncentrality, -critical))
+
+
 def _clip_unit(value: float) -> float:
     """``np.clip(value, 0, 1)`` of one number, by comparisons (np.clip of a scalar costs more
     than the tail itself): 0 below 0, 1 above 1, anything else kept (−0 and NaN included, as

@@ -78,3 +78,14 @@ def test_nct_sf_of_plain_numbers_is_the_clipped_array_path(df: float) -> None:
                 clipped = np.clip(special._ufuncs._nct_sf(x, df, delta), 0, 1)
             assert _bits(d.nct_sf(x, df, delta)) == _bits(clipped), (x, df, delta)
     assert math.isnan(d.nct_sf(1.0, 0, 1.0)) and math.isnan(d.nct_sf(1.0, 3, math.nan))
+
+
+@pytest.mark.parametrize("df", [1, 3, 23, 498, 4.5])
+def test_nct_tails_are_the_two_tails(df: float) -> None:
+    """nct_tails gives what nct_sf(c) and nct_cdf(-c) give, bit for bit (the power's tails)."""
+    for critical in [0.0, 1.2, 2.0686576104190406, 12.7, 40.0]:
+        for delta in [0.0, 1e-9, 0.7, 2.8, 9.5, 64.0, math.nan]:
+            upper, lower = d.nct_tails(critical, df, delta)
+            assert _bits(upper) == _bits(d.nct_sf(critical, df, delta)), (critical, df, delta)
+            assert _bits(lower) == _bits(d.nct_cdf(-critical, df, delta)), (critical, df, delta)
+    assert all(math.isnan(v) for v in d.nct_tails(2.0, 0, 1.0))
