@@ -99,9 +99,7 @@ class DesignMetrics:
         """JSON-ready (no NaN, no nested objects): the ``design`` part of audit.json."""
         # The fields one by one, not dataclasses.asdict: that deep-copies the nested records
         # (the predictions, the drop-one summary) only for them to be left out or flattened.
-        out: dict[str, float | int | str | None] = {
-            name: clean_number(getattr(self, name)) for name in _FLAT_FIELDS
-        }
+        out = {name: clean_number(getattr(self, name)) for name in _FLAT_FIELDS}
         out["x_range"] = clean_number(self.x_range)
         if self.drop is not None:
             for name in _DROP_FIELDS:
