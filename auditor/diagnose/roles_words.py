@@ -58,16 +58,39 @@ class Judgement:
 def points_at(words: frozenset[str], candidates: list[Header]) -> tuple[Header, list[str]] | None:
     """The one candidate header whose own words (shared with no other candidate) ``words``
     match, with the words matched; None when none or several match."""
-    if not words or not shared(words, frozenset(w for h in candidates for w in h.words)):
-        return None  # names nothing of the table (most titles and labels): no header to weigh
-    hits = []
-    for index, header in enumerate(candidates):
-        others = frozenset(w for j, h in enumerate(candidates) if j != index for w in h.words)
-        own = frozenset(w for w in header.words if not shared(frozenset([w]), others))
-        matched = shared(own, words)
-        if matched:
-            hits.append((header, matched))
-    return hits[0] if len(hits) == 1 else None
+    return _Named(candidates).points_at(words)
+
+
+class _Named:
+    """Candidate headers, with the words of them all and, once a statement names any, the
+    words each has alone: worked out once for all the statements weighed against them."""
+
+    def __init__(self, candidates: list[Header]) -> None:
+        self.candidates = candidates
+        self.every = frozenset(w for h in candidates for w in h.words)
+        self._own: list[tuple[Header, frozenset[str]]] | None = None
+
+    def points_at(self, words: frozenset[str]) -> tuple[Header, list[str]] | None:
+        """:func:`points_at` against these candidates."""
+        if not words or not shared(words, self.every):
+            return None  # names nothing of the table (most titles and labels): no header to weigh
+        hits = []
+        for header, own in self._owned():
+            matched = shared(own, words)
+            if matched:
+                hits.append((header, matched))
+        return hits[0] if len(hits) == 1 else None
+
+    def _owned(self) -> list[tuple[Header, frozenset[str]]]:
+        if self._own is None:
+            self._own = []
+            for index, header in enumerate(self.candidates):
+                others = frozenset(
+                    w for j, h in enumerate(self.candidates) if j != index for w in h.words
+                )
+                own = frozenset(w for w in header.words if not shared(frozenset([w]), others))
+                self._own.append((header, own))
+        return self._own
 
 
 def contradictory(meaning: Meaning) -> bool:
@@ -75,11 +98,11 @@ def contradictory(meaning: Meaning) -> bool:
     contradict each other are no evidence either way."""
     if meaning.x is None or meaning.y is None:
         return False
-    candidates = _candidates(meaning)
+    named = _Named(_candidates(meaning))
     roles: dict[str, set[str]] = {}
     for statement in meaning.statements:
         for role, words in (("y", statement.y_words), ("x", statement.x_words)):
-            said = points_at(words, candidates)
+            said = named.points_at(words)
             if said is not None:
                 roles.setdefault(said[0].cell, set()).add(role)
     return any(len(said) > 1 for said in roles.values())
@@ -96,11 +119,11 @@ def judge_swap(meaning: Meaning) -> Judgement | None:
     """Swapped when some statement names the formulas' x as y (or y as x) and none agrees."""
     if meaning.x is None or meaning.y is None or contradictory(meaning):
         return None
-    candidates = _candidates(meaning)
+    named = _Named(_candidates(meaning))
     swapped: list[Cue] = []
     for statement in meaning.statements:
-        says_y = points_at(statement.y_words, candidates)
-        says_x = points_at(statement.x_words, candidates)
+        says_y = named.points_at(statement.y_words)
+        says_x = named.points_at(statement.x_words)
         rate = statement.factual  # a title's order is a convention: weak
         agree = (says_y and says_y[0] is meaning.y) or (says_x and says_x[0] is meaning.x)
         agree = agree or akin(statement.y_words, meaning.y.words - meaning.x.words)
@@ -153,7 +176,7 @@ def judge_shift(meaning: Meaning) -> Judgement | None:
     ):
         if not near:
             continue
-        candidates = [own, other, *near]
+        named = _Named([own, other, *near])
         cues: list[Cue] = []
         agreed = False
         for statement in meaning.statements:
@@ -165,7 +188,7 @@ def judge_shift(meaning: Meaning) -> Judgement | None:
                 continue
             if named_own[1]:
                 continue  # a rate that gives the range read the other role: no shift of it
-            cue = _shift_cue(statement, role, phrases, candidates)
+            cue = _shift_cue(statement, role, phrases, named)
             if cue is not None:
                 cues.append(cue)
         meant = {cue.header.cell for cue in cues}
@@ -175,16 +198,16 @@ def judge_shift(meaning: Meaning) -> Judgement | None:
 
 
 def _shift_cue(
-    statement: Statement, role: str, phrases: list[frozenset[str]], candidates: list[Header]
+    statement: Statement, role: str, phrases: list[frozenset[str]], named: _Named
 ) -> Cue | None:
-    """What one statement says of a range beside ``candidates[0]`` (the range read; then the
-    regression's other range, then the ranges beside); ``phrases``: the words of this role,
+    """What one statement says of a range beside ``named.candidates[0]`` (the range read; then
+    the regression's other range, then the ranges beside); ``phrases``: the words of this role,
     then those of the other. A rate or a unit names the role by arithmetic (strong). A title
     names it by its order (weak), unless its other phrase names the regression's other range:
     then the quantity not read is named whatever the order (strong).
     """
-    own, other = candidates[0], candidates[1]
-    said = [points_at(words, candidates) for words in phrases]
+    own, other = named.candidates[0], named.candidates[1]
+    said = [named.points_at(words) for words in phrases]
     beside = [s for s in said if s is not None and s[0] is not own and s[0] is not other]
     if len(beside) != 1:
         return None
