@@ -19,8 +19,12 @@ def stat_addresses(spec: RegressionSpec) -> dict[tuple[str, int, int], str]:
     return out
 
 
-def refs_roles(spec: RegressionSpec, node: Node) -> set[str]:
-    known = stat_addresses(spec)
+Known = dict[tuple[str, int, int], str]  # stat_addresses of a spec, found once by the caller
+
+
+def refs_roles(spec: RegressionSpec, node: Node, known: Known | None = None) -> set[str]:
+    if known is None:
+        known = stat_addresses(spec)
     found = set()
     for ref in references(node):
         for r in range(ref.r1, min(ref.r2, ref.r1 + 10) + 1):
@@ -31,9 +35,10 @@ def refs_roles(spec: RegressionSpec, node: Node) -> set[str]:
     return found
 
 
-def picked(spec: RegressionSpec, node: Node) -> str | None:
+def picked(spec: RegressionSpec, node: Node, keys: Known | None = None) -> str | None:
     """The statistic a sub-expression stands for: a stat cell, or INDEX over a LINEST block."""
-    keys = stat_addresses(spec)
+    if keys is None:
+        keys = stat_addresses(spec)
     if isinstance(node, RefNode) and node.ref.is_cell:
         return keys.get((node.ref.sheet.lower(), node.ref.r1, node.ref.c1)) or None
     if isinstance(node, Call) and node.name == "INDEX" and len(node.args) >= 2:
@@ -50,24 +55,30 @@ def picked(spec: RegressionSpec, node: Node) -> str | None:
     return None
 
 
-def t_keys_in(spec: RegressionSpec, node: Node) -> list[str]:
+def t_keys_in(spec: RegressionSpec, node: Node, known: Known | None = None) -> list[str]:
+    if known is None:
+        known = stat_addresses(spec)
     found = []
     for sub in walk(node):
-        key = picked(spec, sub)
+        key = picked(spec, sub, known)
         if key and stat_base(key).startswith("t_"):
             found.append(stat_base(key))
     return found
 
 
 def role_of_dependent(
-    workbook: Workbook, spec: RegressionSpec, cell: Cell, node: Node
+    workbook: Workbook, spec: RegressionSpec, cell: Cell, node: Node, known: Known | None = None
 ) -> str | None:
+    """``known``: the spec's stat_addresses when the caller has them (they are the same for
+    every formula tried until a statistic is attached)."""
+    if known is None:
+        known = stat_addresses(spec)
     label = statistic_label(workbook, cell)
     label_role = role_from_label(label) if label else None
     shape = role_from_shape(node)
-    used = {stat_base(k) for k in refs_roles(spec, node)}
+    used = {stat_base(k) for k in refs_roles(spec, node, known)}
     if shape == "p":
-        t_keys = t_keys_in(spec, node)
+        t_keys = t_keys_in(spec, node, known)
         if t_keys:
             return "p_" + t_keys[0][2:]
         if label_role == "p_intercept" or ("t_intercept" in used and "t_slope" not in used):
@@ -84,13 +95,13 @@ def role_of_dependent(
         return shape
     if label_role in ("t_critical",):
         return None
-    found = picked(spec, node) if isinstance(node, Call) else None
+    found = picked(spec, node, known) if isinstance(node, Call) else None
     if found is not None:
         return stat_base(found)  # INDEX(block, r, c) repeats a statistic of the block
     if isinstance(node, Binary) and node.op == "/":
-        numerator = picked(spec, node.left)
-        denominator = picked(spec, node.right) or role_from_shape(node.right) or ""
-        right_used = {stat_base(k) for k in refs_roles(spec, node.right)}
+        numerator = picked(spec, node.left, known)
+        denominator = picked(spec, node.right, known) or role_from_shape(node.right) or ""
+        right_used = {stat_base(k) for k in refs_roles(spec, node.right, known)}
         se_like = stat_base(denominator).startswith("se_") or any(
             k.startswith("se_") for k in right_used
         )

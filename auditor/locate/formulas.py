@@ -104,7 +104,8 @@ class FormulaLocator:
         """Attach a statistic cell; a second cell holding the same statistic gets ``key@A1``."""
         if key is None or not (key in STAT_KEYS or re.match(r"^[a-z_]+\[\d+\]$", key)):
             return
-        if any(s.cell.address == stat.cell.address for s in spec.stats.values()):
+        at = (stat.cell.sheet, stat.cell.row, stat.cell.col)  # the address, without its text
+        if any((s.cell.sheet, s.cell.row, s.cell.col) == at for s in spec.stats.values()):
             return
         if key in spec.stats:
             key = f"{key}@{stat.cell.coord}"
@@ -195,10 +196,12 @@ class FormulaLocator:
             self._readers, self._wide = readers, wide
         return self._readers, self._wide
 
-    def _stat_readers(self, spec: RegressionSpec) -> set[Key]:
+    def _stat_readers(
+        self, spec: RegressionSpec, known: dict[tuple[str, int, int], str] | None = None
+    ) -> set[Key]:
         readers, wide = self._reverse_index()
         found = set(wide)
-        for address in stat_addresses(spec):
+        for address in stat_addresses(spec) if known is None else known:
             found |= readers.get(address, set())
         return found
 
@@ -217,7 +220,8 @@ class FormulaLocator:
         data_readers = self._reads.readers(data, sheets)
         for _ in range(MAX_FOLLOW_ROUNDS):
             added = False
-            stat_readers = self._stat_readers(spec)
+            known = stat_addresses(spec)  # again after each statistic attached
+            stat_readers = self._stat_readers(spec, known)
             for key, node in self.parsed.items():
                 if key in taken or key in self.anchor_cells:
                     continue  # another regression's own call is never a dependent of this one
@@ -226,13 +230,13 @@ class FormulaLocator:
                 cell = self.workbook.cell(*key)
                 if cell is None:
                     continue
-                touches_stats = bool(refs_roles(spec, node))
+                touches_stats = bool(refs_roles(spec, node, known))
                 touches_data = key in data_readers
                 if not (touches_stats or touches_data):
                     continue
                 if touches_data and not touches_stats and not self._near(spec, cell):
                     continue
-                role = role_of_dependent(self.workbook, spec, cell, node)
+                role = role_of_dependent(self.workbook, spec, cell, node, known)
                 taken.add(key)
                 label = statistic_label(self.workbook, cell)
                 if (
@@ -246,7 +250,8 @@ class FormulaLocator:
                     # built by hand are unambiguous shapes
                 if role:
                     self._put(spec, role, StatCell(role, cell, "formula"))
-                    stat_readers = self._stat_readers(spec)
+                    known = stat_addresses(spec)
+                    stat_readers = self._stat_readers(spec, known)
                     added = True
             if not added:
                 break

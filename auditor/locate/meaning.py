@@ -9,7 +9,12 @@ The result is a :class:`Meaning`, plain data judged in :mod:`auditor.diagnose.ro
 
 from __future__ import annotations
 
+from collections import Counter
+from collections.abc import Iterable
 from dataclasses import dataclass, field
+from functools import lru_cache
+from itertools import repeat
+from operator import attrgetter
 
 from auditor.formula.syntax import Ref
 from auditor.grid import column_letter
@@ -29,6 +34,7 @@ from auditor.read.workbook import Sheet, Workbook
 HEADER_ROWS_ABOVE = 3  # a header may sit a row or two above the data (a units row between)
 NEIGHBOUR_REACH = 2  # columns (rows) either side searched for the quantity the words name
 SAMPLE = 200  # cells looked at to tell a column of data
+_VALUE = attrgetter("value")
 
 
 @dataclass(frozen=True)
@@ -81,22 +87,29 @@ def header_of(workbook: Workbook, ref: Ref) -> Header | None:
     return None
 
 
+@lru_cache(maxsize=1024)
+def _picks(count: int) -> tuple[int, ...]:
+    """The positions of a range of ``count`` cells looked at: all, or SAMPLE + 1 spread over it."""
+    if count <= SAMPLE:
+        return tuple(range(count))
+    return tuple(i * (count - 1) // SAMPLE for i in range(SAMPLE + 1))
+
+
 def _mostly_numbers(sheet: Sheet, ref: Ref) -> bool:
     """Do at least half the cells of a one-column (one-row) range hold numbers? Judged on at
-    most SAMPLE cells spread over it: a range of a million rows is not read whole."""
-    count = ref.rows * ref.cols
-    picks = (
-        range(count) if count <= SAMPLE else [i * (count - 1) // SAMPLE for i in range(SAMPLE + 1)]
+    most SAMPLE cells spread over it: a range of a million rows is not read whole. The cells
+    are looked up in one pass and counted by type, not one method call each."""
+    picks = _picks(ref.rows * ref.cols)
+    keys: Iterable[tuple[int, int]]
+    if ref.cols == 1:
+        keys = zip(map(ref.r1.__add__, picks), repeat(ref.c1))
+    else:
+        keys = ((ref.r1 + k // ref.cols, ref.c1 + k % ref.cols) for k in picks)
+    kinds = Counter(map(type, map(_VALUE, filter(None, map(sheet.cells.get, keys)))))
+    numbers = sum(
+        n for kind, n in kinds.items() if issubclass(kind, (int, float)) and kind is not bool
     )
-    total = len(picks)
-    numbers, left = 0, total
-    for k in picks:  # stops once the answer is known either way
-        if 2 * numbers >= total or 2 * (numbers + left) < total:
-            break
-        value = sheet.value(ref.r1 + k // ref.cols, ref.c1 + k % ref.cols)
-        numbers += isinstance(value, (int, float)) and not isinstance(value, bool)
-        left -= 1
-    return 2 * numbers >= total
+    return 2 * numbers >= len(picks)
 
 
 def beside(workbook: Workbook, ref: Ref, other: Ref) -> list[Header]:
