@@ -144,6 +144,9 @@ class Evaluator(ExpressionEvaluator):
                 f"{MAX_BLOCK_CELLS:,} regaudit evaluates in one range"
             )
         out = np.empty((rows, cols), dtype=object)
+        if rows == 1 and cols == 1:  # one cell (=E3/E5): what the loops below give, directly
+            out[0, 0] = self._cell(sheet.name, ref.r1, ref.c1)
+            return out
         cells = sheet.cells
         row_span = range(ref.r1, r2 + 1)
         column_values = getattr(cells, "column_values", None)  # the compact store's slice

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+from collections import defaultdict
 from typing import Any
 
 from auditor.errors import FormulaError
@@ -180,7 +181,7 @@ class FormulaLocator:
         once: following dependents then looks up readers instead of rescanning every formula.
         A reference too wide to list cell by cell puts its formula among those always tried."""
         if self._readers is None:
-            readers: dict[tuple[str, int, int], set[Key]] = {}
+            readers: defaultdict[tuple[str, int, int], set[Key]] = defaultdict(set)
             wide: set[Key] = set()
             for key, node in self.parsed.items():
                 refs = self._refs_by_key.setdefault(key, references(node))
@@ -192,7 +193,7 @@ class FormulaLocator:
                     sheet = ref.sheet.lower()
                     for r in range(ref.r1, ref.r1 + rows):
                         for c in range(ref.c1, ref.c2 + 1):
-                            readers.setdefault((sheet, r, c), set()).add(key)
+                            readers[(sheet, r, c)].add(key)  # no empty set made per cell
             self._readers, self._wide = readers, wide
         return self._readers, self._wide
 

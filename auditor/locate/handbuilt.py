@@ -41,6 +41,7 @@ from auditor.locate.handbuilt_sums import (
     Numbers,
     is_number,
     moments_between,
+    moments_swapped,
     numbers_of,
     same_number,
 )
@@ -48,6 +49,7 @@ from auditor.locate.spec import overlaps
 from auditor.read.workbook import Cell, Workbook
 
 MAX_DEPTH = 3  # M2 = K2/J2, K2 = COVARIANCE.P(…): two levels; three is generous
+_UNKNOWN = object()  # not looked for yet (None: looked for, and no sums)
 MAX_VECTORS = 8  # ranges one formula reads, at most: beyond that it is a table, not a slope
 # Cells calling these are regressions the formula recogniser finds already.
 REGRESSION_FUNCTIONS = frozenset(
@@ -169,13 +171,19 @@ class HandbuiltFinder:
         return self._numbers[ref]
 
     def moments(self, y: Ref, x: Ref) -> Moments | None:
-        if (y, x) not in self._moments:
-            y_numbers, x_numbers = self.numbers(y), self.numbers(x)
-            ok = (
-                y_numbers is not None and x_numbers is not None and len(y_numbers) == len(x_numbers)
-            )
-            self._moments[(y, x)] = moments_between(y_numbers, x_numbers) if ok else None  # type: ignore[arg-type]
-        return self._moments[(y, x)]
+        """The pair's sums, found once; y on x from x on y when that is known (the same sums)."""
+        found = self._moments.get((y, x), _UNKNOWN)
+        if found is not _UNKNOWN:
+            return found  # type: ignore[return-value]
+        y_numbers, x_numbers = self.numbers(y), self.numbers(x)
+        if y_numbers is None or x_numbers is None or len(y_numbers) != len(x_numbers):
+            made = None
+        elif (reverse := self._moments.get((x, y))) is not None:
+            made = moments_swapped(reverse, x_numbers, y_numbers)
+        else:
+            made = moments_between(y_numbers, x_numbers)
+        self._moments[(y, x)] = made
+        return made
 
     def cell_numbers(self, cell: Cell) -> list[float]:
         """The value the author saw (stored), then the one the formula gives now."""

@@ -173,3 +173,29 @@ def moments_between(y: Numbers, x: Numbers) -> Moments | None:
         sxy_raw=float(xs @ ys),
         sxx_raw=float(xs @ xs),
     )
+
+
+def moments_swapped(found: Moments, y: Numbers, x: Numbers) -> Moments | None:
+    """:func:`moments_between` of (``x``, ``y``) from ``found``, the moments of (``y``, ``x``):
+    the same sums with the roles exchanged, only the new x's levels and Σ(new x)² computed.
+    (A product of two doubles is the same either way round, and so is a dot product.)"""
+    paired = y.mask & x.mask
+    new_xs = y.floats[paired]
+    if np.unique(new_xs).size < MIN_LEVELS or found.syy <= 0:
+        return None
+    return Moments(
+        n=found.n,
+        x_mean=found.y_mean,
+        y_mean=found.x_mean,
+        sxx=found.syy,
+        sxy=found.sxy,
+        syy=found.sxx,
+        n_x=found.n_y,
+        sxx_all=found.syy_all,
+        n_y=found.n_x,
+        syy_all=found.sxx_all,
+        x_mean_all=found.y_mean_all,
+        y_mean_all=found.x_mean_all,
+        sxy_raw=found.sxy_raw,
+        sxx_raw=float(new_xs @ new_xs),
+    )

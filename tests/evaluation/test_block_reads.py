@@ -121,3 +121,28 @@ def test_an_absent_cell_reads_as_empty_not_as_the_placeholder() -> None:
     workbook = book({"A1": 1.0, "A3": 3.0})
     block = Evaluator(workbook).range_values(Ref("Data", 1, 1, 4, 1))
     assert block[:, 0].tolist() == [1.0, None, 3.0, None]
+
+
+@pytest.mark.parametrize("seed", range(10))
+@pytest.mark.parametrize("store", ["dict", "compact"])
+def test_one_cell_read_alone_holds_what_the_whole_block_read_gives_it(
+    seed: int, store: str
+) -> None:
+    """A one-cell reference (=E3/E5) is read directly; the many-cell read is the reference:
+    every cell of generated sheets, an array block's anchor and members included, cycles too."""
+    rng = random.Random(1000 + seed)
+    kinds = tuple(rng.sample(KINDS, rng.randrange(1, len(KINDS) + 1)))
+    rows = rng.randrange(1, 30)
+    cells = _sheet_cells(rng, rows, kinds)
+    cells["D1"], cells["D2"] = "=D2+1", "=D1+1"  # a cycle: both read #CYCLE! or as met
+    workbook = book(cells, arrays={"E2:F4": "=A2:B4*2"})
+    if store == "compact":
+        workbook = _compact(workbook)
+    whole = Ref("Data", 1, 1, rows + 2, 7)
+    expected = Evaluator(workbook).range_values(whole).tolist()
+    alone = Evaluator(workbook)
+    for row in range(1, rows + 3):
+        for col in range(1, 8):
+            block = alone.range_values(Ref("Data", row, col, row, col))
+            assert block.shape == (1, 1)
+            _same([[block[0, 0]]], [[expected[row - 1][col - 1]]])

@@ -1,6 +1,6 @@
-"""The formulas reading a block, found with their references held as arrays, are those testing
-each reference of each formula in turn gives: generated formulas on a few sheets (names in
-different cases), reading cells, columns and ranges, some reading nothing."""
+"""The formulas reading a block, found with their references held as arrays (or, for a few, one
+by one), are those testing each reference of each formula in turn gives: generated formulas on a
+few sheets (names in different cases), reading cells, columns and ranges, some reading nothing."""
 
 from __future__ import annotations
 
@@ -9,6 +9,7 @@ import random
 import pytest
 
 from auditor.formula.syntax import Ref
+from auditor.locate import formula_reads
 from auditor.locate.formula_reads import FormulaReads, Key
 from auditor.locate.spec import overlaps
 
@@ -28,7 +29,11 @@ def _ref(rng: random.Random) -> Ref:
 
 
 @pytest.mark.parametrize("seed", range(40))
-def test_the_readers_are_those_each_reference_in_turn_gives(seed: int) -> None:
+@pytest.mark.parametrize("small", [0, 1_000_000])  # numpy over arrays; one by one
+def test_the_readers_are_those_each_reference_in_turn_gives(
+    seed: int, small: int, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.setattr(formula_reads, "SMALL", small)
     rng = random.Random(seed)
     refs_by_key: dict[Key, list[Ref]] = {}
     for i in range(rng.randrange(0, 60)):

@@ -11,7 +11,13 @@ import random
 import numpy as np
 import pytest
 
-from auditor.locate.handbuilt_sums import Moments, is_number, moments_between, numbers_of
+from auditor.locate.handbuilt_sums import (
+    Moments,
+    is_number,
+    moments_between,
+    moments_swapped,
+    numbers_of,
+)
 from auditor.read.workbook import ErrorValue
 
 
@@ -93,3 +99,32 @@ def test_numbers_mark_what_is_a_number_and_keep_nan_elsewhere() -> None:
     assert numbers.floats[numbers.mask].tolist() == [1.5, 2.0, 0.5]
     assert np.isnan(numbers.floats[~numbers.mask]).all()
     assert numbers_of([1.0, ErrorValue("#N/A")]) is None
+
+
+@pytest.mark.parametrize("seed", range(80))
+def test_y_on_x_from_x_on_y_is_the_same_bits_as_found_anew(seed: int) -> None:
+    """moments_swapped exchanges the roles of known sums: the same Moments, to the last bit,
+    as moments_between of the swapped pair, on generated ranges (few levels on either side,
+    constant columns, text among the numbers, lengths up to 2,000)."""
+    rng = random.Random(7000 + seed)
+    n = rng.choice([3, 4, 6, 25, 300, 2000])
+    levels = rng.choice([None, 1, 2, 3, 5])
+
+    def column(scale: float) -> list[float]:
+        if levels is not None and rng.random() < 0.5:
+            return [float(rng.randrange(levels)) for _ in range(n)]  # few levels
+        return [rng.uniform(-scale, scale) for _ in range(n)]
+
+    xs, ys = column(50), column(1e6)
+    x_values = [_value(rng, x) if rng.random() < 0.3 else x for x in xs]
+    y_values = [_value(rng, y) if rng.random() < 0.3 else y for y in ys]
+    a, b = numbers_of(y_values), numbers_of(x_values)
+    assert a is not None and b is not None
+    forward = moments_between(a, b)
+    expected = moments_between(b, a)
+    if forward is None:
+        return  # the search computes the other orientation anew then
+    swapped = moments_swapped(forward, a, b)
+    assert (swapped is None) == (expected is None)
+    if swapped is not None and expected is not None:
+        assert dataclasses.astuple(swapped) == dataclasses.astuple(expected)
