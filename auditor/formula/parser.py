@@ -71,6 +71,9 @@ class _Context:
     sheet: str
     workbook: Workbook | None
     depth: int = 0
+    # Nothing of the workbook read but the own sheet's name (auditor.formula.templates): no
+    # sheet prefix, no whole column or row (the sheet's extent), no name or table reference.
+    portable: bool = True
 
 
 def _sheet_extent(ctx: _Context, sheet: str) -> tuple[str, int, int]:
@@ -92,6 +95,7 @@ def _reference(ctx: _Context, text: str) -> Node:
         prefix, body = _split_sheet(part)
         if prefix is not None:
             external, sheet = _unquote(prefix)
+            ctx.portable = False
         bodies.append(body)
     sheet_name, max_row, max_col = _sheet_extent(ctx, sheet if sheet is not None else ctx.sheet)
     if external is not None:
@@ -104,10 +108,12 @@ def _reference(ctx: _Context, text: str) -> Node:
     if len(parts) == 2:
         col_a, col_b = A1_COLUMN.match(bodies[0]), A1_COLUMN.match(bodies[1])
         if col_a and col_b:
+            ctx.portable = False
             c1, c2 = sorted((column_index(col_a.group(2)), column_index(col_b.group(2))))
             return RefNode(Ref(sheet_name, 1, c1, max_row, c2, True, external))
         row_a, row_b = A1_ROW.match(bodies[0]), A1_ROW.match(bodies[1])
         if row_a and row_b:
+            ctx.portable = False
             r1, r2 = sorted((int(row_a.group(2)), int(row_b.group(2))))
             return RefNode(Ref(sheet_name, r1, 1, r2, max_col, False, external, whole_row=True))
     if len(parts) == 1:
@@ -120,6 +126,7 @@ def _reference(ctx: _Context, text: str) -> Node:
 
 
 def _name(ctx: _Context, name: str, sheet: str | None, external: str | None) -> Node:
+    ctx.portable = False
     if external is not None:
         return NameNode(name, external)
     if ctx.workbook is None:

@@ -22,6 +22,7 @@ import weakref
 from functools import lru_cache
 from typing import TYPE_CHECKING
 
+from auditor.formula import templates
 from auditor.formula.nodes import (
     SHEET_COLS,
     SHEET_ROWS,
@@ -103,5 +104,20 @@ def parse(text: str, sheet: str, workbook: Workbook | None = None) -> Node:
     cache = _book_cache(workbook)
     node = cache.get((text, sheet))
     if node is None:
-        node = cache[(text, sheet)] = _parse_now(_Context(text, sheet, workbook))
+        node = cache[(text, sheet)] = _parse_in_book(text, sheet, workbook)
+    return node
+
+
+def _parse_in_book(text: str, sheet: str, workbook: Workbook) -> Node:
+    """A parse on ``sheet``; from the text's template when one was kept (module
+    :mod:`auditor.formula.templates`), else parsed, and kept when it is portable."""
+    found = workbook.sheet(sheet)
+    name = found.name if found is not None else sheet  # as the parser spells a reference's sheet
+    kept = templates.template(text)
+    if kept is not None:
+        return templates.rebind(kept, name)
+    ctx = _Context(text, sheet, workbook)
+    node = _parse_now(ctx)
+    if ctx.portable:
+        templates.keep(text, name, node)
     return node
