@@ -17,6 +17,7 @@ import numpy as np
 
 from auditor.errors import FormulaError, Unsupported, Unverifiable
 from auditor.evaluation.coerce import _constant, _result, constants
+from auditor.evaluation.column_reads import IndexedColumns
 from auditor.evaluation.expressions import ExpressionEvaluator
 from auditor.evaluation.formula_index import FormulaIndex
 from auditor.evaluation.layout import FormulaLayout, _Key
@@ -68,6 +69,7 @@ class Evaluator(ExpressionEvaluator):
         self._index = FormulaIndex(layout.formula_rows, layout.blocks)  # what a range holds
         self._blocks = layout.blocks
         self._members = layout.members
+        self._columns = IndexedColumns()
 
     # --- public ---------------------------------------------------------------------------------
 
@@ -152,6 +154,8 @@ class Evaluator(ExpressionEvaluator):
         column_values = getattr(cells, "column_values", None)  # the compact store's slice
         for j, col in enumerate(range(ref.c1, c2 + 1)):
             stored = column_values(col, ref.r1, r2) if column_values is not None else None
+            if stored is None:  # a long column: its numbers from the reader's index
+                stored = self._columns.column(sheet, col, ref.r1, r2)
             if stored is None:  # each cell looked up, an absent one read as empty (None)
                 found = map(cells.get, zip(row_span, repeat(col)), repeat(_NO_CELL))
                 stored = list(map(_VALUE_OF, found))

@@ -20,6 +20,7 @@ from __future__ import annotations
 import re
 import unicodedata
 from dataclasses import dataclass
+from functools import lru_cache
 
 from auditor.locate.roles import role_from_label
 
@@ -48,8 +49,10 @@ _OPEN = "([{,:;"
 _CLOSE = ")]},;"
 
 
+@lru_cache(maxsize=8192)
 def tokens(text: str) -> frozenset[str]:
-    """The words of a text that can name a quantity or a unit, normalised."""
+    """The words of a text that can name a quantity or a unit, normalised. (Kept per text:
+    every regression of a sheet reads the sheet's titles and labels again.)"""
     text = unicodedata.normalize("NFKC", text).lower().replace("μ", "u")
     out = set()
     for raw in _SPLIT.split(text):
