@@ -6,6 +6,7 @@ the contiguous data rows around them, numbers stored as text parsed, a trailing 
 row left out, header rows skipped. Every cell dropped or parsed is recorded with the reason.
 """
 
+from itertools import chain
 from typing import Any
 
 import numpy as np
@@ -78,7 +79,8 @@ def _extract(
     k = x_ref.c2 - x_ref.c1 + 1
     x_cols = list(range(x_ref.c1, x_ref.c2 + 1))
     same_frame = x_ref.sheet.lower() == y_ref.sheet.lower()
-    rows_referenced = set(range(x_ref.r1, x_ref.r2 + 1)) & set(range(y_ref.r1, y_ref.r2 + 1))
+    # The rows both ranges span: a range, tested in O(1) (no set of 200,000 rows built twice).
+    rows_referenced = range(max(x_ref.r1, y_ref.r1), min(x_ref.r2, y_ref.r2) + 1)
     first, last = min(x_ref.r1, y_ref.r1), max(x_ref.r2, y_ref.r2)
     lagged = same_frame and (x_ref.c1, x_ref.c2) == (y_ref.c1, y_ref.c1) and x_ref.r1 != y_ref.r1
     if (
@@ -132,6 +134,8 @@ def _extract(
     # collector held back (pipeline.audit.audit_workbook), which would otherwise walk every
     # object alive again and again while 200,000 of them are made.
     rows.add_all(first, last, x_block, y_column)
-    result.x = np.array(rows.xs_used, dtype=float).reshape(-1, k)
+    # Every x kept is a float already: read in one pass, not as a list of one-row lists.
+    kept_x = chain.from_iterable(rows.xs_used)
+    result.x = np.fromiter(kept_x, dtype=float, count=len(rows.xs_used) * k).reshape(-1, k)
     result.y = np.array(rows.ys_used, dtype=float)
     return result

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import bisect
 import re
+from collections.abc import Container
 from dataclasses import dataclass
 from itertools import repeat
 from typing import Any, cast
@@ -115,7 +116,7 @@ class IntendedRows:
         sheet: str,
         x_cols: list[int],
         y_col: int,
-        rows_referenced: set[int],
+        rows_referenced: Container[int],
         result: Extracted,
         *,
         cell_by_cell: bool = False,
