@@ -77,7 +77,14 @@ __all__ = [
 
 @lru_cache(maxsize=4096)
 def _parse_free(text: str, sheet: str) -> Node:
-    return _parse_now(_Context(text, sheet, None))
+    kept = templates.template(text, in_book=False)
+    if kept is not None:
+        return templates.rebind(kept, sheet)
+    ctx = _Context(text, sheet, None)
+    node = _parse_now(ctx)
+    if ctx.portable:
+        templates.keep(text, sheet, node, in_book=False)
+    return node
 
 
 # Per-workbook parse caches; an entry goes when its workbook is collected.

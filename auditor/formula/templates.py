@@ -11,9 +11,19 @@ time a parse takes. The parser marks a context ``portable`` while it reads nothi
 from __future__ import annotations
 
 from collections import OrderedDict
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
-from auditor.formula.nodes import ArrayNode, Binary, Call, Node, Percent, RefNode, Unary, children
+from auditor.formula.nodes import (
+    ArrayNode,
+    Binary,
+    Call,
+    Node,
+    Percent,
+    Ref,
+    RefNode,
+    Unary,
+    children,
+)
 
 MAX_TEMPLATES = 1024  # texts kept, the most recently used
 MAX_TEXT = 512  # characters: a longer text's tree is not kept past its workbook (memory)
@@ -27,33 +37,43 @@ class Template:
     node: Node
 
 
-_TEMPLATES: OrderedDict[str, Template] = OrderedDict()
+# Parses with a workbook, and without one (names stay names, whole columns reach the grid's
+# end): the two give different trees of one text, so each has its own templates.
+_TEMPLATES: dict[bool, OrderedDict[str, Template]] = {True: OrderedDict(), False: OrderedDict()}
 
 
-def template(text: str) -> Template | None:
-    found = _TEMPLATES.get(text)
+def template(text: str, in_book: bool = True) -> Template | None:
+    kept = _TEMPLATES[in_book]
+    found = kept.get(text)
     if found is not None:
-        _TEMPLATES.move_to_end(text)
+        kept.move_to_end(text)
     return found
 
 
-def keep(text: str, sheet: str, node: Node) -> None:
+def keep(text: str, sheet: str, node: Node, in_book: bool = True) -> None:
     """Remember a portable parse of ``text`` on ``sheet``; the oldest goes past the limit."""
     if len(text) > MAX_TEXT:
         return
-    _TEMPLATES[text] = Template(sheet, node)
-    _TEMPLATES.move_to_end(text)
-    if len(_TEMPLATES) > MAX_TEMPLATES:
-        _TEMPLATES.popitem(last=False)
+    kept = _TEMPLATES[in_book]
+    kept[text] = Template(sheet, node)
+    kept.move_to_end(text)
+    if len(kept) > MAX_TEMPLATES:
+        kept.popitem(last=False)
 
 
 def clear() -> None:
-    _TEMPLATES.clear()
+    for kept in _TEMPLATES.values():
+        kept.clear()
 
 
 def _rebuilt(node: Node, parts: list[Node], sheet: str) -> Node:
     if isinstance(node, RefNode):
-        return RefNode(replace(node.ref, sheet=sheet))
+        ref = node.ref  # written out: dataclasses.replace looks the fields up each time
+        return RefNode(
+            Ref(
+                sheet, ref.r1, ref.c1, ref.r2, ref.c2, ref.whole_column, ref.external, ref.whole_row
+            )
+        )
     if isinstance(node, Call):
         return Call(node.name, tuple(parts))
     if isinstance(node, Binary):
