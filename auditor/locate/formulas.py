@@ -3,13 +3,13 @@
 from __future__ import annotations
 
 import re
-from collections import defaultdict
 from typing import Any
 
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Call, Node, Ref, parse, references
 from auditor.locate.formula_dependents import refs_roles, role_of_dependent, stat_addresses
+from auditor.locate.formula_readers import CellReaders
 from auditor.locate.formula_reads import FormulaReads
 from auditor.locate.grid_labels import statistic_label
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
@@ -45,8 +45,7 @@ class FormulaLocator:
         self.parsed: dict[Key, Node] = {}
         self.parse_errors: list[tuple[Cell, str]] = []
         self._refs_by_key: dict[Key, list[Ref]] = {}
-        self._readers: dict[tuple[str, int, int], set[Key]] | None = None
-        self._wide: set[Key] = set()
+        self._readers: CellReaders | None = None
         self._reads: FormulaReads | None = None  # what reads the data, once all are parsed
         for cell in workbook.formula_cells():
             try:
@@ -176,34 +175,22 @@ class FormulaLocator:
             self._text_above(spec.x.sheet, spec.x.r1, c) for c in range(spec.x.c1, spec.x.c2 + 1)
         ]
 
-    def _reverse_index(self) -> tuple[dict[tuple[str, int, int], set[Key]], set[Key]]:
+    def _reverse_index(self) -> CellReaders:
         """Which formulas read each cell (within the window ``refs_roles`` looks at), built
-        once: following dependents then looks up readers instead of rescanning every formula.
-        A reference too wide to list cell by cell puts its formula among those always tried."""
+        once: following dependents then looks up readers instead of rescanning every formula."""
         if self._readers is None:
-            readers: defaultdict[tuple[str, int, int], set[Key]] = defaultdict(set)
-            wide: set[Key] = set()
             for key, node in self.parsed.items():
-                refs = self._refs_by_key.setdefault(key, references(node))
-                for ref in refs:
-                    rows = min(ref.r2, ref.r1 + 10) - ref.r1 + 1
-                    if rows * (ref.c2 - ref.c1 + 1) > 4096:
-                        wide.add(key)
-                        continue
-                    sheet = ref.sheet.lower()
-                    for r in range(ref.r1, ref.r1 + rows):
-                        for c in range(ref.c1, ref.c2 + 1):
-                            readers[(sheet, r, c)].add(key)  # no empty set made per cell
-            self._readers, self._wide = readers, wide
-        return self._readers, self._wide
+                self._refs_by_key.setdefault(key, references(node))
+            self._readers = CellReaders(self._refs_by_key)
+        return self._readers
 
     def _stat_readers(
         self, spec: RegressionSpec, known: dict[tuple[str, int, int], str] | None = None
     ) -> set[Key]:
-        readers, wide = self._reverse_index()
-        found = set(wide)
+        readers = self._reverse_index()
+        found = set(readers.wide)
         for address in stat_addresses(spec) if known is None else known:
-            found |= readers.get(address, set())
+            found |= readers.of(address)
         return found
 
     def follow_dependents(self, spec: RegressionSpec) -> None:
