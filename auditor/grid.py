@@ -7,6 +7,7 @@ workbooks or formulas.
 from __future__ import annotations
 
 import re
+from functools import lru_cache
 
 MAX_ROW = 1_048_576  # rows of an xlsx sheet
 MAX_COL = 16_384  # columns, A to XFD
@@ -18,6 +19,7 @@ A1_COLUMN = re.compile(r"^(\$?)([A-Za-z]{1,3})$")
 A1_ROW = re.compile(r"^(\$?)(\d+)$")
 
 
+@lru_cache(maxsize=16_384)  # the grid's columns: addresses are written everywhere
 def column_letter(col: int) -> str:
     """3 -> "C", 28 -> "AB"."""
     letters = ""

@@ -68,13 +68,17 @@ def attach_typed_copies(
 ) -> None:
     """Attach to each one-x regression the first cell typing each copy of its slope."""
     cache: dict[Key, list[float]] = {}  # factors of each formula, found once for all specs
+    formulas: list[tuple[str, Key, Node]] | None = None  # with each sheet's name lowered once
     for spec in specs:
         slopes = _slope_values(spec, workbook.stored_values)
         if spec.x_columns != 1 or spec.in_rows or not slopes:
             continue
+        if formulas is None:
+            formulas = [(key[0].lower(), key, node) for key, node in parsed.items()]
         seen: set[float] = set()
-        for (sheet, row, col), node in parsed.items():
-            if sheet.lower() != spec.y.sheet.lower() or not spec.y.r1 <= row <= spec.y.r2:
+        y_sheet = spec.y.sheet.lower()
+        for lowered, (sheet, row, col), node in formulas:
+            if lowered != y_sheet or not spec.y.r1 <= row <= spec.y.r2:
                 continue
             factors = cache.get((sheet, row, col))
             if factors is None:
