@@ -37,8 +37,10 @@ class Reach:
     def add(self, other: Reach) -> None:
         for ref in other.vectors:
             self.add_vector(ref)
+        cells, met = self.cells, self._cell_set  # add_cell written out: reaches merge often
         for key in other.cells:
-            if key not in self._cell_set:
-                self.add_cell(key)
+            if key not in met:
+                cells.append(key)
+                met.add(key)
         for key, ref in other.read_by.items():
             self.read_by.setdefault(key, ref)
