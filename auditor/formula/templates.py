@@ -10,7 +10,6 @@ time a parse takes. The parser marks a context ``portable`` while it reads nothi
 
 from __future__ import annotations
 
-from collections import OrderedDict
 from dataclasses import dataclass
 
 from auditor.formula.nodes import (
@@ -25,7 +24,7 @@ from auditor.formula.nodes import (
     children,
 )
 
-MAX_TEMPLATES = 1024  # texts kept, the most recently used
+MAX_TEMPLATES = 2048  # texts kept at most
 MAX_TEXT = 512  # characters: a longer text's tree is not kept past its workbook (memory)
 
 
@@ -38,27 +37,24 @@ class Template:
 
 
 # Parses with a workbook, and without one (names stay names, whole columns reach the grid's
-# end): the two give different trees of one text, so each has its own templates.
-_TEMPLATES: dict[bool, OrderedDict[str, Template]] = {True: OrderedDict(), False: OrderedDict()}
+# end): the two give different trees of one text, so each has its own templates. A plain dict,
+# emptied when full: a sheet of formulas that differ cell by cell (=D4-B4*$F$4 down a column)
+# keeps a template per cell, and that must cost next to nothing.
+_TEMPLATES: dict[bool, dict[str, Template]] = {True: {}, False: {}}
 
 
 def template(text: str, in_book: bool = True) -> Template | None:
-    kept = _TEMPLATES[in_book]
-    found = kept.get(text)
-    if found is not None:
-        kept.move_to_end(text)
-    return found
+    return _TEMPLATES[in_book].get(text)
 
 
 def keep(text: str, sheet: str, node: Node, in_book: bool = True) -> None:
-    """Remember a portable parse of ``text`` on ``sheet``; the oldest goes past the limit."""
+    """Remember a portable parse of ``text`` on ``sheet`` (all are let go past the limit)."""
     if len(text) > MAX_TEXT:
         return
     kept = _TEMPLATES[in_book]
+    if len(kept) >= MAX_TEMPLATES:
+        kept.clear()
     kept[text] = Template(sheet, node)
-    kept.move_to_end(text)
-    if len(kept) > MAX_TEMPLATES:
-        kept.popitem(last=False)
 
 
 def clear() -> None:
