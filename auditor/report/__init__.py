@@ -14,15 +14,18 @@ file through ``output.atomic_output``, so a failure leaves the previous reports 
 
 from __future__ import annotations
 
+import contextlib
 import importlib
 from collections.abc import Iterable, Sequence
+from functools import partial
 from pathlib import Path
 from typing import Any, BinaryIO, Protocol
 
 from auditor.errors import UsageError
 from auditor.model import AuditResult
 from auditor.report.common import AnnotatedCopy
-from auditor.report.output import ProtectedFiles, atomic_output, refuse_inputs
+from auditor.report.forked import forked_write
+from auditor.report.output import ProtectedFiles, atomic_output, one_set, refuse_inputs
 
 
 class Reporter(Protocol):
@@ -87,7 +90,8 @@ def write_reports(
 
     No report is written onto ``input_paths`` (the files the CLI collected) nor onto any
     workbook or input file named in ``result``.
-    Unknown formats raise UsageError before any file is written. ``detail`` is "findings" (a
+    Unknown formats raise UsageError before any file is written, and a failing reporter leaves
+    none of the set written (``output.one_set``). ``detail`` is "findings" (a
     detail sheet in audit.xlsx for each regression with a finding) or "all" (one each).
     """
     unknown = [name for name in formats if name not in REPORTERS]
@@ -106,13 +110,22 @@ def write_reports(
     for reporter in chosen:
         refuse_inputs(out_dir / reporter.filename, inputs)
     out_dir.mkdir(parents=True, exist_ok=True)
-    written: list[Path] = []
-    for reporter in chosen:
-        target = out_dir / reporter.filename
-        with atomic_output(target, inputs) as handle:
-            reporter.write(result, handle)
-        written.append(target)
-    return written
+    with one_set(), contextlib.ExitStack() as stack:  # all of them or none
+        aside = _written_aside(chosen)
+        if aside is not None:  # the workbook, by a forked child while the others are written
+            handle = stack.enter_context(atomic_output(out_dir / aside.filename, inputs))
+            stack.enter_context(forked_write(partial(aside.write, result), handle))
+        for reporter in chosen:
+            if reporter is not aside:
+                with atomic_output(out_dir / reporter.filename, inputs) as handle:
+                    reporter.write(result, handle)
+    return [out_dir / reporter.filename for reporter in chosen]
+
+
+def _written_aside(chosen: Sequence[Reporter]) -> Reporter | None:
+    """audit.xlsx, the slowest report, when others are written too (see report.forked)."""
+    workbooks = [reporter for reporter in chosen if reporter.filename == "audit.xlsx"]
+    return workbooks[0] if workbooks and len(chosen) > 1 else None
 
 
 def _with_copies(

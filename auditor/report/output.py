@@ -162,6 +162,11 @@ def staged_outputs() -> Iterator[None]:
     stage.commit()
 
 
+def one_set() -> contextlib.AbstractContextManager[None]:
+    """``staged_outputs()``, unless the caller has one open already (its set includes these)."""
+    return contextlib.nullcontext() if _STAGE.get() is not None else staged_outputs()
+
+
 def prepare_out_dir(out_dir: Path) -> None:
     """Create ``out_dir`` if missing and make sure files can be written into it, before any
     audit work is spent; a UsageError says what is wrong and what to do."""

@@ -115,3 +115,20 @@ def test_unknown_format_is_a_usage_error(tmp_path: Path) -> None:
     ):
         write_reports(sample_result(), tmp_path / "out", ["json", "pdf"])
     assert not (tmp_path / "out").exists()
+
+
+class TextFails:
+    filename = "summary.txt"
+
+    def write(self, result: AuditResult, handle: BinaryIO) -> None:
+        raise RuntimeError("summary broke")
+
+
+def test_a_failing_reporter_leaves_none_of_the_set(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # audit.json is written before summary.txt fails: it is not renamed into place either.
+    monkeypatch.setitem(REPORTERS, "text", TextFails())
+    with pytest.raises(RuntimeError, match="summary broke"):
+        write_reports(sample_result(), tmp_path, ["json", "text", "xlsx"])
+    assert os.listdir(tmp_path) == []
