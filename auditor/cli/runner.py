@@ -7,7 +7,9 @@ import contextlib
 import os
 import sys
 import tomllib
+from collections.abc import Callable
 from datetime import UTC, datetime
+from functools import partial
 from pathlib import Path
 from typing import Any
 
@@ -64,6 +66,7 @@ def _audit_locally(
     time_limit: float | None,
     memory_limit_gb: float | None,
     points: str = "all",
+    meanwhile: Callable[[], object] | None = None,
 ) -> list[Any]:
     from auditor.pipeline.batch import audit_batch
     from auditor.pipeline.limits import FileLimits
@@ -91,6 +94,7 @@ def _audit_locally(
             limits=limits,
             progress=True,
             points=points,
+            meanwhile=meanwhile,
         )
     finally:
         if ledger is not None:
@@ -124,7 +128,7 @@ def _run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None) -> 
     from auditor.pipeline.inputs import scan_inputs
     from auditor.policy import load_policy
     from auditor.read.open import assert_safe_xml
-    from auditor.report import write_reports
+    from auditor.report import prepare_reporters, write_reports
     from auditor.report.output import prepare_out_dir, staged_outputs
     from auditor.review.identity import assign_identities, audit_root
     from auditor.review.waivers import apply_waivers, default_waiver_file, load_waivers
@@ -172,6 +176,8 @@ def _run_audit(inputs: list[str], out_dir: Path, options: RunOptions | None) -> 
             options.time_limit,
             options.memory_limit_gb,
             _points_read(options),
+            # the reporters' imports, while the workers audit
+            partial(prepare_reporters, options.formats) if options.write else None,
         )
     result = AuditResult(
         version=__version__,

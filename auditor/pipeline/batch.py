@@ -141,8 +141,11 @@ def audit_batch(
     limits: FileLimits = DEFAULT_LIMITS,
     progress: bool = False,
     points: str = "all",
+    meanwhile: Callable[[], object] | None = None,
 ) -> list[WorkbookResult]:
-    """Results in the order of ``paths`` (``points``: see ``iter_audits``)."""
+    """Results in the order of ``paths`` (``points``: see ``iter_audits``). ``meanwhile`` is
+    called once, when the first result is in: work of the caller's own (the reporters'
+    imports) done while the workers audit the rest, rather than after the last."""
 
     def audit_many(subset: Sequence[Path]) -> Iterator[tuple[Any, ...]]:
         recorded = ledger is not None
@@ -165,6 +168,9 @@ def audit_batch(
         results[index] = result
         if bar is not None:
             bar.update()
+        if meanwhile is not None:
+            meanwhile()
+            meanwhile = None
     if bar is not None:
         bar.close()
     return [r for r in results if r is not None]

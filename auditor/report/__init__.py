@@ -128,6 +128,15 @@ def _written_aside(chosen: Sequence[Reporter]) -> Reporter | None:
     return workbooks[0] if workbooks and len(chosen) > 1 else None
 
 
+def prepare_reporters(formats: Sequence[str] = DEFAULT_FORMATS) -> None:
+    """Import the modules of the reporters of ``formats`` now. A run calls this while its
+    workers audit, so that after the last workbook only the writing is left."""
+    for name in formats:
+        reporter = REPORTERS.get(name)
+        if isinstance(reporter, _OnFirstUse):
+            importlib.import_module(reporter.module)
+
+
 def _with_copies(
     reporter: Reporter, copies: Sequence[AnnotatedCopy], detail: str, folder: Path
 ) -> Reporter:
@@ -153,5 +162,6 @@ __all__ = [
     "TextReporter",
     "XlsxReporter",
     "audited_files",
+    "prepare_reporters",
     "write_reports",
 ]
