@@ -38,3 +38,20 @@ def test_an_audit_ends_with_its_code_its_lines_and_its_reports(tmp_path: Path) -
     assert json.loads((out / "audit.json").read_text(encoding="utf-8"))["workbooks"][0]["path"]
     assert (out / "summary.txt").read_text(encoding="utf-8").strip()
     assert (tmp_path / "l.sqlite").stat().st_size > 0
+
+
+def test_exit_handlers_run_and_their_output_survives() -> None:
+    # The process ends without the interpreter's teardown, but after the atexit handlers (a
+    # library's, a coverage tool's) and with the standard streams flushed.
+    code = (
+        "import atexit, sys\n"
+        "atexit.register(lambda: print('handler ran'))\n"
+        "sys.argv = ['regaudit', 'audit', 'no-such-workbook.xlsx', '--no-ledger']\n"
+        "from auditor.__main__ import command\n"
+        "print('before the end', end='')\n"
+        "command()\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=False)
+    assert done.returncode == 2
+    assert done.stdout == "before the endhandler ran\n"
+    assert "no such file or folder" in done.stderr
