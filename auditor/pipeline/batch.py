@@ -144,8 +144,8 @@ def audit_batch(
     meanwhile: Callable[[], object] | None = None,
 ) -> list[WorkbookResult]:
     """Results in the order of ``paths`` (``points``: see ``iter_audits``). ``meanwhile`` is
-    called once, when the first result is in: work of the caller's own (the reporters'
-    imports) done while the workers audit the rest, rather than after the last."""
+    called once, when the first result of several is in: work of the caller's own (the
+    reporters' imports) done while the workers audit the rest, rather than after the last."""
 
     def audit_many(subset: Sequence[Path]) -> Iterator[tuple[Any, ...]]:
         recorded = ledger is not None
@@ -168,7 +168,7 @@ def audit_batch(
         results[index] = result
         if bar is not None:
             bar.update()
-        if meanwhile is not None:
+        if meanwhile is not None and len(paths) > 1:  # others still on their way
             meanwhile()
             meanwhile = None
     if bar is not None:

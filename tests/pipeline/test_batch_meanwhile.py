@@ -1,6 +1,6 @@
-"""A batch calls the caller's ``meanwhile`` once, when its first result is in (the run imports
-the reporters then, while the workers audit the rest); the results are those of a batch
-without it."""
+"""A batch of several files calls the caller's ``meanwhile`` once, when its first result is in
+(the run imports the reporters then, while the workers audit the rest); the results are those
+of a batch without it."""
 
 from __future__ import annotations
 
@@ -28,6 +28,13 @@ def test_meanwhile_runs_once_after_the_first_result() -> None:
     plain = audit_batch(PATHS, policy, jobs=2)
     assert calls == [0]  # once, during the batch
     assert [r.to_dict() for r in results] == [r.to_dict() for r in plain]
+
+
+def test_one_file_leaves_meanwhile_to_the_caller() -> None:
+    # Nothing runs beside a single file's audit: the caller's work is no sooner done here.
+    calls: list[str] = []
+    audit_batch(PATHS[:1], load_policy("general"), jobs=2, meanwhile=lambda: calls.append("x"))
+    assert calls == []
 
 
 def test_prepare_reporters_imports_the_chosen_reporters_only() -> None:
