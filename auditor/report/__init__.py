@@ -40,11 +40,11 @@ class _OnFirstUse:
     """A reporter whose module (XlsxWriter, tabulate) is imported when it first writes: a run
     that asks for JSON alone does not pay for the others' imports."""
 
-    def __init__(self, filename: str, module: str, name: str) -> None:
-        self.filename, self.module, self.name = filename, module, name
+    def __init__(self, filename: str, module: str, name: str, args: tuple[Any, ...] = ()) -> None:
+        self.filename, self.module, self.name, self.args = filename, module, name, args
 
-    def made(self, *args: Any) -> Reporter:
-        made: Reporter = getattr(importlib.import_module(self.module), self.name)(*args)
+    def made(self) -> Reporter:
+        made: Reporter = getattr(importlib.import_module(self.module), self.name)(*self.args)
         return made
 
     def write(self, result: AuditResult, handle: BinaryIO) -> None:
@@ -141,8 +141,12 @@ def _with_copies(
     reporter: Reporter, copies: Sequence[AnnotatedCopy], detail: str, folder: Path
 ) -> Reporter:
     """The workbook reporter made for this run: the copies it lists, the detail sheets it has,
-    the folder its source links are relative to."""
-    return reporter.made(copies, detail, folder) if isinstance(reporter, _OnFirstUse) else reporter
+    the folder its source links are relative to (its module still imported when it writes,
+    which may be in the forked child: see report.forked)."""
+    if not isinstance(reporter, _OnFirstUse):
+        return reporter
+    args = (copies, detail, folder)
+    return _OnFirstUse(reporter.filename, reporter.module, reporter.name, args)
 
 
 def __getattr__(name: str) -> Any:
