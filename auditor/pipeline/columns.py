@@ -19,13 +19,22 @@ when every value is a ``float`` (an ``int`` or ``bool`` would come back a float)
 from __future__ import annotations
 
 import base64
+import sys
+from array import array
 from collections.abc import Sequence
-from operator import attrgetter
+from operator import attrgetter, itemgetter
 from typing import Any
 
-import numpy as np
-
 _FLOATS = {float, type(None)}
+
+
+def _doubles(values: Sequence[float]) -> array[float]:
+    """The values as an array of little-endian float64 (``array`` copies a Python float's
+    double as it is, in the machine's byte order)."""
+    doubles = array("d", values)
+    if sys.byteorder == "big":
+        doubles.byteswap()
+    return doubles
 
 
 def _float_bytes(values: Sequence[Any]) -> tuple[str, list[int]]:
@@ -34,8 +43,7 @@ def _float_bytes(values: Sequence[Any]) -> tuple[str, list[int]]:
     if None in values:
         empty = [index for index, value in enumerate(values) if value is None]
         values = [0.0 if value is None else value for value in values]
-    array = np.array(values, dtype="<f8")
-    return base64.b64encode(array.tobytes()).decode("ascii"), empty
+    return base64.b64encode(_doubles(values).tobytes()).decode("ascii"), empty
 
 
 def pack_column(values: Sequence[Any]) -> Any:
@@ -47,7 +55,10 @@ def pack_column(values: Sequence[Any]) -> Any:
         widths = set(map(len, values))
         if len(widths) == 1:
             (width,) = widths
-            flat = [v for item in values for v in item]
+            if width == 1:  # one x column: the common case, and the quickest flattened
+                flat = list(map(itemgetter(0), values))
+            else:
+                flat = [v for item in values for v in item]
             if width and set(map(type, flat)) <= _FLOATS:
                 data, empty = _float_bytes(flat)
                 return {"f8": data, "none": empty, "width": width}
@@ -57,8 +68,10 @@ def pack_column(values: Sequence[Any]) -> Any:
 def unpack_column(column: Any, count: int) -> list[Any]:
     if isinstance(column, list):
         return column
-    array = np.frombuffer(base64.b64decode(column["f8"]), dtype="<f8")
-    values: list[Any] = array.tolist()
+    doubles = array("d", base64.b64decode(column["f8"]))
+    if sys.byteorder == "big":
+        doubles.byteswap()
+    values: list[Any] = doubles.tolist()
     for index in column["none"]:
         values[index] = None
     width = column.get("width")
