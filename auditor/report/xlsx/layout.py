@@ -14,7 +14,7 @@ from xlsxwriter.worksheet import Worksheet
 
 from auditor.report.common import finite_or_none, is_number
 from auditor.report.xlsx.links import hyperlink_formula, source_link
-from auditor.report.xlsx.style import Styles, put, shown_number
+from auditor.report.xlsx.style import Styles, number_format, put, shown_number
 
 NUMBER_DISPLAY = 11  # "General" shows about this many characters of a long number
 FILTER_BUTTON = 3  # characters a table header needs for its filter arrow
@@ -72,8 +72,10 @@ class SheetWriter:
         if not is_number(value) or isinstance(value, bool):
             self.put(row, col, value, self.styles.top)
             return
-        self.sheet.write_number(row, col, value, self.styles.numeric(float(value), kind))
-        self.fit(col, len(shown_number(float(value))))
+        number = float(value)
+        fmt = number_format(number)
+        self.sheet.write_number(row, col, value, self.styles.numeric(number, kind, fmt))
+        self.fit(col, len(shown_number(number, fmt=fmt)))
 
     def merge(self, row: int, first: int, last: int, text: str, cell_format: Any) -> None:
         # merge_range writes with the generic write(), which would make "=…" text a formula.

@@ -56,9 +56,10 @@ def number_format(value: float, digits: int = SIGNIFICANT) -> str:
     return "0." + "0" * (digits - 1) + "E+00"
 
 
-def shown_number(value: float, digits: int = SIGNIFICANT) -> str:
-    """The text ``number_format`` makes of ``value``: used to fit column widths."""
-    fmt = number_format(value, digits)
+def shown_number(value: float, digits: int = SIGNIFICANT, fmt: str | None = None) -> str:
+    """The text ``number_format`` makes of ``value``: used to fit column widths (``fmt``: that
+    format, when the caller has it already)."""
+    fmt = number_format(value, digits) if fmt is None else fmt
     if fmt == "General":
         return f"{value:.10g}"
     if "E" in fmt:
@@ -134,9 +135,10 @@ class Styles:
         "live": {"valign": "top", "bg_color": LIVE_FILL},
     }
 
-    def numeric(self, value: float, kind: str = "plain") -> Format:
-        """The format of a computed number of one cell kind, six significant digits shown."""
-        key = (number_format(value), kind)
+    def numeric(self, value: float, kind: str = "plain", shown: str | None = None) -> Format:
+        """The format of a computed number of one cell kind, six significant digits shown
+        (``shown``: its number format, when the caller has it already)."""
+        key = (number_format(value) if shown is None else shown, kind)
         if key not in self._numbers:
             properties = dict(self.NUMBER_KINDS[kind], num_format=key[0])
             self._numbers[key] = self.book.add_format(properties)
