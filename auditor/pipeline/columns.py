@@ -37,10 +37,11 @@ def _doubles(values: Sequence[float]) -> array[float]:
     return doubles
 
 
-def _float_bytes(values: Sequence[Any]) -> tuple[str, list[int]]:
-    """Base64 of the values as float64 (None as 0.0) and the positions of the Nones."""
+def _float_bytes(values: Sequence[Any], kinds: set[type]) -> tuple[str, list[int]]:
+    """Base64 of the values as float64 (None as 0.0) and the positions of the Nones
+    (``kinds``: the values' types, which tell whether there are any)."""
     empty = []
-    if None in values:
+    if type(None) in kinds:
         empty = [index for index, value in enumerate(values) if value is None]
         values = [0.0 if value is None else value for value in values]
     return base64.b64encode(_doubles(values).tobytes()).decode("ascii"), empty
@@ -49,7 +50,7 @@ def _float_bytes(values: Sequence[Any]) -> tuple[str, list[int]]:
 def pack_column(values: Sequence[Any]) -> Any:
     kinds = set(map(type, values))
     if values and kinds <= _FLOATS:
-        data, empty = _float_bytes(values)
+        data, empty = _float_bytes(values, kinds)
         return {"f8": data, "none": empty}
     if values and kinds == {list}:
         widths = set(map(len, values))
@@ -59,8 +60,9 @@ def pack_column(values: Sequence[Any]) -> Any:
                 flat = list(map(itemgetter(0), values))
             else:
                 flat = [v for item in values for v in item]
-            if width and set(map(type, flat)) <= _FLOATS:
-                data, empty = _float_bytes(flat)
+            flat_kinds = set(map(type, flat))
+            if width and flat_kinds <= _FLOATS:
+                data, empty = _float_bytes(flat, flat_kinds)
                 return {"f8": data, "none": empty, "width": width}
     return list(values)
 
