@@ -84,6 +84,8 @@ def unpack_column(column: Any, count: int) -> list[Any]:
 
 def pack_records(names: Sequence[str], records: Sequence[Any]) -> dict[str, Any]:
     """The records' attributes ``names`` as packed columns."""
+    # Column by column: reading every field of a record in one pass, then transposing with
+    # zip(*rows), is quicker on a few hundred rows but seven times slower on 200,000.
     return {
         "fields": list(names),
         "count": len(records),

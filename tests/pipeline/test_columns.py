@@ -92,3 +92,20 @@ def test_the_packed_bytes_are_little_endian_doubles_as_struct_writes_them() -> N
         rows = [[v] for v in values]  # one x column
         assert base64.b64decode(pack_column(rows)["f8"]) == expected
         assert _round_trip(list(rows)) == [[v] for v in _round_trip(list(values))]
+
+
+def test_records_packed_as_each_column_alone() -> None:
+    # Generated variety: tables of 0, 1, 2 and many rows, one field or several.
+    import random
+    from operator import attrgetter
+
+    pick = random.Random(7)
+    for count in (0, 1, 2, 57):
+        rows = [
+            _Row(i, [pick.random()], pick.choice([None, pick.random()]), pick.random() < 0.5, "")
+            for i in range(count)
+        ]
+        for names in (("row", "x", "y", "used", "reason"), ("y",), ("x", "y")):
+            plain = [pack_column(list(map(attrgetter(name), rows))) for name in names]
+            assert pack_records(names, rows)["columns"] == plain
+            assert pack_records(names, rows)["count"] == count
