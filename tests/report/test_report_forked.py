@@ -6,15 +6,23 @@ from __future__ import annotations
 
 import os
 import time
+import zipfile
 from pathlib import Path
 from typing import BinaryIO
 
 import pytest
 from test_report_sample import sample_result
 
+from auditor.model import AuditResult
+from auditor.pipeline.audit import audit_workbook
+from auditor.policy import load_policy
 from auditor.report import forked, write_reports
 from auditor.report.forked import forked_write
 from auditor.report.output import atomic_output
+from auditor.report.xlsx.workbook import XlsxReporter
+
+BOOKS = Path(__file__).resolve().parents[2] / "fixtures" / "workbooks"
+CURVES_BOOK = BOOKS / "calib_bench_runs.xlsx"
 
 pytestmark = pytest.mark.skipif(not forked.can_fork(), reason="needs os.fork")
 
@@ -31,6 +39,19 @@ def test_the_workbook_is_the_same_whether_forked_or_not(
     alone = (tmp_path / "alone" / "audit.xlsx").read_bytes()
     assert alone == (tmp_path / "forked" / "audit.xlsx").read_bytes()
     assert sorted(os.listdir(tmp_path / "forked")) == ["audit.json", "audit.xlsx", "summary.txt"]
+
+
+def test_a_rich_workbook_from_the_child_is_the_one_written_in_one_process(tmp_path: Path) -> None:
+    # Calibration curves under the auto policy: detail sheets, charts and the Curves sheet.
+    workbook = audit_workbook(CURVES_BOOK, load_policy("auto"))
+    result = AuditResult("0.1.0", "auto", [workbook], "2000-01-01T00:00:00+00:00")
+    write_reports(result, tmp_path, ["xlsx", "json"])
+    here = tmp_path / "here.xlsx"
+    with here.open("wb") as handle:
+        XlsxReporter(folder=tmp_path).write(result, handle)  # this process, no child
+    assert (tmp_path / "audit.xlsx").read_bytes() == here.read_bytes()
+    with zipfile.ZipFile(here) as archive:
+        assert b'name="Curves"' in archive.read("xl/workbook.xml")
 
 
 def test_a_child_that_fails_is_replaced_by_the_parent(tmp_path: Path) -> None:
