@@ -42,6 +42,10 @@ from auditor.formula.tokens import (
 from auditor.grid import A1_CELL, A1_COLUMN, A1_ROW, column_index
 
 if TYPE_CHECKING:
+    from collections.abc import Sequence
+
+    from openpyxl.formula.tokenizer import Token
+
     from auditor.read.workbook import Workbook
 
 _NAME_DEPTH_LIMIT = 16
@@ -74,6 +78,9 @@ class _Context:
     # Nothing of the workbook read but the own sheet's name (auditor.formula.templates): no
     # sheet prefix, no whole column or row (the sheet's extent), no name or table reference.
     portable: bool = True
+    # openpyxl's tokens of the text when already known (a shared formula's, moved from its
+    # group's anchor: auditor.read.shared_formulas), else the text is tokenised.
+    given: Sequence[Token] | None = None
 
 
 def _sheet_extent(ctx: _Context, sheet: str) -> tuple[str, int, int]:
@@ -149,7 +156,7 @@ class _Parser:
     def __init__(self, ctx: _Context) -> None:
         self.ctx = ctx
         text = ctx.text if ctx.text.startswith("=") else "=" + ctx.text
-        self.toks = _tokens(text)
+        self.toks = _tokens(text, ctx.given)
         self.pos = 0
 
     def fail(self, why: str) -> FormulaError:

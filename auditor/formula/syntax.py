@@ -48,6 +48,10 @@ from auditor.formula.nodes import (
 from auditor.formula.parser import _Context, _parse_now
 
 if TYPE_CHECKING:
+    from collections.abc import Sequence
+
+    from openpyxl.formula.tokenizer import Token
+
     from auditor.read.workbook import Workbook
 
 __all__ = [
@@ -100,22 +104,30 @@ def _book_cache(workbook: Workbook) -> dict[tuple[str, str], Node]:
     return cache
 
 
-def parse(text: str, sheet: str, workbook: Workbook | None = None) -> Node:
+def parse(
+    text: str,
+    sheet: str,
+    workbook: Workbook | None = None,
+    given: Sequence[Token] | None = None,
+) -> Node:
     """Parse formula ``text`` (with or without '=') written on ``sheet``.
 
     With a workbook, defined names become the nodes they refer to (sheet scope first) and whole
     columns end at the sheet's last used row. Raises FormulaError on text that cannot be parsed.
+    ``given``: openpyxl's tokens of ``text`` (with its '='), when already known.
     """
     if workbook is None:
         return _parse_free(text, sheet)
     cache = _book_cache(workbook)
     node = cache.get((text, sheet))
     if node is None:
-        node = cache[(text, sheet)] = _parse_in_book(text, sheet, workbook)
+        node = cache[(text, sheet)] = _parse_in_book(text, sheet, workbook, given)
     return node
 
 
-def _parse_in_book(text: str, sheet: str, workbook: Workbook) -> Node:
+def _parse_in_book(
+    text: str, sheet: str, workbook: Workbook, given: Sequence[Token] | None = None
+) -> Node:
     """A parse on ``sheet``; from the text's template when one was kept (module
     :mod:`auditor.formula.templates`), else parsed, and kept when it is portable."""
     found = workbook.sheet(sheet)
@@ -123,7 +135,7 @@ def _parse_in_book(text: str, sheet: str, workbook: Workbook) -> Node:
     kept = templates.template(text)
     if kept is not None:
         return templates.rebind(kept, name)
-    ctx = _Context(text, sheet, workbook)
+    ctx = _Context(text, sheet, workbook, given=given)
     node = _parse_now(ctx)
     if ctx.portable:
         templates.keep(text, name, node)

@@ -7,6 +7,7 @@ where it is the intersection operator. The binding powers the parser uses live h
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from functools import lru_cache
 from typing import NamedTuple
 
@@ -86,8 +87,9 @@ def _tokenized(formula: str) -> tuple[Token, ...]:
         raise FormulaError(f"cannot parse formula {formula!r}: {exc}") from exc
 
 
-def _tokens(text: str) -> list[_Tok]:
-    raw = tokenize(text)
+def _tokens(text: str, given: Sequence[Token] | None = None) -> list[_Tok]:
+    """The parser's tokens of ``text``, from openpyxl's (``given``: already known for it)."""
+    raw = tokenize(text) if given is None else given
     out: list[_Tok] = []
     for item in raw:
         kind, sub, value = item.type, item.subtype, item.value

@@ -30,6 +30,7 @@ from auditor.locate.spec import (
 )
 from auditor.locate.typed_inputs import typed_df_cells
 from auditor.model import STAT_KEYS
+from auditor.read.shared_formulas import shared_tokens
 from auditor.read.workbook import Cell, Workbook
 
 Key = tuple[str, int, int]  # a formula cell: (sheet, row, column)
@@ -48,9 +49,10 @@ class FormulaLocator:
         self._readers: CellReaders | None = None
         self._reads: FormulaReads | None = None  # what reads the data, once all are parsed
         for cell in workbook.formula_cells():
+            text = cell.formula or ""
             try:
                 self.parsed[(cell.sheet, cell.row, cell.col)] = parse(
-                    cell.formula or "", cell.sheet, workbook
+                    text, cell.sheet, workbook, shared_tokens(workbook, cell, text)
                 )
             except FormulaError as exc:
                 self.parse_errors.append((cell, str(exc)))

@@ -146,6 +146,7 @@ class SheetScanner(SheetReader):
             stream.close()
         self.merges = frame.merges
         self.maker.finish()
+        self._keep_shared()
         if self.merges:
             self._unmerge()
         book.cell_count += len(self.sheet.cells)

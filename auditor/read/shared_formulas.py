@@ -18,9 +18,16 @@ compares the two on generated formulas and offsets).
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from openpyxl.formula.tokenizer import Token, Tokenizer
 from openpyxl.formula.translate import Translator, TranslatorError
 from openpyxl.utils import column_index_from_string, get_column_letter
+
+if TYPE_CHECKING:
+    from auditor.read.workbook import Cell, Workbook
+
+OPERAND, RANGE = Token.OPERAND, Token.RANGE
 
 # A piece of a template: fixed text, or a relative row (True) or column (False) and its number
 # at the anchor.
@@ -33,6 +40,9 @@ class SharedFormula:
     def __init__(self, formula: str, row: int, col: int) -> None:
         self.row, self.col = row, col
         tokens = Tokenizer(formula).items
+        self.tokens: list[Token] = tokens  # the anchor's, as openpyxl's tokenizer gives them
+        self.moves: list[list[_Piece] | None] = []  # per token: its template when it moves
+        self.bounds = [row, col, row, col]  # the cells of the group met so far
         self.fixed: str | None = None  # the text every cell gets, when nothing moves
         self.pieces: list[_Piece] = []
         if not tokens:
@@ -43,33 +53,62 @@ class SharedFormula:
             pieces: list[_Piece] = ["="]
             for token in tokens:
                 if token.type == Token.OPERAND and token.subtype == Token.RANGE:
-                    pieces += _reference(token.value)
+                    moved = _reference(token.value)
+                    pieces += moved
+                    self.moves.append(_merged(moved))
                 else:
                     pieces.append(token.value)
+                    self.moves.append(None)
             self.pieces = _merged(pieces)
             if len(self.pieces) == 1 and isinstance(self.pieces[0], str):
                 self.fixed = self.pieces[0]
+
+    def include(self, row: int, col: int) -> None:
+        """Widen the group's bounds to a cell that names it."""
+        bounds = self.bounds
+        if row > bounds[2]:
+            bounds[2] = row
+        if col < bounds[1]:
+            bounds[1] = col
+        elif col > bounds[3]:
+            bounds[3] = col
 
     def at(self, row: int, col: int) -> str:
         """The formula as it reads in the cell at (``row``, ``col``)."""
         if self.fixed is not None:
             return self.fixed
+        return _filled(self.pieces, row - self.row, col - self.col)
+
+    def tokens_at(self, row: int, col: int) -> list[Token]:
+        """openpyxl's tokens of :meth:`at`'s text without tokenising it: the anchor's tokens,
+        each moving reference given its moved text (the tokens are the text's, cut at the same
+        places: a reference's letters and digits never end or start a token)."""
+        if not self.moves:  # nothing moves: the anchor's tokens (a name keeps no sheet, below)
+            return self.tokens
         row_delta, col_delta = row - self.row, col - self.col
-        out: list[str] = []
-        for piece in self.pieces:
-            if isinstance(piece, str):
-                out.append(piece)
-            elif piece[0]:
-                moved = piece[1] + row_delta
-                if moved <= 0:
-                    raise TranslatorError("Formula out of range")
-                out.append(str(moved))
-            else:
-                try:
-                    out.append(get_column_letter(piece[1] + col_delta))
-                except ValueError:
-                    raise TranslatorError("Formula out of range") from None
-        return "".join(out)
+        return [
+            token if move is None else Token(_filled(move, row_delta, col_delta), OPERAND, RANGE)
+            for token, move in zip(self.tokens, self.moves, strict=True)
+        ]
+
+
+def _filled(pieces: list[_Piece], row_delta: int, col_delta: int) -> str:
+    """The pieces with each relative row and column moved (TranslatorError off the sheet)."""
+    out: list[str] = []
+    for piece in pieces:
+        if isinstance(piece, str):
+            out.append(piece)
+        elif piece[0]:
+            moved = piece[1] + row_delta
+            if moved <= 0:
+                raise TranslatorError("Formula out of range")
+            out.append(str(moved))
+        else:
+            try:
+                out.append(get_column_letter(piece[1] + col_delta))
+            except ValueError:
+                raise TranslatorError("Formula out of range") from None
+    return "".join(out)
 
 
 def _reference(text: str) -> list[_Piece]:
@@ -112,3 +151,48 @@ def _merged(pieces: list[_Piece]) -> list[_Piece]:
         elif piece != "":
             out.append(piece)
     return out
+
+
+class SharedGroups:
+    """A sheet's shared-formula groups, found by the cell: the tokens of a cell's formula
+    without tokenising it, when the cell's text is the one its group gives at its place."""
+
+    def __init__(self, groups: list[SharedFormula]) -> None:
+        self.groups = groups
+        self._by_col: dict[int, list[SharedFormula]] | None = None
+        self._last: dict[int, SharedFormula] = {}
+
+    def tokens(self, row: int, col: int, text: str) -> list[Token] | None:
+        by_col = self._by_col if self._by_col is not None else self._index()
+        groups = by_col.get(col)
+        if not groups:
+            return None
+        # The group that served this column last is tried first: cells come row by row, and a
+        # column filled in many separate strokes has a group for each.
+        last = self._last.get(col)
+        for group in [last, *groups] if last is not None else groups:
+            bounds = group.bounds
+            if bounds[0] <= row <= bounds[2]:
+                try:
+                    if group.at(row, col) == text:
+                        self._last[col] = group
+                        return group.tokens_at(row, col)
+                except TranslatorError:
+                    continue  # not this group's cell: its references would leave the sheet
+        return None
+
+    def _index(self) -> dict[int, list[SharedFormula]]:
+        by_col: dict[int, list[SharedFormula]] = {}
+        for group in self.groups:
+            for col in range(group.bounds[1], group.bounds[3] + 1):
+                by_col.setdefault(col, []).append(group)
+        self._by_col = by_col
+        return by_col
+
+
+def shared_tokens(workbook: Workbook, cell: Cell, text: str) -> list[Token] | None:
+    """openpyxl's tokens of ``text``, the formula of ``cell``, when its sheet's shared-formula
+    groups give them (None: tokenise the text)."""
+    sheet = workbook.sheets.get(cell.sheet)
+    groups = sheet.shared if sheet is not None else None
+    return groups.tokens(cell.row, cell.col, text) if groups is not None else None

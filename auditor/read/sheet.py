@@ -15,7 +15,7 @@ from openpyxl.utils.datetime import from_ISO8601, to_excel
 from auditor.errors import UnreadableWorkbook
 from auditor.grid import column_letter
 from auditor.read.book import COLUMN_CACHE, BookState, cell_bounds, column_number
-from auditor.read.shared_formulas import SharedFormula
+from auditor.read.shared_formulas import SharedFormula, SharedGroups
 from auditor.read.workbook import Cell, CellValue, ErrorValue, Sheet
 from auditor.read.xmlsafe import iter_part, prune
 
@@ -189,6 +189,7 @@ class SheetReader:
                 "damaged: open and re-save it in a spreadsheet application"
             ) from exc
         self.sheet.max_row, self.sheet.max_col = max_row, max_col
+        self._keep_shared()
         if self.merges:
             self._unmerge()
         book.cell_count += len(cells)
@@ -210,6 +211,7 @@ class SheetReader:
             if shared is not None:
                 try:
                     text = shared.at(row, col)
+                    shared.include(row, col)
                 except Exception as exc:  # openpyxl's translator raises several types
                     raise UnreadableWorkbook(
                         f"{book.label}: sheet {self.sheet.name!r}: the shared formula at "
@@ -224,6 +226,11 @@ class SheetReader:
         if value not in (None, 0, "") and not (isinstance(value, float) and value == 0.0):
             book.valued_formulas += 1
         return text, array_ref
+
+    def _keep_shared(self) -> None:
+        """The sheet keeps its shared-formula groups: a cell's tokens come from its group."""
+        if self.shared_formulas:
+            self.sheet.shared = SharedGroups(list(self.shared_formulas.values()))
 
     def _unmerge(self) -> None:
         """Only the top-left cell of a merged range holds anything (as in the spreadsheet and in

@@ -22,6 +22,7 @@ from typing import TYPE_CHECKING, NamedTuple
 
 if TYPE_CHECKING:
     from auditor.read.charts import Chart
+    from auditor.read.shared_formulas import SharedGroups
 
 from auditor.grid import column_letter
 from auditor.read.numbers import NumberIndex
@@ -149,6 +150,8 @@ class Sheet:
     max_col: int = 0
     # What the fast reader saw while typing the cells (SheetIndex; read it through sheet_index()).
     index: SheetIndex | None = field(default=None, compare=False, repr=False)
+    # The shared-formula groups the reader met (tokens of a cell's formula without tokenising).
+    shared: SharedGroups | None = field(default=None, compare=False, repr=False)
 
     def get(self, row: int, col: int) -> Cell | None:
         return self.cells.get((row, col))
