@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import re
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
@@ -30,8 +30,10 @@ from auditor.locate.spec import (
 )
 from auditor.locate.typed_inputs import typed_df_cells
 from auditor.model import STAT_KEYS
-from auditor.read.shared_formulas import shared_tokens
 from auditor.read.workbook import Cell, Workbook
+
+if TYPE_CHECKING:
+    from openpyxl.formula.tokenizer import Token
 
 Key = tuple[str, int, int]  # a formula cell: (sheet, row, column)
 
@@ -258,3 +260,11 @@ class FormulaLocator:
             ):
                 return True
         return False
+
+
+def shared_tokens(workbook: Workbook, cell: Cell, text: str) -> list[Token] | None:
+    """openpyxl's tokens of ``text``, the formula of ``cell``, when its sheet's shared-formula
+    groups give them (None: tokenise the text)."""
+    sheet = workbook.sheets.get(cell.sheet)
+    groups = sheet.shared if sheet is not None else None
+    return groups.tokens(cell.row, cell.col, text) if groups is not None else None

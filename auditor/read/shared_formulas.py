@@ -18,14 +18,9 @@ compares the two on generated formulas and offsets).
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 from openpyxl.formula.tokenizer import Token, Tokenizer
 from openpyxl.formula.translate import Translator, TranslatorError
 from openpyxl.utils import column_index_from_string, get_column_letter
-
-if TYPE_CHECKING:
-    from auditor.read.workbook import Cell, Workbook
 
 OPERAND, RANGE = Token.OPERAND, Token.RANGE
 
@@ -188,11 +183,3 @@ class SharedGroups:
                 by_col.setdefault(col, []).append(group)
         self._by_col = by_col
         return by_col
-
-
-def shared_tokens(workbook: Workbook, cell: Cell, text: str) -> list[Token] | None:
-    """openpyxl's tokens of ``text``, the formula of ``cell``, when its sheet's shared-formula
-    groups give them (None: tokenise the text)."""
-    sheet = workbook.sheets.get(cell.sheet)
-    groups = sheet.shared if sheet is not None else None
-    return groups.tokens(cell.row, cell.col, text) if groups is not None else None

@@ -20,9 +20,9 @@ from package_builders import package_parts, sheet_xml, write_package
 
 from auditor.formula.syntax import parse
 from auditor.grid import column_letter
-from auditor.locate.formulas import FormulaLocator
+from auditor.locate.formulas import FormulaLocator, shared_tokens
 from auditor.read.open import read_workbook
-from auditor.read.shared_formulas import SharedFormula, SharedGroups, shared_tokens
+from auditor.read.shared_formulas import SharedFormula, SharedGroups
 from tests.read.test_shared_formulas import _formula
 
 
