@@ -74,25 +74,11 @@ class Cell(NamedTuple):
 
     @property
     def coord(self) -> str:
-        col = self.col
-        return f"{_LETTERS.get(col) or _letters(col)}{self.row}"
+        return f"{column_letter(self.col)}{self.row}"  # remembered per column (auditor.grid)
 
     @property
     def address(self) -> str:
-        col = self.col
-        return f"{self.sheet}!{_LETTERS.get(col) or _letters(col)}{self.row}"
-
-
-# Column letters by number, filled as columns are met (the searches name the same few columns
-# tens of thousands of times).
-_LETTERS: dict[int, str] = {}
-
-
-def _letters(col: int) -> str:
-    letters = column_letter(col)
-    if 0 < col <= 16_384:  # XFD: any column of a sheet
-        _LETTERS[col] = letters
-    return letters
+        return f"{self.sheet}!{column_letter(self.col)}{self.row}"
 
 
 @dataclass(eq=False)
