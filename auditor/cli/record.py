@@ -36,14 +36,15 @@ MISSING_LISTED = 10
 
 
 def results_from_ledger(
-    paths: list[Path], ledger: Ledger, key: AuditKey
+    paths: list[Path], ledger: Ledger, key: AuditKey, points: str = "all"
 ) -> tuple[list[WorkbookResult], list[Path]]:
-    """The stored result of each file's present content, and the files that have none."""
+    """The stored result of each file's present content, and the files that have none
+    (``points``: the data points the reports show, which a stored result must hold)."""
     found: list[WorkbookResult] = []
     missing: list[Path] = []
     for path in paths:
         identity = file_identity(path)
-        stored = ledger.lookup(identity[0], key) if identity else None
+        stored = ledger.lookup(identity[0], key, points) if identity else None
         if stored is None:
             missing.append(path)
         else:
@@ -78,7 +79,8 @@ def write_record(
         raise UsageError(f"no ledger at {str(ledger_path)!r}: run 'regaudit audit' first")
     key = AuditKey(policy.name, settings_digest(policy, bindings), __version__)
     with Ledger(ledger_path) as ledger:
-        workbooks, missing = results_from_ledger(scan.workbooks, ledger, key)
+        points = "all" if "html" in formats else "findings"  # review.html plots every one
+        workbooks, missing = results_from_ledger(scan.workbooks, ledger, key, points)
     if missing:
         listed = ", ".join(str(p) for p in missing[:MISSING_LISTED])
         more = f" and {len(missing) - MISSING_LISTED} more" if len(missing) > MISSING_LISTED else ""

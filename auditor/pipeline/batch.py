@@ -66,12 +66,13 @@ def _audit_timed(args: Task) -> tuple[WorkbookResult, float]:
     return result, time.perf_counter() - started
 
 
-def _audit_recorded(args: Task) -> tuple[WorkbookResult, float, str | None]:
-    """The audit and, made here in the worker rather than in the parent, its ledger record."""
+def _audit_recorded(args: Task, points: str = "all") -> tuple[WorkbookResult, float, str | None]:
+    """The audit and, made here in the worker rather than in the parent, its ledger record,
+    holding the data points the run's reports show (``points``: see ``iter_audits``)."""
     from auditor.pipeline.resultjson import dumps
 
     result, seconds = _audit_timed(args)
-    return result, seconds, dumps(result)
+    return result, seconds, dumps(result, points)
 
 
 def _without_unread_points(work: Callable[[Task], tuple[Any, ...]], args: Task) -> tuple[Any, ...]:
@@ -107,10 +108,12 @@ def iter_audits(
 ) -> Iterator[tuple[Any, ...]]:
     """(index, result, seconds, reusable) as files finish; jobs=0 runs in-process, no limits.
     With ``records`` each tuple ends with the result's ledger record, made by the worker. With
-    ``points="findings"`` a result from a worker keeps the data points of the regressions with
-    a finding only (those a detail sheet shows); "all" keeps every one."""
+    ``points="findings"`` a result from a worker, and every record, keeps the data points of the
+    regressions with a finding only (those a detail sheet shows); "all" keeps every one."""
     tasks: list[Task] = [(str(p), policy, bindings) for p in paths]
-    work: Callable[[Task], tuple[Any, ...]] = _audit_recorded if records else _audit_timed
+    work: Callable[[Task], tuple[Any, ...]] = _audit_timed
+    if records:
+        work = partial(_audit_recorded, points=points)
     stopped_work = _stopped_recorded if records else _stopped
     if jobs == 0:
         for index, task in enumerate(tasks):
@@ -161,7 +164,7 @@ def audit_batch(
         )
 
         key = AuditKey(policy.name, settings_digest(policy, bindings), __version__)
-        stream = audit_with_ledger(list(paths), audit_many, ledger, key, changed)
+        stream = audit_with_ledger(list(paths), audit_many, ledger, key, changed, points)
     bar = _progress_bar(len(paths)) if progress else None
     results: list[WorkbookResult | None] = [None] * len(paths)
     for index, result in stream:

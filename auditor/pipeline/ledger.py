@@ -2,9 +2,11 @@
 
 Per audited file it keeps the content's SHA-256 and size, when and how long, the policy (name
 and a digest of its thresholds and bindings, so an edited policy file is a different policy), the
-tool version, and the whole :class:`auditor.model.WorkbookResult` as JSON. With ``changed`` a run
-re-audits only the files whose content has no stored result under the same policy and version,
-and reuses the stored results for the rest, so the reports still cover every file.
+tool version, and the :class:`auditor.model.WorkbookResult` as JSON: whole, or (when that run's
+reports showed no more) without the data points of the regressions that have no finding, which
+are nearly all of a record's size. With ``changed`` a run re-audits only the files whose content
+has no stored result under the same policy and version holding the points its reports show, and
+reuses the stored results for the rest, so the reports still cover every file.
 
 Each file's record is committed on its own as soon as that file is done (WAL journal), so a run
 killed half-way keeps everything finished before the kill, and the next run with ``changed``
@@ -193,8 +195,9 @@ class Ledger:
                 ),
             )
 
-    def lookup(self, sha256: str, key: AuditKey) -> WorkbookResult | None:
-        """The latest reusable result for this content under ``key``, or None."""
+    def lookup(self, sha256: str, key: AuditKey, points: str = "all") -> WorkbookResult | None:
+        """The latest reusable result for this content under ``key``, or None; with ``points``
+        "all" only a result stored with every data point will do (see ``resultjson.dumps``)."""
         row = self.db.execute(
             "SELECT result FROM audits WHERE sha256 = ? AND settings = ? AND version = ?"
             " AND policy = ? AND reusable = 1 ORDER BY id DESC LIMIT 1",
@@ -203,9 +206,10 @@ class Ledger:
         if row is None:
             return None
         try:
-            return resultjson.loads(row[0])
+            result, whole = resultjson.loads_record(row[0])
         except (TypeError, ValueError, KeyError):
             return None  # written by a model this version cannot rebuild: audit again
+        return result if whole or points == "findings" else None
 
     def history(self, path: str | Path) -> list[HistoryEntry]:
         """Every recorded audit of ``path``, oldest first."""
@@ -249,7 +253,12 @@ AuditMany = Callable[[list[Path]], Iterable[tuple[Any, ...]]]
 
 
 def audit_with_ledger(
-    paths: list[Path], audit_many: AuditMany, ledger: Ledger, key: AuditKey, changed: bool
+    paths: list[Path],
+    audit_many: AuditMany,
+    ledger: Ledger,
+    key: AuditKey,
+    changed: bool,
+    points: str = "all",
 ) -> Iterator[tuple[int, WorkbookResult]]:
     """Yield ``(index, result)`` for every path: stored results first when ``changed`` and the
     content is known, then fresh audits from ``audit_many`` as they finish, each recorded.
@@ -257,13 +266,14 @@ def audit_with_ledger(
     ``audit_many(subset)`` yields ``(index into subset, result, seconds, reusable)``, and may add
     the result's JSON as a fifth item (made by the worker, so the parent only stores it); a result
     stopped by a time or memory limit should come with ``reusable`` False, so a later run tries
-    it again."""
+    it again. ``points``: the data points the caller's reports show ("all", or "findings": of
+    the regressions with a finding only), which a stored result must hold to be reused."""
     identities = [file_identity(path) for path in paths]
     todo: list[int] = []
     reused = 0
     run = ledger.begin_run(key, len(paths))
     for index, (path, identity) in enumerate(zip(paths, identities, strict=True)):
-        stored = ledger.lookup(identity[0], key) if changed and identity else None
+        stored = ledger.lookup(identity[0], key, points) if changed and identity else None
         if stored is None:
             todo.append(index)
             continue

@@ -16,14 +16,32 @@ from typing import Any
 from auditor.model import WorkbookResult
 from auditor.pipeline.columns import pack_records, unpack_rows
 
+# Set in a record whose regressions without a finding were stored without their data points.
+POINTS_LEFT_OUT = "points_left_out"
 
-def dumps(result: WorkbookResult) -> str:
+
+def dumps(result: WorkbookResult, points: str = "all") -> str:
     """Compact JSON: dataclasses as objects, except lists of one dataclass (the data points, one
     per row of a table) which become ``{"fields": [names], "rows": [[values], …]}``, so a name is
     stored once per table rather than once per row, or, when every field holds scalars, packed
     columns (:mod:`auditor.pipeline.columns`). Values are taken as they are, not copied:
-    ``dataclasses.asdict`` deep-copies every one, several times the cost of the encoding."""
-    return json.dumps(_plain(result), separators=(",", ":"), default=_json_default)
+    ``dataclasses.asdict`` deep-copies every one, several times the cost of the encoding.
+
+    ``points="findings"`` keeps the data points of the regressions with a finding only (those a
+    detail sheet shows; nearly all of a record's size is points) and marks the record so
+    (:data:`POINTS_LEFT_OUT`, read back by :func:`loads_record`)."""
+    plain = _plain(result) if points == "all" else _without_clean_points(result)
+    return json.dumps(plain, separators=(",", ":"), default=_json_default)
+
+
+def _without_clean_points(result: WorkbookResult) -> dict[str, Any]:
+    plain: dict[str, Any] = _plain(result, skip="regressions")
+    plain["regressions"] = [
+        _plain(regression, skip="" if regression.findings else "data")
+        for regression in result.regressions
+    ]
+    plain[POINTS_LEFT_OUT] = True
+    return plain
 
 
 _SCALARS = (str, int, float, bool, type(None))
@@ -34,11 +52,13 @@ def _field_names(cls: type) -> tuple[str, ...]:
     return tuple(item.name for item in dataclasses.fields(cls))
 
 
-def _plain(value: Any) -> Any:
+def _plain(value: Any, skip: str = "") -> Any:
+    """``value`` as json encodes it; a dataclass's field named ``skip`` as empty."""
     if isinstance(value, _SCALARS):
         return value
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return {name: _field(getattr(value, name)) for name in _field_names(type(value))}
+        names = _field_names(type(value))
+        return {name: [] if name == skip else _field(getattr(value, name)) for name in names}
     if isinstance(value, (list, tuple)):
         return [_plain(item) for item in value]
     if isinstance(value, dict):
@@ -98,8 +118,15 @@ def _flat(kind: type) -> bool:
 
 def loads(text: str) -> WorkbookResult:
     """Raises TypeError, ValueError or KeyError when ``text`` does not fit the model."""
-    rebuilt: WorkbookResult = _build(WorkbookResult, json.loads(text))
-    return rebuilt
+    return loads_record(text)[0]
+
+
+def loads_record(text: str) -> tuple[WorkbookResult, bool]:
+    """The result and whether it holds every data point (False: stored by ``dumps(result,
+    "findings")``, the points of regressions without a finding left out). Raises as ``loads``."""
+    data = json.loads(text)
+    rebuilt: WorkbookResult = _build(WorkbookResult, data)
+    return rebuilt, not data.get(POINTS_LEFT_OUT, False)
 
 
 def _json_default(value: Any) -> Any:

@@ -1,5 +1,6 @@
-"""A worker sends back the data points a report shows: with ``points="findings"`` only those of
-regressions with a finding (the detail sheets'), while the ledger record keeps every one."""
+"""A worker sends back, and records in the ledger, the data points a report shows: with
+``points="findings"`` only those of regressions with a finding (the detail sheets'), the record
+marked so; with "all" every one."""
 
 from __future__ import annotations
 
@@ -8,6 +9,7 @@ from pathlib import Path
 
 from auditor.pipeline.batch import iter_audits
 from auditor.pipeline.limits import FileLimits
+from auditor.pipeline.resultjson import POINTS_LEFT_OUT, loads_record
 from auditor.policy import load_policy
 
 BOOKS = Path(__file__).resolve().parents[2] / "fixtures" / "workbooks"
@@ -32,11 +34,26 @@ def test_regressions_without_a_finding_come_back_without_points() -> None:
     assert all(r.data for r in regressions if r.n)
 
 
-def test_the_ledger_record_keeps_every_point() -> None:
+def _stored_counts(record: object) -> tuple[list[int], bool]:
+    stored = json.loads(record)  # type: ignore[arg-type]
+    counts = [r["data"]["count"] if r["data"] else 0 for r in stored["regressions"]]
+    return counts, bool(stored.get(POINTS_LEFT_OUT))
+
+
+def test_the_ledger_record_keeps_the_points_the_reports_show() -> None:
     whole = _run("all")
-    for index, (_result, _seconds, _reusable, record) in _run("findings", records=True).items():
-        stored = json.loads(record)  # type: ignore[arg-type]
-        originals = whole[index][0].regressions  # type: ignore[attr-defined]
-        counts = [r["data"]["count"] if r["data"] else 0 for r in stored["regressions"]]
-        assert counts == [len(r.data) for r in originals]
-        assert sum(counts) > 0
+    for points in ("findings", "all"):
+        for index, (_result, _seconds, _reusable, record) in _run(points, True).items():
+            originals = whole[index][0].regressions  # type: ignore[attr-defined]
+            counts, left_out = _stored_counts(record)
+            if points == "all":
+                assert counts == [len(r.data) for r in originals] and not left_out
+            else:
+                assert counts == [len(r.data) if r.findings else 0 for r in originals]
+                assert left_out
+            stored, whole_points = loads_record(record)  # type: ignore[arg-type]
+            assert whole_points is (points == "all")
+            assert [r.to_dict() for r in stored.regressions] == [r.to_dict() for r in originals]
+    # The fixture pair has both kinds: a clean book's points are left out, a slipped one's kept.
+    trimmed = _run("findings", True)
+    assert sorted(sum(_stored_counts(trimmed[i][3])[0]) > 0 for i in trimmed) == [False, True]

@@ -31,6 +31,7 @@ from auditor.pipeline.ledger import (
     settings_digest,
 )
 from auditor.pipeline.limits import Failure, FileLimits, run_limited
+from auditor.pipeline.resultjson import dumps
 from auditor.policy import load_policy
 
 POLICY = load_policy("general")
@@ -238,6 +239,37 @@ def test_reuse_needs_the_same_content_policy_and_version(tmp_path: Path) -> None
         calls.clear()
         dict(audit_with_ledger([path], spy, ledger, KEY, changed=True))
         assert calls == [[path]]
+
+
+def test_a_record_without_every_point_serves_only_runs_that_show_no_more(tmp_path: Path) -> None:
+    """A run whose reports show the points of regressions with a finding only records the rest
+    without theirs; a later run that shows every point (``--detail all``, review.html) audits
+    again rather than reuse it, and the whole record it leaves serves both kinds after."""
+    path, _ = small_workbook(tmp_path / "a.xlsx", 5)
+    calls: list[list[Path]] = []
+
+    def recorded(subset: list[Path], points: str) -> Iterator[tuple[object, ...]]:
+        calls.append(subset)
+        for index, p in enumerate(subset):
+            result = audit_path(p)
+            yield index, result, 0.0, True, dumps(result, points)
+
+    fresh = audit_path(path)
+    (regression,) = fresh.regressions
+    assert not regression.findings and len(regression.data) == 8
+    assert len(dumps(fresh, "findings")) < len(dumps(fresh))
+    with Ledger(tmp_path / "l.sqlite") as ledger:
+
+        def run(points: str, records: str) -> WorkbookResult:
+            many = lambda subset: recorded(subset, records)  # noqa: E731
+            return dict(audit_with_ledger([path], many, ledger, KEY, True, points))[0]
+
+        run("findings", "findings")
+        assert run("findings", "findings").regressions[0].data == [] and calls == [[path], []]
+        again = run("all", "all")  # the stored record lacks points: audited again
+        assert calls == [[path], [], [path]] and again.regressions[0].data == regression.data
+        reused = run("findings", "findings")  # the latest record, whole, serves this run too
+        assert calls[-1] == [] and reused.regressions[0].data == regression.data
 
 
 def test_results_stopped_by_a_limit_are_tried_again(tmp_path: Path) -> None:
