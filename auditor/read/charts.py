@@ -20,16 +20,15 @@ chart: it comes back with ``problem`` set, and the workbook's cells are read as 
 from __future__ import annotations
 
 import zipfile
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
 from auditor.errors import UnreadableWorkbook
+from auditor.read.chart_points import CHART_NS, CachedPoints, Point
 from auditor.read.parts import SheetEntry, read_relationships
 from auditor.read.xmlsafe import parse_part
 
-CHART_NS = "{http://schemas.openxmlformats.org/drawingml/2006/chart}"
-_POINT, _VALUE = f"{CHART_NS}pt", f"{CHART_NS}v"
 MAX_CHART_PARTS = 500  # a workbook with more charts than this is not a regression workbook
 # Plots whose series carry x values of their own; the others plot against categories 1..n.
 XY_PLOTS = ("scatter", "bubble")
@@ -41,7 +40,9 @@ class SeriesValues:
     """One axis of a series: the reference as written, and the values cached beside it."""
 
     formula: str | None  # the reference text, e.g. "'Run Data'!$B$2:$B$9"; None for literals
-    cached: tuple[float | str | None, ...]  # by point index; None where the cache has no point
+    # By point index; None where the cache has no point. Read when first asked for (a tuple's
+    # behaviour: auditor.read.chart_points).
+    cached: Sequence[Point]
     text: bool = False  # a string reference or literal (category labels)
 
 
@@ -181,40 +182,10 @@ def _values(axis: Any, sheet: str) -> SeriesValues | None:
             formula_element = child.find(f"{CHART_NS}f")
             formula = (formula_element.text or "").strip() if formula_element is not None else ""
             cache = next((c for c in child if _local(c.tag).endswith("Cache")), None)
-            return SeriesValues(formula or None, _points(cache), text)
+            return SeriesValues(formula or None, CachedPoints(cache), text)
         if kind in ("numLit", "strLit"):
-            return SeriesValues(None, _points(child), text)
+            return SeriesValues(None, CachedPoints(child), text)
     return None
-
-
-def _points(cache: Any) -> tuple[float | str | None, ...]:
-    """Cached points by index (``c:ptCount`` long); a point the cache leaves out is None."""
-    if cache is None:
-        return ()
-    count = _int_val(cache.find(f"{CHART_NS}ptCount")) or 0
-    points: dict[int, float | str] = {}
-    # Children taken by position rather than found by path (the <c:v> is nearly always a
-    # point's first child): a chart of thousands of points is read several times faster.
-    for point in cache.iterchildren(_POINT):
-        value_element = point[0] if len(point) else None
-        if value_element is None or value_element.tag != _VALUE:
-            value_element = point.find(_VALUE)
-        if value_element is None or value_element.text is None:
-            continue
-        index_text = point.get("idx")
-        try:
-            index = int(index_text) if index_text is not None else None
-        except ValueError:
-            continue
-        if index is None:
-            continue
-        try:
-            points[index] = float(value_element.text)
-        except ValueError:
-            points[index] = value_element.text
-    count = max([count, *(i + 1 for i in points)]) if points else count
-    count = min(count, 1_048_576)  # never more points than a sheet has rows
-    return tuple(map(points.get, range(count)))
 
 
 def _trendline(element: Any) -> Trendline:

@@ -7,6 +7,7 @@ DrawingML schema); the expected values are what the test itself wrote into them.
 
 from __future__ import annotations
 
+import pickle
 import random
 import re
 from pathlib import Path
@@ -15,7 +16,8 @@ import xlsxwriter
 from lxml import etree
 from package_builders import read_parts, write_package
 
-from auditor.read.charts import CHART_NS, _points
+from auditor.read.chart_points import CHART_NS, CachedPoints
+from auditor.read.chart_points import read_points as _points
 from auditor.read.open import read_workbook
 
 SHEETS = ("Run Data", "O'Hare Line", "Данные", "測定")
@@ -189,3 +191,31 @@ def test_cached_points_are_read_as_their_definition_says() -> None:
         )
         cache = etree.fromstring(text, etree.XMLParser(remove_comments=True, remove_pis=True))
         assert _points(cache) == _points_by_path(cache), text
+
+
+def test_cached_points_are_read_when_first_asked_for_and_behave_as_their_tuple() -> None:
+    """A series' cached points keep their element until something asks; then they read, index,
+    slice, compare, hash and pickle as the tuple :func:`read_points` gives (generated caches)."""
+    rng = random.Random(11)
+    ns = CHART_NS[1:-1]
+    for _ in range(200):
+        values = [rng.choice(["1.5", "-2", "x", "7e3"]) for _ in range(rng.randint(0, 9))]
+        points = "".join(
+            f'<c:pt idx="{i}"><c:v>{v}</c:v></c:pt>'
+            for i, v in enumerate(values)
+            if rng.random() < 0.8
+        )
+        text = f'<c:numCache xmlns:c="{ns}"><c:ptCount val="{len(values)}"/>{points}</c:numCache>'
+        cache = etree.fromstring(text)
+        expected = _points(cache)
+        lazy = CachedPoints(cache)
+        assert lazy._points is None  # nothing read yet
+        assert lazy == expected and expected == lazy and lazy == CachedPoints(cache)
+        assert lazy._source is None  # read once, the element dropped
+        assert len(lazy) == len(expected) and list(lazy) == list(expected)
+        assert lazy[1:] == expected[1:] and hash(lazy) == hash(expected)
+        if expected:
+            assert lazy[-1] == expected[-1]
+        assert pickle.loads(pickle.dumps(lazy)) == expected
+        assert lazy != list(expected)  # a tuple's equality: a list is not the same
+    assert CachedPoints(None) == () and len(CachedPoints(None)) == 0
