@@ -28,11 +28,13 @@ from auditor.read.open import read_workbook
 from auditor.read.shared_formulas import SharedFormula
 
 
-class _ByTranslator:
-    """SharedFormula's interface, each cell moved by openpyxl's Translator."""
+class _ByTranslator(SharedFormula):
+    """SharedFormula with each cell's text moved by openpyxl's Translator (the group's bounds
+    and tokens, which the reading keeps for the locator, as SharedFormula keeps them)."""
 
     def __init__(self, formula: str, row: int, col: int) -> None:
         self.translator = Translator(formula, f"{column_letter(col)}{row}")
+        super().__init__(formula, row, col)
 
     def at(self, row: int, col: int) -> str:
         text: str = self.translator.translate_formula(f"{column_letter(col)}{row}")
