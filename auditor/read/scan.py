@@ -48,8 +48,10 @@ _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
 # declarations. Comments, CDATA sections and processing instructions ("<!", "<?") need no
 # search of their own: no pattern accepts them and the tokenizer refuses them (its tag
 # pattern wants a name after "<"), so any of them hands the part to lxml.
-_ODD = ("\ufffe", "\uffff", "]]>", "xmlns")
-_ATTRIBUTES = r'((?: [A-Za-z][A-Za-z0-9]{0,31}(?::[A-Za-z][A-Za-z0-9]{0,31})?="[^"<&\t\n]*")*+)'
+_ODD_MARKUP = ("]]>", "xmlns")
+_ODD = ("\ufffe", "\uffff", *_ODD_MARKUP)
+_ATTRIBUTE = r' [A-Za-z][A-Za-z0-9]{0,31}(?::[A-Za-z][A-Za-z0-9]{0,31})?="[^"<&\t\n]*"'
+_ATTRIBUTES = rf"((?:{_ATTRIBUTE})*+)"
 
 
 @dataclass(frozen=True)
@@ -58,7 +60,7 @@ class Patterns:
 
     plain_rows: re.Pattern[str]  # where a run of rows of plain cells ends
     plain_cells: re.Pattern[str]  # the fields of a plain cell: letters, digits, s, t, v
-    row_attributes: re.Pattern[str]  # a row's attributes after its number
+    row_attributes: re.Pattern[str]  # a row's attributes after its number, where it has any
     rows: re.Pattern[str]  # where a run of ordinary rows that are not all plain ends
     fields: re.Pattern[str]  # the fields of an ordinary row or cell (see scan_typing.Fields)
 
@@ -89,7 +91,9 @@ def _patterns(prefix: str) -> Patterns:
     return Patterns(
         plain_rows=re.compile(_bare(rf"(?:[ \t\n]*+{plain_row})*+[ \t\n]*+")),
         plain_cells=re.compile(plain),
-        row_attributes=re.compile(rf'<{p}row r="[0-9]{{1,7}}"{_ATTRIBUTES}'),
+        # Only rows with attributes give a match: most rows of a sheet written by a library
+        # have none, and the list of their empty strings cost more than the search.
+        row_attributes=re.compile(rf'<{p}row r="[0-9]{{1,7}}"((?:{_ATTRIBUTE})++)'),
         rows=re.compile(_bare(rf"(?:[ \t\n]*+(?!{plain_row})(?:{any_row}))*+[ \t\n]*+")),
         fields=re.compile(rf"{row}(/?)>|{cell}"),
     )
@@ -181,7 +185,8 @@ class SheetScanner(SheetReader):
                 buffer, checked_from, data_stop
             ):
                 raise Unrecognised("control characters")
-            if any(buffer.find(odd, checked_from, data_stop) >= 0 for odd in _ODD):
+            odd_markup = _ODD_MARKUP if raw.isascii() else _ODD  # U+FFFE, U+FFFF: not ASCII
+            if any(buffer.find(odd, checked_from, data_stop) >= 0 for odd in odd_markup):
                 raise Unrecognised("markup or characters the scanner leaves to lxml")
             last_row = buffer.rfind(row_end)
             limit = closing if closing >= 0 else last_row + len(row_end) if last_row >= 0 else 0

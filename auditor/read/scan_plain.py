@@ -39,6 +39,8 @@ class PlainRun:
     numbers: array[float]  # the values that are numbers (finite), in order
     is_number: list[bool] | None  # which cells ``numbers`` holds; None: every cell
     shared: bool  # some cells hold shared strings
+    max_row: int
+    max_col: int
 
     def keys(self) -> Any:
         """The packed key of every cell (:func:`auditor.read.numbers.packed_keys`)."""
@@ -53,9 +55,8 @@ def typed_run(book: BookState, found: list[PlainFields]) -> PlainRun:
     """The cells of a run (``found`` not empty), typed as the lxml reader types them."""
     letters, digits, s_texts, t_texts, v_texts = zip(*found, strict=True)
     rows = list(map(int, digits))
-    for new in set(letters).difference(COLUMN_CACHE):
-        column_number(new)
-    cols = list(map(COLUMN_CACHE.__getitem__, letters))
+    col_of = {text: COLUMN_CACHE.get(text) or column_number(text) for text in set(letters)}
+    cols = list(map(col_of.__getitem__, letters))
     format_of = {s: book.styles.get(s) or book.style_of(s or None) for s in set(s_texts)}
     shared, dates = "s" in t_texts, book.dates
     values: list[CellValue]
@@ -79,7 +80,17 @@ def typed_run(book: BookState, found: list[PlainFields]) -> PlainRun:
         is_number = [type(v) is int or type(v) is float for v in values]
         numbers = _floats(compress(values, is_number))
     formats = [format_of[s] for s in s_texts]
-    return PlainRun(rows, cols, values, formats, numbers, is_number, shared)
+    return PlainRun(
+        rows,
+        cols,
+        values,
+        formats,
+        numbers,
+        is_number,
+        shared,
+        max(rows),
+        max(col_of.values()),
+    )
 
 
 def plain_cells(sheet: str, run: PlainRun) -> list[Cell]:

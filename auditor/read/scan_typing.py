@@ -7,6 +7,7 @@ tests, in the same order, on the same text) and formulas go through that reader'
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any, Protocol
 
 from auditor.read.book import COLUMN_CACHE, BookState, column_number
@@ -33,6 +34,15 @@ class SheetScanner(Protocol):
 
     def _formula(
         self, element: Any, row: int, col: int, value: CellValue
+    ) -> tuple[str | None, str | None]: ...
+
+    def formula_of(
+        self,
+        attribute: Callable[[str], str | None],
+        inner: str | None,
+        row: int,
+        col: int,
+        value: CellValue,
     ) -> tuple[str | None, str | None]: ...
 
 
@@ -89,8 +99,8 @@ class CellMaker:
                 )
         self.made += len(run.rows)
         index.numbers.add_typed(run.number_keys(keys), run.numbers)
-        self.max_row = max(self.max_row, max(run.rows))
-        self.max_col = max(self.max_col, max(run.cols))
+        self.max_row = max(self.max_row, run.max_row)
+        self.max_col = max(self.max_col, run.max_col)
 
     def rows(self, found: list[Fields]) -> None:
         """Ordinary rows cell by cell: numbers and shared strings inline, anything else through
@@ -126,7 +136,10 @@ class CellMaker:
                 continue
             row = row_number if digits == row_text else int(digits)
             col = columns.get(letters) or column_number(letters)
-            if fmark or imark or (t and t != "s" and t != "n"):
+            if fmark and not imark:
+                if not self.formula_cell(row, col, t, s, fattrs, ftext, vtext):
+                    continue
+            elif fmark or imark or (t and t != "s" and t != "n"):
                 formula_el = None
                 if fmark:
                     formula_el = Node("f", self.scanner.attributes_of(fattrs))
@@ -168,6 +181,40 @@ class CellMaker:
                 max_row = row
         self.row_number, self.row_text = row_number, row_text
         self.max_row, self.max_col = max_row, max_col
+
+    def formula_cell(
+        self, row: int, col: int, t: str, s: str, fattrs: str, ftext: str, vtext: str
+    ) -> bool:
+        """A cell with a formula and no inline text, from its fields: :meth:`general` without
+        building the ``<f>`` element (a workbook saved by a spreadsheet application is mostly
+        formulas: 37,000 of the real-world set's 149,000 cells). False when it holds nothing."""
+        book, scanner = self.book, self.scanner
+        value: CellValue
+        if vtext and (not t or t == "n"):
+            if "." in vtext or "E" in vtext or "e" in vtext or s in book.dates:
+                value = float(vtext)
+                if value - value != 0.0:
+                    value = NOT_A_NUMBER
+            else:
+                value = int(vtext)
+        else:
+            value = typed_value(book, t or None, s or None, vtext, None)
+        attributes = scanner.known_attributes.get(fattrs)
+        if attributes is None:
+            attributes = scanner.attributes_of(fattrs)
+        formula, array_ref = scanner.formula_of(
+            attributes.get, unescape(ftext) or None, row, col, value
+        )
+        if value is None and formula is None:
+            return False
+        number_format = book.styles.get(s) or book.style_of(s or None)
+        cell = _new_tuple(
+            Cell, (scanner.sheet.name, row, col, value, formula, number_format, array_ref)
+        )
+        self.cells[(row, col)] = cell
+        self.made += 1
+        self.index.add_cell(cell)
+        return True
 
     def node_row(self, row_node: Node) -> None:
         """A row the structural pattern did not accept, tokenised: read as the lxml reader

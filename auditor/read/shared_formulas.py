@@ -40,6 +40,8 @@ class SharedFormula:
         self.bounds = [row, col, row, col]  # the cells of the group met so far
         self.fixed: str | None = None  # the text every cell gets, when nothing moves
         self.pieces: list[_Piece] = []
+        self.columns: _Forms = {}  # the text's forms by column offset (see _filled)
+        self.move_forms: list[_Forms] = []  # each moving token's, made when first asked for
         if not tokens:
             self.fixed = ""
         elif tokens[0].type == Token.LITERAL:
@@ -72,7 +74,7 @@ class SharedFormula:
         """The formula as it reads in the cell at (``row``, ``col``)."""
         if self.fixed is not None:
             return self.fixed
-        return _filled(self.pieces, row - self.row, col - self.col)
+        return _filled(self.pieces, row - self.row, col - self.col, self.columns)
 
     def tokens_at(self, row: int, col: int) -> list[Token]:
         """openpyxl's tokens of :meth:`at`'s text without tokenising it: the anchor's tokens,
@@ -81,14 +83,72 @@ class SharedFormula:
         if not self.moves:  # nothing moves: the anchor's tokens (a name keeps no sheet, below)
             return self.tokens
         row_delta, col_delta = row - self.row, col - self.col
+        if len(self.move_forms) != len(self.moves):
+            self.move_forms = [{} for _ in self.moves]
         return [
-            token if move is None else Token(_filled(move, row_delta, col_delta), OPERAND, RANGE)
-            for token, move in zip(self.tokens, self.moves, strict=True)
+            token
+            if move is None
+            else Token(_filled(move, row_delta, col_delta, forms), OPERAND, RANGE)
+            for token, move, forms in zip(self.tokens, self.moves, self.move_forms, strict=True)
         ]
 
 
-def _filled(pieces: list[_Piece], row_delta: int, col_delta: int) -> str:
-    """The pieces with each relative row and column moved (TranslatorError off the sheet)."""
+# The pieces with their columns moved by one offset: a format string with a place for each
+# relative row, those rows at the anchor, and the lowest of them.
+_Form = tuple[str, tuple[int, ...], int]
+_Forms = dict[int, _Form]
+_NO_ROW = 1 << 62  # the lowest row of a form without relative rows: never leaves the sheet
+
+
+def _filled(
+    pieces: list[_Piece], row_delta: int, col_delta: int, forms: _Forms | None = None
+) -> str:
+    """The pieces with each relative row and column moved (TranslatorError off the sheet).
+
+    With ``forms`` (kept per template by the caller), the columns are moved once per column
+    offset and only the rows per cell: the cells of a filled-down column share one offset."""
+    if forms is None:
+        return _moved(pieces, row_delta, col_delta)
+    form = forms.get(col_delta)
+    if form is None:
+        form = forms[col_delta] = _column_form(pieces, col_delta)
+    text, rows, lowest = form
+    if lowest + row_delta <= 0:
+        raise TranslatorError("Formula out of range")
+    if not rows:
+        return text
+    return text.format(*[row + row_delta for row in rows])
+
+
+def _column_form(pieces: list[_Piece], col_delta: int) -> _Form:
+    """The pieces with their columns moved by ``col_delta`` (TranslatorError off the sheet):
+    the text itself when no row moves, else a format string (braces of the text doubled)."""
+    parts: list[str | None] = []  # None: a relative row's place
+    rows: list[int] = []
+    for piece in pieces:
+        if isinstance(piece, str):
+            parts.append(piece)
+        elif piece[0]:
+            parts.append(None)
+            rows.append(piece[1])
+        else:
+            parts.append(_column(piece[1] + col_delta))
+    if not rows:
+        return "".join(map(str, parts)), (), _NO_ROW
+    text = "".join("{}" if p is None else p.replace("{", "{{").replace("}", "}}") for p in parts)
+    return text, tuple(rows), min(rows)
+
+
+def _column(index: int) -> str:
+    try:
+        letters: str = get_column_letter(index)
+    except ValueError:
+        raise TranslatorError("Formula out of range") from None
+    return letters
+
+
+def _moved(pieces: list[_Piece], row_delta: int, col_delta: int) -> str:
+    """:func:`_filled` piece by piece, the definition the forms are held to."""
     out: list[str] = []
     for piece in pieces:
         if isinstance(piece, str):

@@ -8,6 +8,7 @@ costs a visible share of the reading time.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any
 
 from openpyxl.utils.datetime import from_ISO8601, to_excel
@@ -198,15 +199,28 @@ class SheetReader:
     def _formula(
         self, element: Any, row: int, col: int, value: CellValue
     ) -> tuple[str | None, str | None]:
+        return self.formula_of(element.get, element.text, row, col, value)
+
+    def formula_of(
+        self,
+        attribute: Callable[[str], str | None],
+        inner: str | None,
+        row: int,
+        col: int,
+        value: CellValue,
+    ) -> tuple[str | None, str | None]:
+        """The formula text and array block of the cell at (``row``, ``col``) whose ``<f>``
+        has the attributes ``attribute`` gives and the text ``inner``; (None, None) for a
+        data table's cell. Counts the formula for ``Workbook.stored_values``."""
         book = self.book
-        kind = element.get("t")
-        text = "=" + (element.text or "")
+        kind = attribute("t")
+        text = "=" + (inner or "")
         array_ref: str | None = None
         if kind == "array":
-            array_ref = element.get("ref") or f"{column_letter(col)}{row}"
+            array_ref = attribute("ref") or f"{column_letter(col)}{row}"
             book.add_array(self.sheet.name, array_ref)
         elif kind == "shared":
-            index = element.get("si") or ""
+            index = attribute("si") or ""
             shared = self.shared_formulas.get(index)
             if shared is not None:
                 try:

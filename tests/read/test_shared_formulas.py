@@ -18,7 +18,7 @@ from collections.abc import Callable
 from openpyxl.formula.translate import Translator
 
 from auditor.grid import column_letter
-from auditor.read.shared_formulas import SharedFormula
+from auditor.read.shared_formulas import SharedFormula, _moved
 
 
 def _letters(rng: random.Random) -> str:
@@ -100,6 +100,34 @@ def test_moved_as_openpyxl_moves_them() -> None:
             outcomes[got[0]] += 1
     # Both endings are exercised, and most formulas move.
     assert outcomes["text"] > 5000 and outcomes["TranslatorError"] > 500, outcomes
+
+
+def test_cells_of_a_group_keep_moving_as_openpyxl_moves_them() -> None:
+    """One group over many cells (its columns moved once per column offset and reused, rows
+    per cell), each cell compared with openpyxl's Translator and with the piece-by-piece
+    definition; the tokens' moved texts likewise."""
+    rng = random.Random(41)
+    for _ in range(300):
+        formula = _formula(rng)
+        row, col = rng.randint(1, 50), rng.randint(1, 60)
+        try:
+            shared = SharedFormula(formula, row, col)
+        except Exception:  # the tokenizer refuses it: test_moved_as_openpyxl_moves_them
+            continue
+        translator = Translator(formula, f"{column_letter(col)}{row}")
+        columns = [min(16384, max(1, col + rng.choice([-70, -1, 0, 2, 16000]))) for _ in range(3)]
+        for _ in range(30):
+            to_row = max(1, row + rng.choice([-60, -2, 0, 1, 9, 1048570]))
+            to_col = rng.choice(columns)
+            got = _outcome(shared.at, to_row, to_col)
+            want = _outcome(translator.translate_formula, f"{column_letter(to_col)}{to_row}")
+            assert got == want, (formula, row, col, to_row, to_col)
+            if shared.fixed is None:
+                by_piece = _outcome(_moved, shared.pieces, to_row - row, to_col - col)
+                assert got == by_piece
+            if got[0] == "text":
+                moved = "".join(token.value for token in shared.tokens_at(to_row, to_col))
+                assert "=" + moved == got[1] or moved == got[1]
 
 
 def test_a_known_formula() -> None:
