@@ -87,13 +87,18 @@ def _describe_non_zip(head: bytes, path: Path) -> str:
 
 def check_container(path: Path) -> None:
     """Inspect the zip central directory before anything is inflated."""
+    open_container(path).close()
+
+
+def open_container(path: Path) -> zipfile.ZipFile:
+    """The package at ``path``, open for reading (the caller closes it), once its zip central
+    directory has passed :func:`check_container`'s checks: the reader reads the directory once."""
     with open(path, "rb") as handle:
         head = handle.read(2048)
     if not head.startswith(b"PK"):
         raise UnreadableWorkbook(_describe_non_zip(head, path))
     try:
-        with zipfile.ZipFile(path) as archive:
-            members = archive.infolist()
+        archive = zipfile.ZipFile(path)
     # A damaged central directory can also hold a name that is not the UTF-8 its flag says,
     # claim a zip version from the future, or point past the end of the file.
     except (zipfile.BadZipFile, UnicodeDecodeError, NotImplementedError, OSError, EOFError) as exc:
@@ -101,6 +106,15 @@ def check_container(path: Path) -> None:
             f"{path.name} is a damaged or truncated zip container ({exc}); "
             "ask for a fresh copy of the file"
         ) from exc
+    try:
+        _check_members(path, archive.infolist())
+    except BaseException:
+        archive.close()
+        raise
+    return archive
+
+
+def _check_members(path: Path, members: list[zipfile.ZipInfo]) -> None:
     if len(members) > MAX_MEMBERS:
         raise UnreadableWorkbook(
             f"{path.name} holds {len(members):,} parts (limit {MAX_MEMBERS:,}); refused as unsafe"

@@ -11,7 +11,7 @@ import os
 from pathlib import Path
 
 from auditor.errors import UnreadableWorkbook
-from auditor.read.container import check_container
+from auditor.read.container import check_container, open_container
 from auditor.read.workbook import Workbook
 
 ENGINES = ("stream", "lxml", "openpyxl")
@@ -62,12 +62,13 @@ def read_workbook(path: str | Path, engine: str | None = None) -> Workbook:
         raise UnreadableWorkbook(f"{path} does not exist or is not a file")
     if engine not in ENGINES:
         raise ValueError(f"unknown reader engine {engine!r}; choose from {', '.join(ENGINES)}")
-    check_container(path)  # the zip central directory, before anything is inflated
-    digest = sha256_of(path)
     if engine == "openpyxl":
         from auditor.read.reference_openpyxl import read_with_openpyxl
 
-        return read_with_openpyxl(path, digest)
+        check_container(path)  # the zip central directory, before anything is inflated
+        return read_with_openpyxl(path, sha256_of(path))
     from auditor.read.stream import read_package
 
-    return read_package(path, digest, fast=engine == "stream")
+    archive = open_container(path)  # checked the same way, and kept open for the reading
+    with archive:
+        return read_package(path, sha256_of(path), fast=engine == "stream", archive=archive)

@@ -118,18 +118,25 @@ def _settle(workbook: Workbook) -> None:
     gc.freeze()
 
 
-def read_package(path: Path, digest: str, fast: bool = True) -> Workbook:
+def read_package(
+    path: Path, digest: str, fast: bool = True, archive: zipfile.ZipFile | None = None
+) -> Workbook:
     """The workbook at ``path`` (already checked by
-    :func:`auditor.read.workbook.check_container`); ``fast``: sheets by the fast scanner
-    (:mod:`auditor.read.scan`) where it recognises them, else all by the lxml reader."""
+    :func:`auditor.read.container.check_container`; ``archive``: the package open, as
+    :func:`auditor.read.container.open_container` gives it, left open); ``fast``: sheets by the
+    fast scanner (:mod:`auditor.read.scan`) where it recognises them, else all by the lxml
+    reader."""
     label = path.name
     # Millions of cells are allocated and none form cycles: the cyclic collector would only
     # re-scan them again and again (a fifth of the reading time at 200,000 rows).
     collecting = gc.isenabled()
     gc.disable()
     try:
-        with zipfile.ZipFile(path) as archive:
+        if archive is not None:
             workbook = _read_book(archive, label, path, digest, fast)
+        else:
+            with zipfile.ZipFile(path) as opened:
+                workbook = _read_book(opened, label, path, digest, fast)
         if collecting:
             _settle(workbook)
         return workbook
