@@ -139,6 +139,12 @@ class CellMaker:
             if fmark and not imark:
                 if not self.formula_cell(row, col, t, s, fattrs, ftext, vtext):
                     continue
+            elif imark and not fmark and t == "inlineStr":  # a label, as typed_value gives it
+                number_format = styles.get(s) or style_of(s or None)
+                cell = _new_tuple(Cell, (name, row, col, itext, None, number_format, None))
+                cells[(row, col)] = cell
+                self.made += 1
+                texts.append(cell)
             elif fmark or imark or (t and t != "s" and t != "n"):
                 formula_el = None
                 if fmark:
