@@ -48,8 +48,23 @@ _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
 # declarations. Comments, CDATA sections and processing instructions ("<!", "<?") need no
 # search of their own: no pattern accepts them and the tokenizer refuses them (its tag
 # pattern wants a name after "<"), so any of them hands the part to lxml.
-_ODD_MARKUP = ("]]>", "xmlns")
-_ODD = ("\ufffe", "\uffff", *_ODD_MARKUP)
+_NAMESPACE_DECLARATION = re.compile("xmlns")  # re's literal search: faster than str.find here
+
+
+def _odd(buffer: str, start: int, stop: int, ascii: bool) -> bool:
+    """Whether ``buffer[start:stop]`` holds a CDATA end, a namespace declaration or (unless
+    the block was ASCII) U+FFFE or U+FFFF. A one-character search (C's memchr) rules out
+    most "]]>" at once: "]" is rare in sheet XML."""
+    bracket = buffer.find("]", start, stop)
+    if bracket >= 0 and buffer.find("]]>", bracket, stop) >= 0:
+        return True
+    if _NAMESPACE_DECLARATION.search(buffer, start, stop) is not None:
+        return True
+    return not ascii and (
+        buffer.find("\ufffe", start, stop) >= 0 or buffer.find("\uffff", start, stop) >= 0
+    )
+
+
 _ATTRIBUTE = r' [A-Za-z][A-Za-z0-9]{0,31}(?::[A-Za-z][A-Za-z0-9]{0,31})?="[^"<&\t\n]*"'
 _ATTRIBUTES = rf"((?:{_ATTRIBUTE})*+)"
 
@@ -179,16 +194,18 @@ class SheetScanner(SheetReader):
                 text = text.replace("\r\n", "\n").replace("\r", "\n")
             checked_from = max(0, len(buffer) - 16)
             buffer += text
-            closing = buffer.find(data_end, checked_from)
+            last_row = buffer.rfind(row_end)
+            # The end of sheetData follows its last row: searched from there, not through the
+            # whole block (an end before a later row is refused by the tokenizer: no element
+            # is open for it to close).
+            closing = buffer.find(data_end, max(checked_from, last_row))
             data_stop = closing if closing >= 0 else len(buffer)
             if raw.translate(None, _PLAIN_BYTES) and _CONTROL.search(
                 buffer, checked_from, data_stop
             ):
                 raise Unrecognised("control characters")
-            odd_markup = _ODD_MARKUP if raw.isascii() else _ODD  # U+FFFE, U+FFFF: not ASCII
-            if any(buffer.find(odd, checked_from, data_stop) >= 0 for odd in odd_markup):
+            if _odd(buffer, checked_from, data_stop, raw.isascii()):
                 raise Unrecognised("markup or characters the scanner leaves to lxml")
-            last_row = buffer.rfind(row_end)
             limit = closing if closing >= 0 else last_row + len(row_end) if last_row >= 0 else 0
             if limit > 0:
                 self._region(buffer, limit, patterns)

@@ -99,3 +99,39 @@ def test_generated_cells_of_every_shape_read_as_the_lxml_reader_reads_them(
                 kinds[type(cell.value).__name__ + ("=" if cell.formula else "")] += 1
     # Every kind of value was met, with and without a formula.
     assert {"int", "float", "str", "bool", "ErrorValue", "int=", "float=", "str="} <= set(kinds)
+
+
+def test_odd_markup_is_found_where_a_search_for_each_finds_it() -> None:
+    """The scanner's search for what it leaves to lxml (a CDATA end, a namespace declaration,
+    U+FFFE/U+FFFF outside ASCII blocks) against one plain search per marker, on generated text
+    and ranges."""
+    rng = random.Random(3)
+    pieces = ["<c r=\"A1\">", "<v>1</v>", "]", "]]", "]]>", "] ]>", "xmlns", "xmln", "s", "x",
+              "\ufffe", "\uffff", "\u00e9", "</row>"]  # fmt: skip
+    found = Counter()
+    for _ in range(3000):
+        text = "".join(rng.choice(pieces) for _ in range(rng.randint(0, 12)))
+        start = rng.randint(0, len(text))
+        stop = rng.randint(start, len(text))
+        ascii = text.isascii()
+        markers = ["]]>", "xmlns"] + ([] if ascii else ["\ufffe", "\uffff"])
+        expected = any(text.find(marker, start, stop) >= 0 for marker in markers)
+        assert scan._odd(text, start, stop, ascii) == expected, (text, start, stop)
+        found[expected] += 1
+    assert found[True] > 300 and found[False] > 300
+
+
+def test_a_sheet_data_end_before_a_later_row_reads_as_the_lxml_reader_reads_it(
+    tmp_path: Path,
+) -> None:
+    """Two sheetData elements (well-formed XML, not a valid worksheet): the lxml reader reads the
+    rows of both; the scanner hands the part to it rather than stop at the first end."""
+    rows = '<row r="{0}"><c r="A{0}"><v>{0}</v></c></row>'
+    sheet = sheet_xml(rows.format(1)).replace(
+        "</sheetData>", f"</sheetData><sheetData>{rows.format(2)}</sheetData>"
+    )
+    path = write_package(tmp_path / "twice.xlsx", package_parts({"S": sheet}, ["zero"]))
+    fast = read_workbook(path, engine="stream")
+    slow = read_workbook(path, engine="lxml")
+    assert workbook_differences(slow, fast) == []
+    assert sorted(fast.sheets["S"].cells) == [(1, 1), (2, 1)]
