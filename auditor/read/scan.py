@@ -134,6 +134,14 @@ class SheetScanner(SheetReader):
         self.known_attributes: dict[str, dict[str, str]] = {}
 
     def read(self, part: str) -> Sheet:
+        try:
+            return self._read(part)
+        finally:
+            # The cell maker refers back to the scanner: left as a cycle, it would hold the
+            # whole sheet until the cyclic collector walked every cell to find it.
+            del self.maker
+
+    def _read(self, part: str) -> Sheet:
         book = self.book
         where = f"{book.label}: sheet {self.sheet.name!r}"
         info = book.archive.NameToInfo.get(part)

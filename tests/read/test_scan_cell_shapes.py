@@ -6,6 +6,9 @@ without a style, a stored value, a formula (ordinary, shared anchor and member, 
 table, with entities), inline text, in random combinations and rows, some rows plain. The
 scanner must read each part itself (nothing handed to lxml) and give the same workbook as the
 lxml reader, cell for cell with the value's type, and an index that matches the cells.
+
+Also: the scanner's search for markup it leaves to lxml, a second sheetData, and a workbook
+freed by reference counting alone once let go (no cycle holds its cells).
 """
 
 from __future__ import annotations
@@ -135,3 +138,29 @@ def test_a_sheet_data_end_before_a_later_row_reads_as_the_lxml_reader_reads_it(
     slow = read_workbook(path, engine="lxml")
     assert workbook_differences(slow, fast) == []
     assert sorted(fast.sheets["S"].cells) == [(1, 1), (2, 1)]
+
+
+def test_a_read_workbook_is_freed_when_let_go_without_the_cyclic_collector() -> None:
+    """Reading leaves no reference cycle that holds the cells (a sheet's reader and its cell
+    maker used to refer to each other): with the collector off, a workbook's sheets are freed as
+    soon as the workbook is let go. Every fixture, both readers."""
+    import gc
+    import weakref
+
+    paths = sorted((Path(__file__).resolve().parents[2] / "fixtures").rglob("*.xlsx"))
+    assert len(paths) > 20
+    enabled = gc.isenabled()
+    gc.disable()
+    try:
+        for path in paths:
+            for engine in ("stream", "lxml"):
+                try:
+                    workbook = read_workbook(path, engine=engine)
+                except Exception:  # the damaged fixtures: refused with a message elsewhere
+                    continue
+                sheets = [weakref.ref(sheet) for sheet in workbook.sheets.values()]
+                del workbook
+                assert all(sheet() is None for sheet in sheets), (path.name, engine)
+    finally:
+        if enabled:
+            gc.enable()
