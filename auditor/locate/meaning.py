@@ -129,11 +129,10 @@ def beside(workbook: Workbook, ref: Ref, other: Ref) -> list[Header]:
                 return []
             if min(near.r1, near.c1) < 1 or _same(near, other):
                 continue
-            if not _mostly_numbers(sheet, near):
-                continue  # not a column of data beside it
+            # The header first: a few cells, where telling a column of data samples up to 200.
             header = header_of(workbook, near)
-            if header is not None:
-                found.append(header)
+            if header is not None and _mostly_numbers(sheet, near):
+                found.append(header)  # the header of a column of data beside it
     return found
 
 
