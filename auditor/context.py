@@ -17,6 +17,7 @@ from numpy.typing import NDArray
 from auditor.design.claims import Claim
 from auditor.design.inputs import DesignInputs
 from auditor.design.metrics import DesignMetrics, compute_design
+from auditor.design.rows import UsedRows
 from auditor.evaluation.evaluator import Evaluator
 from auditor.extract.record import Extracted
 from auditor.fit.ols import FitResult
@@ -44,6 +45,10 @@ class PointRows:
         used = np.array([point.used for point in points], dtype=np.bool_)
         return cls(rows, used)
 
+    def used_rows(self) -> UsedRows:
+        """The rows of the used points, in their order (what the design metrics name)."""
+        return UsedRows(self.rows[self.used])
+
 
 @dataclass
 class RegressionContext:
@@ -64,7 +69,9 @@ class RegressionContext:
     def design_metrics(self) -> DesignMetrics:
         """The design metrics of this regression, computed on first use and kept."""
         if self.design is None:
-            self.design = compute_design(self.data, self.fit, self.policy, self.design_inputs)
+            self.design = compute_design(
+                self.data, self.fit, self.policy, self.design_inputs, self.point_rows().used_rows()
+            )
         return self.design
 
     def point_rows(self) -> PointRows:
@@ -90,3 +97,4 @@ class WorkbookContext:
     policy: Policy | None = None
     evaluator: Evaluator | None = None  # as-written values (equivalent spellings are evaluated)
     words: list[Any] | None = None  # what the words say of each regression, read once (axis_words)
+    blocks: Any = None  # the statistics blocks and their sibling groups (checks.formula_blocks)

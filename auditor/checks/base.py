@@ -5,7 +5,6 @@ from __future__ import annotations
 import inspect
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
-from functools import partial
 from types import ModuleType
 from typing import Any
 
@@ -80,16 +79,23 @@ def catalogue_of(registry: dict[str, Check]) -> list[CheckInfo]:
 def run_checks(
     registry: dict[str, Check], scope: str, context: RegressionContext | WorkbookContext
 ) -> list[Finding]:
-    from auditor.checks.guard import guarded_check  # noqa: PLC0415 (guard imports the model)
+    from auditor.checks.guard import failed_check  # noqa: PLC0415 (guard imports the model)
 
-    cells: list[str] = []
-    if isinstance(context, RegressionContext):
-        cells = [value.cell for value in context.reported.values()] or [context.spec.y.address]
     findings: list[Finding] = []
     for registered in registry.values():
-        if registered.scope == scope:
-            # One check's failure never costs the others (auditor.checks.guard).
-            findings.extend(
-                guarded_check(registered.id, partial(registered.function, context), cells)
-            )
+        if registered.scope != scope:
+            continue
+        try:
+            found = registered.function(context)
+        except Exception as exc:  # noqa: BLE001 - one check's failure never costs the others
+            found = failed_check(registered.id, exc, _cells(context))
+        findings.extend(found)
     return findings
+
+
+def _cells(context: RegressionContext | WorkbookContext) -> list[str]:
+    """Where a failed check's note is shown: the regression's first reported cell (its y range
+    when it reports none); nowhere in particular for a workbook check."""
+    if isinstance(context, RegressionContext):
+        return [value.cell for value in context.reported.values()] or [context.spec.y.address]
+    return []

@@ -21,6 +21,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import cached_property, partial
 
+from auditor.context import WorkbookContext
 from auditor.formula.operands import Corner, Reference
 from auditor.formula.r1c1 import canonical, rewrite_references
 from auditor.formula.syntax import Ref
@@ -56,8 +57,11 @@ class Block:
 
     title: str = ""  # the block's own title where it is unique in the workbook, else its place
     # Each reference's frame and target, found once: the sibling check reads a member's
-    # references for both frame forms, its links into siblings and its anchors.
-    frames: dict[tuple[Reference, str], tuple[str, Ref | None]] = field(
+    # references for both frame forms, its links into siblings and its anchors. Kept by the
+    # reference object (references are kept per text, auditor.formula.operands.parse_a1), which
+    # is held in the entry so that its id stays its own: hashing a reference's corners on every
+    # look-up cost more than placing it.
+    frames: dict[tuple[int, str], tuple[Reference, str, Ref | None]] = field(
         default_factory=dict, repr=False, compare=False
     )
 
@@ -135,6 +139,16 @@ def sibling_groups(blocks: list[Block]) -> list[list[Block]]:
     return [g for g in groups.values() if len(g) > 1]
 
 
+def workbook_blocks(context: WorkbookContext) -> tuple[list[Block], list[list[Block]]]:
+    """The workbook's statistics blocks and their sibling groups, found once and carried on
+    the context (the pasted-value check and the sibling check both read them)."""
+    if context.blocks is None:
+        blocks = blocks_of(context.specs, context.results)
+        context.blocks = (blocks, sibling_groups(blocks))
+    found: tuple[list[Block], list[list[Block]]] = context.blocks
+    return found
+
+
 def resolve(ref: Reference, block: Block, cell_sheet: str) -> Ref | None:
     """The grid block a reference names (whole columns to the data's last row)."""
     if ref.external is not None:
@@ -151,9 +165,9 @@ def resolve(ref: Reference, block: Block, cell_sheet: str) -> Ref | None:
 def placed(ref: Reference, block: Block, cell_sheet: str) -> tuple[str, Ref | None]:
     """The frame a reference is read in ('data', 'block' or 'other', see the module doc) and
     the grid block it names (:func:`resolve`), kept on the block after the first time."""
-    key = (ref, cell_sheet)
+    key = (id(ref), cell_sheet)
     found = block.frames.get(key)
-    if found is None:
+    if found is None or found[0] is not ref:
         target = resolve(ref, block, cell_sheet)
         if target is None:
             frame = "other"
@@ -161,8 +175,8 @@ def placed(ref: Reference, block: Block, cell_sheet: str) -> tuple[str, Ref | No
             frame = "data"
         else:
             frame = "block" if target.sheet.lower() == block.sheet.lower() else "other"
-        found = block.frames[key] = (frame, target)
-    return found
+        found = block.frames[key] = (ref, frame, target)
+    return found[1], found[2]
 
 
 def frame_of(ref: Reference, block: Block, cell_sheet: str) -> str:

@@ -14,7 +14,7 @@ from __future__ import annotations
 from auditor.checks.agreement_words import describe
 from auditor.checks.base import check
 from auditor.checks.block_moves import translate
-from auditor.checks.formula_blocks import Block, blocks_of, sibling_groups
+from auditor.checks.formula_blocks import Block, workbook_blocks
 from auditor.checks.formula_support import local_text, reached_cells, severity_in_result
 from auditor.context import WorkbookContext
 from auditor.model import Finding, ReportedValue, Severity, stat_base
@@ -79,9 +79,9 @@ def pasted_result(context: WorkbookContext) -> list[Finding]:
     Passing: a report sheet whose values are all typed, rounded to the digits shown; or every
     reported cell a formula.
     """
-    blocks = blocks_of(context.specs, context.results)
+    blocks, groups = workbook_blocks(context)
     siblings: dict[int, list[Block]] = {}
-    for group in sibling_groups(blocks):
+    for group in groups:
         for block in group:
             siblings[block.index] = [b for b in group if b is not block]
     findings = []

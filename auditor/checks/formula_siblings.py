@@ -22,12 +22,11 @@ from auditor.checks.formula_blocks import (
     Block,
     Names,
     Position,
-    blocks_of,
     frame_forms,
     frame_of,
     no_names,
     placed,
-    sibling_groups,
+    workbook_blocks,
 )
 from auditor.checks.formula_equivalence import computes_the_same
 from auditor.checks.formula_support import reached_cells, severity_in_result
@@ -175,7 +174,7 @@ def sibling_formula_differs(context: WorkbookContext) -> list[Finding]:
         if (use.x, use.y) != (spec.x, spec.y)
     }
     findings: list[Finding] = []
-    for group in sibling_groups(blocks_of(context.specs, context.results)):
+    for group in workbook_blocks(context)[1]:
         reported: set[str] = set()
         members = _members(group, covered, _names(context))
         owners = _Owners(group)

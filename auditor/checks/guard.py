@@ -7,8 +7,6 @@ to report it. Either way the other checks, and the other regressions, still run.
 
 from __future__ import annotations
 
-from collections.abc import Callable
-
 from auditor.errors import Unsupported
 from auditor.model import Finding
 
@@ -20,20 +18,16 @@ def reason_of(exc: BaseException) -> str:
     return f"internal error ({type(exc).__name__}: {exc}); please report it"
 
 
-def guarded_check(
-    check_id: str, run: Callable[[], list[Finding]], cells: list[str]
-) -> list[Finding]:
-    """One check's findings; when the check itself fails, one information finding instead."""
-    try:
-        return run()
-    except Exception as exc:  # noqa: BLE001 - one check's failure never costs the others
-        return [
-            Finding(
-                check="stat-unverifiable",
-                severity="info",
-                cells=cells[:1],
-                message=f"The check {check_id} could not run here: {reason_of(exc)}.",
-                evidence={"error": type(exc).__name__, "check_id": check_id},
-                fix="Review what this check covers by hand.",
-            )
-        ]
+def failed_check(check_id: str, exc: Exception, cells: list[str]) -> list[Finding]:
+    """The one information finding that stands for a check that failed with ``exc`` (the
+    checks run by :func:`auditor.checks.base.run_checks` catch it and give this instead)."""
+    return [
+        Finding(
+            check="stat-unverifiable",
+            severity="info",
+            cells=cells[:1],
+            message=f"The check {check_id} could not run here: {reason_of(exc)}.",
+            evidence={"error": type(exc).__name__, "check_id": check_id},
+            fix="Review what this check covers by hand.",
+        )
+    ]

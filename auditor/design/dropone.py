@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from auditor.design.rows import Rows
 from auditor.fit.distributions import t_sf
 from auditor.fit.ols import FitResult
 
@@ -96,7 +97,7 @@ def drop_one(
     x: np.ndarray,
     y: np.ndarray,
     fit: FitResult,
-    rows: list[int],
+    rows: Rows,
     alpha: float,
     left_out: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> DropOne | None:

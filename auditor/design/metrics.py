@@ -37,6 +37,7 @@ from auditor.design.power import (
     sxx_to_detect,
     width_for_sxx_even,
 )
+from auditor.design.rows import Rows
 from auditor.extract.record import Extracted
 from auditor.fit.distributions import t_ppf
 from auditor.fit.ols import FitResult
@@ -142,7 +143,7 @@ def relative_slope_that_matters(x: np.ndarray, y: np.ndarray, elasticity: float)
     elasticity·10 % of its mean). Only when x has one sign (a ratio scale is plausible)."""
     if elasticity <= 0.0 or x.size == 0:
         return None
-    x_mean, y_mean = float(np.mean(x)), float(np.mean(y))
+    x_mean, y_mean = float(x.sum()) / x.size, float(y.sum()) / y.size  # np.mean's own sum
     if x_mean == 0.0 or y_mean == 0.0 or (x.min() < 0.0 < x.max()):
         return None
     return elasticity * abs(y_mean) / abs(x_mean)
@@ -153,12 +154,12 @@ def compute_design(
     fit: FitResult,
     policy: Policy,
     inputs: DesignInputs | None = None,
+    used_rows: Rows | None = None,
 ) -> DesignMetrics:
-    """Every design metric of one regression (see the module docstring)."""
+    """Every design metric of one regression (module doc); ``used_rows`` when known."""
     n = data.n
     levels, counted = count_levels(data.x)  # one sort for the levels, spacing and replicates
-    # The rows as the points hold them: a list made from an array would make a new int each.
-    rows = _used_rows(data)
+    rows = _used_rows(data) if used_rows is None else used_rows
     metrics = DesignMetrics(n=n, levels=levels, simple=False)
     if len(fit.leverage) == n and n:
         top = int(np.argmax(fit.leverage))
@@ -194,7 +195,7 @@ def _fill_simple(
     policy: Policy,
     x: np.ndarray,
     y: np.ndarray,
-    rows: list[int],
+    rows: Rows,
     counted: tuple[np.ndarray, np.ndarray] | None,
 ) -> None:
     metrics.simple = True

@@ -10,19 +10,25 @@ from auditor.fit.distributions import f_sf, t_ppf, t_sf
 from auditor.fit.lstsq import FloatArray
 
 
-def _tests(coef: FloatArray, se: FloatArray, df: int) -> tuple[FloatArray, FloatArray]:
-    """Two-sided Student t tests; a zero SE (perfect fit) gives t undefined and p 0."""
-    t = np.full(coef.shape, np.nan)
-    p = np.full(coef.shape, np.nan)
+def _test(b: float, s: float, df: int) -> tuple[float, float]:
+    """One two-sided Student t test, on plain floats (the same doubles as numpy's); a zero SE
+    (perfect fit) gives t undefined and p 0."""
     if df <= 0:
-        return t, p
-    for j, (b, s) in enumerate(zip(coef, se, strict=True)):
-        if s > 0.0:
-            t[j] = b / s
-            # sf, not 1 - cdf: keeps p-values far below 1e-16 instead of rounding them to 0.
-            p[j] = 2.0 * t_sf(abs(t[j]), df)
-        elif s == 0.0 and b != 0.0:
-            p[j] = 0.0  # an exact fit: no doubt that the coefficient differs from 0
+        return math.nan, math.nan
+    if s > 0.0:
+        t = b / s
+        # sf, not 1 - cdf: keeps p-values far below 1e-16 instead of rounding them to 0.
+        return t, float(2.0 * t_sf(abs(t), df))
+    if s == 0.0 and b != 0.0:
+        return math.nan, 0.0  # an exact fit: no doubt that the coefficient differs from 0
+    return math.nan, math.nan
+
+
+def _tests(coef: FloatArray, se: FloatArray, df: int) -> tuple[FloatArray, FloatArray]:
+    """:func:`_test` of each coefficient, as arrays."""
+    tests = [_test(b, s, df) for b, s in zip(coef.tolist(), se.tolist(), strict=True)]
+    t = np.array([t for t, _ in tests], dtype=np.float64).reshape(coef.shape)
+    p = np.array([p for _, p in tests], dtype=np.float64).reshape(coef.shape)
     return t, p
 
 

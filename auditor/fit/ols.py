@@ -21,13 +21,13 @@ The solving lives in :mod:`auditor.fit.lstsq` and the tests and intervals in
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from auditor.fit.conditioning import AllowanceInputs, Conditioning
-from auditor.fit.inference import _f_test, _influence, _intervals, _r_squared, _tests
+from auditor.fit.inference import _f_test, _influence, _intervals, _r_squared, _test, _tests
 from auditor.fit.lstsq import COLLINEAR_RATIO, FloatArray, Solution, solve_centred
 from auditor.fit.sums import exact_sum
 from auditor.model import STAT_KEYS, clean_number
@@ -159,7 +159,7 @@ def fit_ols(
         )
     if x_arr.shape[0] != y_arr.shape[0]:
         raise ValueError(f"x has {x_arr.shape[0]} rows but y has {y_arr.shape[0]} values")
-    if not (np.all(np.isfinite(x_arr)) and np.all(np.isfinite(y_arr))):
+    if not (np.isfinite(x_arr).all() and np.isfinite(y_arr).all()):
         raise ValueError("x and y must be finite: drop empty, text and error cells before fitting")
     if not 0.0 < confidence < 1.0:
         raise ValueError(f"confidence must lie strictly between 0 and 1, got {confidence!r}")
@@ -167,11 +167,7 @@ def fit_ols(
     df = max(0, n - k - (1 if intercept else 0))  # never negative: no points left is 0 left
     solution = solve_centred(x_arr, y_arr, intercept)
     result = _finish(solution, n, k, intercept, df, confidence)
-    if (
-        result.conditioning is not None
-        and result.slopes.size
-        and np.all(np.isfinite(result.slopes))
-    ):
+    if result.conditioning is not None and result.slopes.size and np.isfinite(result.slopes).all():
         coefficients = result.slopes
         inverse = solution.g_diag
         if intercept:
@@ -187,7 +183,10 @@ def fit_ols(
             solution.ss_total,
             df,
         )
-        result.conditioning = replace(result.conditioning, inputs=inputs)
+        held = result.conditioning  # a new record, as dataclasses.replace would make
+        result.conditioning = Conditioning(
+            held.condition_number, held.condition_number_centred, held.solver, inputs
+        )
     return result
 
 
@@ -218,8 +217,7 @@ def _finish(
     t_intercept: float | None = None
     p_intercept: float | None = None
     if se_intercept is not None:
-        t_i, p_i = _tests(np.array([sol.intercept_value]), np.array([se_intercept]), df)
-        t_intercept, p_intercept = float(t_i[0]), float(p_i[0])
+        t_intercept, p_intercept = _test(float(sol.intercept_value), se_intercept, df)
 
     r_squared = _r_squared(sol.ss_regression, ss_residual, ss_total)
     adj_r_squared = math.nan
