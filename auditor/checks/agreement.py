@@ -200,13 +200,15 @@ def stat_stale(context: RegressionContext) -> list[Finding]:
     stat-recompute reports the wrong value with its cause).
     """
     rel = context.policy.get("stored_relative_tolerance")
-    intended = context.fit.stats()
+    intended: dict[str, float | int | None] | None = None  # made for the first value judged
     findings = []
     for value in context.reported.values():
         if value.source != "stored" or value.as_written is None or isinstance(value.value, str):
             continue
         if value.value is None or value.verdict == "confirmed":
             continue  # a stored value that matches the correct fit is never stale
+        if intended is None:
+            intended = context.fit.stats()
         allowed = relative_tolerance(value.key, rel, intended)
         judged = agree_conditioned(
             float(value.value), value.as_written, value.key, allowed, None, context.fit.conditioning

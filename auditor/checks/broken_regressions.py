@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from auditor.checks.base import check
 from auditor.context import WorkbookContext
+from auditor.design.formula_filter import CellLookup, may_hold
 from auditor.formula.syntax import Call, Node, RefNode, calls
 from auditor.model import Finding
 from auditor.read.workbook import ErrorValue, Workbook
@@ -60,6 +61,13 @@ def _why(workbook: Workbook, call: Call) -> str:
     return ""
 
 
+def _names_a_regression_call(text: str) -> bool:
+    """Whether a formula's text can call a regression function (a superset: the name anywhere,
+    in any case; auditor.design.formula_filter)."""
+    upper = text.upper()
+    return any(name in upper for name in REGRESSION_CALLS)
+
+
 @check(
     CHECK,
     "A regression formula shows an error value instead of a result, and why.",
@@ -75,10 +83,14 @@ def regression_cell_error(context: WorkbookContext) -> list[Finding]:
     if workbook is None or not context.stored_values:
         return []
     findings = []
+    cell_at = CellLookup(workbook)
+    may_call = may_hold(workbook, _names_a_regression_call)
     for (sheet, row, col), node in context.parsed.items():
-        cell = workbook.cell(sheet, row, col)
+        cell = cell_at(sheet, row, col)
         if cell is None or not isinstance(cell.value, ErrorValue):
             continue
+        if cell.formula is not None and not may_call(cell.formula):
+            continue  # no regression function in its text or its names: no tree to walk
         failed = [c for c in calls(node) if c.name in REGRESSION_CALLS]
         if not failed:
             continue

@@ -16,7 +16,7 @@ import re
 from collections.abc import Callable, Iterator, Mapping
 from typing import TypeVar
 
-from auditor.read.workbook import DefinedName, Workbook
+from auditor.read.workbook import Cell, DefinedName, Workbook
 
 Key = tuple[str, int, int]  # (sheet, row, column), as the parsed formulas are keyed
 Item = TypeVar("Item")
@@ -56,7 +56,24 @@ def formulas_that_may_hold(
         yield from parsed.items()
         return
     test = may_hold(workbook, written)
+    cell_at = CellLookup(workbook)
     for key, node in parsed.items():
-        cell = workbook.cell(*key)
+        cell = cell_at(*key)
         if cell is None or cell.formula is None or test(cell.formula):
             yield key, node
+
+
+class CellLookup:
+    """``workbook.cell(sheet, row, col)`` for the many keys of a scan over every formula: each
+    sheet is found by its name once, not once per cell."""
+
+    def __init__(self, workbook: Workbook) -> None:
+        self.workbook = workbook
+        self._cells: dict[str, Mapping[tuple[int, int], Cell]] = {}
+
+    def __call__(self, sheet: str, row: int, col: int) -> Cell | None:
+        cells = self._cells.get(sheet)
+        if cells is None:
+            found = self.workbook.sheet(sheet)
+            cells = self._cells[sheet] = found.cells if found is not None else {}
+        return cells.get((row, col))

@@ -124,14 +124,12 @@ def _annotate_points(points: list[DataPoint], fit: FitResult) -> None:
         return  # the fit is undefined (too few points, constant x): nothing to attach
     # tolist() gives the same Python floats as float() of each element, in one C call.
     fitted, residuals = fit.fitted.tolist(), fit.residuals.tolist()
-    leverage = fit.leverage.tolist() if len(fit.leverage) else None
-    cooks = fit.cooks_distance.tolist() if len(fit.cooks_distance) else None
-    for index, point in enumerate(used):
-        point.fitted = fitted[index]
-        point.residual = residuals[index]
-        point.leverage = leverage[index] if leverage is not None else None
-        if cooks is not None:
-            point.cooks_distance = cooks[index]
+    leverage = fit.leverage.tolist() if len(fit.leverage) else [None] * len(used)
+    for point, value, residual, weight in zip(used, fitted, residuals, leverage, strict=True):
+        point.fitted, point.residual, point.leverage = value, residual, weight
+    if len(fit.cooks_distance):
+        for point, distance in zip(used, fit.cooks_distance.tolist(), strict=True):
+            point.cooks_distance = distance
 
 
 def audit_workbook(
