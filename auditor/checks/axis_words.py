@@ -25,7 +25,7 @@ from auditor.checks.axis_support import (
 from auditor.checks.base import check
 from auditor.checks.formula_support import local_text
 from auditor.context import WorkbookContext
-from auditor.diagnose.roles_words import Judgement, judge_shift, judge_swap
+from auditor.diagnose.roles_words import Judgement, judge_roles
 from auditor.locate.meaning import Header, Meaning, read_meaning
 from auditor.locate.spec import RegressionSpec
 from auditor.model import Finding, RegressionResult, Severity, stat_base
@@ -56,8 +56,7 @@ def _read(context: WorkbookContext) -> list[WordsRead]:
         for spec, result in _regressions(context):
             assert context.workbook is not None
             meaning = read_meaning(context.workbook, spec)
-            swap = judge_swap(meaning)
-            shift = judge_shift(meaning) if swap is None else None
+            swap, shift = judge_roles(meaning)  # a shift only where no swap is judged
             context.words.append(WordsRead(spec, result, meaning, swap, shift))
     return list(context.words)
 

@@ -93,12 +93,13 @@ class _Named:
         return self._own
 
 
-def contradictory(meaning: Meaning) -> bool:
+def contradictory(meaning: Meaning, named: _Named | None = None) -> bool:
     """Do the statements name one header as y in one place and as x in another? Words that
-    contradict each other are no evidence either way."""
+    contradict each other are no evidence either way. (``named``: the candidate headers, when
+    the caller has them.)"""
     if meaning.x is None or meaning.y is None:
         return False
-    named = _Named(_candidates(meaning))
+    named = named if named is not None else _Named(_candidates(meaning))
     roles: dict[str, set[str]] = {}
     for statement in meaning.statements:
         for role, words in (("y", statement.y_words), ("x", statement.x_words)):
@@ -115,11 +116,28 @@ def _candidates(meaning: Meaning) -> list[Header]:
     return list({header.cell: header for header in every}.values())
 
 
+def judge_roles(meaning: Meaning) -> tuple[Judgement | None, Judgement | None]:
+    """:func:`judge_swap`, and :func:`judge_shift` where no swap is judged, from one reading of
+    the candidate headers and of whether the statements contradict each other."""
+    if meaning.x is None or meaning.y is None:
+        return None, None
+    named = _Named(_candidates(meaning))
+    if contradictory(meaning, named):
+        return None, None
+    swap = _swap(meaning, named)
+    return swap, (_shift(meaning) if swap is None else None)
+
+
 def judge_swap(meaning: Meaning) -> Judgement | None:
     """Swapped when some statement names the formulas' x as y (or y as x) and none agrees."""
     if meaning.x is None or meaning.y is None or contradictory(meaning):
         return None
-    named = _Named(_candidates(meaning))
+    return _swap(meaning, _Named(_candidates(meaning)))
+
+
+def _swap(meaning: Meaning, named: _Named) -> Judgement | None:
+    """:func:`judge_swap` of words that do not contradict each other."""
+    assert meaning.x is not None and meaning.y is not None
     swapped: list[Cue] = []
     for statement in meaning.statements:
         says_y = named.points_at(statement.y_words)
@@ -170,6 +188,12 @@ def judge_shift(meaning: Meaning) -> Judgement | None:
     the range's own; the first role so named (y before x)."""
     if meaning.x is None or meaning.y is None or contradictory(meaning):
         return None
+    return _shift(meaning)
+
+
+def _shift(meaning: Meaning) -> Judgement | None:
+    """:func:`judge_shift` of words that do not contradict each other."""
+    assert meaning.x is not None and meaning.y is not None
     for role, own, other, near in (
         ("y", meaning.y, meaning.x, meaning.y_beside),
         ("x", meaning.x, meaning.y, meaning.x_beside),
