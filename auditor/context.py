@@ -65,12 +65,14 @@ class RegressionContext:
     calibration: Any = None  # CalibrationInputs (auditor.design.calibration) for a calibration
     rows: PointRows | None = None  # set by point_rows(), once
     claim: Claim | None = None  # what the regression is said to show, set by the design checks
+    levels: Any = None  # count_levels(data.x) (auditor.design.lackfit), when the pipeline has it
 
     def design_metrics(self) -> DesignMetrics:
         """The design metrics of this regression, computed on first use and kept."""
         if self.design is None:
+            rows = self.point_rows().used_rows()
             self.design = compute_design(
-                self.data, self.fit, self.policy, self.design_inputs, self.point_rows().used_rows()
+                self.data, self.fit, self.policy, self.design_inputs, rows, self.levels
             )
         return self.design
 

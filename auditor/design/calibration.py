@@ -146,8 +146,10 @@ def prepare(
     design: DesignInputs,
     parsed: Mapping[tuple[str, int, int], Node],
     requested: Policy,
+    counted: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> tuple[Policy, JobDecision, CalibrationInputs | None]:
-    """The policy that judges one regression, why, and (for a calibration) what it reads."""
+    """The policy that judges one regression, why, and (for a calibration) what it reads;
+    ``counted``: the distinct values of x's (only) column and their counts, when known."""
     reads_back = any(p.how == "(y − b0)/b1" for p in design.predictions)
     x_values = np.asarray(data.x, dtype=float)
     x_first = x_values[:, 0] if x_values.ndim == 2 and x_values.shape[1] else x_values
@@ -158,6 +160,7 @@ def prepare(
         x_first,
         [t for t, _ in design.texts[:40]] + [spec.label],
         reads_back,
+        counted,
     )
     decision = decide(requested.name, signs)
     policy = requested if requested.name != AUTO else builtin_policy(decision.policy)

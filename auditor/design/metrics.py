@@ -130,10 +130,6 @@ _FLAT_FIELDS = tuple(item.name for item in fields(DesignMetrics) if item.name no
 _DROP_FIELDS = tuple(item.name for item in fields(DropOne))
 
 
-def _used_rows(data: Extracted) -> list[int]:
-    return [p.row for p in data.points if p.used]
-
-
 def _finite(value: float) -> float | None:
     return float(value) if math.isfinite(value) else None
 
@@ -155,11 +151,14 @@ def compute_design(
     policy: Policy,
     inputs: DesignInputs | None = None,
     used_rows: Rows | None = None,
+    known_levels: tuple[int, tuple[np.ndarray, np.ndarray] | None] | None = None,
 ) -> DesignMetrics:
-    """Every design metric of one regression (module doc); ``used_rows`` when known."""
+    """Every design metric of one regression (module doc); the used points' rows and
+    ``count_levels(data.x)`` when the caller has them."""
     n = data.n
-    levels, counted = count_levels(data.x)  # one sort for the levels, spacing and replicates
-    rows = _used_rows(data) if used_rows is None else used_rows
+    # One sort for the levels, spacing and replicates (made by the caller, who shares it).
+    levels, counted = count_levels(data.x) if known_levels is None else known_levels
+    rows = [p.row for p in data.points if p.used] if used_rows is None else used_rows
     metrics = DesignMetrics(n=n, levels=levels, simple=False)
     if len(fit.leverage) == n and n:
         top = int(np.argmax(fit.leverage))

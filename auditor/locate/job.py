@@ -116,14 +116,17 @@ def read_signs(
     x_values: np.ndarray,
     context_texts: Iterable[str] = (),
     reads_back: bool = False,
+    counted: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> JobSigns:
+    """The signs of a calibration curve around a regression; ``counted``: the distinct x values
+    and their counts when the caller has them (auditor.design.lackfit.level_counts of x)."""
     x_rows, y_rows = header_rows(workbook, x), header_rows(workbook, y)
     # The axis words come from the column header itself (the nearest text above); a title
     # further up speaks for the sheet, not for one axis.
     x_header, y_header = (x_rows or [""])[0], (y_rows or [""])[0]
     xs = np.asarray(x_values, dtype=float).reshape(-1)
     xs = xs[np.isfinite(xs)]
-    levels, counts = np.unique(xs, return_counts=True)
+    levels, counts = counted if counted is not None else np.unique(xs, return_counts=True)
     ascending = bool(xs.size >= 3 and np.all(np.diff(xs) >= 0) and xs.min() >= 0)
     return JobSigns(
         x_words=_matches(_X_WORDS, [x_header]),

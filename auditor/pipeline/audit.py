@@ -21,6 +21,7 @@ from auditor.context import RegressionContext, WorkbookContext
 from auditor.design.calibration import prepare
 from auditor.design.calibration_summary import summary_row
 from auditor.design.inputs import DesignInputReader
+from auditor.design.lackfit import count_levels
 from auditor.errors import UnreadableWorkbook
 from auditor.evaluation.evaluator import Evaluator
 from auditor.extract.entry import extract
@@ -73,8 +74,9 @@ def _audit_unannotated(
     inputs = reader.read(spec)
     # The job decides the policy (auto: calibration curves by their words) before anything is
     # judged; for a calibration, what the workbook computes from the curve is read here.
+    levels = count_levels(data.x)  # one sort of x for the job's signs and the design metrics
     policy, job, calibration = prepare(
-        workbook, evaluator, spec, data, inputs, reader.parsed, policy
+        workbook, evaluator, spec, data, inputs, reader.parsed, policy, levels[1]
     )
     fit = fit_ols(data.x, data.y, intercept=spec.intercept, confidence=policy.get("confidence"))
     intended = fit.stats()
@@ -88,7 +90,15 @@ def _audit_unannotated(
         fit.conditioning,
     )
     context = RegressionContext(
-        spec, data, fit, reported, policy, workbook.stored_values, inputs, calibration=calibration
+        spec,
+        data,
+        fit,
+        reported,
+        policy,
+        workbook.stored_values,
+        inputs,
+        calibration=calibration,
+        levels=levels,
     )
     findings = run_regression_checks(context)
     points = list(data.points)
