@@ -81,6 +81,9 @@ class _Context:
     # openpyxl's tokens of the text when already known (a shared formula's, moved from its
     # group's anchor: auditor.read.shared_formulas), else the text is tokenised.
     given: Sequence[Token] | None = None
+    # When a list: each reference token's node, in the order of the tokens (the nodes that
+    # auditor.formula.moved moves across a shared formula's group).
+    refs: list[Node] | None = None
 
 
 def _sheet_extent(ctx: _Context, sheet: str) -> tuple[str, int, int]:
@@ -215,7 +218,10 @@ class _Parser:
         if kind == "ERR":
             return ErrorLit(tok.value.upper())
         if kind == "REF":
-            return _reference(self.ctx, tok.value)
+            node = _reference(self.ctx, tok.value)
+            if self.ctx.refs is not None:
+                self.ctx.refs.append(node)
+            return node
         if kind == "PREFIX" and tok.value in "+-":
             return Unary(tok.value, self.expression(_PREFIX_BP))
         if kind == "(":

@@ -97,7 +97,9 @@ _BOOK_CACHES: weakref.WeakKeyDictionary[Workbook, dict[tuple[str, str], Node]] =
 )
 
 
-def _book_cache(workbook: Workbook) -> dict[tuple[str, str], Node]:
+def book_cache(workbook: Workbook) -> dict[tuple[str, str], Node]:
+    """The workbook's parses by (text, sheet): :func:`parse` fills it, and so may a caller
+    that made a parse another way (auditor.locate.shared_parse)."""
     cache = _BOOK_CACHES.get(workbook)
     if cache is None:
         cache = _BOOK_CACHES[workbook] = {}
@@ -118,7 +120,7 @@ def parse(
     """
     if workbook is None:
         return _parse_free(text, sheet)
-    cache = _book_cache(workbook)
+    cache = book_cache(workbook)
     node = cache.get((text, sheet))
     if node is None:
         node = cache[(text, sheet)] = _parse_in_book(text, sheet, workbook, given)

@@ -218,6 +218,11 @@ class SharedGroups:
         self._last: dict[int, SharedFormula] = {}
 
     def tokens(self, row: int, col: int, text: str) -> list[Token] | None:
+        group = self.group_at(row, col, text)
+        return group.tokens_at(row, col) if group is not None else None
+
+    def group_at(self, row: int, col: int, text: str) -> SharedFormula | None:
+        """The group whose formula reads ``text`` at (``row``, ``col``), if one does."""
         by_col = self._by_col if self._by_col is not None else self._index()
         groups = by_col.get(col)
         if not groups:
@@ -231,7 +236,7 @@ class SharedGroups:
                 try:
                     if group.at(row, col) == text:
                         self._last[col] = group
-                        return group.tokens_at(row, col)
+                        return group
                 except TranslatorError:
                     continue  # not this group's cell: its references would leave the sheet
         return None

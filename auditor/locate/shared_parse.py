@@ -1,0 +1,132 @@
+"""A shared formula's cells parsed once, on the group's anchor, and moved (auditor.formula.moved).
+
+Why a moved tree is the parse of the cell's text: the cell's tokens are the anchor's with each
+moving reference token's text rebuilt from a template (``SharedFormula.moves``: fixed pieces and
+relative rows and columns; ``tokens_at``, proven equal to openpyxl's tokenizer on the text). A
+tree is moved only when every moving token is a plain block of cells (``Data!$A2:B9``) whose
+template is exactly the one its corners give: the sheet prefix and the ``$`` parts fixed, each
+relative row and column a number. The moved token then reads as the same prefix and corners with
+those numbers offset; the parser splits it at the same places (no quote, colon or '!' is in a
+corner) and spans the same corners: the moved block. Anything else (a whole column, a name, a
+parse error) is parsed from its tokens as before, and so is a cell whose text is not the one
+its group gives at its place (a cell written over inside the block).
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from openpyxl.formula.tokenizer import Token
+
+from auditor.errors import FormulaError
+from auditor.formula.moved import Corner, MovedTree, MovingRef, parse_with_refs
+from auditor.formula.nodes import RefNode
+from auditor.formula.syntax import book_cache, parse
+from auditor.formula.tokens import _OPERAND_KINDS, _split_outside_quotes
+from auditor.grid import A1_CELL, column_index
+
+if TYPE_CHECKING:
+    from auditor.formula.nodes import Node
+    from auditor.read.shared_formulas import SharedFormula
+    from auditor.read.workbook import Cell, Workbook
+
+_Piece = str | tuple[bool, int]
+
+
+class SharedParses:
+    """Parses of a workbook's formula cells, through their shared groups where they have one."""
+
+    def __init__(self, workbook: Workbook) -> None:
+        self.workbook = workbook
+        self.cache = book_cache(workbook)
+        self._moved: dict[int, MovedTree | None] = {}  # by the group's identity
+
+    def parse(self, cell: Cell, text: str) -> Node:
+        """The parse of ``text``, the formula of ``cell`` (FormulaError as parse raises)."""
+        node = self.cache.get((text, cell.sheet))
+        if node is not None:
+            return node
+        sheet = self.workbook.sheets.get(cell.sheet)
+        groups = sheet.shared if sheet is not None else None
+        group = groups.group_at(cell.row, cell.col, text) if groups is not None else None
+        if group is None:
+            return parse(text, cell.sheet, self.workbook)
+        key = id(group)
+        if key not in self._moved:
+            self._moved[key] = moved_tree(group, cell.sheet, self.workbook)
+        tree = self._moved[key]
+        if tree is None:
+            return parse(text, cell.sheet, self.workbook, group.tokens_at(cell.row, cell.col))
+        node = self.cache[(text, cell.sheet)] = tree.at(cell.row - group.row, cell.col - group.col)
+        return node
+
+
+def moved_tree(group: SharedFormula, sheet: str, workbook: Workbook) -> MovedTree | None:
+    """The group's anchor parsed, ready to move; None when a moving reference is not a plain
+    block of cells or the anchor does not parse."""
+    if all(move is None for move in group.moves):
+        return None  # nothing moves: every cell has the anchor's text (the parse cache serves)
+    sources = _reference_sources(group.tokens)
+    try:
+        node, refs = parse_with_refs(group.at(group.row, group.col), sheet, workbook, group.tokens)
+    except FormulaError:
+        return None
+    if len(refs) != len(sources):
+        return None  # pragma: no cover - each reference token becomes one node
+    moving: list[MovingRef] = []
+    for index, ref in zip(sources, refs, strict=True):
+        move = group.moves[index] if index is not None else None
+        if index is None or move is None:
+            continue
+        corners = _corners(group.tokens[index].value, move)
+        if corners is None or not isinstance(ref, RefNode):
+            return None
+        moving.append(MovingRef(ref, corners))
+    return MovedTree(node, moving)
+
+
+def _reference_sources(tokens: list[Token]) -> list[int | None]:
+    """For each reference token the parser reads (auditor.formula.tokens._tokens), the index of
+    openpyxl's token it comes from: an operand range, or None for the head of a function token
+    the tokenizer glued to a range operator (``A1:INDEX(``), which never moves."""
+    sources: list[int | None] = []
+    for index, token in enumerate(tokens):
+        if token.type == Token.OPERAND and token.subtype not in _OPERAND_KINDS:
+            sources.append(index)
+        elif token.type == Token.FUNC and token.subtype == Token.OPEN:
+            head, colon, _ = token.value[:-1].rpartition(":")
+            if colon and head:
+                sources.append(None)
+    return sources
+
+
+def _corners(text: str, move: list[_Piece]) -> tuple[Corner, ...] | None:
+    """The corners of a reference token as the parser reads them, when the token's template
+    ``move`` is exactly the one they give (else None: the token is not moved as a block)."""
+    pieces: list[_Piece] = []
+    corners: list[Corner] = []
+    for number, part in enumerate(_split_outside_quotes(text, ":")):
+        body = _split_outside_quotes(part, "!")[-1]
+        match = A1_CELL.match(body)
+        if match is None:
+            return None
+        col_fixed, letters, row_fixed, digits = match.groups()
+        row, col = int(digits), column_index(letters)
+        if number:
+            pieces.append(":")
+        pieces.append(part[: len(part) - len(body)])
+        pieces.append(col_fixed + letters if col_fixed else (False, col))
+        pieces.append(row_fixed + digits if row_fixed else (True, row))
+        corners.append((row, not row_fixed, col, not col_fixed))
+    return tuple(corners) if _joined(pieces) == move else None
+
+
+def _joined(pieces: list[_Piece]) -> list[_Piece]:
+    """Neighbouring fixed pieces joined into one, empty ones dropped (as the templates are)."""
+    out: list[_Piece] = []
+    for piece in pieces:
+        if isinstance(piece, str) and out and isinstance(out[-1], str):
+            out[-1] += piece
+        elif piece != "":
+            out.append(piece)
+    return out
