@@ -24,13 +24,12 @@ from auditor.formula.nodes import RefNode
 from auditor.formula.syntax import book_cache, parse
 from auditor.formula.tokens import _OPERAND_KINDS, _split_outside_quotes
 from auditor.grid import A1_CELL, column_index
+from auditor.read.shared_formulas import _merged
 
 if TYPE_CHECKING:
     from auditor.formula.nodes import Node
-    from auditor.read.shared_formulas import SharedFormula
+    from auditor.read.shared_formulas import SharedFormula, _Piece
     from auditor.read.workbook import Cell, Workbook
-
-_Piece = str | tuple[bool, int]
 
 
 class SharedParses:
@@ -118,15 +117,4 @@ def _corners(text: str, move: list[_Piece]) -> tuple[Corner, ...] | None:
         pieces.append(col_fixed + letters if col_fixed else (False, col))
         pieces.append(row_fixed + digits if row_fixed else (True, row))
         corners.append((row, not row_fixed, col, not col_fixed))
-    return tuple(corners) if _joined(pieces) == move else None
-
-
-def _joined(pieces: list[_Piece]) -> list[_Piece]:
-    """Neighbouring fixed pieces joined into one, empty ones dropped (as the templates are)."""
-    out: list[_Piece] = []
-    for piece in pieces:
-        if isinstance(piece, str) and out and isinstance(out[-1], str):
-            out[-1] += piece
-        elif piece != "":
-            out.append(piece)
-    return out
+    return tuple(corners) if _merged(pieces) == move else None
