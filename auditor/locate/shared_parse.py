@@ -75,13 +75,20 @@ def moved_tree(group: SharedFormula, sheet: str, workbook: Workbook) -> MovedTre
     moving: list[MovingRef] = []
     for index, ref in zip(sources, refs, strict=True):
         move = group.moves[index] if index is not None else None
-        if index is None or move is None:
+        if index is None or move is None or _unmoved(group.tokens[index].value, move):
             continue
         corners = _corners(group.tokens[index].value, move)
         if corners is None or not isinstance(ref, RefNode):
             return None
         moving.append(MovingRef(ref, corners))
     return MovedTree(node, moving)
+
+
+def _unmoved(text: str, move: list[_Piece]) -> bool:
+    """A token whose template is its own text, fixed (a name, a ``$`` block): the same node in
+    every cell. (A name after a sheet is not: openpyxl moves it without its sheet.)"""
+    fixed = [piece for piece in move if isinstance(piece, str)]
+    return len(fixed) == len(move) and "".join(fixed) == text
 
 
 def _reference_sources(tokens: list[Token]) -> list[int | None]:

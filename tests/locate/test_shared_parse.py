@@ -87,12 +87,18 @@ def test_corners_that_cross_as_they_move() -> None:
 
 
 @pytest.mark.parametrize(
-    "text",
-    ["=SUM(B:B)+B2", "=Rate*B2", "=Data!A1:Data!B2", '="fixed"', "=B2:INDEX($C$1:$C$9,3)+B2"],
+    ("text", "moved"),
+    [
+        ("=SUM(B:B)+B2", False),  # a whole column moves: not a block of cells
+        ("=Data!A1:Data!B2+B2", False),  # openpyxl moves only the last corner
+        ("=Data!rate*B2", False),  # openpyxl moves the name without its sheet
+        ('="fixed"', False),  # nothing moves: the text's one parse serves
+        ("=Rate*B2+$C$1", True),  # a name and a fixed cell stay put
+        ("=B2:INDEX($C$1:$C$9,3)+B2", True),  # a function glued to a range stays put
+    ],
 )
-def test_groups_not_moved_as_blocks_parse_each_text(text: str) -> None:
-    """A whole column, a name, a range of two prefixed corners, a text with nothing to move and
-    a function glued to a range: each cell is parsed from its own tokens, as before."""
+def test_groups_moved_or_parsed_cell_by_cell(text: str, moved: bool) -> None:
+    """Each cell's parse is its text's, whether its group moves a tree or not."""
     rng = random.Random(3)
     workbook = _book(rng)
     sheet = next(iter(workbook.sheets))
@@ -106,10 +112,7 @@ def test_groups_not_moved_as_blocks_parse_each_text(text: str) -> None:
         assert _shape(parses.parse(Cell(sheet, row, 4, None, there), there)) == _anew(
             there, sheet, workbook
         )
-    if text.startswith("=B2:INDEX"):
-        assert moved_tree(group, sheet, workbook) is not None  # the glued head stays put
-    else:
-        assert moved_tree(group, sheet, workbook) is None
+    assert (moved_tree(group, sheet, workbook) is not None) is moved
 
 
 def test_a_sheets_cells_through_their_groups() -> None:
