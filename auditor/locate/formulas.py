@@ -8,6 +8,7 @@ from typing import TYPE_CHECKING, Any
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
 from auditor.formula.syntax import Call, Node, Ref, references
+from auditor.locate.cell_parses import CellParses
 from auditor.locate.formula_dependents import refs_roles, role_of_dependent, stat_addresses
 from auditor.locate.formula_readers import CellReaders
 from auditor.locate.formula_reads import FormulaReads
@@ -20,7 +21,6 @@ from auditor.locate.roles import (
     role_from_shape,
     single_cell_linest_role,
 )
-from auditor.locate.shared_parse import SharedParses
 from auditor.locate.spec import (
     MAX_FOLLOW_ROUNDS,
     PairUse,
@@ -51,7 +51,7 @@ class FormulaLocator:
         self._refs_by_key: dict[Key, list[Ref]] = {}
         self._readers: CellReaders | None = None
         self._reads: FormulaReads | None = None  # what reads the data, once all are parsed
-        parses = SharedParses(workbook)
+        parses = CellParses(workbook)
         for cell in workbook.formula_cells():
             try:
                 self.parsed[(cell.sheet, cell.row, cell.col)] = parses.parse(

@@ -21,43 +21,13 @@ from openpyxl.formula.tokenizer import Token
 from auditor.errors import FormulaError
 from auditor.formula.moved import Corner, MovedTree, MovingRef, parse_with_refs
 from auditor.formula.nodes import RefNode
-from auditor.formula.syntax import book_cache, parse
 from auditor.formula.tokens import _OPERAND_KINDS, _split_outside_quotes
 from auditor.grid import A1_CELL, column_index
 from auditor.read.shared_formulas import _merged
 
 if TYPE_CHECKING:
-    from auditor.formula.nodes import Node
     from auditor.read.shared_formulas import SharedFormula, _Piece
-    from auditor.read.workbook import Cell, Workbook
-
-
-class SharedParses:
-    """Parses of a workbook's formula cells, through their shared groups where they have one."""
-
-    def __init__(self, workbook: Workbook) -> None:
-        self.workbook = workbook
-        self.cache = book_cache(workbook)
-        self._moved: dict[int, MovedTree | None] = {}  # by the group's identity
-
-    def parse(self, cell: Cell, text: str) -> Node:
-        """The parse of ``text``, the formula of ``cell`` (FormulaError as parse raises)."""
-        node = self.cache.get((text, cell.sheet))
-        if node is not None:
-            return node
-        sheet = self.workbook.sheets.get(cell.sheet)
-        groups = sheet.shared if sheet is not None else None
-        group = groups.group_at(cell.row, cell.col, text) if groups is not None else None
-        if group is None:
-            return parse(text, cell.sheet, self.workbook)
-        key = id(group)
-        if key not in self._moved:
-            self._moved[key] = moved_tree(group, cell.sheet, self.workbook)
-        tree = self._moved[key]
-        if tree is None:
-            return parse(text, cell.sheet, self.workbook, group.tokens_at(cell.row, cell.col))
-        node = self.cache[(text, cell.sheet)] = tree.at(cell.row - group.row, cell.col - group.col)
-        return node
+    from auditor.read.workbook import Workbook
 
 
 def moved_tree(group: SharedFormula, sheet: str, workbook: Workbook) -> MovedTree | None:

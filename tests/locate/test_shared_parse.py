@@ -1,6 +1,6 @@
-"""A shared formula's anchor parsed once and moved to each cell of its group
-(auditor.formula.moved, auditor.locate.shared_parse) gives, node for node, the tree a fresh parse
-of the cell's own text gives.
+"""A shared formula's anchor parsed once and moved to each cell of its group (auditor.formula.moved,
+auditor.locate.shared_parse, auditor.locate.cell_parses) gives, node for node, the tree a fresh
+parse of the cell's own text gives.
 
 Outside reference: the cell's text is ``SharedFormula.at``, proven equal to openpyxl's
 ``Translator`` in tests/read/test_shared_formulas.py; the fresh parse reads it without any cache.
@@ -19,7 +19,8 @@ from auditor.errors import FormulaError
 from auditor.formula.moved import MovedTree
 from auditor.formula.nodes import Binary, Call, Number, Ref, RefNode
 from auditor.formula.parser import _Context, _parse_now
-from auditor.locate.shared_parse import SharedParses, moved_tree
+from auditor.locate.cell_parses import CellParses
+from auditor.locate.shared_parse import moved_tree
 from auditor.read.shared_formulas import SharedFormula, SharedGroups
 from auditor.read.workbook import Cell, Sheet, Workbook
 from tests.formula.test_templates import _book, _shape
@@ -106,7 +107,7 @@ def test_groups_moved_or_parsed_cell_by_cell(text: str, moved: bool) -> None:
     for row in range(2, 9):
         group.include(row, 4)
     workbook.sheets[sheet].shared = SharedGroups([group])
-    parses = SharedParses(workbook)
+    parses = CellParses(workbook)
     for row in range(2, 9):
         there = group.at(row, 4)
         assert _shape(parses.parse(Cell(sheet, row, 4, None, there), there)) == _anew(
@@ -126,7 +127,7 @@ def test_a_sheets_cells_through_their_groups() -> None:
     for col in range(3, 6):
         right.include(2, col)
     workbook.sheets["S"].shared = SharedGroups([down, right])
-    parses = SharedParses(workbook)
+    parses = CellParses(workbook)
     texts = {(row, 1): down.at(row, 1) for row in range(2, 30)}
     texts |= {(2, col): right.at(2, col) for col in range(3, 6)}
     texts[(9, 1)] = "=B9*3"  # written over
