@@ -74,13 +74,12 @@ class MovedTree:
         self.program = _compile(node, {id(m.node): k for k, m in enumerate(moving)})
 
     def at(self, row_delta: int, col_delta: int) -> Node:
-        refs = [_moved(m, row_delta, col_delta) for m in self.moving]
         values: list[Node] = []
         for kind, payload, count in self.program:
             if kind == _CONST:
                 values.append(payload)
             elif kind == _REF:
-                values.append(refs[payload])
+                values.append(_moved(self.moving[payload], row_delta, col_delta))
             else:
                 parts = values[-count:]
                 del values[-count:]
@@ -90,10 +89,26 @@ class MovedTree:
 
 def _moved(moving: MovingRef, row_delta: int, col_delta: int) -> RefNode:
     """The reference's block with each moving row and column moved, as the parser spans it
-    (the least and greatest row and column of its corners)."""
-    rows = [row + row_delta if moves else row for row, moves, _, _ in moving.corners]
-    cols = [col + col_delta if moves else col for _, _, col, moves in moving.corners]
+    (the least and greatest row and column of its corners; one cell and two corners, the
+    usual references, without the lists)."""
     ref = moving.node.ref
+    corners = moving.corners
+    if len(corners) == 1:
+        row, row_moves, col, col_moves = corners[0]
+        row += row_delta if row_moves else 0
+        col += col_delta if col_moves else 0
+        return RefNode(Ref(ref.sheet, row, col, row, col, False, ref.external))
+    if len(corners) == 2:
+        (row_a, moves_a, col_a, across_a), (row_b, moves_b, col_b, across_b) = corners
+        row_a += row_delta if moves_a else 0
+        row_b += row_delta if moves_b else 0
+        col_a += col_delta if across_a else 0
+        col_b += col_delta if across_b else 0
+        r1, r2 = (row_a, row_b) if row_a <= row_b else (row_b, row_a)
+        c1, c2 = (col_a, col_b) if col_a <= col_b else (col_b, col_a)
+        return RefNode(Ref(ref.sheet, r1, c1, r2, c2, False, ref.external))
+    rows = [row + row_delta if moves else row for row, moves, _, _ in corners]
+    cols = [col + col_delta if moves else col for _, _, col, moves in corners]
     return RefNode(Ref(ref.sheet, min(rows), min(cols), max(rows), max(cols), False, ref.external))
 
 
