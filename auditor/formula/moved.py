@@ -27,7 +27,9 @@ from auditor.formula.nodes import (
     Ref,
     RefNode,
     Unary,
+    _gather,
     children,
+    remember_references,
 )
 from auditor.formula.parser import _Context, _parse_now
 
@@ -71,20 +73,35 @@ class MovedTree:
     def __init__(self, node: Node, moving: list[MovingRef]) -> None:
         self.node = node
         self.moving = moving
-        self.program = _compile(node, {id(m.node): k for k, m in enumerate(moving)})
+        index = {id(m.node): k for k, m in enumerate(moving)}
+        self.program = _compile(node, index)
+        # The tree's references in the order walk meets them: a fixed one as it is, a moving
+        # one by its number (nodes.references, known without a walk of each moved tree).
+        self.slots: list[Ref | int] = [
+            index[id(found)] if id(found) in index else found.ref  # type: ignore[union-attr]
+            for found in _gather(node, RefNode)
+        ]
 
     def at(self, row_delta: int, col_delta: int) -> Node:
         values: list[Node] = []
+        moved: list[RefNode] = [None] * len(self.moving)  # type: ignore[list-item]
         for kind, payload, count in self.program:
             if kind == _CONST:
                 values.append(payload)
             elif kind == _REF:
-                values.append(_moved(self.moving[payload], row_delta, col_delta))
+                made = moved[payload] = _moved(self.moving[payload], row_delta, col_delta)
+                values.append(made)
             else:
                 parts = values[-count:]
                 del values[-count:]
                 values.append(_made(kind, payload, parts))
-        return values[0]
+        node = values[0]
+        slots = self.slots
+        remember_references(
+            node,
+            tuple(moved[s].ref if type(s) is int else s for s in slots),  # type: ignore[misc]
+        )
+        return node
 
 
 def _moved(moving: MovingRef, row_delta: int, col_delta: int) -> RefNode:

@@ -179,9 +179,15 @@ def references(node: Node) -> list[Ref]:
     found = _REFERENCES.get(id(node))
     if found is None:
         found = tuple(n.ref for n in _gather(node, RefNode))  # type: ignore[union-attr]
-        _REFERENCES[id(node)] = found
-        weakref.finalize(node, _REFERENCES.pop, id(node), None).atexit = False
+        remember_references(node, found)
     return list(found)
+
+
+def remember_references(node: Node, found: tuple[Ref, ...]) -> None:
+    """Keep ``found`` as the references of the tree ``node``, in the order ``walk`` meets them
+    (its maker may know them without a walk: auditor.formula.moved)."""
+    _REFERENCES[id(node)] = found
+    weakref.finalize(node, _REFERENCES.pop, id(node), None).atexit = False
 
 
 def calls(node: Node) -> list[Call]:

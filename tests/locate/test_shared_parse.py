@@ -17,7 +17,7 @@ import pytest
 
 from auditor.errors import FormulaError
 from auditor.formula.moved import MovedTree
-from auditor.formula.nodes import Binary, Call, Number, Ref, RefNode
+from auditor.formula.nodes import Binary, Call, Number, Ref, RefNode, references, walk
 from auditor.formula.parser import _Context, _parse_now
 from auditor.locate.cell_parses import CellParses
 from auditor.locate.shared_parse import moved_tree
@@ -69,8 +69,10 @@ def test_a_moved_tree_is_the_moved_texts_parse(seed: int) -> None:
                 there = group.at(to_row, to_col)
             except Exception:  # off the sheet: no cell of the group is there
                 continue
-            got = _shape(tree.at(to_row - row, to_col - col))
-            assert got == _anew(there, sheet, workbook), (text, row, col, to_row, to_col)
+            node = tree.at(to_row - row, to_col - col)
+            assert _shape(node) == _anew(there, sheet, workbook), (text, row, col, to_row, to_col)
+            # The references it carries from its making are those a walk of it finds.
+            assert references(node) == [n.ref for n in walk(node) if isinstance(n, RefNode)]
             compared += 1
     assert moved > 40 and compared > 150, (moved, compared)
 
