@@ -18,7 +18,7 @@ import numpy as np
 from auditor.errors import FormulaError, Unsupported, Unverifiable
 from auditor.evaluation.coerce import _constant, _result, constants
 from auditor.evaluation.column_reads import IndexedColumns
-from auditor.evaluation.expressions import ExpressionEvaluator
+from auditor.evaluation.expressions import LONG_WAY, ExpressionEvaluator
 from auditor.evaluation.formula_index import FormulaIndex
 from auditor.evaluation.layout import FormulaLayout, _Key
 from auditor.evaluation.values import (
@@ -168,6 +168,12 @@ class Evaluator(ExpressionEvaluator):
                 for col in range(max(b_c1, ref.c1), min(b_c2, c2) + 1):
                     out[row - ref.r1, col - ref.c1] = self._cell(sheet.name, row, col)
         return out
+
+    def _one_cell(self, ref: Ref) -> Any:
+        """What ``_read_block`` puts in a one-cell block, without the block (and without the
+        caches of blocks: a cell's value is memoised, so reading it again gives the same)."""
+        sheet = self.workbook.sheet(ref.sheet)
+        return LONG_WAY if sheet is None else self._cell(sheet.name, ref.r1, ref.c1)
 
     # --- cells and dependencies -----------------------------------------------------------------
 

@@ -41,6 +41,8 @@ from auditor.formula.syntax import (
 )
 from auditor.read.workbook import ErrorValue
 
+LONG_WAY = object()  # _one_cell: no shortcut, read the cell's block
+
 
 class ExpressionEvaluator:
     """Evaluates formula trees; subclasses say how a reference reads its cells."""
@@ -85,6 +87,27 @@ class ExpressionEvaluator:
             return value if ctx.array and value.size != 1 else value[0, 0]
         return value
 
+    def _one_cell(self, ref: Ref) -> Any:
+        """The value of the one cell ``ref`` names as ``_operand`` would read it from its block,
+        or LONG_WAY: read the block (the engine reads the cell directly)."""
+        return LONG_WAY
+
+    def _operand_of(self, node: Node, ctx: _Ctx) -> Any:
+        """``_operand(_eval(node))``; a reference to one cell of this workbook read without
+        making its one-cell block (most operands of a row formula are such cells)."""
+        if type(node) is RefNode:
+            ref = node.ref
+            if (
+                ref.r1 == ref.r2
+                and ref.c1 == ref.c2
+                and ref.external is None
+                and not (ref.whole_column or ref.whole_row)
+            ):
+                value = self._one_cell(ref)
+                if value is not LONG_WAY:
+                    return value
+        return self._operand(self._eval(node, ctx), ctx)
+
     def _single(self, value: Any, ctx: _Ctx) -> Any:
         return self._operand(value, replace(ctx, array=False))
 
@@ -98,10 +121,10 @@ class ExpressionEvaluator:
         if isinstance(node, Binary):
             return self._binary_chain(node, ctx)
         if isinstance(node, Unary):
-            operand = self._operand(self._eval(node.operand, ctx), ctx)
+            operand = self._operand_of(node.operand, ctx)
             return operand if node.op == "+" else _lift(lambda v: -_num(v), [operand])
         if isinstance(node, Percent):
-            operand = self._operand(self._eval(node.operand, ctx), ctx)
+            operand = self._operand_of(node.operand, ctx)
             return _lift(lambda v: _num(v) / 100, [operand])
         if isinstance(node, ErrorLit):
             return ErrorValue(node.code)
@@ -133,9 +156,9 @@ class ExpressionEvaluator:
         while isinstance(left, Binary) and left.op not in (":", " ", ","):
             chain.append(left)
             left = left.left
-        value = self._operand(self._eval(left, ctx), ctx)
+        value = self._operand_of(left, ctx)
         for step in reversed(chain):
-            right = self._operand(self._eval(step.right, ctx), ctx)
+            right = self._operand_of(step.right, ctx)
             value = _binary(step.op, value, right)
         return value
 
