@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import weakref
 from collections.abc import Iterator
 from dataclasses import dataclass
 
@@ -167,27 +166,26 @@ def _gather(node: Node, kind: type) -> list[Node]:
     return found
 
 
-# The references of each tree asked for, by the tree's identity: a parsed formula is one shared
-# tree (auditor.formula.syntax caches them), and the locator, the evaluator and the checks each
-# ask for its references. An entry goes when its tree is collected (weakref.finalize runs as the
-# tree is freed, before its id can be another object's).
-_REFERENCES: dict[int, tuple[Ref, ...]] = {}
+# The references of each tree asked for are kept on the tree itself, in an attribute that is
+# not a field (equality, hashing and the printed form ignore it): a parsed formula is one
+# shared tree (auditor.formula.syntax caches them), and the locator, the evaluator and the
+# checks each ask for its references. They go with the tree.
+_KEPT = "_references"
 
 
 def references(node: Node) -> list[Ref]:
     """Every reference of the tree, in the order ``walk`` meets them (a list of its own)."""
-    found = _REFERENCES.get(id(node))
+    found: tuple[Ref, ...] | None = node.__dict__.get(_KEPT)
     if found is None:
         found = tuple(n.ref for n in _gather(node, RefNode))  # type: ignore[union-attr]
-        remember_references(node, found)
+        object.__setattr__(node, _KEPT, found)
     return list(found)
 
 
 def remember_references(node: Node, found: tuple[Ref, ...]) -> None:
     """Keep ``found`` as the references of the tree ``node``, in the order ``walk`` meets them
     (its maker may know them without a walk: auditor.formula.moved)."""
-    _REFERENCES[id(node)] = found
-    weakref.finalize(node, _REFERENCES.pop, id(node), None).atexit = False
+    object.__setattr__(node, _KEPT, found)
 
 
 def calls(node: Node) -> list[Call]:
