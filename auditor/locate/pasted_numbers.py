@@ -80,8 +80,9 @@ class NumberGrid(Mapping[tuple[int, int], float]):
             packed = (row << _COLUMN_BITS) | col
         except (TypeError, ValueError):
             return -1
-        at = int(np.searchsorted(self._keys, packed))
-        return at if at < len(self._keys) and int(self._keys[at]) == packed else -1
+        keys = self._keys  # the array's own method: np.searchsorted adds a dispatch per call
+        at = int(keys.searchsorted(packed))
+        return at if at < len(keys) and keys[at] == packed else -1
 
     def get(self, key: tuple[int, int], default: float | None = None) -> float | None:  # type: ignore[override]
         at = self._at(key)

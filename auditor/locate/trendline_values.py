@@ -54,6 +54,7 @@ def literals_of(
 ) -> list[Literal]:
     """Constants typed in cells (outside the data) and number literals inside formulas."""
     found: list[Literal] = []
+    signed: dict[int, tuple[tuple[float, float], ...]] = {}  # by tree: each is asked up to 3 times
     for sheet in workbook.sheets.values():
         lowered = sheet.name.lower()
         for (row, col), cell in sheet.cells.items():
@@ -66,9 +67,9 @@ def literals_of(
                         found.append(Literal(cell, float(value), float(value), False))
                 continue
             node = parsed.get((cell.sheet, cell.row, cell.col))
-            if node is None or _continues_copy(workbook, parsed, cell, node):
+            if node is None or _continues_copy(parsed, cell, node, signed):
                 continue
-            found.extend(Literal(cell, typed, value, True) for typed, value in _signed(node, 1.0))
+            found.extend(Literal(cell, typed, value, True) for typed, value in signed[id(node)])
     return found
 
 
@@ -94,17 +95,30 @@ def plain_number(value: object) -> bool:
 
 
 def _continues_copy(
-    workbook: Workbook, parsed: dict[FollowKey, Node], cell: Cell, node: Node
+    parsed: dict[FollowKey, Node],
+    cell: Cell,
+    node: Node,
+    signed: dict[int, tuple[tuple[float, float], ...]],
 ) -> bool:
-    """The formula repeats the literals of the cell above (or to the left): a copied block."""
-    mine = tuple(_signed(node, 1.0))
+    """The formula repeats the literals of the cell above (or to the left): a copied block.
+    ``signed``: each tree's literals (``_signed``) by its identity, filled as they are met."""
+    mine = _literals(node, signed)
     if not mine:
         return True
     for row, col in ((cell.row - 1, cell.col), (cell.row, cell.col - 1)):
         other = parsed.get((cell.sheet, row, col))
-        if other is not None and tuple(_signed(other, 1.0)) == mine:
+        if other is not None and _literals(other, signed) == mine:
             return True
     return False
+
+
+def _literals(
+    node: Node, signed: dict[int, tuple[tuple[float, float], ...]]
+) -> tuple[tuple[float, float], ...]:
+    found = signed.get(id(node))
+    if found is None:
+        found = signed[id(node)] = tuple(_signed(node, 1.0))
+    return found
 
 
 def attach_by_value(
