@@ -94,6 +94,8 @@ class HandbuiltFinder:
         self._values: dict[Ref, list[object] | None] = {}
         self._numbers: dict[Ref, Numbers | None] = {}
         self._moments: dict[tuple[Ref, Ref], Moments | None] = {}
+        self._pairs: dict[tuple[Ref, ...], list[tuple[Ref, Ref]]] = {}
+        self._names: dict[str, str | None] = {}  # a sheet as spelt -> the workbook's spelling
 
     # -- what a formula reads ---------------------------------------------------------------
     def refs(self, key: Key) -> list[Ref]:
@@ -148,8 +150,12 @@ class HandbuiltFinder:
                 out.add_vector(Ref(a.sheet, a.r1, a.c1, b.r1, b.c1))
 
     def _key(self, sheet: str, row: int, col: int) -> Key | None:
-        found = self.workbook.sheet(sheet)
-        return (found.name, row, col) if found is not None else None
+        names = self._names
+        if sheet not in names:
+            found = self.workbook.sheet(sheet)
+            names[sheet] = found.name if found is not None else None
+        name = names[sheet]
+        return (name, row, col) if name is not None else None
 
     # -- values -----------------------------------------------------------------------------
     def values(self, ref: Ref) -> list[object] | None:
@@ -200,13 +206,20 @@ class HandbuiltFinder:
 
     # -- the test ---------------------------------------------------------------------------
     def candidate_pairs(self, reach: Reach) -> list[tuple[Ref, Ref]]:
-        vectors = reach.vectors[:MAX_VECTORS]
-        out = []
-        for y, x in permutations(vectors, 2):
-            same_shape = (y.rows, y.cols) == (x.rows, x.cols)
-            if same_shape and not overlaps(y, x) and not self.derived(y, x):
-                out.append((y, x))
-        return out
+        """The ordered pairs of equal shape among the first vectors, neither computed from the
+        other; found once per list of vectors (a column of formulas reads the same ones: the
+        answer depends on the vectors only, what the formulas read being fixed)."""
+        vectors = tuple(reach.vectors[:MAX_VECTORS])
+        found = self._pairs.get(vectors)
+        if found is None:
+            found = self._pairs[vectors] = [
+                (y, x)
+                for y, x in permutations(vectors, 2)
+                if (y.rows, y.cols) == (x.rows, x.cols)
+                and not overlaps(y, x)
+                and not self.derived(y, x)
+            ]
+        return list(found)
 
     def derived(self, y: Ref, x: Ref) -> bool:
         """y computed from x (fitted values, residuals, offsets y − b·x), or x from y: such a
