@@ -29,6 +29,7 @@ from auditor.formula.nodes import (
     Unary,
     _gather,
     children,
+    remember_moved_from,
     remember_references,
 )
 from auditor.formula.parser import _Context, _parse_now
@@ -97,6 +98,7 @@ class MovedTree:
                 values.append(_made(kind, payload, parts))
         node = values[0]
         slots = self.slots
+        remember_moved_from(node, self)
         remember_references(
             node,
             tuple(moved[s].ref if type(s) is int else s for s in slots),  # type: ignore[misc]

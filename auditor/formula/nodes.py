@@ -188,5 +188,20 @@ def remember_references(node: Node, found: tuple[Ref, ...]) -> None:
     object.__setattr__(node, _KEPT, found)
 
 
+_SHAPE = "_moved_from"
+
+
+def moved_from(node: Node) -> object | None:
+    """What a tree moved from a shared anchor (auditor.formula.moved) was made by: trees with
+    the same maker differ only in their references' rows and columns, so anything found from
+    the rest of the tree (its literals, its calls' names) is the same for all of them. None
+    for any other tree."""
+    return node.__dict__.get(_SHAPE)
+
+
+def remember_moved_from(node: Node, maker: object) -> None:
+    object.__setattr__(node, _SHAPE, maker)
+
+
 def calls(node: Node) -> list[Call]:
     return _gather(node, Call)  # type: ignore[return-value]

@@ -6,6 +6,7 @@ import math
 from collections.abc import Iterator
 from dataclasses import dataclass
 
+from auditor.formula.nodes import moved_from
 from auditor.formula.syntax import Binary, Node, Number, Unary, children
 from auditor.locate.spec import RegressionSpec
 from auditor.locate.trendline_figures import (
@@ -54,7 +55,9 @@ def literals_of(
 ) -> list[Literal]:
     """Constants typed in cells (outside the data) and number literals inside formulas."""
     found: list[Literal] = []
-    signed: dict[int, tuple[tuple[float, float], ...]] = {}  # by tree: each is asked up to 3 times
+    signed: dict[
+        object, tuple[tuple[float, float], ...]
+    ] = {}  # by tree: each is asked up to 3 times
     for sheet in workbook.sheets.values():
         lowered = sheet.name.lower()
         for (row, col), cell in sheet.cells.items():
@@ -69,7 +72,9 @@ def literals_of(
             node = parsed.get((cell.sheet, cell.row, cell.col))
             if node is None or _continues_copy(parsed, cell, node, signed):
                 continue
-            found.extend(Literal(cell, typed, value, True) for typed, value in signed[id(node)])
+            found.extend(
+                Literal(cell, typed, value, True) for typed, value in _literals(node, signed)
+            )
     return found
 
 
@@ -98,7 +103,7 @@ def _continues_copy(
     parsed: dict[FollowKey, Node],
     cell: Cell,
     node: Node,
-    signed: dict[int, tuple[tuple[float, float], ...]],
+    signed: dict[object, tuple[tuple[float, float], ...]],
 ) -> bool:
     """The formula repeats the literals of the cell above (or to the left): a copied block.
     ``signed``: each tree's literals (``_signed``) by its identity, filled as they are met."""
@@ -113,11 +118,14 @@ def _continues_copy(
 
 
 def _literals(
-    node: Node, signed: dict[int, tuple[tuple[float, float], ...]]
+    node: Node, signed: dict[object, tuple[tuple[float, float], ...]]
 ) -> tuple[tuple[float, float], ...]:
-    found = signed.get(id(node))
+    """``_signed`` of the tree, kept by its identity, or by its maker for a tree moved from a
+    shared anchor (references give no literal: the moved trees of one anchor give the same)."""
+    key = moved_from(node) or id(node)
+    found = signed.get(key)
     if found is None:
-        found = signed[id(node)] = tuple(_signed(node, 1.0))
+        found = signed[key] = tuple(_signed(node, 1.0))
     return found
 
 

@@ -78,7 +78,8 @@ def _shape(node: Node) -> list[tuple[object, ...]]:
     out: list[tuple[object, ...]] = []
     for each in walk(node):
         own = {k: v for k, v in vars(each).items() if k not in ("args", "left", "right")}
-        own.pop("_references", None)  # kept on a tree once asked for: not a field
+        own.pop("_references", None)  # kept on a tree once asked for: not fields
+        own.pop("_moved_from", None)
         own.pop("operand", None)
         if isinstance(each, ArrayNode):
             own = {"shape": [len(row) for row in each.rows]}
