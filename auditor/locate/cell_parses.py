@@ -35,6 +35,7 @@ if TYPE_CHECKING:
     from auditor.read.workbook import Cell, Workbook
 
 _CELL = re.compile(r"(\$?)([A-Z]{1,3})(\$?)(\d+)")
+_PROMOTED = ("", 0, 0)  # a skeleton whose first cell's shape is in the shapes already
 
 
 def shape(text: str, row: int, col: int) -> str | None:
@@ -64,6 +65,8 @@ class CellParses:
         # by (sheet, shape): the first cell's (text, row, col), then its group and tree (None:
         # the first cell's parse cannot be moved)
         self._shapes: dict[tuple[str, str], tuple[str, int, int] | _Anchored | None] = {}
+        # by (sheet, skeleton): the first cell's (text, row, col), until a second comes
+        self._skeletons: dict[tuple[str, str], tuple[str, int, int]] = {}
 
     def parse(self, cell: Cell, text: str) -> Node:
         node = self.cache.get((text, cell.sheet))
@@ -89,10 +92,20 @@ class CellParses:
     def _by_shape(self, cell: Cell, text: str) -> Node:
         if templates.template(text) is not None:
             return parse(text, cell.sheet, self.workbook)  # parsed on another sheet: rebound
-        form = shape(text, cell.row, cell.col)
-        if form is None:
-            return parse(text, cell.sheet, self.workbook)
-        key = (cell.sheet, form)
+        # The text with its references blanked, in one pass of the pattern: until a second
+        # formula of the sheet blanks the same, no shape is worked out (a sheet of formulas
+        # each of its own kind costs no more than that pass).
+        skeleton = _CELL.sub("\0", text)
+        if skeleton == text:
+            return parse(text, cell.sheet, self.workbook)  # no cell named: its text is its shape
+        mine = (text, cell.row, cell.col)
+        first = self._skeletons.setdefault((cell.sheet, skeleton), mine)
+        if first is mine:
+            return parse(text, cell.sheet, self.workbook)  # the first of its skeleton
+        if first is not _PROMOTED:  # the second: the first's shape is known from now on
+            self._skeletons[(cell.sheet, skeleton)] = _PROMOTED
+            self._shapes.setdefault((cell.sheet, shape(*first) or ""), first)
+        key = (cell.sheet, shape(text, cell.row, cell.col) or "")
         if key not in self._shapes:
             self._shapes[key] = (text, cell.row, cell.col)  # the first of its shape
             return parse(text, cell.sheet, self.workbook)

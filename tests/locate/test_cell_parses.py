@@ -107,3 +107,18 @@ def test_a_text_parsed_on_another_sheet_is_rebound() -> None:
         "*", RefNode(Ref("T", 2, 2, 2, 2)), Number(2.0)
     )
     assert ("T", "=<-1,0>*2") not in parses._shapes  # the template served
+
+
+def test_formulas_alike_but_for_their_references() -> None:
+    """Texts that differ only where they name cells, in two shapes: each shape's first cell
+    anchors the cells of its own shape only."""
+    workbook = Workbook("mem.xlsx", "", {"S": Sheet("S", max_row=40, max_col=6)}, [], True)
+    parses = CellParses(workbook)
+    texts = {2: "=B2*$A$1", 3: "=B3*$A$2", 4: "=B4*$A$1", 5: "=B5*$A$2", 6: "=B6*$A$1"}
+    for row, text in texts.items():
+        assert _shape(parses.parse(Cell("S", row, 3, None, text), text)) == _anew(
+            text, "S", workbook
+        )
+    assert isinstance(parses._shapes[("S", "=<-1,0>*<$A,$1>")], _Anchored)
+    assert isinstance(parses._shapes[("S", "=<-1,0>*<$A,$2>")], _Anchored)
+    assert parses._shapes[("S", "=<-1,0>*<$A,$1>")].group.row == 2  # type: ignore[union-attr]
