@@ -10,6 +10,7 @@ at the precision it was typed to, like any typed figure.
 
 from __future__ import annotations
 
+from auditor.formula.nodes import moved_from
 from auditor.formula.syntax import Binary, Node, Number, Ref, references, walk
 from auditor.locate.handbuilt_specs import attach
 from auditor.locate.spec import RegressionSpec, StatCell
@@ -67,7 +68,9 @@ def attach_typed_copies(
     workbook: Workbook, parsed: dict[Key, Node], specs: list[RegressionSpec]
 ) -> None:
     """Attach to each one-x regression the first cell typing each copy of its slope."""
-    cache: dict[Key, list[float]] = {}  # factors of each formula, found once for all specs
+    # The factors of each formula, found once for all specs; once for all the formulas moved
+    # from one shared anchor (they differ in their references only: nodes.moved_from).
+    cache: dict[object, list[float]] = {}
     formulas: list[tuple[str, Key, Node]] | None = None  # with each sheet's name lowered once
     for spec in specs:
         slopes = _slope_values(spec, workbook.stored_values)
@@ -80,9 +83,10 @@ def attach_typed_copies(
         for lowered, (sheet, row, col), node in formulas:
             if lowered != y_sheet or not spec.y.r1 <= row <= spec.y.r2:
                 continue
-            factors = cache.get((sheet, row, col))
+            maker = moved_from(node) or (sheet, row, col)
+            factors = cache.get(maker)
             if factors is None:
-                factors = cache[(sheet, row, col)] = _factors(node)
+                factors = cache[maker] = _factors(node)
             copies = [
                 f
                 for f in factors

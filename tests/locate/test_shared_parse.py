@@ -31,6 +31,7 @@ from auditor.formula.parser import _Context, _parse_now
 from auditor.locate.cell_parses import CellParses
 from auditor.locate.shared_parse import moved_tree
 from auditor.locate.trendline_values import _signed
+from auditor.locate.typed_copies import _factors
 from auditor.read.shared_formulas import SharedFormula, SharedGroups
 from auditor.read.workbook import Cell, Sheet, Workbook
 from tests.formula.test_templates import _book, _shape
@@ -83,10 +84,11 @@ def test_a_moved_tree_is_the_moved_texts_parse(seed: int) -> None:
             assert _shape(node) == _anew(there, sheet, workbook), (text, row, col, to_row, to_col)
             # The references it carries from its making are those a walk of it finds.
             assert references(node) == [n.ref for n in walk(node) if isinstance(n, RefNode)]
-            # Its maker marks it; the literals (trendline copies key them by maker) are the
-            # anchor's own.
+            # Its maker marks it; the literals and factors (trendline and typed copies key them
+            # by maker) are the anchor's own.
             assert moved_from(node) is tree
             assert list(_signed(node, 1.0)) == list(_signed(tree.node, 1.0))
+            assert _factors(node) == _factors(tree.node)
             compared += 1
     assert moved > 40 and compared > 150, (moved, compared)
 
