@@ -84,8 +84,11 @@ class MovedTree:
         ]
 
     def at(self, row_delta: int, col_delta: int) -> Node:
+        """The tree moved by the offset; it carries its references (``nodes.references``) and
+        names this maker (``nodes.moved_from``): the trees of one maker differ only in the
+        rows and columns of their references."""
         values: list[Node] = []
-        moved: list[RefNode] = [None] * len(self.moving)  # type: ignore[list-item]
+        moved: list[Any] = [None] * len(self.moving)  # each moving reference's new node
         for kind, payload, count in self.program:
             if kind == _CONST:
                 values.append(payload)
@@ -99,10 +102,7 @@ class MovedTree:
         node = values[0]
         slots = self.slots
         remember_moved_from(node, self)
-        remember_references(
-            node,
-            tuple(moved[s].ref if type(s) is int else s for s in slots),  # type: ignore[misc]
-        )
+        remember_references(node, tuple(moved[s].ref if isinstance(s, int) else s for s in slots))
         return node
 
 
