@@ -7,7 +7,8 @@ from typing import TYPE_CHECKING, Any
 
 from auditor.errors import FormulaError
 from auditor.evaluation.evaluator import Evaluator
-from auditor.formula.syntax import Call, Node, Ref, references
+from auditor.formula.nodes import moved_from
+from auditor.formula.syntax import Call, Node, Ref, calls, references
 from auditor.locate.cell_parses import CellParses
 from auditor.locate.formula_dependents import refs_roles, role_of_dependent, stat_addresses
 from auditor.locate.formula_readers import CellReaders
@@ -23,6 +24,7 @@ from auditor.locate.roles import (
 )
 from auditor.locate.spec import (
     MAX_FOLLOW_ROUNDS,
+    PAIR_FUNCS,
     PairUse,
     RegressionSpec,
     StatCell,
@@ -66,7 +68,14 @@ class FormulaLocator:
     # -- formulas ---------------------------------------------------------------------------
     def from_formulas(self, taken: set[str] | None = None) -> list[RegressionSpec]:
         uses: list[PairUse] = []
+        pairless: set[object] = set()  # shared anchors whose moved trees call no pair function
         for key, node in self.parsed.items():
+            maker = moved_from(node)  # its trees have the same calls, but for references
+            if maker is not None and (
+                maker in pairless or PAIR_FUNCS.isdisjoint(c.name for c in calls(node))
+            ):
+                pairless.add(maker)
+                continue
             cell = self.workbook.cell(*key)
             if cell is not None:
                 uses.extend(pair_uses(cell, node))

@@ -23,6 +23,7 @@ from auditor.formula.nodes import (
     Number,
     Ref,
     RefNode,
+    calls,
     moved_from,
     references,
     walk,
@@ -84,11 +85,12 @@ def test_a_moved_tree_is_the_moved_texts_parse(seed: int) -> None:
             assert _shape(node) == _anew(there, sheet, workbook), (text, row, col, to_row, to_col)
             # The references it carries from its making are those a walk of it finds.
             assert references(node) == [n.ref for n in walk(node) if isinstance(n, RefNode)]
-            # Its maker marks it; the literals and factors (trendline and typed copies key them
-            # by maker) are the anchor's own.
+            # Its maker marks it; the literals, factors and call names (the copies and the pair
+            # search key them by maker) are the anchor's own.
             assert moved_from(node) is tree
             assert list(_signed(node, 1.0)) == list(_signed(tree.node, 1.0))
             assert _factors(node) == _factors(tree.node)
+            assert [c.name for c in calls(node)] == [c.name for c in calls(tree.node)]
             compared += 1
     assert moved > 40 and compared > 150, (moved, compared)
 
