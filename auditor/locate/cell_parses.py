@@ -4,8 +4,8 @@ the same (auditor.locate.shared_parse).
 * A cell of a shared-formula group (a column filled down and saved by a spreadsheet
   application) gets its group's anchor's tree, moved to its place.
 * Formulas spelt out cell by cell (a program that writes no shared formulas: ``=B2*2``,
-  ``=B3*2``, …) are one formula in R1C1 terms. The first cell of a shape is parsed as it is;
-  when a second comes, the first becomes the anchor of a shared formula made for it, and each
+  ``=B3*2``, …) are one formula in R1C1 terms. The first cells of a shape are parsed as they
+  are; when a third comes, the first becomes the anchor of a shared formula made for it, and each
   cell whose text is exactly the anchor's moved to its place gets the anchor's tree moved. The
   shape (the text with each cell reference's relative row and column counted from the cell) only
   finds the candidate: the text comparison decides, so two unlike formulas that share a shape
@@ -65,6 +65,7 @@ class CellParses:
         # by (sheet, shape): the first cell's (text, row, col), then its group and tree (None:
         # the first cell's parse cannot be moved)
         self._shapes: dict[tuple[str, str], tuple[str, int, int] | _Anchored | None] = {}
+        self._twice: set[tuple[str, str]] = set()  # shapes met twice, not yet anchored
         # by (sheet, skeleton): the first cell's (text, row, col), until a second comes
         self._skeletons: dict[tuple[str, str], tuple[str, int, int]] = {}
 
@@ -110,7 +111,12 @@ class CellParses:
             self._shapes[key] = (text, cell.row, cell.col)  # the first of its shape
             return parse(text, cell.sheet, self.workbook)
         entry = self._shapes[key]
-        if isinstance(entry, tuple):  # the second: the first becomes the anchor
+        if isinstance(entry, tuple):
+            # Making an anchor costs about two parses: a shape of two cells parses both; from
+            # the third on, the first becomes the anchor.
+            if key not in self._twice:
+                self._twice.add(key)
+                return parse(text, cell.sheet, self.workbook)
             entry = self._shapes[key] = self._anchor(*entry, cell.sheet)
         if isinstance(entry, _Anchored):
             group, tree = entry.group, entry.tree

@@ -15,12 +15,19 @@ import random
 import pytest
 
 from auditor.errors import FormulaError
-from auditor.formula.nodes import Binary, Number, Ref, RefNode
+from auditor.formula import templates
+from auditor.formula.nodes import Binary, Number, Ref, RefNode, moved_from
 from auditor.locate.cell_parses import CellParses, _Anchored, shape
 from auditor.read.shared_formulas import SharedFormula
 from auditor.read.workbook import Cell, Sheet, Workbook
 from tests.formula.test_templates import _book, _shape
 from tests.locate.test_shared_parse import _anew, _texts
+
+
+@pytest.fixture(autouse=True)
+def _no_templates() -> None:
+    """A text parsed on another sheet by an earlier test is rebound, not moved: start clean."""
+    templates.clear()
 
 
 def test_the_shape_of_a_formula() -> None:
@@ -64,10 +71,14 @@ def test_a_column_spelt_out() -> None:
     parses = CellParses(workbook)
     for row in range(2, 30):
         text = f"=B{row}*2"
-        assert parses.parse(Cell("S", row, 3, None, text), text) == Binary(
-            "*", RefNode(Ref("S", row, 2, row, 2)), Number(2.0)
-        )
+        node = parses.parse(Cell("S", row, 3, None, text), text)
+        assert node == Binary("*", RefNode(Ref("S", row, 2, row, 2)), Number(2.0))
+        # The first two are parsed as they are; the first anchors the rest.
+        assert (moved_from(node) is None) is (row < 4)
     assert isinstance(parses._shapes[("S", "=<-1,0>*2")], _Anchored)
+    for row in (2, 3):  # a shape of two cells: both parsed, no anchor made
+        parses.parse(Cell("S", row, 6, None, f"=B{row}+1"), f"=B{row}+1")
+    assert parses._shapes[("S", "=<-4,0>+1")] == ("=B2+1", 2, 6)
     # A shape whose first cell cannot be moved as a block (a whole column moves with it):
     # each cell parsed from its own text.
     for row in range(2, 5):
@@ -90,7 +101,7 @@ def test_texts_of_a_shape_that_are_not_its_formula() -> None:
             text, "S", workbook
         )
     assert isinstance(parses._shapes[("S", "=b1+<-1,0>")], _Anchored)
-    for row in (2, 3):
+    for row in (2, 3, 4):
         text = f"=A{row})"
         with pytest.raises(FormulaError):
             parses.parse(Cell("S", row, 3, None, text), text)
@@ -111,10 +122,11 @@ def test_a_text_parsed_on_another_sheet_is_rebound() -> None:
 
 def test_formulas_alike_but_for_their_references() -> None:
     """Texts that differ only where they name cells, in two shapes: each shape's first cell
-    anchors the cells of its own shape only."""
+    anchors the cells of its own shape only (from the shape's third cell on)."""
     workbook = Workbook("mem.xlsx", "", {"S": Sheet("S", max_row=40, max_col=6)}, [], True)
     parses = CellParses(workbook)
     texts = {2: "=B2*$A$1", 3: "=B3*$A$2", 4: "=B4*$A$1", 5: "=B5*$A$2", 6: "=B6*$A$1"}
+    texts |= {7: "=B7*$A$2", 8: "=B8*$A$2"}
     for row, text in texts.items():
         assert _shape(parses.parse(Cell("S", row, 3, None, text), text)) == _anew(
             text, "S", workbook
