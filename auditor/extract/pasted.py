@@ -22,24 +22,23 @@ def pasted_points(
     by_rows = spec.y.r1 == spec.y.r2 and spec.y.c2 > spec.y.c1
     points: list[DataPoint] = []
     dropped: list[tuple[str, str]] = []
-    keep = []
-    for i in range(len(y)):
-        xs = [float(v) for v in x[i]]
-        used = math.isfinite(float(y[i])) and all(math.isfinite(v) for v in xs)
+    # Whole arrays judged at once, then each row's numbers as Python floats (one C call).
+    keep = np.isfinite(y) & np.isfinite(x).all(axis=1)
+    for i, (xs, y_value, used) in enumerate(
+        zip(x.tolist(), y.tolist(), keep.tolist(), strict=True)
+    ):
         row = spec.y.r1 if by_rows else spec.y.r1 + i
         points.append(
             DataPoint(
                 row,
                 [v if math.isfinite(v) else None for v in xs],
-                float(y[i]) if math.isfinite(float(y[i])) else None,
+                y_value if math.isfinite(y_value) else None,
                 used,
                 used,
                 "" if used else "not a number now",
             )
         )
-        keep.append(used)
         if not used:
             col = spec.y.c1 + i if by_rows else spec.y.c1
             dropped.append((f"{spec.y.sheet}!{column_letter(col)}{row}", "not a number now"))
-    mask = np.array(keep, dtype=bool)
-    return x[mask].reshape(-1, x.shape[1]), y[mask], points, dropped
+    return x[keep].reshape(-1, x.shape[1]), y[keep], points, dropped
