@@ -26,7 +26,7 @@ from auditor.report.common import (
     status_counts,
 )
 from auditor.report.evidence_words import evidence_words
-from auditor.report.html_plots import regression_svg
+from auditor.report.html_many import draw_plots
 from auditor.report.verdicts import row_verdict
 
 STYLE = """
@@ -169,9 +169,8 @@ def _three_values(regression: RegressionResult) -> str:
     )
 
 
-def _regression_section(regression: RegressionResult) -> list[str]:
+def _regression_section(regression: RegressionResult, plot: str) -> list[str]:
     title = regression.id + (f": {regression.label}" if regression.label else "")
-    plot = regression_svg(regression)
     return [
         f'<h3 id="{_anchor(regression)}">{escape(title)} <span class="muted">'
         f"({escape(regression.x_range)} → {escape(regression.y_range)}, n = {regression.n})"
@@ -184,6 +183,8 @@ def _regression_section(regression: RegressionResult) -> list[str]:
 def render_html(result: AuditResult) -> str:
     shown = short_paths(result)
     body = _header(result) + _not_audited(result)
+    shown_workbooks = [w for w in result.workbooks if w.status != "unreadable"]
+    plots = iter(draw_plots([r for w in shown_workbooks for r in w.regressions]))
     for workbook in result.workbooks:
         if workbook.status == "unreadable":
             continue
@@ -199,7 +200,7 @@ def render_html(result: AuditResult) -> str:
         findings = sort_findings(workbook.all_findings())
         body += [_finding(f) for f in findings] or ['<p class="muted">No findings.</p>']
         for regression in workbook.regressions:
-            body += _regression_section(regression)
+            body += _regression_section(regression, next(plots))
     body.append(f'<p class="caution">{escape(CAUTION)}</p>')
     return (
         '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'

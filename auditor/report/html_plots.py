@@ -29,6 +29,11 @@ CARRIER = "#8e2c48"
 NEEDED = "#2e7d4f"
 
 
+def prepare_pyplot() -> None:
+    """Import and set up matplotlib (before forking copies that draw: see ``html_many``)."""
+    _pyplot()
+
+
 def _pyplot() -> Any:
     import matplotlib
 
