@@ -27,6 +27,8 @@ from auditor.fit.ols import FitResult
 
 # Leverage within this of 1: the point is the only one away from the others' common x.
 LEVERAGE_ONE = 1e-9
+# Points taken at a time by leave_one_out (its temporaries are arrays of this many).
+CHUNK = 1 << 16
 
 
 @dataclass(frozen=True)
@@ -49,18 +51,28 @@ def leave_one_out(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Per observation: slope, SE, t and two-sided p with it left out (NaN where undefined)."""
     n = x.size
-    e, h = fit.residuals, fit.leverage
-    centred = x - fit.x_mean if fit.intercept else x
     df = fit.df - 1
-    keep = h < 1.0 - LEVERAGE_ONE
+    keep = fit.leverage < 1.0 - LEVERAGE_ONE
     if df < 1 or not keep.any():
         return np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
     factor = n / (n - 1) if fit.intercept else 1.0
-    if keep.all():  # the usual case: no point of leverage 1, nothing to select
-        return _without_each(centred, e, 1.0 - h, factor, fit, df)
-    slope, se, t, p = (np.full(n, np.nan) for _ in range(4))
-    kept = _without_each(centred[keep], e[keep], 1.0 - h[keep], factor, fit, df)
-    slope[keep], se[keep], t[keep], p[keep] = kept
+    out = tuple(np.empty(n) for _ in range(4))
+    if not keep.all():  # a point of leverage 1 cannot be left out: NaN there
+        for array in out:
+            array[~keep] = np.nan
+    # Piece by piece: every step is element by element (the same numbers as whole arrays, bit
+    # for bit), and a million rows need a dozen temporary arrays of a piece, not of n (95 MB).
+    for start in range(0, n, CHUNK):
+        stop = min(start + CHUNK, n)
+        part = keep[start:stop]
+        whole = bool(part.all())  # the usual case: no point of leverage 1, nothing to select
+        pick = slice(None) if whole else part
+        centred = x[start:stop] - fit.x_mean if fit.intercept else x[start:stop]
+        e, h = fit.residuals[start:stop], fit.leverage[start:stop]
+        kept = _without_each(centred[pick], e[pick], 1.0 - h[pick], factor, fit, df)
+        for array, values in zip(out, kept, strict=True):
+            array[start:stop][pick] = values
+    slope, se, t, p = out
     return slope, se, t, p
 
 

@@ -203,6 +203,7 @@ def _fill_simple(
     shares = centred * centred / fit.sxx
     top = int(np.argmax(shares))
     metrics.max_sxx_share, metrics.max_sxx_share_row = float(shares[top]), rows[top]
+    del centred, shares  # arrays of n: not held through the leave-one-out below
     bound = policy.find("max_leverage")
     multiple = policy.find("leverage_multiple")
     candidates = [b for b in (bound, multiple * parameters / metrics.n if multiple else None) if b]
