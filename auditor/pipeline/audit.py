@@ -33,6 +33,7 @@ from auditor.model import DataPoint, Finding, RegressionResult, WorkbookResult
 from auditor.pipeline.collector import paused
 from auditor.pipeline.inputs import scan_inputs
 from auditor.pipeline.isolate import guarded, unverifiable_regression
+from auditor.pipeline.shared_floats import shared_floats
 from auditor.policy import Policy
 from auditor.read.open import read_workbook, sha256_of
 from auditor.read.workbook import Workbook
@@ -133,8 +134,9 @@ def _annotate_points(points: list[DataPoint], fit: FitResult) -> None:
     if len(fit.fitted) != len(used):
         return  # the fit is undefined (too few points, constant x): nothing to attach
     # tolist() gives the same Python floats as float() of each element, in one C call.
-    fitted, residuals = fit.fitted.tolist(), fit.residuals.tolist()
-    leverage = fit.leverage.tolist() if len(fit.leverage) else [None] * len(used)
+    # The fitted values and leverages (functions of x alone, which repeats) share their floats.
+    fitted, residuals = shared_floats(fit.fitted), fit.residuals.tolist()
+    leverage = shared_floats(fit.leverage) if len(fit.leverage) else [None] * len(used)
     for point, value, residual, weight in zip(used, fitted, residuals, leverage, strict=True):
         point.fitted, point.residual, point.leverage = value, residual, weight
     if len(fit.cooks_distance):
