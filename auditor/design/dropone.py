@@ -50,13 +50,26 @@ def leave_one_out(
     x: np.ndarray, fit: FitResult
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Per observation: slope, SE, t and two-sided p with it left out (NaN where undefined)."""
+    slope, se, t, p = _left_out(x, fit, (0, 1, 2, 3))
+    return slope, se, t, p
+
+
+def slopes_and_p_without(x: np.ndarray, fit: FitResult) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`leave_one_out`'s slope and p alone (what the drop-one summary reads): two arrays
+    of n kept rather than four."""
+    slope, p = _left_out(x, fit, (0, 3))
+    return slope, p
+
+
+def _left_out(x: np.ndarray, fit: FitResult, wanted: tuple[int, ...]) -> list[np.ndarray]:
+    """Of slope, SE, t and p without each observation, those at the positions ``wanted``."""
     n = x.size
     df = fit.df - 1
     keep = fit.leverage < 1.0 - LEVERAGE_ONE
     if df < 1 or not keep.any():
-        return np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
+        return [np.full(n, np.nan) for _ in wanted]
     factor = n / (n - 1) if fit.intercept else 1.0
-    out = tuple(np.empty(n) for _ in range(4))
+    out = [np.empty(n) for _ in wanted]
     if not keep.all():  # a point of leverage 1 cannot be left out: NaN there
         for array in out:
             array[~keep] = np.nan
@@ -70,10 +83,9 @@ def leave_one_out(
         centred = x[start:stop] - fit.x_mean if fit.intercept else x[start:stop]
         e, h = fit.residuals[start:stop], fit.leverage[start:stop]
         kept = _without_each(centred[pick], e[pick], 1.0 - h[pick], factor, fit, df)
-        for array, values in zip(out, kept, strict=True):
-            array[start:stop][pick] = values
-    slope, se, t, p = out
-    return slope, se, t, p
+        for array, index in zip(out, wanted, strict=True):
+            array[start:stop][pick] = kept[index]
+    return out
 
 
 def _without_each(
@@ -111,14 +123,14 @@ def drop_one(
     fit: FitResult,
     rows: Rows,
     alpha: float,
-    left_out: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None = None,
+    left_out: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> DropOne | None:
     """How far the slope and p move when any one observation is left out (``left_out``: what
-    :func:`leave_one_out` gave, when the caller has it already)."""
+    :func:`slopes_and_p_without` gave, when the caller has it already)."""
     del y  # the residuals of the fit carry what is needed
     if fit.df < 2 or len(fit.residuals) != x.size:
         return None
-    slope, _, _, p = left_out if left_out is not None else leave_one_out(x, fit)
+    slope, p = left_out if left_out is not None else slopes_and_p_without(x, fit)
     h = fit.leverage
     undefined = [rows[i] for i in np.flatnonzero(h >= 1.0 - LEVERAGE_ONE).tolist()]
     finite_p = np.isfinite(p)

@@ -20,7 +20,7 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
-from auditor.design.dropone import DropOne, drop_one, leave_one_out
+from auditor.design.dropone import DropOne, drop_one, slopes_and_p_without
 from auditor.design.inputs import DesignInputs, Prediction
 from auditor.design.lackfit import (
     LackOfFit,
@@ -215,9 +215,9 @@ def _fill_simple(
     metrics.ci_half_width = (metrics.ci_high - metrics.ci_low) / 2.0
     alpha, power = policy.alpha, policy.get("power")
     metrics.min_detectable_slope = min_detectable_slope(s, sxx, df, alpha, power)
-    left_out = leave_one_out(x, fit)  # once, for the drop-one summary and the top share
+    left_out = slopes_and_p_without(x, fit)  # once, for the drop-one summary and the top share
     metrics.drop = drop_one(x, y, fit, rows, alpha, left_out)
-    slopes_without, _, _, p_without = left_out
+    slopes_without, p_without = left_out
     metrics.top_share_slope_without = _finite(slopes_without[top])
     metrics.top_share_p_without = _finite(p_without[top])
     if designed_replicates(x, counted):  # coincidental ties are no pure error

@@ -95,3 +95,18 @@ def test_pieces_of_any_size_give_the_selection(
     got, want = leave_one_out(x, fit), selected(x, fit)
     for a, b in zip(got, want, strict=True):
         assert a.tobytes() == b.tobytes()
+
+
+@pytest.mark.parametrize("seed", range(0, 60, 2))
+def test_slopes_and_p_alone_are_leave_one_out_s(seed: int, monkeypatch: pytest.MonkeyPatch) -> None:
+    """What the design metrics keep (slope and p without each point) is leave_one_out's slope and
+    p, bit for bit, in pieces or whole."""
+    monkeypatch.setattr(dropone, "CHUNK", 1 + seed % 9)
+    x, y, intercept = _cases(seed)
+    fit = fit_ols(x, y, intercept=intercept)
+    if fit.status != "ok" and len(fit.residuals) != x.size:
+        return
+    slope, _, _, p = selected(x, fit)
+    got_slope, got_p = dropone.slopes_and_p_without(x, fit)
+    assert got_slope.tobytes() == slope.tobytes()
+    assert got_p.tobytes() == p.tobytes()
