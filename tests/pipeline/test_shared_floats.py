@@ -1,7 +1,6 @@
 """shared_floats gives what ``tolist()`` gives, value for value and sign for sign, with equal
 values as one object when they repeat; checked against plain ``tolist()`` on generated arrays
-of every kind (few levels, all distinct, signed zeros, NaN and infinities, small, pieces that
-give sharing up part way)."""
+of every kind (few levels, all distinct, signed zeros, NaN and infinities, small)."""
 
 from __future__ import annotations
 
@@ -39,36 +38,45 @@ def _array(seed: int) -> np.ndarray:
         if n:
             values[rng.integers(0, n)] = rng.choice([np.nan, np.inf, -np.inf])
         return values
-    if kind == 4:  # repeated at first, distinct later: sharing given up part way
+    if kind == 4:  # repeated at first, distinct later
         values = rng.normal(size=n)
         values[: n // 3] = 1.5
         return values
     return np.round(rng.uniform(-50, 50, n), 3)  # measurements of three decimals
 
 
-@pytest.mark.parametrize("piece", [7, 1 << 16])
-@pytest.mark.parametrize("seed", range(24))
-def test_the_values_are_tolist_s(seed: int, piece: int, monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setattr(module, "PIECE", piece)
+@pytest.mark.parametrize("seed", range(36))
+def test_the_values_are_tolist_s(seed: int, monkeypatch: pytest.MonkeyPatch) -> None:
     monkeypatch.setattr(module, "SHARED_FROM", 16)
     values = _array(seed)
     _same(shared_floats(values), values.tolist())
 
 
-def test_repeated_values_share_one_object() -> None:
+def test_repeated_values_share_one_object(monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr(module, "SHARED_FROM", 16)
     values = np.tile(np.array([0.1, 0.2, 0.3]), 10_000)
     got = shared_floats(values)
     assert got == values.tolist()
     assert len({id(v) for v in got}) == 3
 
 
-def test_signed_zeros_are_kept_apart() -> None:
+def test_signed_zeros_are_kept_apart(monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr(module, "SHARED_FROM", 16)
     values = np.array([0.0, -0.0] * 5_000)
     got = shared_floats(values)
     assert [math.copysign(1, v) for v in got[:4]] == [1.0, -1.0, 1.0, -1.0]
 
 
-def test_distinct_values_give_sharing_up() -> None:
-    values = np.arange(200_000, dtype=float) / 7.0
+def test_distinct_values_stay_in_order(monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr(module, "SHARED_FROM", 16)
+    values = np.arange(200_000, dtype=float)[::-1] / 7.0
     got = shared_floats(values)
     assert got == values.tolist()
+
+
+def test_below_the_threshold_the_floats_are_tolist_s_own() -> None:
+    """A table below SHARED_FROM values keeps tolist()'s floats: one object per value."""
+    values = np.tile(np.array([0.1, 0.2]), 1_000)
+    got = shared_floats(values)
+    assert got == values.tolist()
+    assert len({id(v) for v in got}) == values.size
