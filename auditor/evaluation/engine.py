@@ -8,7 +8,6 @@ Blocks read for references are cached unless they were read in the middle of a c
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from itertools import repeat
 from operator import attrgetter
 from typing import Any
@@ -19,6 +18,8 @@ from auditor.errors import FormulaError, Unsupported, Unverifiable
 from auditor.evaluation.coerce import _constant, _result, constants
 from auditor.evaluation.column_reads import IndexedColumns
 from auditor.evaluation.expressions import LONG_WAY, ExpressionEvaluator
+from auditor.evaluation.failed import Failed as _Failed
+from auditor.evaluation.failed import failed as _failed
 from auditor.evaluation.formula_index import FormulaIndex
 from auditor.evaluation.layout import FormulaLayout, _Key
 from auditor.evaluation.values import (
@@ -44,13 +45,6 @@ class _Defer(Exception):
     def __init__(self, key: tuple[str, int, int]) -> None:
         super().__init__(key)
         self.key = key
-
-
-@dataclass(frozen=True)
-class _Failed:
-    """A cell whose formula could not be evaluated; reading it re-raises."""
-
-    error: Exception
 
 
 class Evaluator(ExpressionEvaluator):
@@ -271,7 +265,7 @@ class Evaluator(ExpressionEvaluator):
                     ctx = _Ctx(sheet, row, col)
                     value = self._final(self._eval(node, ctx), ctx)
         except (Unsupported, FormulaError) as exc:
-            value = _Failed(exc)
+            value = _failed(exc)
         except RecursionError:
             where = f"{sheet}!{column_letter(col)}{row}"
             value = _Failed(Unsupported(f"the formula in {where} nests too deeply to evaluate"))
