@@ -15,6 +15,7 @@ from auditor.locate.formula_readers import CellReaders
 from auditor.locate.formula_reads import FormulaReads
 from auditor.locate.grid_labels import statistic_label
 from auditor.locate.grouping import PairGroups, adopt_strays, correlation_only, primary_pair
+from auditor.locate.parsed_order import ParsedOrder
 from auditor.locate.roles import (
     linest_block_role,
     linest_index_role,
@@ -53,6 +54,7 @@ class FormulaLocator:
         self._refs_by_key: dict[Key, list[Ref]] = {}
         self._readers: CellReaders | None = None
         self._reads: FormulaReads | None = None  # what reads the data, once all are parsed
+        self._order: ParsedOrder | None = None  # the parsed formulas' positions, once parsed
         parses = CellParses(workbook)
         for cell in workbook.formula_cells():
             try:
@@ -220,15 +222,20 @@ class FormulaLocator:
         if self._reads is None:
             self._reads = FormulaReads(self._refs_by_key)
         data_readers = self._reads.readers(data, sheets)
+        order = self._order = self._order or ParsedOrder(self.parsed)
         for _ in range(MAX_FOLLOW_ROUNDS):
             added = False
             known = stat_addresses(spec)  # again after each statistic attached
             stat_readers = self._stat_readers(spec, known)
-            for key, node in self.parsed.items():
+            # The formulas reading the statistics or the data, in the parsed order.
+            pending, next_one = order.after(stat_readers | data_readers, -1), 0
+            while next_one < len(pending):
+                position = pending[next_one]
+                next_one += 1
+                key = order.keys[position]
+                node = self.parsed[key]
                 if key in taken or key in self.anchor_cells:
                     continue  # another regression's own call is never a dependent of this one
-                if key not in stat_readers and key not in data_readers:
-                    continue  # reads neither the statistics nor the data
                 cell = self.workbook.cell(*key)
                 if cell is None:
                     continue
@@ -254,6 +261,7 @@ class FormulaLocator:
                     self._put(spec, role, StatCell(role, cell, "formula"))
                     known = stat_addresses(spec)
                     stat_readers = self._stat_readers(spec, known)
+                    pending, next_one = order.after(stat_readers | data_readers, position), 0
                     added = True
             if not added:
                 break
