@@ -146,6 +146,13 @@ def _phrase_after(text: str, end: int) -> str:
 
 def read_statement(text: str, cell: str, rate: bool) -> Statement | None:
     """The roles one text gives: a rate (``y per x``) in a statistic's label, or a title."""
+    said = _roles_said(text, rate)
+    return None if said is None else Statement(text, cell, "rate" if rate else "title", *said)
+
+
+@lru_cache(maxsize=8192)  # a sheet's title and name are read again for each of its regressions
+def _roles_said(text: str, rate: bool) -> tuple[frozenset[str], frozenset[str]] | None:
+    """(y words, x words) of :func:`read_statement`, wherever the text sits."""
     if len(text) > MAX_WORDS:
         return None
     pattern = _RATE if rate else _TITLE
@@ -157,7 +164,7 @@ def read_statement(text: str, cell: str, rate: bool) -> Statement | None:
     x_words = tokens(_phrase_after(padded, match.end()))
     if not (y_words or x_words):
         return None
-    return Statement(text, cell, "rate" if rate else "title", y_words, x_words)
+    return y_words, x_words
 
 
 _BRACKETED = re.compile(r"[(\[]([^()\[\]]+)[)\]]")

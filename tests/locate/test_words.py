@@ -197,3 +197,14 @@ def test_a_row_of_units_under_the_names_is_read_with_them(tmp_path: Path) -> Non
     assert load is not None and fuel is not None
     assert (load.text, load.words, load.cell) == ("Load (t)", {"load", "t"}, "Log!A2")
     assert (fuel.text, fuel.words) == ("Fuel [L]", {"fuel", "l"})
+
+
+def test_a_statement_read_again_elsewhere_names_its_own_cell() -> None:
+    """The words of a text are read once (memoised); each statement keeps the cell it is in."""
+    first = read_statement("Slope (NTU per L/s)", "Fit!D1", rate=True)
+    again = read_statement("Slope (NTU per L/s)", "Other!B9", rate=True)
+    assert first is not None and again is not None
+    assert (first.cell, again.cell) == ("Fit!D1", "Other!B9")
+    assert first.y_words == again.y_words == frozenset({"ntu"})
+    assert first.x_words == again.x_words == frozenset({"l/s"})
+    assert read_statement("Slope (NTU per L/s)", "Fit!D1", rate=False) is None  # no title
