@@ -52,6 +52,15 @@ def results_from_ledger(
     return found, missing
 
 
+def _html_hint(points: str) -> str:
+    if points != "all":
+        return ""
+    return (
+        "; review.html plots every regression, so the audit must have kept every data point: "
+        "give that audit the html format too (--format json,text,xlsx,html)"
+    )
+
+
 def write_record(
     inputs: list[str],
     out_dir: Path,
@@ -87,7 +96,7 @@ def write_record(
         raise UsageError(
             f"{len(missing)} file(s) have no audit of their present content under policy "
             f"{policy.name!r} and regaudit {__version__} in {str(ledger_path)!r}: {listed}{more}; "
-            "audit them first (regaudit audit --changed audits only those)"
+            "audit them first (regaudit audit --changed audits only those)" + _html_hint(points)
         )
     result = AuditResult(
         version=__version__,

@@ -8,6 +8,7 @@ import shutil
 import sqlite3
 from pathlib import Path
 
+import pytest
 from openpyxl import load_workbook
 
 from auditor.cli.main import main
@@ -52,3 +53,24 @@ def _detail_sheets(path: Path) -> dict[str, list[tuple[object, ...]]]:
         }
     finally:
         book.close()
+
+
+def test_a_record_with_the_page_needs_an_audit_that_kept_every_point(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    folder = tmp_path / "in"
+    folder.mkdir()
+    shutil.copy(BOOK, folder / "a.xlsx")
+    ledger = ["--ledger", str(tmp_path / "l.sqlite"), *STAMP]
+    assert (
+        main(["audit", str(folder), "--out", str(tmp_path / "o1"), "--fail-on", "never", *ledger])
+        == 0
+    )
+    record = ["record", str(folder), "--out", str(tmp_path / "r"), *ledger]
+    assert main([*record, "--format", "json,html"]) == 2  # the audit kept the clean points out
+    assert "give that audit the html format too" in capsys.readouterr().err
+    assert main([*record, "--format", "json,xlsx"]) == 0  # what that audit's reports showed
+    again = ["audit", str(folder), "--out", str(tmp_path / "o2"), "--changed", "--fail-on", "never"]
+    assert main([*again, "--format", "json,text,xlsx,html", *ledger]) == 0
+    assert main([*record, "--format", "json,html"]) == 0
+    assert (tmp_path / "r" / "review.html").exists()
