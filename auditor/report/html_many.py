@@ -12,6 +12,7 @@ few figures to gain, they are drawn here, one by one.
 from __future__ import annotations
 
 import os
+import signal
 from collections.abc import Sequence
 
 from auditor.model import RegressionResult
@@ -19,6 +20,10 @@ from auditor.report.forked import can_fork
 from auditor.report.html_plots import can_plot, prepare_pyplot, regression_svg
 
 MIN_PER_PROCESS = 4  # fewer figures than this per extra process: starting it costs more
+
+
+def _ignore_interrupts() -> None:
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
 def usable_cores() -> int:
@@ -39,6 +44,8 @@ def draw_plots(regressions: Sequence[RegressionResult], processes: int | None = 
     import multiprocessing  # noqa: PLC0415 (only when drawing in parallel)
 
     prepare_pyplot()  # imported once, here, before the copies are made
-    with multiprocessing.get_context("fork").Pool(wanted) as pool:
+    # Ctrl-C reaches the whole process group: the copies leave it to this process, which stops
+    # them (leaving the pool terminates it) and says so in one line, not one traceback each.
+    with multiprocessing.get_context("fork").Pool(wanted, _ignore_interrupts) as pool:
         svgs = iter(pool.map(regression_svg, drawn, chunksize=1))
     return [next(svgs) if can_plot(regression) else "" for regression in regressions]
