@@ -78,7 +78,8 @@ def _audit_recorded(args: Task, points: str = "all") -> tuple[WorkbookResult, fl
 def _without_unread_points(work: Callable[[Task], tuple[Any, ...]], args: Task) -> tuple[Any, ...]:
     """``work(args)`` with the data points of every regression without a finding left out: a
     worker's result crosses a pipe, and its points (one record per row) are nearly all of its
-    size, while only a detail sheet shows them. The ledger record is made before, whole."""
+    size, while only a detail sheet shows them. The ledger record, made before, keeps the same
+    points (``resultjson.dumps(result, "findings")``)."""
     outcome = work(args)
     for regression in outcome[0].regressions:
         if not regression.findings:
