@@ -27,8 +27,8 @@ from auditor.formula.nodes import (
     Ref,
     RefNode,
     Unary,
-    _gather,
     children,
+    gather,
     remember_moved_from,
     remember_references,
 )
@@ -80,7 +80,7 @@ class MovedTree:
         # one by its number (nodes.references, known without a walk of each moved tree).
         self.slots: list[Ref | int] = [
             index[id(found)] if id(found) in index else found.ref  # type: ignore[union-attr]
-            for found in _gather(node, RefNode)
+            for found in gather(node, RefNode)
         ]
 
     def at(self, row_delta: int, col_delta: int) -> Node:

@@ -153,7 +153,7 @@ def walk(node: Node) -> Iterator[Node]:
         _push_children(stack, current)
 
 
-def _gather(node: Node, kind: type) -> list[Node]:
+def gather(node: Node, kind: type) -> list[Node]:
     """The nodes of one kind, in the order ``walk`` meets them (one loop, no generator: these
     are asked for thousands of times per workbook)."""
     found: list[Node] = []
@@ -177,7 +177,7 @@ def references(node: Node) -> list[Ref]:
     """Every reference of the tree, in the order ``walk`` meets them (a list of its own)."""
     found: tuple[Ref, ...] | None = node.__dict__.get(_KEPT)
     if found is None:
-        found = tuple(n.ref for n in _gather(node, RefNode))  # type: ignore[union-attr]
+        found = tuple(n.ref for n in gather(node, RefNode))  # type: ignore[union-attr]
         object.__setattr__(node, _KEPT, found)
     return list(found)
 
@@ -204,4 +204,4 @@ def remember_moved_from(node: Node, maker: object) -> None:
 
 
 def calls(node: Node) -> list[Call]:
-    return _gather(node, Call)  # type: ignore[return-value]
+    return gather(node, Call)  # type: ignore[return-value]
