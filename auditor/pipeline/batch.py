@@ -7,10 +7,11 @@ exceeds a limit is stopped, reported in words, and tried again on the next run.
 
 from __future__ import annotations
 
+import contextlib
 import sys
 import time
 import traceback
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Generator, Iterator, Sequence
 from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -177,7 +178,7 @@ def audit_batch(
         return iter_audits(subset, policy, bindings, jobs, limits, recorded, points)
 
     if ledger is None:
-        stream: Iterator[tuple[int, WorkbookResult]] = ((i, r) for i, r, *_ in audit_many(paths))
+        stream: Generator[tuple[int, WorkbookResult]] = ((i, r) for i, r, *_ in audit_many(paths))
     else:
         from auditor.pipeline.ledger import (  # SQLite, if used
             AuditKey,
@@ -189,13 +190,16 @@ def audit_batch(
         stream = audit_with_ledger(list(paths), audit_many, ledger, key, changed, points)
     bar = _progress_bar(len(paths)) if progress else None
     results: list[WorkbookResult | None] = [None] * len(paths)
-    for index, result in stream:
-        results[index] = result
-        if bar is not None:
-            bar.update()
-        if meanwhile is not None and len(paths) > 1:  # others still on their way
-            meanwhile()
-            meanwhile = None
+    # Closed on the way out, whatever ends the loop (Ctrl-C while a result is recorded): the
+    # workers are stopped then, not whenever the generators are collected.
+    with contextlib.closing(stream):
+        for index, result in stream:
+            results[index] = result
+            if bar is not None:
+                bar.update()
+            if meanwhile is not None and len(paths) > 1:  # others still on their way
+                meanwhile()
+                meanwhile = None
     if bar is not None:
         bar.close()
     return [r for r in results if r is not None]

@@ -23,7 +23,7 @@ import dataclasses
 import json
 import os
 import sqlite3
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Generator, Iterable
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
@@ -259,7 +259,7 @@ def audit_with_ledger(
     key: AuditKey,
     changed: bool,
     points: str = "all",
-) -> Iterator[tuple[int, WorkbookResult]]:
+) -> Generator[tuple[int, WorkbookResult]]:
     """Yield ``(index, result)`` for every path: stored results first when ``changed`` and the
     content is known, then fresh audits from ``audit_many`` as they finish, each recorded.
 

@@ -56,11 +56,19 @@ def forked_write(write: Write, handle: BinaryIO) -> Iterator[None]:
         write(handle)
         return
     handle.flush()  # nothing of this process's buffer may reach the file twice
-    child = os.fork()
+    # SIGINT is held back over the fork: a Ctrl-C arrives inside the block that stops the
+    # child, never between the fork and that block (the child would outlive the run).
+    blocked = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    try:
+        child = os.fork()
+    except BaseException:
+        signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
+        raise
     if child == 0:
-        _child(write, handle)
+        _child(write, handle, blocked)
     reaped = False
     try:
+        signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
         yield
         _, status = os.waitpid(child, 0)
         reaped = True
@@ -73,12 +81,13 @@ def forked_write(write: Write, handle: BinaryIO) -> Iterator[None]:
         write(handle)
 
 
-def _child(write: Write, handle: BinaryIO) -> None:
+def _child(write: Write, handle: BinaryIO, mask: set[int | signal.Signals]) -> None:
     """The child's whole life: write, flush, leave without running the parent's exit code."""
     code = 1
     try:
         # Ctrl-C reaches the whole process group: the parent decides, and stops the child.
         signal.signal(signal.SIGINT, signal.SIG_IGN)
+        signal.pthread_sigmask(signal.SIG_SETMASK, mask)
         gc.freeze()  # the result and the modules are the parent's: no collection walks them
         write(handle)
         handle.flush()

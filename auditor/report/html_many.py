@@ -23,7 +23,10 @@ MIN_PER_PROCESS = 4  # fewer figures than this per extra process: starting it co
 
 
 def _ignore_interrupts() -> None:
+    """A drawing process's first step: Ctrl-C is the parent's to handle. SIGINT came blocked
+    from the parent (see ``draw_plots``), so none slips in before it is ignored."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
 
 
 def usable_cores() -> int:
@@ -46,6 +49,16 @@ def draw_plots(regressions: Sequence[RegressionResult], processes: int | None = 
     prepare_pyplot()  # imported once, here, before the copies are made
     # Ctrl-C reaches the whole process group: the copies leave it to this process, which stops
     # them (leaving the pool terminates it) and says so in one line, not one traceback each.
-    with multiprocessing.get_context("fork").Pool(wanted, _ignore_interrupts) as pool:
+    # SIGINT is blocked while the pool is made, not ignored: a Ctrl-C then waits until the pool
+    # is whole and inside the block that stops it. Arriving while the pool starts its threads,
+    # it would leave the copies running past the end of the run, holding the console open.
+    blocked = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    try:
+        pool = multiprocessing.get_context("fork").Pool(wanted, _ignore_interrupts)
+    except BaseException:
+        signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
+        raise
+    with pool:
+        signal.pthread_sigmask(signal.SIG_SETMASK, blocked)  # a Ctrl-C held back arrives here
         svgs = iter(pool.map(regression_svg, drawn, chunksize=1))
     return [next(svgs) if can_plot(regression) else "" for regression in regressions]

@@ -1,10 +1,12 @@
 """audit.xlsx written by a forked child while the parent writes the other reports: the same
 bytes as written in one process, a child's failure written again by the parent (so the error
-surfaces there), and no child left behind when the parent's block fails."""
+surfaces there), and no child left behind when the parent's block fails or a Ctrl-C arrives
+just after the fork."""
 
 from __future__ import annotations
 
 import os
+import signal
 import time
 import zipfile
 from pathlib import Path
@@ -93,6 +95,41 @@ def test_an_error_in_the_parent_stops_the_child(tmp_path: Path) -> None:
             raise RuntimeError("parent broke")
     with pytest.raises(ProcessLookupError):  # killed and reaped
         os.kill(child, 0)
+    assert os.listdir(tmp_path) == []
+
+
+def test_ctrl_c_just_after_the_fork_stops_the_child(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # The interrupt is raised in the parent as the fork returns, before the block that stops
+    # the child is entered; held back until then, it still stops the child.
+    children: list[int] = []
+    fork = os.fork
+
+    def fork_then_interrupt() -> int:
+        pid = fork()
+        if pid:
+            children.append(pid)
+            os.kill(os.getpid(), signal.SIGINT)
+        return pid
+
+    def write(handle: BinaryIO) -> None:
+        time.sleep(600)  # a child that would outlive the run if left alone
+
+    monkeypatch.setattr(os, "fork", fork_then_interrupt)
+    with pytest.raises(KeyboardInterrupt):
+        with atomic_output(tmp_path / "audit.xlsx") as handle, forked_write(write, handle):
+            pass
+    monkeypatch.undo()
+    assert len(children) == 1
+    try:
+        os.kill(children[0], 0)
+    except ProcessLookupError:  # killed and reaped
+        left = False
+    else:
+        left = True
+        os.kill(children[0], signal.SIGKILL)  # not to hold up the test run
+    assert not left
     assert os.listdir(tmp_path) == []
 
 
