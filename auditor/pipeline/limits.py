@@ -14,16 +14,13 @@ allocation beyond it raises ``MemoryError`` in that worker instead of exhausting
 
 from __future__ import annotations
 
-import os
-import signal
-import sys
-import threading
 import time
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Generic, TypeVar
 
 from auditor.pipeline.collector import frozen
+from auditor.processes import can_fork, ignore_interrupts, interrupts_held, usable_cores
 
 if TYPE_CHECKING:  # multiprocessing is imported when a pool starts: one file needs none
     from multiprocessing.connection import Connection
@@ -43,11 +40,8 @@ class FileLimits:
 
 
 def default_jobs() -> int:
-    """The cores this process may run on (not all of the machine's, under a CPU affinity mask)."""
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # not on Linux
-        return max(1, os.cpu_count() or 1)
+    """One worker per core this process may run on (``processes.usable_cores``)."""
+    return usable_cores()
 
 
 @dataclass
@@ -72,9 +66,7 @@ def _limit_memory(memory_bytes: int | None) -> None:
 def _serve(fn: Callable[[Any], Any], conn: Connection, memory_bytes: int | None) -> None:
     """A worker: take (index, task), send back (index, "ok" | "memory" | "error", payload)."""
     # Ctrl-C reaches the whole process group: the parent alone decides, and stops the workers.
-    # SIGINT came blocked from the parent (see _Pool.start), so none slips in before this.
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
+    ignore_interrupts()  # SIGINT came blocked from the parent (see _Pool.start)
     _limit_memory(memory_bytes)
     while True:
         try:
@@ -111,17 +103,13 @@ class _Pool(Generic[T, R]):
         process = self.context.Process(
             target=_serve, args=(self.fn, child, self.limits.memory_bytes), daemon=True
         )
-        # Blocked, not ignored: a Ctrl-C during the start waits for the parent, never lost; and
-        # the worker is on the list before it can arrive, so close() stops it (an unlisted one
-        # outlives the run, holding the console open).
-        blocked = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
-        try:
+        # A Ctrl-C during the start is held back until the worker is on the list, so close()
+        # stops it (an unlisted one outlives the run, holding the console open).
+        with interrupts_held():
             process.start()
             child.close()
             worker = _Worker(process, parent)
             self.workers.append(worker)
-        finally:
-            signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
         return worker
 
     def give(self, worker: _Worker, index: int, task: T) -> None:
@@ -255,22 +243,14 @@ def _memory_reason(limits: FileLimits) -> str:
     )
 
 
-def _os_threads() -> int:
-    """Threads of this process, the interpreter's and the libraries' (OpenBLAS starts some)."""
-    try:
-        return len(os.listdir("/proc/self/task"))
-    except OSError:
-        return threading.active_count()
-
-
 def _context() -> Any:
-    """fork starts a worker in milliseconds with regaudit already imported. Forking a process
-    that runs other threads can deadlock the child (Python 3.12 warns of it), so then a fork
-    server, which is itself single-threaded, forks the workers; spawn where neither exists."""
+    """fork starts a worker in milliseconds with regaudit already imported. Where forking is
+    unsafe (``processes.can_fork``) a fork server, itself single-threaded, forks the workers;
+    spawn where neither exists."""
     import multiprocessing
 
     methods = multiprocessing.get_all_start_methods()
-    if "fork" in methods and (sys.version_info < (3, 12) or _os_threads() == 1):
+    if "fork" in methods and can_fork():
         return multiprocessing.get_context("fork")
     if "forkserver" in methods:
         context = multiprocessing.get_context("forkserver")

@@ -15,9 +15,10 @@ finish its file (an exception, a signal), this process truncates the file and wr
 itself, so a failure surfaces here exactly as it would have without the child, traceback and
 all. When the block ends in an error or an interrupt the child is killed first.
 
-No child is made where ``os.fork`` is missing, nor where forking is unsafe: a process running
-other threads (OpenBLAS starts some) may only fork on Python 3.11, as ``pipeline.limits``
-decides for its workers; the report is then written here, after the others.
+No child is made where ``os.fork`` is missing, nor where forking is unsafe (a process running
+other threads, from Python 3.12 on: ``processes.can_fork``, as for the audit's workers); the
+report is then written here, after the others. A Ctrl-C at the fork is held back until the
+block that stops the child is in place (``processes.interrupts_held``).
 """
 
 from __future__ import annotations
@@ -26,26 +27,12 @@ import contextlib
 import gc
 import os
 import signal
-import sys
-import threading
 from collections.abc import Callable, Iterator
 from typing import BinaryIO
 
+from auditor.processes import can_fork, ignore_interrupts, interrupts_held
+
 Write = Callable[[BinaryIO], None]
-
-
-def can_fork() -> bool:
-    """Whether a child may be forked here (see the module's docstring)."""
-    if not hasattr(os, "fork"):
-        return False
-    return sys.version_info < (3, 12) or _os_threads() == 1
-
-
-def _os_threads() -> int:
-    try:
-        return len(os.listdir("/proc/self/task"))
-    except OSError:
-        return threading.active_count()
 
 
 @contextlib.contextmanager
@@ -56,38 +43,30 @@ def forked_write(write: Write, handle: BinaryIO) -> Iterator[None]:
         write(handle)
         return
     handle.flush()  # nothing of this process's buffer may reach the file twice
-    # SIGINT is held back over the fork: a Ctrl-C arrives inside the block that stops the
-    # child, never between the fork and that block (the child would outlive the run).
-    blocked = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
-    try:
+    with interrupts_held() as let_through:  # a Ctrl-C arrives where the child is stopped
         child = os.fork()
-    except BaseException:
-        signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
-        raise
-    if child == 0:
-        _child(write, handle, blocked)
-    reaped = False
-    try:
-        signal.pthread_sigmask(signal.SIG_SETMASK, blocked)
-        yield
-        _, status = os.waitpid(child, 0)
-        reaped = True
-    finally:
-        if not reaped:  # an error or Ctrl-C in the block: no child outlives it
-            _stop(child)
+        if child == 0:
+            _child(write, handle)
+        reaped = False
+        try:
+            let_through()
+            yield
+            _, status = os.waitpid(child, 0)
+            reaped = True
+        finally:
+            if not reaped:  # an error or Ctrl-C in the block: no child outlives it
+                _stop(child)
     if os.waitstatus_to_exitcode(status) != 0:  # write again here: the error surfaces here
         handle.seek(0)
         handle.truncate()
         write(handle)
 
 
-def _child(write: Write, handle: BinaryIO, mask: set[int | signal.Signals]) -> None:
+def _child(write: Write, handle: BinaryIO) -> None:
     """The child's whole life: write, flush, leave without running the parent's exit code."""
     code = 1
     try:
-        # Ctrl-C reaches the whole process group: the parent decides, and stops the child.
-        signal.signal(signal.SIGINT, signal.SIG_IGN)
-        signal.pthread_sigmask(signal.SIG_SETMASK, mask)
+        ignore_interrupts()  # Ctrl-C reaches the whole process group: the parent decides
         gc.freeze()  # the result and the modules are the parent's: no collection walks them
         write(handle)
         handle.flush()

@@ -13,8 +13,7 @@ from pathlib import Path
 
 import pytest
 
-from auditor.report.forked import can_fork
-from auditor.report.html_many import usable_cores
+from auditor.processes import can_fork, usable_cores
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "workbooks"
 

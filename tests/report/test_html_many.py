@@ -15,7 +15,7 @@ import pytest
 from auditor.model import RegressionResult
 from auditor.pipeline.audit import audit_workbook
 from auditor.policy import load_policy
-from auditor.report.forked import can_fork
+from auditor.processes import can_fork
 from auditor.report.html_many import draw_plots
 from auditor.report.html_plots import can_plot, regression_svg
 
