@@ -9,6 +9,7 @@ from pathlib import Path
 import pytest
 
 from auditor.pipeline.batch import audit_batch
+from auditor.pipeline.ledger import Ledger
 from auditor.policy import load_policy
 
 BOOKS = Path(__file__).resolve().parents[2] / "fixtures" / "workbooks"
@@ -20,8 +21,6 @@ def _interrupt() -> None:
 
 @pytest.mark.parametrize("ledger", [False, True])
 def test_an_interrupt_between_results_stops_the_workers(tmp_path: Path, ledger: bool) -> None:
-    from auditor.pipeline.ledger import Ledger
-
     paths = sorted(BOOKS.glob("*.xlsx"))[:6]
     book = Ledger(tmp_path / "ledger.sqlite") if ledger else None
     with pytest.raises(KeyboardInterrupt) as raised:
